@@ -1,0 +1,343 @@
+//! Starting tours: nearest neighbour, greedy edge and a space-filling curve.
+//!
+//! Each returns a visiting order (a permutation of all nodes). The `noise` variants give the
+//! restarts of the local search different, still reasonable, starting points.
+
+use crate::candidates::Neighbours;
+use crate::cost::Cost;
+use rand::Rng;
+
+/// Nearest neighbour from `start`: always step to the cheapest unvisited node.
+///
+/// The neighbour lists answer most steps; when all of a node's neighbours are taken the remaining
+/// nodes are scanned, so the worst case is quadratic but typical runs are near linear.
+pub fn nearest_neighbour<C: Cost + ?Sized>(cost: &C, nb: &Neighbours, start: usize) -> Vec<usize> {
+    let n = cost.len();
+    if n == 0 {
+        return Vec::new();
+    }
+    // Unvisited nodes in a vector with positions, so removal is O(1) and the fallback scan only
+    // looks at nodes still to visit.
+    let mut unvisited: Vec<usize> = (0..n).collect();
+    let mut slot: Vec<usize> = (0..n).collect();
+    let mut take = |v: usize, unvisited: &mut Vec<usize>| {
+        let s = slot[v];
+        let last = unvisited.len() - 1;
+        unvisited.swap(s, last);
+        slot[unvisited[s]] = s;
+        unvisited.pop();
+        slot[v] = usize::MAX;
+    };
+    let mut order = Vec::with_capacity(n);
+    let mut cur = start.min(n - 1);
+    take(cur, &mut unvisited);
+    order.push(cur);
+    let mut is_taken = vec![false; n];
+    is_taken[cur] = true;
+    while !unvisited.is_empty() {
+        let next = nb
+            .out(cur)
+            .iter()
+            .map(|&j| j as usize)
+            .find(|&j| !is_taken[j])
+            .unwrap_or_else(|| {
+                // `min_by_key` keeps the first minimum; scanning in a fixed order keeps runs
+                // reproducible.
+                let mut best = unvisited[0];
+                let mut best_cost = cost.cost(cur, best);
+                for &v in &unvisited[1..] {
+                    let c = cost.cost(cur, v);
+                    if c < best_cost || (c == best_cost && v < best) {
+                        best = v;
+                        best_cost = c;
+                    }
+                }
+                best
+            });
+        take(next, &mut unvisited);
+        is_taken[next] = true;
+        order.push(next);
+        cur = next;
+    }
+    order
+}
+
+/// Union-find over nodes, used to keep greedy fragments acyclic.
+struct Dsu {
+    parent: Vec<usize>,
+}
+
+impl Dsu {
+    fn new(n: usize) -> Self {
+        Dsu {
+            parent: (0..n).collect(),
+        }
+    }
+    fn find(&mut self, mut x: usize) -> usize {
+        while self.parent[x] != x {
+            self.parent[x] = self.parent[self.parent[x]];
+            x = self.parent[x];
+        }
+        x
+    }
+    fn union(&mut self, a: usize, b: usize) -> bool {
+        let (ra, rb) = (self.find(a), self.find(b));
+        if ra == rb {
+            return false;
+        }
+        self.parent[ra] = rb;
+        true
+    }
+}
+
+/// Greedy edge: take candidate edges cheapest first whenever they keep every node at degree two
+/// or less and close no cycle; then join the fragments end to end, nearest end first.
+///
+/// With `noise > 0`, each edge's cost is scaled by a random factor in `[1, 1 + noise)` before
+/// sorting, which gives different fragments on each restart.
+pub fn greedy_edge<C: Cost + ?Sized, R: Rng>(
+    cost: &C,
+    nb: &Neighbours,
+    noise: f64,
+    rng: &mut R,
+) -> Vec<usize> {
+    let n = cost.len();
+    if n < 3 {
+        return (0..n).collect();
+    }
+    let symmetric = cost.is_symmetric();
+    let mut edges: Vec<(f64, usize, usize)> = Vec::with_capacity(n * nb.k());
+    for i in 0..n {
+        for &j in nb.out(i) {
+            let j = j as usize;
+            if symmetric && j < i && nb.out(j).contains(&(i as u32)) {
+                continue; // the same undirected edge is listed from j
+            }
+            let (a, b) = if symmetric { (i.min(j), i.max(j)) } else { (i, j) };
+            let mut key = cost.cost(a, b) as f64;
+            if noise > 0.0 {
+                key *= 1.0 + noise * rng.gen::<f64>();
+            }
+            edges.push((key, a, b));
+        }
+    }
+    edges.sort_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)).then(x.2.cmp(&y.2)));
+    edges.dedup_by(|x, y| x.1 == y.1 && x.2 == y.2);
+
+    // succ/pred links of the fragments; for symmetric costs the two links of a node are
+    // unordered ends.
+    const NONE: usize = usize::MAX;
+    let mut link = vec![[NONE, NONE]; n];
+    let mut dsu = Dsu::new(n);
+    let mut added = 0;
+    for &(_, a, b) in &edges {
+        if added == n - 1 {
+            break;
+        }
+        let ok = if symmetric {
+            link[a][1] == NONE && link[b][1] == NONE
+        } else {
+            link[a][1] == NONE && link[b][0] == NONE
+        };
+        if ok && dsu.union(a, b) {
+            if symmetric {
+                let sa = if link[a][0] == NONE { 0 } else { 1 };
+                let sb = if link[b][0] == NONE { 0 } else { 1 };
+                link[a][sa] = b;
+                link[b][sb] = a;
+            } else {
+                link[a][1] = b; // a -> b
+                link[b][0] = a;
+            }
+            added += 1;
+        }
+    }
+    join_fragments(cost, nb, &link, symmetric)
+}
+
+/// Walks the fragments given by `link` and concatenates them, each time entering the fragment
+/// whose free end is cheapest to reach from the current end.
+fn join_fragments<C: Cost + ?Sized>(
+    cost: &C,
+    nb: &Neighbours,
+    link: &[[usize; 2]],
+    symmetric: bool,
+) -> Vec<usize> {
+    const NONE: usize = usize::MAX;
+    let n = link.len();
+    // Fragment starts: for symmetric costs any node of degree < 2, for asymmetric costs nodes
+    // with no predecessor.
+    let is_start = |v: usize| {
+        if symmetric {
+            link[v][1] == NONE
+        } else {
+            link[v][0] == NONE
+        }
+    };
+    let mut used = vec![false; n];
+    let mut order = Vec::with_capacity(n);
+    // Walk one fragment from its end `v`.
+    let walk = |v: usize, used: &mut Vec<bool>, order: &mut Vec<usize>| {
+        let mut prev = NONE;
+        let mut cur = v;
+        loop {
+            used[cur] = true;
+            order.push(cur);
+            let next = if symmetric {
+                if link[cur][0] != prev && link[cur][0] != NONE {
+                    link[cur][0]
+                } else if link[cur][1] != prev {
+                    link[cur][1]
+                } else {
+                    NONE
+                }
+            } else {
+                link[cur][1]
+            };
+            if next == NONE || used[next] {
+                break cur;
+            }
+            prev = cur;
+            cur = next;
+        }
+    };
+    let starts: Vec<usize> = (0..n).filter(|&v| is_start(v)).collect();
+    if starts.is_empty() {
+        // Only possible if the links closed a cycle, which the union-find forbids.
+        return (0..n).collect();
+    }
+    let mut end = walk(starts[0], &mut used, &mut order);
+    let mut remaining: Vec<usize> = starts[1..].to_vec();
+    while order.len() < n {
+        remaining.retain(|&v| !used[v]);
+        // A neighbour that is a free fragment end, else the cheapest remaining end by scan.
+        let next = nb
+            .out(end)
+            .iter()
+            .map(|&j| j as usize)
+            .find(|&j| !used[j] && is_start(j))
+            .or_else(|| {
+                remaining
+                    .iter()
+                    .copied()
+                    .min_by_key(|&v| (cost.cost(end, v), v))
+            });
+        match next {
+            Some(v) => end = walk(v, &mut used, &mut order),
+            None => break,
+        }
+    }
+    order
+}
+
+/// Order along a Hilbert curve through the nodes' geometry (the two coordinates with the
+/// largest spread). `None` when the costs have no geometry. `shift` in `[0, 1)^2` moves the
+/// curve's origin (wrapping), for varied restarts.
+pub fn space_filling_curve<C: Cost + ?Sized>(cost: &C, shift: [f64; 2]) -> Option<Vec<usize>> {
+    let g = cost.geometry()?;
+    let n = g.points.len();
+    let mut lo = [f64::INFINITY; 3];
+    let mut hi = [f64::NEG_INFINITY; 3];
+    for p in g.points {
+        for d in 0..g.dims {
+            lo[d] = lo[d].min(p[d]);
+            hi[d] = hi[d].max(p[d]);
+        }
+    }
+    let mut axes: Vec<usize> = (0..g.dims).collect();
+    axes.sort_by(|&a, &b| (hi[b] - lo[b]).total_cmp(&(hi[a] - lo[a])));
+    let (ax, ay) = (axes[0], axes.get(1).copied().unwrap_or(axes[0]));
+    let span = (hi[ax] - lo[ax]).max(hi[ay] - lo[ay]).max(f64::MIN_POSITIVE);
+    const SIDE: u32 = 1 << 16;
+    let cell = |v: f64, lo: f64, s: f64| -> u32 {
+        let t = ((v - lo) / span + s).fract();
+        ((t * SIDE as f64) as u32).min(SIDE - 1)
+    };
+    let mut keyed: Vec<(u64, usize)> = (0..n)
+        .map(|i| {
+            let p = g.points[i];
+            let x = cell(p[ax], lo[ax], shift[0]);
+            let y = cell(p[ay], lo[ay], shift[1]);
+            (hilbert_index(SIDE, x, y), i)
+        })
+        .collect();
+    keyed.sort_unstable();
+    Some(keyed.into_iter().map(|(_, i)| i).collect())
+}
+
+/// Position of cell `(x, y)` along the Hilbert curve filling a `side x side` grid.
+fn hilbert_index(side: u32, mut x: u32, mut y: u32) -> u64 {
+    let mut d: u64 = 0;
+    let mut s = side / 2;
+    while s > 0 {
+        let rx = u32::from(x & s > 0);
+        let ry = u32::from(y & s > 0);
+        d += u64::from(s) * u64::from(s) * u64::from((3 * rx) ^ ry);
+        // Rotate the quadrant so the curve stays continuous.
+        if ry == 0 {
+            if rx == 1 {
+                x = side - 1 - x;
+                y = side - 1 - y;
+            }
+            std::mem::swap(&mut x, &mut y);
+        }
+        s /= 2;
+    }
+    d
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::candidates::k_nearest;
+    use crate::cost::{CoordCost, MatrixCost, Metric};
+    use crate::tour::Tour;
+    use rand::SeedableRng;
+
+    fn grid(n: usize) -> CoordCost {
+        let pts: Vec<[f64; 2]> = (0..n)
+            .map(|i| [(i * 7919 % 101) as f64, (i * 104729 % 97) as f64])
+            .collect();
+        CoordCost::plane(Metric::Euc2d, &pts).unwrap()
+    }
+
+    #[test]
+    fn constructions_are_permutations() {
+        let mut rng = rand_pcg::Pcg64::seed_from_u64(1);
+        for n in [1, 2, 3, 4, 5, 17, 300] {
+            let c = grid(n);
+            let nb = k_nearest(&c, 8);
+            assert!(Tour::new(nearest_neighbour(&c, &nb, 0), n).is_ok());
+            assert!(Tour::new(greedy_edge(&c, &nb, 0.0, &mut rng), n).is_ok());
+            assert!(Tour::new(greedy_edge(&c, &nb, 0.2, &mut rng), n).is_ok());
+            assert!(Tour::new(space_filling_curve(&c, [0.3, 0.7]).unwrap(), n).is_ok());
+        }
+    }
+
+    #[test]
+    fn asymmetric_greedy_is_a_permutation() {
+        let n = 40;
+        let rows: Vec<Vec<i64>> = (0..n)
+            .map(|i| (0..n).map(|j| ((i * 31 + j * 17) % 23) as i64).collect())
+            .collect();
+        let m = MatrixCost::from_rows(&rows).unwrap();
+        let nb = k_nearest(&m, 5);
+        let mut rng = rand_pcg::Pcg64::seed_from_u64(3);
+        assert!(Tour::new(greedy_edge(&m, &nb, 0.1, &mut rng), n).is_ok());
+        assert!(Tour::new(nearest_neighbour(&m, &nb, 7), n).is_ok());
+    }
+
+    #[test]
+    fn hilbert_visits_every_cell_once_in_adjacent_steps() {
+        let side = 8;
+        let mut cells: Vec<(u64, u32, u32)> = (0..side)
+            .flat_map(|x| (0..side).map(move |y| (hilbert_index(side, x, y), x, y)))
+            .collect();
+        cells.sort();
+        for (k, w) in cells.windows(2).enumerate() {
+            assert_eq!(w[0].0, k as u64);
+            let step = w[0].1.abs_diff(w[1].1) + w[0].2.abs_diff(w[1].2);
+            assert_eq!(step, 1, "cells {:?} and {:?} are not adjacent", w[0], w[1]);
+        }
+    }
+}
