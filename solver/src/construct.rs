@@ -113,7 +113,11 @@ pub fn greedy_edge<C: Cost + ?Sized, R: Rng>(
             if symmetric && j < i && nb.out(j).contains(&(i as u32)) {
                 continue; // the same undirected edge is listed from j
             }
-            let (a, b) = if symmetric { (i.min(j), i.max(j)) } else { (i, j) };
+            let (a, b) = if symmetric {
+                (i.min(j), i.max(j))
+            } else {
+                (i, j)
+            };
             let mut key = cost.cost(a, b) as f64;
             if noise > 0.0 {
                 key *= 1.0 + noise * rng.gen::<f64>();
@@ -247,7 +251,9 @@ pub fn space_filling_curve<C: Cost + ?Sized>(cost: &C, shift: [f64; 2]) -> Optio
     let mut axes: Vec<usize> = (0..g.dims).collect();
     axes.sort_by(|&a, &b| (hi[b] - lo[b]).total_cmp(&(hi[a] - lo[a])));
     let (ax, ay) = (axes[0], axes.get(1).copied().unwrap_or(axes[0]));
-    let span = (hi[ax] - lo[ax]).max(hi[ay] - lo[ay]).max(f64::MIN_POSITIVE);
+    let span = (hi[ax] - lo[ax])
+        .max(hi[ay] - lo[ay])
+        .max(f64::MIN_POSITIVE);
     const SIDE: u32 = 1 << 16;
     let cell = |v: f64, lo: f64, s: f64| -> u32 {
         let t = ((v - lo) / span + s).fract();

@@ -406,7 +406,8 @@ impl MatrixCost {
                 got: weights.len(),
             });
         }
-        let symmetric = (0..n).all(|i| (i + 1..n).all(|j| weights[i * n + j] == weights[j * n + i]));
+        let symmetric =
+            (0..n).all(|i| (i + 1..n).all(|j| weights[i * n + j] == weights[j * n + i]));
         let max_abs = weights
             .iter()
             .map(|w| w.checked_abs().unwrap_or(i64::MAX))

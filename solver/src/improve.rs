@@ -226,7 +226,10 @@ fn try_two_opt<C: Cost + ?Sized>(
                 } else {
                     tour.reverse(c, b, false); // d c .. b a  ->  d b .. c a
                 }
-                return Some((gain, [Some(a), Some(b), Some(c), Some(d), None, None, None, None]));
+                return Some((
+                    gain,
+                    [Some(a), Some(b), Some(c), Some(d), None, None, None, None],
+                ));
             }
         }
     }
@@ -340,7 +343,16 @@ fn try_or_opt<C: Cost + ?Sized>(
 }
 
 fn touched(p: usize, nx: usize, s1: usize, s2: usize, c: usize, d: usize) -> Touched {
-    [Some(p), Some(nx), Some(s1), Some(s2), Some(c), Some(d), None, None]
+    [
+        Some(p),
+        Some(nx),
+        Some(s1),
+        Some(s2),
+        Some(c),
+        Some(d),
+        None,
+        None,
+    ]
 }
 
 fn ahead(tour: &ArrayTour, v: usize, k: usize) -> usize {
@@ -362,11 +374,15 @@ mod tests {
     use proptest::prelude::*;
 
     fn random_points(n: usize, seed: u64) -> Vec<[f64; 2]> {
-        let mut s = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+        let mut s = seed
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
         (0..n)
             .map(|_| {
                 let mut next = || {
-                    s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+                    s = s
+                        .wrapping_mul(6364136223846793005)
+                        .wrapping_add(1442695040888963407);
                     ((s >> 33) % 1000) as f64
                 };
                 [next(), next()]

@@ -1,0 +1,90 @@
+//! `wend demo`: the built-in demo, a few instances shipped inside the binary, each solved and
+//! compared with its published optimum.
+
+use super::CliError;
+use clap::Args;
+use std::time::Duration;
+use wend::{Method, Solver};
+
+/// The demo instances, embedded so the demo needs no files.
+const DEMO: &[(&str, &str)] = &[
+    (
+        "berlin52.tsp",
+        include_str!("../../../instances/berlin52.tsp"),
+    ),
+    (
+        "kroA100.tsp",
+        include_str!("../../../instances/kroA100.tsp"),
+    ),
+    ("gr120.tsp", include_str!("../../../instances/gr120.tsp")),
+    ("ch150.tsp", include_str!("../../../instances/ch150.tsp")),
+    ("a280.tsp", include_str!("../../../instances/a280.tsp")),
+    ("att532.tsp", include_str!("../../../instances/att532.tsp")),
+    ("gr666.tsp", include_str!("../../../instances/gr666.tsp")),
+    ("ftv38.atsp", include_str!("../../../instances/ftv38.atsp")),
+];
+const OPTIMA: &str = include_str!("../../../instances/optima.txt");
+
+#[derive(Args, Debug)]
+pub struct DemoArgs {
+    /// Seconds per instance.
+    #[arg(long, default_value_t = 1.0, value_name = "SECONDS")]
+    time_limit: f64,
+    /// Seed of all random choices.
+    #[arg(long, default_value_t = 0)]
+    seed: u64,
+}
+
+pub fn run(a: DemoArgs) -> Result<(), CliError> {
+    if !(a.time_limit.is_finite() && a.time_limit > 0.0) {
+        return Err(CliError::Input(
+            "--time-limit must be a positive number".into(),
+        ));
+    }
+    let optima = wend_bench::tsplib::parse_optima(OPTIMA, "instances/optima.txt")?;
+    println!(
+        "Solving {} TSPLIB instances for {} s each with method {} (seed {}).",
+        DEMO.len(),
+        a.time_limit,
+        Method::TwoOpt.name(),
+        a.seed
+    );
+    println!();
+    println!(
+        "{:<10} {:>5} {:<5} {:>10} {:>10} {:>7} {:>9} {:>7}",
+        "instance", "nodes", "type", "optimum", "length", "gap %", "restarts", "seconds"
+    );
+    let mut gaps = Vec::new();
+    for (file, text) in DEMO {
+        let inst = wend_bench::tsplib::parse_instance(text, file)?;
+        let sol = Solver::new(inst.cost())
+            .seed(a.seed)
+            .time_limit(Duration::from_secs_f64(a.time_limit))
+            .solve()
+            .map_err(|e| CliError::Input(format!("{file}: {e}")))?;
+        let opt = optima.get(&inst.name).copied();
+        let gap = opt.map(|o| 100.0 * (sol.length - o) as f64 / o as f64);
+        if let Some(g) = gap {
+            gaps.push(g);
+        }
+        println!(
+            "{:<10} {:>5} {:<5} {:>10} {:>10} {:>7} {:>9} {:>7.2}",
+            inst.name,
+            inst.dimension,
+            inst.kind.keyword(),
+            opt.map_or("-".into(), |o| o.to_string()),
+            sol.length,
+            gap.map_or("-".into(), |g| format!("{g:.2}")),
+            sol.restarts,
+            sol.seconds
+        );
+    }
+    if !gaps.is_empty() {
+        println!();
+        println!(
+            "mean gap to the published optimum: {:.2} %",
+            gaps.iter().sum::<f64>() / gaps.len() as f64
+        );
+    }
+    Ok(())
+}

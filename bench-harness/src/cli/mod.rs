@@ -1,0 +1,87 @@
+//! Command-line definitions and dispatch. Each subcommand lives in a module of its own.
+
+mod demo;
+mod measure;
+mod progress;
+mod solve;
+
+use clap::{Parser, Subcommand};
+use std::fmt;
+use std::path::PathBuf;
+
+/// Routing and sequencing: short tours and paths over TSPLIB instances and your own costs.
+#[derive(Parser, Debug)]
+#[command(name = "wend", version, about, long_about = None)]
+pub struct Args {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+enum Command {
+    /// Find a short tour through a TSPLIB instance.
+    Solve(solve::SolveArgs),
+    /// Compute the length of a TOUR file on an instance, exactly as TSPLIB defines it.
+    Measure(measure::MeasureArgs),
+    /// Solve the built-in demo instances and compare with their published optima.
+    Demo(demo::DemoArgs),
+}
+
+/// Runs one command.
+pub fn run(args: Args) -> Result<(), CliError> {
+    match args.command {
+        Command::Solve(a) => solve::run(a),
+        Command::Measure(a) => measure::run(a),
+        Command::Demo(a) => demo::run(a),
+    }
+}
+
+/// A failure, printed as one line; bad input exits with 2, other failures with 1.
+#[derive(Debug)]
+pub enum CliError {
+    /// The user's input (a file, an option) is wrong.
+    Input(String),
+    /// Something went wrong that is not the input's fault (writing output, say).
+    Failure(String),
+}
+
+impl CliError {
+    pub fn exit_code(&self) -> u8 {
+        match self {
+            CliError::Input(_) => 2,
+            CliError::Failure(_) => 1,
+        }
+    }
+}
+
+impl fmt::Display for CliError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            CliError::Input(m) | CliError::Failure(m) => f.write_str(m),
+        }
+    }
+}
+
+impl From<wend_bench::tsplib::TsplibError> for CliError {
+    fn from(e: wend_bench::tsplib::TsplibError) -> Self {
+        CliError::Input(e.to_string())
+    }
+}
+
+/// Reads an instance, mapping errors to one line that names the file.
+pub(crate) fn load(path: &PathBuf) -> Result<wend_bench::tsplib::Instance, CliError> {
+    Ok(wend_bench::tsplib::read_instance(path)?)
+}
+
+/// Writes a file, naming it in the error.
+pub(crate) fn write_file(
+    path: &PathBuf,
+    f: impl FnOnce(&mut std::io::BufWriter<std::fs::File>) -> std::io::Result<()>,
+) -> Result<(), CliError> {
+    let fail =
+        |e: std::io::Error| CliError::Failure(format!("{}: cannot write: {e}", path.display()));
+    let file = std::fs::File::create(path).map_err(fail)?;
+    let mut w = std::io::BufWriter::new(file);
+    f(&mut w).map_err(fail)?;
+    std::io::Write::flush(&mut w).map_err(fail)
+}

@@ -1,0 +1,159 @@
+//! `wend solve`.
+
+use super::{load, progress::Progress, write_file, CliError};
+use clap::Args;
+use serde_json::json;
+use std::path::PathBuf;
+use std::time::Duration;
+use wend::{Method, Solver};
+
+#[derive(Args, Debug)]
+pub struct SolveArgs {
+    /// TSPLIB instance file (TYPE TSP or ATSP).
+    #[arg(required_unless_present = "list_methods")]
+    path: Option<PathBuf>,
+    /// Stop after this many seconds and report the best tour so far.
+    #[arg(long, value_name = "SECONDS")]
+    time_limit: Option<f64>,
+    /// Seed of all random choices; the same seed and restart count give the same tour.
+    #[arg(long, default_value_t = 0)]
+    seed: u64,
+    /// Worker threads (default: one per core).
+    #[arg(long)]
+    threads: Option<usize>,
+    /// Number of restarts (default: 8 without a time limit, as many as fit with one).
+    #[arg(long)]
+    restarts: Option<usize>,
+    /// Method to run; see --list-methods.
+    #[arg(long, default_value = "2opt")]
+    method: String,
+    /// Width of the neighbour lists the moves look at.
+    #[arg(long, default_value_t = wend::solver::DEFAULT_NEIGHBOURS)]
+    neighbours: usize,
+    /// Write the tour to this file in TSPLIB TOUR format.
+    #[arg(long, value_name = "FILE")]
+    tour_out: Option<PathBuf>,
+    /// Print exactly one JSON object on stdout instead of a summary.
+    #[arg(long)]
+    json: bool,
+    /// List the methods and exit.
+    #[arg(long)]
+    list_methods: bool,
+}
+
+pub fn run(a: SolveArgs) -> Result<(), CliError> {
+    if a.list_methods {
+        for m in Method::ALL {
+            println!("{:<10} {}", m.name(), m.describe());
+        }
+        return Ok(());
+    }
+    let method = Method::from_name(&a.method).ok_or_else(|| {
+        let names: Vec<&str> = Method::ALL.iter().map(|m| m.name()).collect();
+        CliError::Input(format!(
+            "unknown method {:?}; choose one of: {}",
+            a.method,
+            names.join(", ")
+        ))
+    })?;
+    let limit = match a.time_limit {
+        Some(t) if !(t.is_finite() && t >= 0.0) => {
+            return Err(CliError::Input(format!(
+                "--time-limit must be a non-negative number of seconds, got {t}"
+            )))
+        }
+        Some(t) => Some(Duration::from_secs_f64(t.min(1.0e9))),
+        None => None,
+    };
+    if a.threads == Some(0) {
+        return Err(CliError::Input("--threads must be at least 1".into()));
+    }
+    let path = a.path.clone().unwrap_or_default();
+    let inst = load(&path)?;
+    let progress = Progress::start(limit, !a.json);
+    let mut solver = Solver::new(inst.cost())
+        .seed(a.seed)
+        .method(method)
+        .neighbours(a.neighbours);
+    if let Some(l) = limit {
+        solver = solver.time_limit(l);
+    }
+    if let Some(t) = a.threads {
+        solver = solver.threads(t);
+    }
+    if let Some(r) = a.restarts {
+        solver = solver.restarts(r);
+    }
+    let observer = progress.observer();
+    let solver = solver.on_improvement(move |imp| observer(imp));
+    let result = solver.solve();
+    progress.finish();
+    let sol = result.map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
+
+    if let Some(out) = &a.tour_out {
+        let comment = format!(
+            "length {} found by wend {} (method {}, seed {})",
+            sol.length,
+            env!("CARGO_PKG_VERSION"),
+            method.name(),
+            a.seed
+        );
+        write_file(out, |w| {
+            wend_bench::tsplib::write_tour(
+                &format!("{}.tour", inst.name),
+                &comment,
+                sol.tour.order(),
+                w,
+            )
+        })?;
+    }
+    if a.json {
+        let obj = json!({
+            "instance": inst.name,
+            "file": path.display().to_string(),
+            "type": inst.kind.keyword(),
+            "nodes": inst.dimension,
+            "method": method.name(),
+            "seed": a.seed,
+            "threads": a.threads,
+            "time_limit": a.time_limit,
+            "length": sol.length,
+            "lower_bound": null,
+            "seconds": sol.seconds,
+            "restarts": sol.restarts,
+            "stop_reason": sol.stop_reason,
+            "tour_out": a.tour_out.as_ref().map(|p| p.display().to_string()),
+        });
+        println!("{obj}");
+    } else {
+        println!(
+            "instance   {} ({} nodes, {})",
+            inst.name,
+            inst.dimension,
+            inst.kind.keyword()
+        );
+        println!("method     {}", method.name());
+        println!("length     {}", sol.length);
+        println!(
+            "time       {:.3} s, {} restart(s), stopped: {}",
+            sol.seconds,
+            sol.restarts,
+            stop_words(sol.stop_reason)
+        );
+        if let Some(out) = &a.tour_out {
+            println!("tour       written to {}", out.display());
+        }
+    }
+    Ok(())
+}
+
+fn stop_words(r: wend::StopReason) -> &'static str {
+    use wend::StopReason::*;
+    match r {
+        RestartBudget => "all restarts done",
+        TimeLimit => "time limit reached",
+        Cancelled => "cancelled",
+        Exhaustive => "every tour tried (optimal)",
+        Constructed => "construction done",
+    }
+}

@@ -1,0 +1,238 @@
+//! Independent restarts of construction plus local search, in parallel, under a deadline.
+//!
+//! Restart `r` draws its random numbers from a generator seeded by (seed, r) alone, and the
+//! answer is the best result by (length, restart index). So the answer does not depend on which
+//! thread ran which restart or finished first: with a restart budget and no time limit, the same
+//! seed gives the same tour for any number of threads. Only a deadline, which cuts the number of
+//! restarts, can make two runs differ.
+
+use crate::candidates::Neighbours;
+use crate::construct;
+use crate::cost::Cost;
+use crate::improve::{two_opt_or_opt, ArrayTour};
+use crate::tour::closed_length;
+use rand::{Rng, SeedableRng};
+use rand_pcg::Pcg64;
+use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
+use std::sync::{Arc, Mutex};
+use std::time::{Duration, Instant};
+
+/// A shared flag that asks a running solve to stop and return its best tour so far.
+///
+/// Clone it, hand one copy to [`crate::Solver::stop_handle`], and call [`StopHandle::stop`] from
+/// anywhere (another thread, a signal handler).
+#[derive(Clone, Debug, Default)]
+pub struct StopHandle(Arc<AtomicBool>);
+
+impl StopHandle {
+    /// A handle that has not been triggered.
+    pub fn new() -> Self {
+        Self::default()
+    }
+    /// Asks the solve to stop.
+    pub fn stop(&self) {
+        self.0.store(true, Ordering::Relaxed);
+    }
+    /// True once [`StopHandle::stop`] was called.
+    pub fn is_stopped(&self) -> bool {
+        self.0.load(Ordering::Relaxed)
+    }
+}
+
+/// How the starting tour of each restart is built.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Start {
+    /// Nearest neighbour from a random node.
+    NearestNeighbour,
+    /// Greedy edge (the first restart without noise, later ones with random noise).
+    GreedyEdge,
+    /// Hilbert curve (a random shift of the curve for later restarts); nearest neighbour when
+    /// the costs have no geometry.
+    SpaceFillingCurve,
+    /// Greedy first, then the curve, then alternating noisy greedy and nearest neighbour.
+    Mixed,
+}
+
+/// Parameters of a restart search.
+#[derive(Clone, Debug)]
+pub(crate) struct RestartPlan {
+    pub seed: u64,
+    pub threads: usize,
+    pub max_restarts: Option<usize>,
+    pub deadline: Option<Instant>,
+    pub start: Start,
+    pub improve: bool,
+    pub stop: StopHandle,
+}
+
+/// One new best tour, as reported to observers.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Improvement {
+    /// Seconds since the solve began.
+    pub seconds: f64,
+    /// Length of the new best tour.
+    pub length: i64,
+    /// Index of the restart that found it.
+    pub restart: usize,
+}
+
+/// Why a search stopped.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum StopReason {
+    /// All requested restarts ran to a local optimum.
+    RestartBudget,
+    /// The time limit was reached.
+    TimeLimit,
+    /// A [`StopHandle`] asked for it.
+    Cancelled,
+    /// The instance is small enough to try every tour: the answer is optimal.
+    Exhaustive,
+    /// The method is a single construction, done.
+    Constructed,
+}
+
+pub(crate) struct RestartOutcome {
+    pub order: Vec<usize>,
+    pub length: i64,
+    pub restarts: usize,
+    pub stop_reason: StopReason,
+}
+
+/// Runs restarts until the budget, the deadline or a stop request, and returns the best.
+pub(crate) fn restarts<C: Cost + ?Sized>(
+    cost: &C,
+    nb: &Neighbours,
+    plan: &RestartPlan,
+    began: Instant,
+    observer: &(dyn Fn(Improvement) + Sync),
+) -> RestartOutcome {
+    let next = AtomicUsize::new(0);
+    let done = AtomicUsize::new(0);
+    let timed_out = AtomicBool::new(false);
+    // (length, restart index, order): compared by (length, index) for a thread-independent answer.
+    let best: Mutex<Option<(i64, usize, Vec<usize>)>> = Mutex::new(None);
+    let over = || {
+        if plan.stop.is_stopped() {
+            return true;
+        }
+        if plan.deadline.is_some_and(|d| Instant::now() >= d) {
+            timed_out.store(true, Ordering::Relaxed);
+            return true;
+        }
+        false
+    };
+    let worker = || loop {
+        let r = next.fetch_add(1, Ordering::Relaxed);
+        if plan.max_restarts.is_some_and(|m| r >= m) || (r > 0 && over()) {
+            break;
+        }
+        let mut rng = Pcg64::seed_from_u64(mix(plan.seed, r as u64));
+        let order = start_tour(cost, nb, plan.start, r, &mut rng);
+        let mut tour = ArrayTour::new(order);
+        if plan.improve {
+            // Restart 0 always yields a tour, even when the deadline comes first; it is then
+            // a partly improved one.
+            two_opt_or_opt(cost, nb, &mut tour, &mut || over());
+        }
+        let order = tour.into_order();
+        let length = closed_length(cost, &order).unwrap_or(i64::MAX);
+        done.fetch_add(1, Ordering::Relaxed);
+        let mut guard = best.lock().unwrap_or_else(|e| e.into_inner());
+        let better = match &*guard {
+            None => true,
+            Some((l, i, _)) => (length, r) < (*l, *i),
+        };
+        if better {
+            let improved = guard.as_ref().is_none_or(|(l, _, _)| length < *l);
+            *guard = Some((length, r, order));
+            if improved {
+                observer(Improvement {
+                    seconds: began.elapsed().as_secs_f64(),
+                    length,
+                    restart: r,
+                });
+            }
+        }
+    };
+    let threads = plan.threads.max(1);
+    if threads == 1 {
+        worker();
+    } else {
+        match rayon::ThreadPoolBuilder::new().num_threads(threads).build() {
+            Ok(pool) => {
+                pool.broadcast(|_| worker());
+            }
+            Err(_) => worker(),
+        }
+    }
+    let (length, _, order) = best
+        .into_inner()
+        .unwrap_or_else(|e| e.into_inner())
+        .unwrap_or((0, 0, (0..cost.len()).collect()));
+    let stop_reason = if plan.stop.is_stopped() {
+        StopReason::Cancelled
+    } else if timed_out.load(Ordering::Relaxed) {
+        StopReason::TimeLimit
+    } else {
+        StopReason::RestartBudget
+    };
+    RestartOutcome {
+        order,
+        length,
+        restarts: done.load(Ordering::Relaxed),
+        stop_reason,
+    }
+}
+
+/// Seed of restart `r`: a SplitMix64 step over (seed, r), so nearby seeds and indices give
+/// unrelated streams.
+fn mix(seed: u64, r: u64) -> u64 {
+    let mut z = seed ^ r.wrapping_mul(0x9E37_79B9_7F4A_7C15);
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^ (z >> 31)
+}
+
+fn start_tour<C: Cost + ?Sized>(
+    cost: &C,
+    nb: &Neighbours,
+    start: Start,
+    r: usize,
+    rng: &mut Pcg64,
+) -> Vec<usize> {
+    let n = cost.len();
+    let nn = |rng: &mut Pcg64| {
+        let s = if r == 0 {
+            0
+        } else {
+            rng.gen_range(0..n.max(1))
+        };
+        construct::nearest_neighbour(cost, nb, s)
+    };
+    let curve = |rng: &mut Pcg64| {
+        let shift = if r == 0 {
+            [0.0, 0.0]
+        } else {
+            [rng.gen::<f64>(), rng.gen::<f64>()]
+        };
+        construct::space_filling_curve(cost, shift)
+    };
+    let noise = if r == 0 { 0.0 } else { 0.3 };
+    match start {
+        Start::NearestNeighbour => nn(rng),
+        Start::GreedyEdge => construct::greedy_edge(cost, nb, noise, rng),
+        Start::SpaceFillingCurve => curve(rng).unwrap_or_else(|| nn(rng)),
+        Start::Mixed => match r {
+            0 => construct::greedy_edge(cost, nb, 0.0, rng),
+            1 => curve(rng).unwrap_or_else(|| nn(rng)),
+            r if r % 2 == 0 => construct::greedy_edge(cost, nb, 0.3, rng),
+            _ => nn(rng),
+        },
+    }
+}
+
+/// A deadline `limit` after `began`, or none.
+pub(crate) fn deadline(began: Instant, limit: Option<Duration>) -> Option<Instant> {
+    limit.and_then(|l| began.checked_add(l))
+}

@@ -1,0 +1,314 @@
+//! The embedding API: a builder that takes costs and options and returns a [`Solution`].
+
+use crate::candidates::k_nearest;
+use crate::construct;
+use crate::cost::{Cost, CostError, FnCost, MatrixCost};
+use crate::exact;
+use crate::search::{self, Improvement, RestartPlan, Start, StopHandle, StopReason};
+use crate::tour::{closed_length, Overflow, Tour};
+use std::sync::Mutex;
+use std::time::{Duration, Instant};
+
+/// A named solver configuration, as chosen on the command line with `--method`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Method {
+    /// Nearest-neighbour construction only.
+    Nearest,
+    /// Greedy-edge construction only.
+    Greedy,
+    /// Space-filling-curve construction only (nearest neighbour without geometry).
+    Curve,
+    /// Restarts of a construction followed by 2-opt and Or-opt over neighbour lists.
+    TwoOpt,
+}
+
+impl Method {
+    /// Every method, in the order they are listed.
+    pub const ALL: [Method; 4] = [
+        Method::TwoOpt,
+        Method::Greedy,
+        Method::Nearest,
+        Method::Curve,
+    ];
+
+    /// The name used on the command line and in result files.
+    pub fn name(self) -> &'static str {
+        match self {
+            Method::Nearest => "nearest",
+            Method::Greedy => "greedy",
+            Method::Curve => "curve",
+            Method::TwoOpt => "2opt",
+        }
+    }
+
+    /// The method with this name.
+    pub fn from_name(name: &str) -> Option<Method> {
+        Method::ALL.into_iter().find(|m| m.name() == name)
+    }
+
+    /// One line on what the method does.
+    pub fn describe(self) -> &'static str {
+        match self {
+            Method::Nearest => "nearest-neighbour construction, no improvement",
+            Method::Greedy => "greedy-edge construction, no improvement",
+            Method::Curve => "Hilbert space-filling-curve order, no improvement",
+            Method::TwoOpt => {
+                "parallel restarts: greedy/curve/nearest starts, 2-opt + Or-opt over 10 nearest \
+                 neighbours with don't-look bits (Or-opt only for asymmetric costs)"
+            }
+        }
+    }
+}
+
+/// Why a solve could not run.
+#[derive(Debug, thiserror::Error)]
+pub enum SolveError {
+    /// Costs so large that a tour's length could overflow 64-bit arithmetic.
+    #[error(
+        "costs up to {max_cost} over {n} nodes could overflow a 64-bit tour length; scale them down"
+    )]
+    CostsTooLarge {
+        /// The largest cost, as the oracle reported it.
+        max_cost: i64,
+        /// Nodes in the instance.
+        n: usize,
+    },
+    /// The length of the tour found does not fit in `i64`.
+    #[error(transparent)]
+    Overflow(#[from] Overflow),
+    /// The costs could not be built.
+    #[error(transparent)]
+    Cost(#[from] CostError),
+}
+
+/// What a solve returns.
+#[derive(Clone, Debug)]
+pub struct Solution {
+    /// The best tour found.
+    pub tour: Tour,
+    /// Its exact length.
+    pub length: i64,
+    /// Wall-clock seconds the solve took, including neighbour lists.
+    pub seconds: f64,
+    /// Restarts completed.
+    pub restarts: usize,
+    /// Why the search ended.
+    pub stop_reason: StopReason,
+    /// Every new best tour's length and time, in order: the anytime curve of the run.
+    pub trace: Vec<Improvement>,
+    /// The method that ran.
+    pub method: Method,
+}
+
+type Observer = Box<dyn Fn(Improvement) + Sync + Send>;
+
+/// Builder for a solve over any [`Cost`].
+///
+/// ```
+/// use std::time::Duration;
+/// let s = wend::Solver::from_fn(5, true, |i, j| (i as i64 - j as i64).abs())
+///     .time_limit(Duration::from_millis(200))
+///     .seed(7)
+///     .solve()
+///     .unwrap();
+/// assert_eq!(s.length, 8); // 0 1 2 3 4 and back: 4 + 4
+/// ```
+pub struct Solver<C> {
+    cost: C,
+    time_limit: Option<Duration>,
+    seed: u64,
+    threads: Option<usize>,
+    restarts: Option<usize>,
+    method: Method,
+    neighbours: usize,
+    stop: StopHandle,
+    observer: Option<Observer>,
+}
+
+/// Restarts run when neither a time limit nor a restart count is given.
+pub const DEFAULT_RESTARTS: usize = 8;
+/// Width of the neighbour lists by default.
+pub const DEFAULT_NEIGHBOURS: usize = 10;
+
+impl<C: Cost> Solver<C> {
+    /// A solver over `cost` with default options: method `2opt`, seed 0, one thread per core,
+    /// [`DEFAULT_RESTARTS`] restarts unless a time limit is set.
+    pub fn new(cost: C) -> Self {
+        Solver {
+            cost,
+            time_limit: None,
+            seed: 0,
+            threads: None,
+            restarts: None,
+            method: Method::TwoOpt,
+            neighbours: DEFAULT_NEIGHBOURS,
+            stop: StopHandle::new(),
+            observer: None,
+        }
+    }
+
+    /// Stop after this long and return the best tour so far. Without a restart count, restarts
+    /// continue until the limit.
+    pub fn time_limit(mut self, limit: Duration) -> Self {
+        self.time_limit = Some(limit);
+        self
+    }
+
+    /// Seed of all random choices. The same seed, restart count and costs give the same tour.
+    pub fn seed(mut self, seed: u64) -> Self {
+        self.seed = seed;
+        self
+    }
+
+    /// Worker threads for the restarts (default: one per core).
+    pub fn threads(mut self, threads: usize) -> Self {
+        self.threads = Some(threads.max(1));
+        self
+    }
+
+    /// Number of restarts (construction plus local search). Without a time limit the default
+    /// is [`DEFAULT_RESTARTS`]; with one, restarts continue until it unless this is set.
+    pub fn restarts(mut self, restarts: usize) -> Self {
+        self.restarts = Some(restarts.max(1));
+        self
+    }
+
+    /// The method to run.
+    pub fn method(mut self, method: Method) -> Self {
+        self.method = method;
+        self
+    }
+
+    /// Width of the neighbour lists the moves look at.
+    pub fn neighbours(mut self, k: usize) -> Self {
+        self.neighbours = k.max(1);
+        self
+    }
+
+    /// A handle whose [`StopHandle::stop`] ends the solve early with the best tour so far.
+    pub fn stop_handle(mut self, stop: StopHandle) -> Self {
+        self.stop = stop;
+        self
+    }
+
+    /// Called with every new best tour (from worker threads; keep it short).
+    pub fn on_improvement(mut self, f: impl Fn(Improvement) + Sync + Send + 'static) -> Self {
+        self.observer = Some(Box::new(f));
+        self
+    }
+
+    /// The costs this solver works on.
+    pub fn cost(&self) -> &C {
+        &self.cost
+    }
+
+    /// Runs the search.
+    pub fn solve(&self) -> Result<Solution, SolveError> {
+        let began = Instant::now();
+        let cost = &self.cost;
+        let n = cost.len();
+        if let Some(max_cost) = cost.max_cost_hint() {
+            // Moves add and subtract a handful of costs on top of a tour length.
+            if max_cost.checked_mul(n as i64 + 8).is_none() {
+                return Err(SolveError::CostsTooLarge { max_cost, n });
+            }
+        }
+        let trace = Mutex::new(Vec::new());
+        let observe = |imp: Improvement| {
+            if let Some(f) = &self.observer {
+                f(imp);
+            }
+            trace.lock().unwrap_or_else(|e| e.into_inner()).push(imp);
+        };
+        let finish = |order: Vec<usize>, restarts, stop_reason, trace: &Mutex<Vec<Improvement>>| {
+            let length = closed_length(cost, &order)?;
+            let mut tour = Tour::trusted(order);
+            tour.rotate_to(0);
+            Ok(Solution {
+                tour,
+                length,
+                seconds: began.elapsed().as_secs_f64(),
+                restarts,
+                stop_reason,
+                trace: std::mem::take(&mut *trace.lock().unwrap_or_else(|e| e.into_inner())),
+                method: self.method,
+            })
+        };
+
+        if n <= exact::ENUMERATION_LIMIT && self.method == Method::TwoOpt {
+            let order = exact::enumerate(cost).unwrap_or_else(|| (0..n).collect());
+            let length = closed_length(cost, &order)?;
+            observe(Improvement {
+                seconds: began.elapsed().as_secs_f64(),
+                length,
+                restart: 0,
+            });
+            return finish(order, 1, StopReason::Exhaustive, &trace);
+        }
+
+        let nb = k_nearest(cost, self.neighbours);
+        let threads = self.threads.unwrap_or_else(|| {
+            std::thread::available_parallelism()
+                .map(|t| t.get())
+                .unwrap_or(1)
+        });
+        let construction = |start| {
+            let mut rng = <rand_pcg::Pcg64 as rand::SeedableRng>::seed_from_u64(self.seed);
+            match start {
+                Start::GreedyEdge => construct::greedy_edge(cost, &nb, 0.0, &mut rng),
+                Start::SpaceFillingCurve => construct::space_filling_curve(cost, [0.0, 0.0])
+                    .unwrap_or_else(|| construct::nearest_neighbour(cost, &nb, 0)),
+                _ => construct::nearest_neighbour(cost, &nb, 0),
+            }
+        };
+        let start = match self.method {
+            Method::Nearest => Start::NearestNeighbour,
+            Method::Greedy => Start::GreedyEdge,
+            Method::Curve => Start::SpaceFillingCurve,
+            Method::TwoOpt => Start::Mixed,
+        };
+        if self.method != Method::TwoOpt {
+            let order = construction(start);
+            let length = closed_length(cost, &order)?;
+            observe(Improvement {
+                seconds: began.elapsed().as_secs_f64(),
+                length,
+                restart: 0,
+            });
+            return finish(order, 1, StopReason::Constructed, &trace);
+        }
+        let plan = RestartPlan {
+            seed: self.seed,
+            threads,
+            max_restarts: match (self.restarts, self.time_limit) {
+                (Some(r), _) => Some(r),
+                (None, Some(_)) => None,
+                (None, None) => Some(DEFAULT_RESTARTS),
+            },
+            deadline: search::deadline(began, self.time_limit),
+            start,
+            improve: true,
+            stop: self.stop.clone(),
+        };
+        let out = search::restarts(cost, &nb, &plan, began, &observe);
+        if out.length == i64::MAX {
+            // The restarts saturate a length they could not compute; recompute to report it.
+            closed_length(cost, &out.order)?;
+        }
+        finish(out.order, out.restarts, out.stop_reason, &trace)
+    }
+}
+
+impl<F: Fn(usize, usize) -> i64 + Sync> Solver<FnCost<F>> {
+    /// A solver over `n` nodes whose costs come from `f(from, to)`.
+    pub fn from_fn(n: usize, symmetric: bool, f: F) -> Self {
+        Solver::new(FnCost::new(n, symmetric, f))
+    }
+}
+
+impl Solver<MatrixCost> {
+    /// A solver over a square matrix given as rows (`rows[i][j]` is the cost from `i` to `j`).
+    pub fn from_matrix(rows: &[Vec<i64>]) -> Result<Self, SolveError> {
+        Ok(Solver::new(MatrixCost::from_rows(rows)?))
+    }
+}
