@@ -1,1 +1,48 @@
-fn main() {}
+//! Criterion benchmarks of the building blocks on random uniform instances.
+//! Run with `cargo bench -p wend --bench two_opt`.
+
+use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
+use rand::{Rng, SeedableRng};
+use wend::candidates::k_nearest;
+use wend::construct::greedy_edge;
+use wend::improve::{two_opt_or_opt, ArrayTour};
+use wend::{CoordCost, Metric};
+
+fn uniform(n: usize, seed: u64) -> CoordCost {
+    let mut rng = rand_pcg::Pcg64::seed_from_u64(seed);
+    let pts: Vec<[f64; 2]> = (0..n)
+        .map(|_| [rng.gen_range(0.0..1.0e6), rng.gen_range(0.0..1.0e6)])
+        .collect();
+    CoordCost::plane(Metric::Euc2d, &pts).expect("finite points")
+}
+
+fn bench(c: &mut Criterion) {
+    let mut group = c.benchmark_group("uniform");
+    group.sample_size(10);
+    for n in [1_000usize, 10_000] {
+        let cost = uniform(n, 1);
+        group.bench_with_input(BenchmarkId::new("k_nearest_10", n), &n, |b, _| {
+            b.iter(|| k_nearest(&cost, 10))
+        });
+        let nb = k_nearest(&cost, 10);
+        let mut rng = rand_pcg::Pcg64::seed_from_u64(2);
+        group.bench_with_input(BenchmarkId::new("greedy_edge", n), &n, |b, _| {
+            b.iter(|| greedy_edge(&cost, &nb, 0.0, &mut rng))
+        });
+        let start = greedy_edge(&cost, &nb, 0.0, &mut rng);
+        group.bench_with_input(
+            BenchmarkId::new("two_opt_or_opt_from_greedy", n),
+            &n,
+            |b, _| {
+                b.iter(|| {
+                    let mut t = ArrayTour::new(start.clone());
+                    two_opt_or_opt(&cost, &nb, &mut t, &mut || false)
+                })
+            },
+        );
+    }
+    group.finish();
+}
+
+criterion_group!(benches, bench);
+criterion_main!(benches);

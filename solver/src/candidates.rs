@@ -156,7 +156,7 @@ mod tests {
                 pts.push([x as f64 * 3.0, y as f64 * 2.0]);
             }
         }
-        pts.extend(std::iter::repeat([5.0, 5.0]).take(300));
+        pts.extend(std::iter::repeat_n([5.0, 5.0], 300));
         let c = CoordCost::plane(Metric::Euc2d, &pts).unwrap();
         let nb = k_nearest(&c, 6);
         let n = pts.len();

@@ -208,6 +208,7 @@ const MAX_COORD: f64 = 1.0e12;
 /// Idealised earth radius of TSPLIB's GEO metric, in km.
 const GEO_RRR: f64 = 6378.388;
 /// TSPLIB's GEO metric uses this truncated value of pi, not `std::f64::consts::PI`.
+#[allow(clippy::approx_constant)]
 const GEO_PI: f64 = 3.141592;
 
 /// Costs from coordinates under a TSPLIB metric, computed on demand.

@@ -168,7 +168,7 @@ pub fn two_opt_or_opt<C: Cost + ?Sized>(
     while let Some(a) = queue.pop_front() {
         queued[a] = false;
         polls += 1;
-        if polls % 256 == 0 && should_stop() {
+        if polls.is_multiple_of(256) && should_stop() {
             stats.interrupted = true;
             break;
         }

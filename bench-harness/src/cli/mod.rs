@@ -7,7 +7,6 @@ mod solve;
 
 use clap::{Parser, Subcommand};
 use std::fmt;
-use std::path::PathBuf;
 
 /// Routing and sequencing: short tours and paths over TSPLIB instances and your own costs.
 #[derive(Parser, Debug)]
@@ -69,13 +68,13 @@ impl From<wend_bench::tsplib::TsplibError> for CliError {
 }
 
 /// Reads an instance, mapping errors to one line that names the file.
-pub(crate) fn load(path: &PathBuf) -> Result<wend_bench::tsplib::Instance, CliError> {
+pub(crate) fn load(path: &std::path::Path) -> Result<wend_bench::tsplib::Instance, CliError> {
     Ok(wend_bench::tsplib::read_instance(path)?)
 }
 
 /// Writes a file, naming it in the error.
 pub(crate) fn write_file(
-    path: &PathBuf,
+    path: &std::path::Path,
     f: impl FnOnce(&mut std::io::BufWriter<std::fs::File>) -> std::io::Result<()>,
 ) -> Result<(), CliError> {
     let fail =

@@ -3,6 +3,7 @@
 use super::{load, progress::Progress, write_file, CliError};
 use clap::Args;
 use serde_json::json;
+use std::io::IsTerminal;
 use std::path::PathBuf;
 use std::time::Duration;
 use wend::{Method, Solver};
@@ -70,7 +71,7 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
     }
     let path = a.path.clone().unwrap_or_default();
     let inst = load(&path)?;
-    let progress = Progress::start(limit, !a.json);
+    let progress = Progress::start(limit, !a.json || std::io::stderr().is_terminal());
     let mut solver = Solver::new(inst.cost())
         .seed(a.seed)
         .method(method)
@@ -85,7 +86,7 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
         solver = solver.restarts(r);
     }
     let observer = progress.observer();
-    let solver = solver.on_improvement(move |imp| observer(imp));
+    let solver = solver.on_improvement(observer);
     let result = solver.solve();
     progress.finish();
     let sol = result.map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;

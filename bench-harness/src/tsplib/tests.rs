@@ -1,0 +1,1158 @@
+//! Tests of the TSPLIB reader and writer: the published library files, exact layouts, round
+//! trips, and malformed input that must be refused with the right line.
+
+// Matrices in these tests are indexed by node pairs; index loops say that most plainly.
+#![allow(clippy::needless_range_loop)]
+
+use std::path::{Path, PathBuf};
+
+use proptest::prelude::*;
+use wend::{Cost, Metric};
+
+use super::*;
+
+/// The shared TSPLIB folder next to the project, when present.
+fn shared(sub: &str) -> Option<PathBuf> {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../../shared/tsplib")
+        .join(sub);
+    if dir.is_dir() {
+        Some(dir)
+    } else {
+        eprintln!("note: {} is absent; skipping", dir.display());
+        None
+    }
+}
+
+fn shared_file(sub: &str, name: &str) -> Option<PathBuf> {
+    let p = shared(sub)?.join(name);
+    if p.is_file() {
+        Some(p)
+    } else {
+        eprintln!("note: {} is absent; skipping", p.display());
+        None
+    }
+}
+
+fn tour_length(c: &dyn Cost, nodes: &[usize]) -> i64 {
+    let n = nodes.len();
+    (0..n).map(|k| c.cost(nodes[k], nodes[(k + 1) % n])).sum()
+}
+
+fn canonical_length(inst: &Instance) -> i64 {
+    let nodes: Vec<usize> = (0..inst.dimension).collect();
+    tour_length(inst.cost(), &nodes)
+}
+
+fn err(text: &str) -> TsplibError {
+    match parse_instance(text, "t.tsp") {
+        Ok(i) => panic!("expected an error, parsed {} nodes", i.dimension),
+        Err(e) => e,
+    }
+}
+
+fn tour_err(text: &str) -> TsplibError {
+    match parse_tour(text, "t.tour") {
+        Ok(t) => panic!("expected an error, parsed {} nodes", t.nodes.len()),
+        Err(e) => e,
+    }
+}
+
+/// Asserts the error is at `line` and its message contains `needle`.
+#[track_caller]
+fn assert_err(e: &TsplibError, line: usize, needle: &str) {
+    assert_eq!(e.line, line, "wrong line in: {e}");
+    assert!(e.message.contains(needle), "{needle:?} not in: {e}");
+}
+
+fn same_costs(a: &dyn Cost, b: &dyn Cost) {
+    assert_eq!(a.len(), b.len());
+    for i in 0..a.len() {
+        for j in 0..a.len() {
+            assert_eq!(a.cost(i, j), b.cost(i, j), "cost({i}, {j})");
+        }
+    }
+}
+
+/// Tiny deterministic generator, so the tests need no extra dependency.
+struct Rng(u64);
+impl Rng {
+    fn next(&mut self) -> u64 {
+        self.0 ^= self.0 << 13;
+        self.0 ^= self.0 >> 7;
+        self.0 ^= self.0 << 17;
+        self.0
+    }
+    fn below(&mut self, n: u64) -> u64 {
+        self.next() % n
+    }
+}
+
+const BERLIN_HEAD: &str = "NAME: tiny\nTYPE: TSP\nCOMMENT: five points\nDIMENSION: 5\n\
+                           EDGE_WEIGHT_TYPE: EUC_2D\nNODE_COORD_SECTION\n";
+const TINY: &str = "NAME: tiny\nTYPE: TSP\nCOMMENT: five points\nDIMENSION: 5\n\
+                    EDGE_WEIGHT_TYPE: EUC_2D\nNODE_COORD_SECTION\n\
+                    1 0 0\n2 3 4\n3 6 0\n4 3.5 -4\n5 1.2e+01 0\nEOF\n";
+
+// ---------------------------------------------------------------------------------------------
+// The published library.
+
+/// The `KEY` value of a file, found by a deliberately naive scan independent of the parser.
+fn naive_value(text: &str, key: &str) -> Option<String> {
+    text.lines().find_map(|l| {
+        let l = l.trim();
+        let rest = l.strip_prefix(key)?;
+        let rest = rest.trim_start().strip_prefix(':')?;
+        Some(rest.trim().to_string())
+    })
+}
+
+#[test]
+fn every_shared_instance_parses() {
+    let mut parsed = 0;
+    for (sub, kind) in [("tsp", ProblemKind::Tsp), ("atsp", ProblemKind::Atsp)] {
+        let Some(dir) = shared(sub) else { continue };
+        let mut paths: Vec<_> = std::fs::read_dir(&dir)
+            .unwrap()
+            .map(|e| e.unwrap().path())
+            .collect();
+        paths.sort();
+        for path in paths {
+            let text = std::fs::read_to_string(&path).unwrap();
+            let name = path.file_stem().unwrap().to_string_lossy().to_string();
+            let result = read_instance(&path);
+            if name == "linhp318" {
+                // The one library file with a non-empty FIXED_EDGES_SECTION ("1 214"), which
+                // this reader refuses rather than ignore.
+                let e = result.unwrap_err();
+                assert!(
+                    e.message
+                        .starts_with("FIXED_EDGES_SECTION is not supported"),
+                    "{e}"
+                );
+                continue;
+            }
+            let inst = result.unwrap_or_else(|e| panic!("{e}"));
+            let dim: usize = naive_value(&text, "DIMENSION").unwrap().parse().unwrap();
+            assert_eq!(inst.dimension, dim, "{name}");
+            assert_eq!(inst.cost().len(), dim, "{name}");
+            assert_eq!(inst.kind, kind, "{name}");
+            assert_eq!(inst.name, naive_value(&text, "NAME").unwrap(), "{name}");
+            let ewt = naive_value(&text, "EDGE_WEIGHT_TYPE").unwrap();
+            assert_eq!(inst.edge_weight_type, ewt, "{name}");
+            match &inst.weights {
+                Weights::Matrix(_) => assert_eq!(ewt, "EXPLICIT", "{name}"),
+                Weights::Coords(c) => assert_eq!(c.metric().keyword(), ewt, "{name}"),
+            }
+            if kind == ProblemKind::Tsp {
+                assert!(inst.cost().is_symmetric(), "{name}");
+            }
+            parsed += 1;
+        }
+    }
+    eprintln!("parsed {parsed} shared instances");
+}
+
+#[test]
+fn canonical_tour_lengths_from_the_documentation() {
+    // Canonical tour 1, 2, ..., n: TSPLIB 95 documentation (Reinelt), section 2, lengths given
+    // there for checking the distance functions.
+    // pcb442 (221440 there) is not among the shared instances, so it is not checked here.
+    for (name, expected) in [("gr666", 423710), ("att532", 309636)] {
+        let Some(path) = shared_file("tsp", &format!("{name}.tsp")) else {
+            continue;
+        };
+        let inst = read_instance(&path).unwrap();
+        assert_eq!(canonical_length(&inst), expected, "{name}");
+    }
+}
+
+#[test]
+fn optimal_tours_have_the_published_lengths() {
+    // Published optimal tour lengths, TSPLIB 95 (Reinelt), list of optimal solutions.
+    for (name, expected) in [("att48", 10628), ("pr76", 108159), ("a280", 2579)] {
+        let (Some(p), Some(t)) = (
+            shared_file("tsp", &format!("{name}.tsp")),
+            shared_file("tours", &format!("{name}.opt.tour")),
+        ) else {
+            continue;
+        };
+        let inst = read_instance(&p).unwrap();
+        let tour = read_tour(&t).unwrap();
+        assert_eq!(tour.dimension, Some(inst.dimension));
+        assert_eq!(tour.nodes.len(), inst.dimension);
+        assert_eq!(tour.nodes.first(), Some(&0));
+        assert!(tour.comments[0].contains(&expected.to_string()));
+        assert_eq!(tour_length(inst.cost(), &tour.nodes), expected, "{name}");
+    }
+}
+
+#[test]
+fn shared_optima_list_reads() {
+    let Some(path) = shared_file("", "optima.txt") else {
+        return;
+    };
+    let optima = read_optima(&path).unwrap();
+    // TSPLIB 95 list of optimal solutions.
+    assert_eq!(optima.get("att48"), Some(&10628));
+    assert_eq!(optima.get("a280"), Some(&2579));
+    assert_eq!(optima.get("br17"), Some(&39));
+    assert!(optima.len() > 80);
+}
+
+#[test]
+fn explicit_library_layouts() {
+    let get =
+        |name: &str| shared_file("tsp", &format!("{name}.tsp")).map(|p| read_instance(&p).unwrap());
+    let matrix = |inst: &Instance, format: &str| {
+        assert!(matches!(inst.weights, Weights::Matrix(_)), "{}", inst.name);
+        assert_eq!(inst.edge_weight_format.as_deref(), Some(format));
+        assert!(inst.cost().is_symmetric(), "{}", inst.name);
+    };
+    if let Some(g) = get("gr17") {
+        matrix(&g, "LOWER_DIAG_ROW");
+        let c = g.cost();
+        // Entries read off gr17.tsp's first EDGE_WEIGHT_SECTION line: 0 / 633 0 / 257 390 0 /
+        // 91 661 228 0.
+        assert_eq!((c.cost(1, 0), c.cost(0, 1)), (633, 633));
+        assert_eq!((c.cost(2, 0), c.cost(2, 1), c.cost(3, 2)), (257, 390, 228));
+        assert_eq!(c.cost(3, 3), 0);
+        assert_eq!(g.display, None);
+    }
+    let bayg = get("bayg29");
+    let bays = get("bays29");
+    if let Some(g) = &bayg {
+        matrix(g, "UPPER_ROW");
+        // bayg29.tsp: the first row starts 97 205, the second 129; the last entry is 162.
+        let c = g.cost();
+        assert_eq!((c.cost(0, 1), c.cost(0, 2), c.cost(1, 2)), (97, 205, 129));
+        assert_eq!((c.cost(27, 28), c.cost(28, 27)), (162, 162));
+        assert_eq!(c.cost(5, 5), 0);
+    }
+    if let Some(s) = &bays {
+        matrix(s, "FULL_MATRIX");
+        // bays29.tsp: rows start "0 107 241 190" and "107 0 148 137"; row 3 has 374 at column 4.
+        let c = s.cost();
+        assert_eq!((c.cost(0, 1), c.cost(1, 0), c.cost(0, 2)), (107, 107, 241));
+        assert_eq!(c.cost(2, 3), 374);
+    }
+    if let (Some(g), Some(s)) = (&bayg, &bays) {
+        // Same 29 cities (one display section), different distances.
+        assert_eq!(g.display.as_ref().map(Vec::len), Some(29));
+        assert_eq!(g.display, s.display);
+        assert_ne!(g.cost().cost(0, 1), s.cost().cost(0, 1));
+    }
+    if let Some(s) = get("si175") {
+        matrix(&s, "UPPER_DIAG_ROW");
+        // si175.tsp first section line: "0 113 189 299".
+        let c = s.cost();
+        assert_eq!(
+            (c.cost(0, 0), c.cost(0, 1), c.cost(2, 0), c.cost(0, 3)),
+            (0, 113, 189, 299)
+        );
+        assert_eq!(s.display, None); // NO_DISPLAY
+    }
+}
+
+#[test]
+fn atsp_library_files_are_full_matrices() {
+    let Some(p) = shared_file("atsp", "ftv33.atsp") else {
+        return;
+    };
+    // ftv33.atsp has DIMENSION 34 and no EOF line.
+    let inst = read_instance(&p).unwrap();
+    assert_eq!(inst.kind, ProblemKind::Atsp);
+    assert_eq!(inst.dimension, 34);
+    assert!(!inst.cost().is_symmetric());
+    assert_eq!(inst.edge_weight_format.as_deref(), Some("FULL_MATRIX"));
+}
+
+// ---------------------------------------------------------------------------------------------
+// Explicit layouts.
+
+/// `m` in `format`, written literally from the TSPLIB 95 definitions (section 1.1), with line
+/// breaks at random places.
+fn emit(m: &[Vec<i64>], format: &str, rng: &mut Rng) -> String {
+    let n = m.len();
+    let mut entries = Vec::new();
+    for a in 0..n {
+        for b in 0..n {
+            let take = match format {
+                "FULL_MATRIX" => true,
+                "UPPER_ROW" | "LOWER_COL" => b > a,
+                "LOWER_ROW" | "UPPER_COL" => b < a,
+                "UPPER_DIAG_ROW" | "LOWER_DIAG_COL" => b >= a,
+                "LOWER_DIAG_ROW" | "UPPER_DIAG_COL" => b <= a,
+                _ => unreachable!(),
+            };
+            if take {
+                // Row formats walk row a; column formats walk column a, i.e. entry (b, a).
+                let v = if format.ends_with("_COL") {
+                    m[b][a]
+                } else {
+                    m[a][b]
+                };
+                entries.push(v);
+            }
+        }
+    }
+    let mut text = format!(
+        "NAME: r\nTYPE: TSP\nDIMENSION: {n}\nEDGE_WEIGHT_TYPE: EXPLICIT\n\
+         EDGE_WEIGHT_FORMAT: {format}\nEDGE_WEIGHT_SECTION\n"
+    );
+    for v in entries {
+        text.push_str(&v.to_string());
+        text.push(if rng.below(4) == 0 { '\n' } else { ' ' });
+    }
+    text.push_str("\nEOF\n");
+    text
+}
+
+fn random_symmetric(n: usize, rng: &mut Rng, diagonal: bool) -> Vec<Vec<i64>> {
+    let mut m = vec![vec![0i64; n]; n];
+    for i in 0..n {
+        for j in i..n {
+            let v = if i == j && !diagonal {
+                0
+            } else {
+                rng.below(1000) as i64 - 100
+            };
+            m[i][j] = v;
+            m[j][i] = v;
+        }
+    }
+    m
+}
+
+const FORMATS: [&str; 9] = [
+    "FULL_MATRIX",
+    "UPPER_ROW",
+    "LOWER_ROW",
+    "UPPER_DIAG_ROW",
+    "LOWER_DIAG_ROW",
+    "UPPER_COL",
+    "LOWER_COL",
+    "UPPER_DIAG_COL",
+    "LOWER_DIAG_COL",
+];
+
+#[test]
+fn nine_formats_give_identical_costs() {
+    let mut rng = Rng(0x9e37_79b9_7f4a_7c15);
+    for n in [1, 2, 3, 4, 5, 8, 13] {
+        let m = random_symmetric(n, &mut rng, false);
+        for format in FORMATS {
+            let text = emit(&m, format, &mut rng);
+            let inst = parse_instance(&text, "r.tsp").unwrap_or_else(|e| panic!("{format}: {e}"));
+            assert_eq!(inst.edge_weight_format.as_deref(), Some(format));
+            let c = inst.cost();
+            for i in 0..n {
+                for j in 0..n {
+                    assert_eq!(c.cost(i, j), m[i][j], "{format} n={n} ({i},{j})");
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn diagonal_formats_keep_the_diagonal() {
+    let mut rng = Rng(12345);
+    let m = random_symmetric(6, &mut rng, true);
+    for format in [
+        "FULL_MATRIX",
+        "UPPER_DIAG_ROW",
+        "LOWER_DIAG_ROW",
+        "UPPER_DIAG_COL",
+        "LOWER_DIAG_COL",
+    ] {
+        let inst = parse_instance(&emit(&m, format, &mut rng), "d.tsp").unwrap();
+        for i in 0..6 {
+            assert_eq!(inst.cost().cost(i, i), m[i][i], "{format}");
+        }
+    }
+}
+
+#[test]
+fn column_formats_differ_from_row_formats() {
+    // 4 nodes, upper triangle 1..=6 in file order. UPPER_ROW puts 3 at (0,3); UPPER_COL puts 3
+    // at (1,2), since column 2 holds rows 0 and 1 (TSPLIB 95 documentation, section 1.1).
+    let text = |f: &str| {
+        format!(
+            "TYPE: TSP\nDIMENSION: 4\nEDGE_WEIGHT_TYPE: EXPLICIT\nEDGE_WEIGHT_FORMAT: {f}\n\
+             EDGE_WEIGHT_SECTION\n1 2 3 4 5 6\n"
+        )
+    };
+    let row = parse_instance(&text("UPPER_ROW"), "r").unwrap();
+    let col = parse_instance(&text("UPPER_COL"), "c").unwrap();
+    assert_eq!(row.cost().cost(0, 3), 3);
+    assert_eq!(col.cost().cost(1, 2), 3);
+    assert_eq!(col.cost().cost(0, 3), 4);
+    // Missing NAME falls back to the source name.
+    assert_eq!(row.name, "r");
+}
+
+#[test]
+fn integral_floats_are_accepted_as_weights() {
+    let t = "TYPE: TSP\nDIMENSION: 2\nEDGE_WEIGHT_TYPE: EXPLICIT\nEDGE_WEIGHT_FORMAT: UPPER_ROW\n\
+             EDGE_WEIGHT_SECTION\n12.0\n";
+    assert_eq!(parse_instance(t, "f").unwrap().cost().cost(0, 1), 12);
+    let bad = t.replace("12.0", "12.5");
+    assert_err(&err(&bad), 6, "expected an integer weight, found \"12.5\"");
+}
+
+#[test]
+fn large_full_matrix_reads_in_linear_time() {
+    // A quadratic pass over 4 million tokens would take hours; a linear one well under a second
+    // or two even unoptimised.
+    let n = 2000;
+    let mut text = format!(
+        "NAME: big\nTYPE: ATSP\nDIMENSION: {n}\nEDGE_WEIGHT_TYPE: EXPLICIT\n\
+         EDGE_WEIGHT_FORMAT: FULL_MATRIX\nEDGE_WEIGHT_SECTION\n"
+    );
+    for i in 0..n {
+        for j in 0..n {
+            text.push_str(&((i * 7 + j * 3) % 1000).to_string());
+            text.push(' ');
+        }
+        text.push('\n');
+    }
+    let start = std::time::Instant::now();
+    let inst = parse_instance(&text, "big.atsp").unwrap();
+    let took = start.elapsed();
+    eprintln!("{n} x {n} FULL_MATRIX read in {took:?}");
+    assert_eq!(inst.cost().cost(1999, 3), (1999 * 7 + 9) % 1000);
+    assert!(took.as_secs() < 20, "took {took:?}");
+}
+
+#[test]
+#[ignore = "needs about 2 GB of memory; run by hand to time a 10,000-node FULL_MATRIX"]
+fn ten_thousand_node_full_matrix() {
+    let n = 10_000;
+    let mut text = String::with_capacity(n * n * 4 + 200);
+    text.push_str(&format!(
+        "TYPE: ATSP\nDIMENSION: {n}\nEDGE_WEIGHT_TYPE: EXPLICIT\nEDGE_WEIGHT_FORMAT: FULL_MATRIX\n\
+         EDGE_WEIGHT_SECTION\n"
+    ));
+    for i in 0..n {
+        for j in 0..n {
+            text.push_str(&((i + j) % 997).to_string());
+            text.push(' ');
+        }
+        text.push('\n');
+    }
+    let start = std::time::Instant::now();
+    let inst = parse_instance(&text, "huge.atsp").unwrap();
+    eprintln!("10,000 x 10,000 FULL_MATRIX read in {:?}", start.elapsed());
+    assert_eq!(inst.cost().cost(9999, 9999), (19998 % 997) as i64);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Coordinates, display, header syntax.
+
+#[test]
+fn tiny_instance_and_header_spellings() {
+    let inst = parse_instance(TINY, "tiny.tsp").unwrap();
+    assert_eq!(inst.name, "tiny");
+    assert_eq!(inst.comments, ["five points"]);
+    assert_eq!(inst.cost().cost(0, 1), 5);
+    assert_eq!(inst.cost().cost(2, 4), 6); // 1.2e+01 = 12
+    assert_eq!(inst.display.as_ref().unwrap()[3], [3.5, -4.0]); // COORD_DISPLAY by default
+    assert_eq!(inst.edge_weight_format, None);
+    let spaced = TINY
+        .replace("NAME: tiny", "NAME : tiny   ")
+        .replace("TYPE: TSP", "TYPE:TSP")
+        .replace("DIMENSION: 5", "DIMENSION :5")
+        .replace("EDGE_WEIGHT_TYPE: EUC_2D", "EDGE_WEIGHT_TYPE\t:  EUC_2D \t")
+        .replace("2 3 4\n", "\n\n  2\t3   4   \n\n")
+        .replace("EOF\n", "");
+    let again = parse_instance(&spaced, "tiny.tsp").unwrap();
+    assert_eq!(again.name, "tiny");
+    same_costs(inst.cost(), again.cost());
+}
+
+#[test]
+fn crlf_and_byte_order_mark() {
+    let crlf = format!("\u{feff}{}", TINY.replace('\n', "\r\n"));
+    let inst = parse_instance(&crlf, "crlf.tsp").unwrap();
+    same_costs(inst.cost(), parse_instance(TINY, "t").unwrap().cost());
+    assert_eq!(inst.name, "tiny");
+    let e = err(&crlf.replace("3 6 0", "3 6 x"));
+    assert_err(
+        &e,
+        9,
+        "expected a number for the y coordinate of node 3, found \"x\"",
+    );
+}
+
+#[test]
+fn small_dimensions_and_duplicate_points() {
+    for n in 1..=3 {
+        let mut t =
+            format!("TYPE: TSP\nDIMENSION: {n}\nEDGE_WEIGHT_TYPE: EUC_2D\nNODE_COORD_SECTION\n");
+        for i in 1..=n {
+            t.push_str(&format!("{i} 1 1\n")); // all at one point
+        }
+        let inst = parse_instance(&t, "s").unwrap();
+        assert_eq!(inst.dimension, n);
+        assert_eq!(canonical_length(&inst), 0);
+        let mut e = format!(
+            "TYPE: TSP\nDIMENSION: {n}\nEDGE_WEIGHT_TYPE: EXPLICIT\nEDGE_WEIGHT_FORMAT: \
+             LOWER_DIAG_ROW\nEDGE_WEIGHT_SECTION\n"
+        );
+        for i in 0..n {
+            for j in 0..=i {
+                e.push_str(if i == j { "0 " } else { "7 " });
+            }
+        }
+        let inst = parse_instance(&e, "s").unwrap();
+        assert_eq!(inst.dimension, n);
+        assert_eq!(
+            canonical_length(&inst),
+            if n == 1 { 0 } else { 7 * n as i64 }
+        );
+    }
+}
+
+#[test]
+fn three_d_and_other_metrics() {
+    let t = "TYPE: TSP\nDIMENSION: 2\nEDGE_WEIGHT_TYPE: EUC_3D\nNODE_COORD_TYPE: THREED_COORDS\n\
+             NODE_COORD_SECTION\n1 0 0 0\n2 2 3 6\n";
+    let inst = parse_instance(t, "3d").unwrap();
+    assert_eq!(inst.cost().cost(0, 1), 7);
+    assert_eq!(inst.display.as_ref().unwrap()[1], [2.0, 3.0]);
+    let e = err(&t.replace("2 2 3 6", "2 2 3"));
+    assert_err(&e, 7, "expected 3 coordinates for node 2, found 2");
+    let e = err(&t.replace("THREED_COORDS", "TWOD_COORDS"));
+    assert_err(
+        &e,
+        4,
+        "NODE_COORD_TYPE does not fit EDGE_WEIGHT_TYPE EUC_3D",
+    );
+    for m in ["MAN_2D", "MAX_2D", "CEIL_2D", "ATT", "GEO"] {
+        let inst = parse_instance(&TINY.replace("EUC_2D", m), "m").unwrap();
+        match &inst.weights {
+            Weights::Coords(c) => assert_eq!(Some(c.metric()), Metric::from_keyword(m)),
+            Weights::Matrix(_) => panic!("{m}"),
+        }
+    }
+}
+
+#[test]
+fn display_data_rules() {
+    let explicit =
+        "TYPE: TSP\nDIMENSION: 2\nEDGE_WEIGHT_TYPE: EXPLICIT\nEDGE_WEIGHT_FORMAT: UPPER_ROW\n\
+                    EDGE_WEIGHT_SECTION\n5\n";
+    assert_eq!(parse_instance(explicit, "e").unwrap().display, None);
+    let with = format!("{explicit}DISPLAY_DATA_SECTION\n1 0.5 0\n2 1 1\nEOF\n");
+    let inst = parse_instance(&with, "e").unwrap();
+    assert_eq!(inst.display, Some(vec![[0.5, 0.0], [1.0, 1.0]]));
+    let twod = explicit.replace(
+        "EDGE_WEIGHT_SECTION",
+        "DISPLAY_DATA_TYPE: TWOD_DISPLAY\nEDGE_WEIGHT_SECTION",
+    );
+    assert_err(&err(&twod), 7, "without a DISPLAY_DATA_SECTION");
+    let coord = explicit.replace(
+        "EDGE_WEIGHT_SECTION",
+        "DISPLAY_DATA_TYPE: COORD_DISPLAY\nEDGE_WEIGHT_SECTION",
+    );
+    assert_err(&err(&coord), 5, "COORD_DISPLAY needs a NODE_COORD_SECTION");
+    let none = TINY.replace(
+        "NODE_COORD_SECTION",
+        "DISPLAY_DATA_TYPE: NO_DISPLAY\nNODE_COORD_SECTION",
+    );
+    assert_eq!(parse_instance(&none, "n").unwrap().display, None);
+    let dup = with.replace("2 1 1", "1 1 1");
+    assert_err(
+        &err(&dup),
+        9,
+        "node 1 appears twice in DISPLAY_DATA_SECTION (lines 8 and 9)",
+    );
+}
+
+#[test]
+fn error_display_names_file_and_line() {
+    // Nine lines: the x coordinate of node 3 is on line 9.
+    let t = format!("{BERLIN_HEAD}1 0 0\n2 1 1\n3 abc 2\n4 0 1\n5 1 0\n");
+    let e = parse_instance(&t, "burma14.tsp").unwrap_err();
+    assert_eq!(
+        e.to_string(),
+        "burma14.tsp:9: expected a number for the x coordinate of node 3, found \"abc\""
+    );
+    let e = parse_instance("", "x.tsp").unwrap_err();
+    assert_eq!(
+        e.to_string(),
+        "x.tsp: the file is empty: expected a TSPLIB 95 header"
+    );
+}
+
+// ---------------------------------------------------------------------------------------------
+// Malformed input: an error, never a panic, at the right line.
+
+#[test]
+fn empty_and_header_only_files() {
+    assert_err(&err(""), 0, "empty");
+    assert_err(&err("\u{feff}\r\n  \n\n"), 0, "empty");
+    let header_only = "NAME: x\nTYPE: TSP\nDIMENSION: 3\nEDGE_WEIGHT_TYPE: EUC_2D\nEOF\n";
+    assert_err(&err(header_only), 5, "without a NODE_COORD_SECTION");
+    let no_eof = "NAME: x\nTYPE: TSP\nDIMENSION: 3\nEDGE_WEIGHT_TYPE: EXPLICIT\n\
+                  EDGE_WEIGHT_FORMAT: FULL_MATRIX\n";
+    assert_err(&err(no_eof), 5, "without an EDGE_WEIGHT_SECTION");
+    assert_err(&err("NAME: x\n"), 0, "no TYPE");
+    assert_err(
+        &err("TYPE: TSP\nEDGE_WEIGHT_TYPE: EUC_2D\n"),
+        0,
+        "no DIMENSION",
+    );
+    assert_err(&err("TYPE: TSP\nDIMENSION: 3\n"), 0, "no EDGE_WEIGHT_TYPE");
+}
+
+#[test]
+fn node_counts_must_match_dimension() {
+    // Truncated: four of five nodes, then the file ends (line 10 is the last node).
+    let truncated = format!("{BERLIN_HEAD}1 0 0\n2 1 1\n3 0 2\n4 0 1\n");
+    assert_err(
+        &err(&truncated),
+        10,
+        "NODE_COORD_SECTION ended after 4 of 5 nodes",
+    );
+    assert!(err(&truncated).message.contains("node 5 is missing"));
+    // Fewer than stated, then EOF.
+    let fewer = format!("{BERLIN_HEAD}1 0 0\n2 1 1\n4 0 2\n5 0 1\nEOF\n");
+    let e = err(&fewer);
+    assert_err(&e, 10, "ended after 4 of 5 nodes");
+    assert!(e.message.contains("node 3 is missing"), "{e}");
+    // More than stated.
+    let more = format!("{BERLIN_HEAD}1 0 0\n2 1 1\n3 0 2\n4 0 1\n5 1 0\n6 2 2\nEOF\n");
+    assert_err(&err(&more), 12, "node id 6 is outside 1..=5");
+    // Wrong field counts.
+    assert_err(
+        &err(&format!("{BERLIN_HEAD}1 0\n")),
+        7,
+        "expected 2 coordinates for node 1, found 1",
+    );
+    assert_err(
+        &err(&format!("{BERLIN_HEAD}1 0 0 0\n")),
+        7,
+        "expected 3 fields",
+    );
+    assert_err(
+        &err(&format!("{BERLIN_HEAD}x 0 0\n")),
+        7,
+        "expected a node id",
+    );
+    assert_err(
+        &err(&format!("{BERLIN_HEAD}0 0 0\n")),
+        7,
+        "node id 0 is outside",
+    );
+}
+
+#[test]
+fn bad_coordinates() {
+    let e = err(&format!("{BERLIN_HEAD}1 0 0\n2 nan 1\n"));
+    assert_err(
+        &e,
+        8,
+        "expected a finite number for the x coordinate of node 2, found \"nan\"",
+    );
+    let e = err(&format!("{BERLIN_HEAD}1 0 0\n2 1 -inf\n"));
+    assert_err(&e, 8, "finite number for the y coordinate");
+    let e = err(&format!("{BERLIN_HEAD}1 0 0\n2 1 1e999\n"));
+    assert_err(&e, 8, "finite number");
+    // Too large for integer distances: refused by the cost oracle, mapped back to its line.
+    let t = format!("{BERLIN_HEAD}1 0 0\n2 1 1\n3 1e13 0\n4 0 1\n5 1 0\n");
+    assert_err(
+        &err(&t),
+        9,
+        "node 3: coordinate 10000000000000 is too large",
+    );
+    let geo =
+        format!("{BERLIN_HEAD}1 0 0\n2 1 1\n3 0 2\n4 2000.5 1\n5 1 0\n").replace("EUC_2D", "GEO");
+    assert_err(&err(&geo), 10, "node 4: GEO coordinate");
+}
+
+#[test]
+fn duplicate_node_id_names_both_lines() {
+    let t = format!("{BERLIN_HEAD}1 0 0\n2 1 1\n3 0 2\n2 0 1\n5 1 0\n");
+    assert_err(
+        &err(&t),
+        10,
+        "node 2 appears twice in NODE_COORD_SECTION (lines 8 and 10)",
+    );
+}
+
+#[test]
+fn bad_dimensions() {
+    let with = |d: &str| TINY.replace("DIMENSION: 5", &format!("DIMENSION: {d}"));
+    assert_err(&err(&with("0")), 4, "DIMENSION must be at least 1, found 0");
+    assert_err(
+        &err(&with("abc")),
+        4,
+        "expected a whole number for DIMENSION, found \"abc\"",
+    );
+    assert_err(&err(&with("-3")), 4, "expected a whole number");
+    assert_err(&err(&with("")), 4, "expected a value after \"DIMENSION :\"");
+    assert_err(&err(&with("1000000000000")), 4, "more nodes than this file");
+    assert_err(&err(&with("99999999999999999999999")), 4, "too large");
+    // Within the byte count but beyond the lines that follow: refused before allocating.
+    let long_comment = format!("COMMENT: {}\n", "x".repeat(5000));
+    let t = TINY.replace("DIMENSION: 5", &format!("{long_comment}DIMENSION: 4000"));
+    assert_err(
+        &err(&t),
+        12,
+        "NODE_COORD_SECTION ended after 5 of 4000 nodes",
+    );
+    // The same for a matrix: 4000 x 4000 weights cannot fit in 5 kB.
+    let m = format!(
+        "TYPE: ATSP\n{long_comment}DIMENSION: 4000\nEDGE_WEIGHT_TYPE: EXPLICIT\n\
+         EDGE_WEIGHT_FORMAT: FULL_MATRIX\nEDGE_WEIGHT_SECTION\n1 2 3\n"
+    );
+    assert_err(
+        &err(&m),
+        7,
+        "EDGE_WEIGHT_SECTION ended after 3 of 16000000 weights",
+    );
+    // Bad tokens are still reported where they are.
+    assert_err(&err(&m.replace("1 2 3", "1 2 x")), 7, "found \"x\"");
+    assert_err(
+        &err(&with("5\nDIMENSION: 5")),
+        5,
+        "DIMENSION given twice (lines 4 and 5)",
+    );
+}
+
+#[test]
+fn unknown_and_unsupported_keywords() {
+    let t = TINY.replace("COMMENT: five points", "FOO : 1");
+    assert_err(&err(&t), 3, "unknown keyword FOO");
+    let t = TINY.replace("COMMENT: five points", "comment: lower case");
+    assert_err(&err(&t), 3, "expected a keyword line");
+    assert_err(
+        &err(&TINY.replace("TYPE: TSP", "TYPE: CVRP")),
+        2,
+        "TYPE CVRP is not supported",
+    );
+    assert_err(
+        &err(&TINY.replace("TYPE: TSP", "TYPE: TOUR")),
+        2,
+        "tour file",
+    );
+    assert_err(
+        &err(&TINY.replace("TYPE: TSP", "TYPE: XYZ")),
+        2,
+        "unknown TYPE \"XYZ\"",
+    );
+    // A remark after the type, as in si175.tsp ("TSP (M.~Hofmeister)"), is fine.
+    parse_instance(&TINY.replace("TYPE: TSP", "TYPE: TSP (someone)"), "t").unwrap();
+    let t = TINY.replace("COMMENT: five points", "CAPACITY: 100");
+    assert_err(&err(&t), 3, "CVRP");
+    for bad in ["GEOM", "XRAY1", "XRAY2", "SPECIAL"] {
+        let e = err(&TINY.replace("EUC_2D", bad));
+        assert_err(&e, 5, &format!("EDGE_WEIGHT_TYPE {bad} is not supported"));
+    }
+    assert_err(
+        &err(&TINY.replace("EUC_2D", "EUC_4D")),
+        5,
+        "unknown EDGE_WEIGHT_TYPE",
+    );
+    assert_err(
+        &err(&TINY.replace("NAME: tiny", "NAME tiny")),
+        1,
+        "expected ':' after NAME",
+    );
+    for section in [
+        "DEPOT_SECTION",
+        "DEMAND_SECTION",
+        "EDGE_DATA_SECTION",
+        "TOUR_SECTION",
+    ] {
+        let t = TINY.replace("EOF", &format!("{section}\n1\n-1\nEOF"));
+        assert_err(
+            &err(&t),
+            12,
+            &format!("{section} is not supported (line 12)"),
+        );
+    }
+}
+
+#[test]
+fn fixed_edges() {
+    let t = TINY.replace(
+        "NODE_COORD_SECTION",
+        "FIXED_EDGES_SECTION\n1 2\n-1\nNODE_COORD_SECTION",
+    );
+    let e = err(&t);
+    assert_err(&e, 6, "FIXED_EDGES_SECTION is not supported (line 6)");
+    let empty = TINY.replace(
+        "NODE_COORD_SECTION",
+        "FIXED_EDGES_SECTION\n-1\nNODE_COORD_SECTION",
+    );
+    assert_eq!(parse_instance(&empty, "t").unwrap().dimension, 5);
+}
+
+#[test]
+fn weight_section_errors() {
+    let head =
+        "TYPE: TSP\nDIMENSION: 3\nEDGE_WEIGHT_TYPE: EXPLICIT\nEDGE_WEIGHT_FORMAT: UPPER_ROW\n\
+                EDGE_WEIGHT_SECTION\n";
+    parse_instance(&format!("{head}1 2\n3\n"), "w").unwrap();
+    let e = err(&format!("{head}1\n2\nEOF\n"));
+    assert_err(&e, 7, "EDGE_WEIGHT_SECTION ended after 2 of 3 weights");
+    let e = err(&format!("{head}1 2\n3\n\n4 5\n"));
+    assert_err(&e, 9, "more than the 3 weights");
+    let e = err(&format!("{head}1 99999999999999999999 3\n"));
+    assert_err(
+        &e,
+        6,
+        "weight \"99999999999999999999\" does not fit a 64-bit integer",
+    );
+    let e = err(&format!("{head}1 2 x\n"));
+    assert_err(&e, 6, "expected an integer weight, found \"x\"");
+    // ATSP needs the full matrix.
+    let e = err(&format!("{head}1 2 3\n").replace("TSP", "ATSP"));
+    assert_err(&e, 4, "TYPE ATSP needs EDGE_WEIGHT_FORMAT FULL_MATRIX");
+    // A TSP's full matrix must be symmetric.
+    let full =
+        "TYPE: TSP\nDIMENSION: 2\nEDGE_WEIGHT_TYPE: EXPLICIT\nEDGE_WEIGHT_FORMAT: FULL_MATRIX\n\
+                EDGE_WEIGHT_SECTION\n0 1\n2 0\n";
+    assert_err(&err(full), 5, "weight(1, 2) = 1 but weight(2, 1) = 2");
+    let atsp = parse_instance(&full.replace("TSP", "ATSP"), "a").unwrap();
+    assert_eq!((atsp.cost().cost(0, 1), atsp.cost().cost(1, 0)), (1, 2));
+    // The section needs its format first, and coordinates are not weights.
+    let e = err(&head.replace("EDGE_WEIGHT_FORMAT: UPPER_ROW\n", ""));
+    assert_err(&e, 4, "before EDGE_WEIGHT_FORMAT");
+    let e = err(&TINY.replace("NODE_COORD_SECTION", "EDGE_WEIGHT_SECTION"));
+    assert_err(&e, 6, "EDGE_WEIGHT_TYPE (line 5) is EUC_2D");
+    let e = err(&TINY.replace(
+        "NODE_COORD_SECTION",
+        "EDGE_WEIGHT_FORMAT: LOWER_ROW\nNODE_COORD_SECTION",
+    ));
+    assert_err(
+        &e,
+        6,
+        "EDGE_WEIGHT_FORMAT LOWER_ROW needs EDGE_WEIGHT_TYPE EXPLICIT",
+    );
+}
+
+// ---------------------------------------------------------------------------------------------
+// Round trips.
+
+fn round_trip(inst: &Instance) -> Instance {
+    let mut buf = Vec::new();
+    write_instance(inst, &mut buf).unwrap();
+    let text = String::from_utf8(buf).unwrap();
+    parse_instance(&text, "again").unwrap_or_else(|e| panic!("{e}\n{text}"))
+}
+
+fn check_round_trip(inst: &Instance) {
+    let back = round_trip(inst);
+    assert_eq!(back.name, inst.name);
+    assert_eq!(back.comments, inst.comments);
+    assert_eq!(back.kind, inst.kind);
+    assert_eq!(back.dimension, inst.dimension);
+    assert_eq!(back.display, inst.display);
+    same_costs(inst.cost(), back.cost());
+    if let (Weights::Coords(a), Weights::Coords(b)) = (&inst.weights, &back.weights) {
+        assert_eq!(a.points(), b.points());
+    }
+}
+
+#[test]
+fn written_instances_read_back_identically() {
+    let mut rng = Rng(777);
+    // Awkward coordinates: many digits, negatives, tiny and large magnitudes.
+    let mut t = String::from(
+        "NAME: awkward\nTYPE: TSP\nCOMMENT: one\nCOMMENT: two\nDIMENSION: 40\nEDGE_WEIGHT_TYPE: EUC_2D\n\
+         NODE_COORD_SECTION\n",
+    );
+    for i in 1..=40 {
+        let x = (rng.next() as f64 / u64::MAX as f64 - 0.5) * 10f64.powi(i % 12);
+        let y = (rng.next() % 100_000) as f64 / 7.0;
+        t.push_str(&format!("{i} {x:e} {y}\n"));
+    }
+    check_round_trip(&parse_instance(&t, "a").unwrap());
+    check_round_trip(&parse_instance(&t.replace("EUC_2D", "ATT"), "a").unwrap());
+    let three = "TYPE: ATSP\nDIMENSION: 3\nEDGE_WEIGHT_TYPE: MAX_3D\nNODE_COORD_SECTION\n\
+                 1 0.1 0.2 0.3\n2 -5 7 1e3\n3 0 0 -0\n";
+    check_round_trip(&parse_instance(three, "three").unwrap());
+    // Explicit, asymmetric, with display data.
+    let n = 9;
+    let mut m = format!(
+        "NAME: asym\nTYPE: ATSP\nDIMENSION: {n}\nEDGE_WEIGHT_TYPE: EXPLICIT\n\
+         EDGE_WEIGHT_FORMAT: FULL_MATRIX\nEDGE_WEIGHT_SECTION\n"
+    );
+    for _ in 0..n * n {
+        m.push_str(&format!(
+            "{} ",
+            rng.below(2_000_000_000_000) as i64 - 1_000_000_000_000
+        ));
+    }
+    m.push_str("\nDISPLAY_DATA_SECTION\n");
+    for i in 1..=n {
+        m.push_str(&format!("{i} {} 0.25\n", i * 3));
+    }
+    let mut asym = parse_instance(&m, "m").unwrap();
+    assert!(!asym.cost().is_symmetric());
+    check_round_trip(&asym);
+    asym.kind = ProblemKind::Tsp;
+    let mut buf = Vec::new();
+    assert!(write_instance(&asym, &mut buf).is_err());
+    assert!(buf.is_empty());
+    // A symmetric triangle comes back as a full matrix with the same costs.
+    let mut r = Rng(5);
+    let sym = parse_instance(
+        &emit(&random_symmetric(7, &mut r, false), "LOWER_COL", &mut r),
+        "s",
+    )
+    .unwrap();
+    let back = round_trip(&sym);
+    assert_eq!(back.edge_weight_format.as_deref(), Some("FULL_MATRIX"));
+    same_costs(sym.cost(), back.cost());
+    // Coordinates whose display is not the coordinates keep their own display section.
+    let mut odd = parse_instance(TINY, "t").unwrap();
+    odd.display = Some(vec![[1.0, 2.0]; 5]);
+    check_round_trip(&odd);
+    odd.display = None;
+    check_round_trip(&odd);
+}
+
+#[test]
+fn written_library_instances_read_back_identically() {
+    for name in ["gr17", "bayg29", "burma14", "att48", "dantzig42"] {
+        if let Some(p) = shared_file("tsp", &format!("{name}.tsp")) {
+            check_round_trip(&read_instance(&p).unwrap());
+        }
+    }
+}
+
+#[test]
+fn tours_round_trip() {
+    let nodes = [3usize, 0, 4, 1, 2];
+    let mut buf = Vec::new();
+    write_tour("five.tour", "a test\nwith a break", &nodes, &mut buf).unwrap();
+    let text = String::from_utf8(buf).unwrap();
+    assert!(text.contains("TYPE : TOUR\n") && text.contains("\n4\n1\n5\n2\n3\n-1\nEOF\n"));
+    let t = parse_tour(&text, "five.tour").unwrap();
+    assert_eq!(t.name, "five.tour");
+    assert_eq!(t.comments, ["a test with a break"]);
+    assert_eq!(t.dimension, Some(5));
+    assert_eq!(t.nodes, nodes);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Tour files.
+
+#[test]
+fn tour_section_layouts() {
+    let t = parse_tour(
+        "NAME: x\nTYPE: TOUR\nDIMENSION: 4\nTOUR_SECTION\n1 3\n2 4 -1\nEOF\n",
+        "x",
+    )
+    .unwrap();
+    assert_eq!(t.nodes, [0, 2, 1, 3]);
+    let t = parse_tour("TOUR_SECTION\n2\n1\n-1\n", "dir/y.tour").unwrap();
+    assert_eq!(
+        (t.name.as_str(), t.dimension, t.nodes.clone()),
+        ("y", None, vec![1, 0])
+    );
+    // DIMENSION after the section still counts.
+    let e = tour_err("TYPE: TOUR\nTOUR_SECTION\n1 2 3\n-1\nDIMENSION: 2\n");
+    assert_err(&e, 3, "node id 3 is outside 1..=2");
+}
+
+#[test]
+fn tour_errors() {
+    let head = "NAME: t\nTYPE: TOUR\nDIMENSION: 4\nTOUR_SECTION\n";
+    assert_err(
+        &tour_err(&format!("{head}1\n2\n3\n2\n-1\n")),
+        8,
+        "node 2 appears twice in the tour (lines 6 and 8)",
+    );
+    assert_err(
+        &tour_err(&format!("{head}1\n2\n3\n-1\n")),
+        8,
+        "the tour has 3 nodes but DIMENSION (line 3) is 4",
+    );
+    assert_err(
+        &tour_err(&format!("{head}1\n2\n3\n5\n-1\n")),
+        8,
+        "node id 5 is outside 1..=4",
+    );
+    assert_err(
+        &tour_err(&format!("{head}1\n2\n3\n4\nEOF\n")),
+        8,
+        "without the closing -1",
+    );
+    assert_err(
+        &tour_err(&format!("{head}1 2 3 4 -1\n1 2 3 4 -1\n")),
+        6,
+        "only one tour per file",
+    );
+    assert_err(
+        &tour_err(&format!("{head}1 2 0 4 -1\n")),
+        5,
+        "node ids start at 1",
+    );
+    assert_err(
+        &tour_err(&format!("{head}1 2 -3 4 -1\n")),
+        5,
+        "found \"-3\"",
+    );
+    assert_err(&tour_err(&format!("{head}1 2 x 4 -1\n")), 5, "found \"x\"");
+    assert_err(
+        &tour_err(&head.replace("TOUR\n", "TSP\n")),
+        2,
+        "problem file, not a tour",
+    );
+    assert_err(
+        &tour_err("NAME: t\nTYPE: TOUR\n"),
+        2,
+        "without a TOUR_SECTION",
+    );
+    assert_err(
+        &tour_err("NAME: t\nEDGE_WEIGHT_TYPE: EUC_2D\n"),
+        2,
+        "unknown keyword EDGE_WEIGHT_TYPE",
+    );
+    assert_err(&tour_err(""), 0, "empty");
+    assert_err(&tour_err(&head.replace("4", "0")), 3, "at least 1");
+}
+
+#[test]
+fn optima_lists() {
+    let o = parse_optima("# header\n\na : 1\nb: 20 # trailing\n  c :300\n", "o").unwrap();
+    assert_eq!(
+        o.into_iter().collect::<Vec<_>>(),
+        [("a".into(), 1), ("b".into(), 20), ("c".into(), 300)]
+    );
+    let e = parse_optima("a : 1\na : 2\n", "o").unwrap_err();
+    assert_err(&e, 2, "a given twice (lines 1 and 2)");
+    assert_err(
+        &parse_optima("a 1\n", "o").unwrap_err(),
+        1,
+        "expected \"name : length\"",
+    );
+    assert_err(
+        &parse_optima("a : x\n", "o").unwrap_err(),
+        1,
+        "not an integer",
+    );
+}
+
+// ---------------------------------------------------------------------------------------------
+// Robustness: nothing a user can feed in panics.
+
+fn exercise(text: &str) {
+    if let Ok(inst) = parse_instance(text, "fuzz") {
+        let c = inst.cost();
+        assert_eq!(c.len(), inst.dimension);
+        for i in 0..c.len().min(8) {
+            for j in 0..c.len().min(8) {
+                let _ = c.cost(i, j);
+            }
+        }
+        let mut buf = Vec::new();
+        write_instance(&inst, &mut buf).unwrap();
+    }
+    let _ = parse_tour(text, "fuzz");
+    let _ = parse_optima(text, "fuzz");
+}
+
+const SEEDS: [&str; 3] = [
+    TINY,
+    "NAME: m\nTYPE: TSP\nDIMENSION: 4\nEDGE_WEIGHT_TYPE: EXPLICIT\nEDGE_WEIGHT_FORMAT: UPPER_DIAG_COL\n\
+     EDGE_WEIGHT_SECTION\n0 1 0\n2 3 0 4 5 6 0\nDISPLAY_DATA_SECTION\n1 0 0\n2 1 0\n3 1 1\n4 0 1\nEOF\n",
+    "NAME: t\nTYPE: TOUR\nDIMENSION: 5\nTOUR_SECTION\n1\n3 2\n5\n4\n-1\nEOF\n",
+];
+
+/// Tokens likely to reach unusual paths when spliced into a valid file.
+const SPLICE: [&str; 20] = [
+    "-1",
+    "0",
+    "1",
+    "4",
+    "1000000000000",
+    "99999999999999999999",
+    "1e400",
+    "nan",
+    "-inf",
+    "1.5",
+    ":",
+    "\n",
+    "\r\n",
+    "EOF",
+    "DIMENSION: 3",
+    "NODE_COORD_SECTION",
+    "EDGE_WEIGHT_SECTION",
+    "FULL_MATRIX",
+    "\u{feff}",
+    "é",
+];
+
+#[derive(Debug, Clone)]
+enum Edit {
+    Delete(usize, usize),
+    Insert(usize, usize),
+    Replace(usize, u8),
+}
+
+fn apply(text: &str, edits: &[Edit]) -> String {
+    let mut bytes = text.as_bytes().to_vec();
+    for e in edits {
+        let len = bytes.len().max(1);
+        match *e {
+            Edit::Delete(at, n) => {
+                let at = at % len;
+                let end = (at + n).min(bytes.len());
+                if at < end {
+                    bytes.drain(at..end);
+                }
+            }
+            Edit::Insert(at, k) => {
+                let at = (at % len).min(bytes.len());
+                let s = SPLICE[k % SPLICE.len()].as_bytes();
+                bytes.splice(at..at, s.iter().copied());
+            }
+            Edit::Replace(at, b) => {
+                if !bytes.is_empty() {
+                    let at = at % bytes.len();
+                    bytes[at] = b;
+                }
+            }
+        }
+    }
+    String::from_utf8_lossy(&bytes).into_owned()
+}
+
+fn edit() -> impl Strategy<Value = Edit> {
+    prop_oneof![
+        (any::<usize>(), 1usize..8).prop_map(|(a, n)| Edit::Delete(a, n)),
+        (any::<usize>(), any::<usize>()).prop_map(|(a, k)| Edit::Insert(a, k)),
+        (any::<usize>(), any::<u8>()).prop_map(|(a, b)| Edit::Replace(a, b)),
+    ]
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(512))]
+
+    #[test]
+    fn random_bytes_never_panic(bytes in proptest::collection::vec(any::<u8>(), 0..400)) {
+        exercise(&String::from_utf8_lossy(&bytes));
+    }
+
+    #[test]
+    fn mutated_files_never_panic(seed in 0usize..SEEDS.len(), edits in proptest::collection::vec(edit(), 1..6)) {
+        exercise(&apply(SEEDS[seed], &edits));
+    }
+
+    #[test]
+    fn random_keyword_soup_never_panics(parts in proptest::collection::vec(0usize..SPLICE.len(), 0..40)) {
+        let mut text = String::from("TYPE: TSP\nEDGE_WEIGHT_TYPE: EXPLICIT\n");
+        for p in parts {
+            text.push_str(SPLICE[p]);
+            text.push(' ');
+        }
+        exercise(&text);
+    }
+}

@@ -1,0 +1,162 @@
+//! The `wend` command's contract: exit codes, one-line errors, JSON on stdout, TOUR files.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn wend(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_wend"))
+        .args(args)
+        .output()
+        .expect("the wend binary runs")
+}
+
+fn instances() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../instances")
+}
+
+fn write(dir: &Path, name: &str, text: &str) -> String {
+    let p = dir.join(name);
+    std::fs::write(&p, text).unwrap();
+    p.display().to_string()
+}
+
+fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
+#[test]
+fn json_is_one_object_with_the_contract_fields() {
+    let dir = tempfile::tempdir().unwrap();
+    let tour = dir.path().join("berlin52.tour");
+    let inst = instances().join("berlin52.tsp");
+    let o = wend(&[
+        "solve",
+        inst.to_str().unwrap(),
+        "--time-limit",
+        "0.5",
+        "--seed",
+        "3",
+        "--threads",
+        "2",
+        "--json",
+        "--tour-out",
+        tour.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let out = String::from_utf8(o.stdout).unwrap();
+    assert_eq!(out.trim().lines().count(), 1, "exactly one line: {out}");
+    let v: serde_json::Value = serde_json::from_str(out.trim()).unwrap();
+    assert_eq!(v["instance"], "berlin52");
+    assert_eq!(v["nodes"], 52);
+    assert!(v["seconds"].as_f64().unwrap() >= 0.0);
+    let length = v["length"].as_i64().unwrap();
+    assert!(length >= 7542, "berlin52 optimum is 7542 (TSPLIB 95 list)");
+    // The TOUR file written measures to the same length.
+    let m = wend(&["measure", inst.to_str().unwrap(), tour.to_str().unwrap()]);
+    assert!(m.status.success(), "{}", stderr(&m));
+    let measured: i64 = String::from_utf8(m.stdout).unwrap().trim().parse().unwrap();
+    assert_eq!(measured, length);
+}
+
+#[test]
+fn measure_gives_the_published_length_of_an_optimal_tour() {
+    let inst = instances().join("pr76.tsp");
+    let tour = instances().join("tours/pr76.opt.tour");
+    let o = wend(&["measure", inst.to_str().unwrap(), tour.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    // pr76 optimum 108159: TSPLIB 95 list of optimal solutions.
+    assert_eq!(String::from_utf8(o.stdout).unwrap().trim(), "108159");
+}
+
+#[test]
+fn same_seed_and_restarts_give_the_same_tour_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let inst = instances().join("a280.tsp");
+    let run = |name: &str, threads: &str| {
+        let p = dir.path().join(name);
+        let o = wend(&[
+            "solve",
+            inst.to_str().unwrap(),
+            "--seed",
+            "9",
+            "--restarts",
+            "5",
+            "--threads",
+            threads,
+            "--tour-out",
+            p.to_str().unwrap(),
+        ]);
+        assert!(o.status.success(), "{}", stderr(&o));
+        std::fs::read_to_string(p).unwrap()
+    };
+    assert_eq!(run("a.tour", "1"), run("b.tour", "2"));
+}
+
+#[test]
+fn bad_input_exits_2_with_one_line_naming_the_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let cases = [
+        ("empty.tsp", ""),
+        ("truncated.tsp", "NAME : t\nTYPE : TSP\nDIMENSION : 3\nEDGE_WEIGHT_TYPE : EUC_2D\nNODE_COORD_SECTION\n1 0 0\n2 1 1\n"),
+        ("wrongdim.tsp", "NAME : t\nTYPE : TSP\nDIMENSION : 2\nEDGE_WEIGHT_TYPE : EUC_2D\nNODE_COORD_SECTION\n1 0 0\n2 1 1\n3 4 4\nEOF\n"),
+        ("nonnumeric.tsp", "NAME : t\nTYPE : TSP\nDIMENSION : 2\nEDGE_WEIGHT_TYPE : EUC_2D\nNODE_COORD_SECTION\n1 0 zero\n2 1 1\nEOF\n"),
+        ("unknown.tsp", "NAME : t\nTYPE : TSP\nFLAVOUR : sweet\nDIMENSION : 2\nEDGE_WEIGHT_TYPE : EUC_2D\nNODE_COORD_SECTION\n1 0 0\n2 1 1\nEOF\n"),
+        ("zero.tsp", "NAME : t\nTYPE : TSP\nDIMENSION : 0\nEDGE_WEIGHT_TYPE : EUC_2D\nNODE_COORD_SECTION\nEOF\n"),
+        ("nan.tsp", "NAME : t\nTYPE : TSP\nDIMENSION : 2\nEDGE_WEIGHT_TYPE : EUC_2D\nNODE_COORD_SECTION\n1 0 NaN\n2 1 1\nEOF\n"),
+        ("binary.tsp", "\u{0}\u{1}\u{2}\u{fffd}\u{7f}"),
+    ];
+    for (name, text) in cases {
+        let p = write(d, name, text);
+        let o = wend(&["solve", &p, "--json"]);
+        let err = stderr(&o);
+        assert_eq!(o.status.code(), Some(2), "{name}: {err}");
+        assert_eq!(err.trim().lines().count(), 1, "{name}: one line: {err}");
+        assert!(
+            err.contains(name),
+            "{name}: the message names the file: {err}"
+        );
+        assert!(!err.contains("panicked"), "{name}: {err}");
+        assert!(o.stdout.is_empty(), "{name}: nothing on stdout");
+    }
+    let o = wend(&["solve", "/no/such/file.tsp"]);
+    assert_eq!(o.status.code(), Some(2));
+    let o = wend(&[
+        "solve",
+        instances().join("berlin52.tsp").to_str().unwrap(),
+        "--method",
+        "magic",
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+}
+
+#[test]
+fn tiny_and_degenerate_instances_give_correct_tours() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    // n = 1, 2, 3 and duplicate points: every order is optimal for n <= 3 symmetric, so the
+    // length is the perimeter; checked by hand.
+    let cases = [
+        ("one.tsp", "NAME : one\nTYPE : TSP\nDIMENSION : 1\nEDGE_WEIGHT_TYPE : EUC_2D\nNODE_COORD_SECTION\n1 5 5\nEOF\n", 0),
+        ("two.tsp", "NAME : two\nTYPE : TSP\nDIMENSION : 2\nEDGE_WEIGHT_TYPE : EUC_2D\nNODE_COORD_SECTION\n1 0 0\n2 3 4\nEOF\n", 10),
+        ("three.tsp", "NAME : three\nTYPE : TSP\nDIMENSION : 3\nEDGE_WEIGHT_TYPE : EUC_2D\nNODE_COORD_SECTION\n1 0 0\n2 3 0\n3 3 4\nEOF\n", 12),
+        ("dups.tsp", "NAME : dups\nTYPE : TSP\nDIMENSION : 12\nEDGE_WEIGHT_TYPE : EUC_2D\nNODE_COORD_SECTION\n1 0 0\n2 0 0\n3 0 0\n4 10 0\n5 10 0\n6 10 0\n7 10 0\n8 0 0\n9 0 0\n10 10 0\n11 0 0\n12 10 0\nEOF\n", 20),
+    ];
+    for (name, text, expected) in cases {
+        let p = write(d, name, text);
+        let o = wend(&["solve", &p, "--json"]);
+        assert!(o.status.success(), "{name}: {}", stderr(&o));
+        let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+        assert_eq!(v["length"], expected, "{name}");
+    }
+}
+
+#[test]
+fn list_methods_names_the_default() {
+    let o = wend(&["solve", "--list-methods"]);
+    assert!(o.status.success());
+    let out = String::from_utf8(o.stdout).unwrap();
+    for name in ["2opt", "greedy", "nearest", "curve"] {
+        assert!(out.lines().any(|l| l.starts_with(name)), "{out}");
+    }
+}
