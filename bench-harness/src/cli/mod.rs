@@ -1,5 +1,6 @@
 //! Command-line definitions and dispatch. Each subcommand lives in a module of its own.
 
+mod bench;
 mod demo;
 mod measure;
 mod progress;
@@ -24,6 +25,8 @@ enum Command {
     Measure(measure::MeasureArgs),
     /// Solve the built-in demo instances and compare with their published optima.
     Demo(demo::DemoArgs),
+    /// Run a seeded sweep of methods over instances and report gaps and times.
+    Bench(bench::BenchArgs),
 }
 
 /// Runs one command.
@@ -32,6 +35,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
         Command::Solve(a) => solve::run(a),
         Command::Measure(a) => measure::run(a),
         Command::Demo(a) => demo::run(a),
+        Command::Bench(a) => bench::run(a),
     }
 }
 

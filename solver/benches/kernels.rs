@@ -1,12 +1,12 @@
 //! Criterion benchmarks of the building blocks on random uniform instances.
-//! Run with `cargo bench -p wend --bench two_opt`.
+//! Run with `cargo bench -p wend --bench kernels`.
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
 use rand::{Rng, SeedableRng};
 use wend::candidates::k_nearest;
 use wend::construct::greedy_edge;
 use wend::improve::{two_opt_or_opt, ArrayTour};
-use wend::{CoordCost, Metric};
+use wend::{Cost, CoordCost, Metric};
 
 fn uniform(n: usize, seed: u64) -> CoordCost {
     let mut rng = rand_pcg::Pcg64::seed_from_u64(seed);
@@ -14,6 +14,35 @@ fn uniform(n: usize, seed: u64) -> CoordCost {
         .map(|_| [rng.gen_range(0.0..1.0e6), rng.gen_range(0.0..1.0e6)])
         .collect();
     CoordCost::plane(Metric::Euc2d, &pts).expect("finite points")
+}
+
+/// The hot kernels: one distance evaluation, one 2-opt move evaluation, and neighbour lists for
+/// 100,000 points.
+fn kernels(c: &mut Criterion) {
+    let mut group = c.benchmark_group("kernel");
+    let cost = uniform(100_000, 3);
+    let mut rng = rand_pcg::Pcg64::seed_from_u64(4);
+    let pairs: Vec<(usize, usize)> = (0..4096)
+        .map(|_| (rng.gen_range(0..100_000), rng.gen_range(0..100_000)))
+        .collect();
+    group.bench_function("euc_2d_distance_x4096", |b| {
+        b.iter(|| pairs.iter().map(|&(i, j)| cost.cost(i, j)).sum::<i64>())
+    });
+    let tour = ArrayTour::new((0..100_000).collect());
+    group.bench_function("two_opt_move_gain_x4096", |b| {
+        b.iter(|| {
+            pairs
+                .iter()
+                .map(|&(a, c)| {
+                    let (bn, d) = (tour.next(a), tour.next(c));
+                    cost.cost(a, bn) + cost.cost(c, d) - cost.cost(a, c) - cost.cost(bn, d)
+                })
+                .max()
+        })
+    });
+    group.sample_size(10);
+    group.bench_function("k_nearest_10_of_100000", |b| b.iter(|| k_nearest(&cost, 10)));
+    group.finish();
 }
 
 fn bench(c: &mut Criterion) {
@@ -44,5 +73,5 @@ fn bench(c: &mut Criterion) {
     group.finish();
 }
 
-criterion_group!(benches, bench);
+criterion_group!(benches, kernels, bench);
 criterion_main!(benches);

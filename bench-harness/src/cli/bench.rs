@@ -1,0 +1,329 @@
+//! `wend bench`: seeded sweeps over instances and methods, and reports from their results.
+
+use super::CliError;
+use clap::Args;
+use indicatif::{ProgressBar, ProgressStyle};
+use serde::Deserialize;
+use std::collections::{BTreeMap, HashMap};
+use std::path::{Path, PathBuf};
+use wend::Method;
+use wend_bench::record::{read_runs, RunKey, RunRecord};
+use wend_bench::runner::{run_sweep, SweepPlan};
+use wend_bench::tsplib::{read_instance, read_optima, read_tour};
+
+#[derive(Args, Debug)]
+pub struct BenchArgs {
+    /// A suite file (TOML) naming instances, methods, seeds and limits; options given on the
+    /// command line override it.
+    #[arg(long, value_name = "FILE")]
+    suite: Option<PathBuf>,
+    /// Instance files, folders (every .tsp and .atsp inside) or glob patterns.
+    #[arg(long, num_args = 1.., value_name = "PATH")]
+    instances: Vec<String>,
+    /// Methods to run (see `wend solve --list-methods`).
+    #[arg(long, num_args = 1.., value_name = "NAME")]
+    methods: Vec<String>,
+    /// Number of seeds per (instance, method): seeds 0, 1, ..., N-1.
+    #[arg(long, value_name = "N")]
+    seeds: Option<u64>,
+    /// Time limit of each run, in seconds.
+    #[arg(long, value_name = "SECONDS")]
+    time_limit: Option<f64>,
+    /// Restart budget of each run, which makes runs repeatable to the bit (the time limit
+    /// still caps them).
+    #[arg(long, value_name = "N")]
+    restarts: Option<usize>,
+    /// Threads inside each run.
+    #[arg(long, value_name = "N")]
+    threads_per_run: Option<usize>,
+    /// Runs at the same time.
+    #[arg(long, value_name = "N")]
+    jobs: Option<usize>,
+    /// Run only the K-th of N fixed slices of the run list (for several machines).
+    #[arg(long, value_name = "K/N")]
+    shard: Option<String>,
+    /// File of known optima (`name : length` lines). Default: `optima.txt` beside each instance.
+    #[arg(long, value_name = "FILE")]
+    optima: Option<PathBuf>,
+    /// Only instances with at least this many nodes.
+    #[arg(long, value_name = "N")]
+    min_nodes: Option<usize>,
+    /// Only instances with at most this many nodes.
+    #[arg(long, value_name = "N")]
+    max_nodes: Option<usize>,
+    /// Output folder for runs.jsonl, runs.csv, summary.md and the plots.
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
+    /// Do not sweep: rebuild the report from the runs.jsonl files of these folders (merged),
+    /// written to --out (default: the first folder).
+    #[arg(long, num_args = 1.., value_name = "DIR", conflicts_with_all = ["instances", "methods", "suite", "shard"])]
+    report: Vec<PathBuf>,
+}
+
+/// A suite file: the same settings as the command-line options.
+#[derive(Debug, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct Suite {
+    instances: Option<Vec<String>>,
+    methods: Option<Vec<String>>,
+    seeds: Option<u64>,
+    time_limit: Option<f64>,
+    restarts: Option<usize>,
+    threads_per_run: Option<usize>,
+    jobs: Option<usize>,
+    optima: Option<String>,
+    min_nodes: Option<usize>,
+    max_nodes: Option<usize>,
+    out: Option<String>,
+}
+
+pub fn run(a: BenchArgs) -> Result<(), CliError> {
+    if !a.report.is_empty() {
+        let out = a.out.clone().unwrap_or_else(|| a.report[0].clone());
+        return report(&a.report, &out);
+    }
+    let (suite, base) = match &a.suite {
+        Some(p) => {
+            let text = std::fs::read_to_string(p)
+                .map_err(|e| CliError::Input(format!("{}: cannot read: {e}", p.display())))?;
+            let s: Suite = toml::from_str(&text).map_err(|e| {
+                CliError::Input(format!("{}: {}", p.display(), one_line(&e.to_string())))
+            })?;
+            (s, p.parent().map(Path::to_path_buf).unwrap_or_default())
+        }
+        None => (Suite::default(), PathBuf::new()),
+    };
+    let rel = |s: &str| base.join(s);
+    let patterns: Vec<(String, PathBuf)> = if !a.instances.is_empty() {
+        a.instances
+            .iter()
+            .map(|s| (s.clone(), PathBuf::from(s)))
+            .collect()
+    } else {
+        suite
+            .instances
+            .iter()
+            .flatten()
+            .map(|s| (s.clone(), rel(s)))
+            .collect()
+    };
+    if patterns.is_empty() {
+        return Err(CliError::Input(
+            "no instances: give --instances PATH... or a --suite file".into(),
+        ));
+    }
+    let method_names = if !a.methods.is_empty() {
+        a.methods.clone()
+    } else {
+        suite.methods.clone().unwrap_or_default()
+    };
+    if method_names.is_empty() {
+        return Err(CliError::Input(
+            "no methods: give --methods NAME... (see wend solve --list-methods)".into(),
+        ));
+    }
+    let methods = method_names
+        .iter()
+        .map(|n| {
+            Method::from_name(n).ok_or_else(|| {
+                let names: Vec<&str> = Method::ALL.iter().map(|m| m.name()).collect();
+                CliError::Input(format!(
+                    "unknown method {n:?}; choose from: {}",
+                    names.join(", ")
+                ))
+            })
+        })
+        .collect::<Result<Vec<_>, _>>()?;
+    let seeds = a.seeds.or(suite.seeds).unwrap_or(1);
+    if seeds == 0 {
+        return Err(CliError::Input("--seeds must be at least 1".into()));
+    }
+    let time_limit = a.time_limit.or(suite.time_limit).unwrap_or(1.0);
+    if !(time_limit.is_finite() && time_limit > 0.0) {
+        return Err(CliError::Input(format!(
+            "--time-limit must be a positive number of seconds, got {time_limit}"
+        )));
+    }
+    let threads_per_run = a.threads_per_run.or(suite.threads_per_run).unwrap_or(1);
+    let jobs = a.jobs.or(suite.jobs).unwrap_or(1);
+    if threads_per_run == 0 || jobs == 0 {
+        return Err(CliError::Input(
+            "--threads-per-run and --jobs must be at least 1".into(),
+        ));
+    }
+    let shard = a.shard.as_deref().map(parse_shard).transpose()?;
+    let out = a
+        .out
+        .clone()
+        .or_else(|| suite.out.as_deref().map(rel))
+        .ok_or_else(|| CliError::Input("no output folder: give --out DIR".into()))?;
+
+    let mut files = Vec::new();
+    for (shown, p) in &patterns {
+        files.extend(expand(shown, p)?);
+    }
+    let (min_nodes, max_nodes) = (
+        a.min_nodes.or(suite.min_nodes),
+        a.max_nodes.or(suite.max_nodes),
+    );
+    if min_nodes.is_some() || max_nodes.is_some() {
+        let mut kept = Vec::new();
+        for f in files {
+            let n = read_instance(&f)?.dimension;
+            if min_nodes.is_none_or(|m| n >= m) && max_nodes.is_none_or(|m| n <= m) {
+                kept.push(f);
+            }
+        }
+        files = kept;
+    }
+    if files.is_empty() {
+        return Err(CliError::Input("no instance files left to run".into()));
+    }
+    let optima = match a
+        .optima
+        .clone()
+        .or_else(|| suite.optima.as_deref().map(rel))
+    {
+        Some(p) => read_optima(&p)?,
+        None => {
+            // Default: optima.txt beside each instance, when there is one.
+            let mut all = BTreeMap::new();
+            let mut dirs: Vec<PathBuf> = files
+                .iter()
+                .filter_map(|f| f.parent().map(Path::to_path_buf))
+                .collect();
+            dirs.sort();
+            dirs.dedup();
+            for d in dirs {
+                let p = d.join("optima.txt");
+                if p.is_file() {
+                    all.extend(read_optima(&p)?);
+                }
+            }
+            all
+        }
+    };
+    let plan = SweepPlan {
+        instances: files,
+        methods,
+        seeds: (0..seeds).collect(),
+        time_limit,
+        restarts: a.restarts.or(suite.restarts),
+        threads_per_run,
+        jobs,
+        shard,
+        optima,
+        out: out.clone(),
+    };
+    let bar = ProgressBar::new(0);
+    bar.set_style(
+        ProgressStyle::with_template("{elapsed:>4} [{bar:30}] {pos}/{len} runs, about {eta} left")
+            .unwrap_or_else(|_| ProgressStyle::default_bar())
+            .progress_chars("=> "),
+    );
+    let outcome = run_sweep(&plan, &|done, total| {
+        bar.set_length(total as u64);
+        bar.set_position(done as u64);
+    })
+    .map_err(|e| CliError::Input(e.to_string()))?;
+    bar.finish_and_clear();
+    eprintln!(
+        "{} runs in this sweep{}: {} done now, {} already in {}",
+        outcome.planned,
+        shard.map_or(String::new(), |(k, n)| format!(" (shard {k}/{n})")),
+        outcome.ran,
+        outcome.skipped,
+        out.join("runs.jsonl").display()
+    );
+    report(&[out.clone()], &out)
+}
+
+fn one_line(s: &str) -> String {
+    s.split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
+fn parse_shard(s: &str) -> Result<(usize, usize), CliError> {
+    let bad = || CliError::Input(format!("--shard takes K/N with 1 <= K <= N, got {s:?}"));
+    let (k, n) = s.split_once('/').ok_or_else(bad)?;
+    let (k, n): (usize, usize) = (
+        k.trim().parse().map_err(|_| bad())?,
+        n.trim().parse().map_err(|_| bad())?,
+    );
+    if k == 0 || n == 0 || k > n {
+        return Err(bad());
+    }
+    Ok((k, n))
+}
+
+/// A file, every .tsp/.atsp file in a folder, or the files a glob pattern matches.
+fn expand(shown: &str, p: &Path) -> Result<Vec<PathBuf>, CliError> {
+    let is_problem =
+        |p: &Path| matches!(p.extension().and_then(|e| e.to_str()), Some("tsp" | "atsp"));
+    if p.is_dir() {
+        let mut v: Vec<PathBuf> = std::fs::read_dir(p)
+            .map_err(|e| CliError::Input(format!("{shown}: cannot read the folder: {e}")))?
+            .filter_map(|e| e.ok().map(|e| e.path()))
+            .filter(|p| p.is_file() && is_problem(p))
+            .collect();
+        v.sort();
+        if v.is_empty() {
+            return Err(CliError::Input(format!(
+                "{shown}: no .tsp or .atsp files in this folder"
+            )));
+        }
+        return Ok(v);
+    }
+    if p.is_file() {
+        return Ok(vec![p.to_path_buf()]);
+    }
+    let pattern = p.to_string_lossy();
+    let mut v: Vec<PathBuf> = glob::glob(&pattern)
+        .map_err(|e| CliError::Input(format!("{shown}: not a file, folder or valid pattern: {e}")))?
+        .filter_map(Result::ok)
+        .filter(|p| p.is_file())
+        .collect();
+    v.sort();
+    if v.is_empty() {
+        return Err(CliError::Input(format!(
+            "{shown}: no such file, and no files match it as a pattern"
+        )));
+    }
+    Ok(v)
+}
+
+/// Merges the runs of `dirs` and writes the report into `out`.
+fn report(dirs: &[PathBuf], out: &Path) -> Result<(), CliError> {
+    let mut runs: Vec<RunRecord> = Vec::new();
+    let mut home: HashMap<RunKey, PathBuf> = HashMap::new();
+    for d in dirs {
+        let path = d.join("runs.jsonl");
+        if !path.is_file() {
+            return Err(CliError::Input(format!("{}: no such file", path.display())));
+        }
+        for r in read_runs(&path).map_err(|e| CliError::Input(e.to_string()))? {
+            home.entry(r.key()).or_insert_with(|| d.clone());
+            runs.push(r);
+        }
+    }
+    std::fs::create_dir_all(out)
+        .map_err(|e| CliError::Failure(format!("{}: {e}", out.display())))?;
+    // Drawings need the instance's points and the run's tour.
+    let points = |r: &RunRecord| -> Option<(Vec<[f64; 2]>, Vec<usize>)> {
+        let inst = read_instance(Path::new(&r.file)).ok()?;
+        let pts = inst.display?;
+        let dir = home.get(&r.key())?;
+        let tour = read_tour(&dir.join(r.tour_file.as_ref()?)).ok()?;
+        (tour.nodes.len() == pts.len()).then_some((pts, tour.nodes))
+    };
+    let summary = wend_bench::report::write_report(&runs, out, &points)
+        .map_err(|e| CliError::Failure(e.to_string()))?;
+    eprintln!(
+        "report of {} runs written to {}",
+        summary.runs,
+        out.display()
+    );
+    for e in &summary.errors {
+        eprintln!("error in results: {e}");
+    }
+    Ok(())
+}

@@ -1,0 +1,160 @@
+//! One benchmark run as it is stored: a line of `runs.jsonl`.
+//!
+//! The runner writes these, the report reads them back; a sweep split across machines is merged
+//! by concatenating the files.
+
+use serde::{Deserialize, Serialize};
+use std::io::BufRead;
+use std::path::Path;
+
+/// Everything known about one run of one method on one instance with one seed.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct RunRecord {
+    /// Instance name: the file's stem (`kroA100` for `kroA100.tsp`).
+    pub instance: String,
+    /// Path of the instance file as it was given to the sweep.
+    pub file: String,
+    /// `TSP` or `ATSP`.
+    #[serde(rename = "type")]
+    pub problem_type: String,
+    /// Number of nodes.
+    pub nodes: usize,
+    /// Method name, as `wend solve --method` takes it.
+    pub method: String,
+    /// Seed of the run.
+    pub seed: u64,
+    /// Time limit in seconds.
+    pub time_limit: f64,
+    /// Worker threads the run used.
+    pub threads: usize,
+    /// Length of the best tour found.
+    pub length: i64,
+    /// Known optimal length, if the optima file lists the instance.
+    pub optimum: Option<i64>,
+    /// `100 * (length - optimum) / optimum`, when the optimum is known.
+    pub gap_percent: Option<f64>,
+    /// Wall-clock seconds of the run.
+    pub seconds: f64,
+    /// Seconds until the best tour was first found.
+    pub time_to_best: f64,
+    /// Proven lower bound, when the method gives one.
+    pub lower_bound: Option<i64>,
+    /// Why the run stopped (`time_limit`, `restart_budget`, ...).
+    pub stop_reason: String,
+    /// Restarts completed.
+    pub restarts: usize,
+    /// Every new best tour as `[seconds, length]`: the run's anytime curve.
+    pub trace: Vec<(f64, i64)>,
+    /// The best tour, as a TOUR file relative to the output folder.
+    pub tour_file: Option<String>,
+    /// Version of `wend` that ran.
+    pub version: String,
+    /// Git commit the binary was built from (`unknown` outside a checkout).
+    pub git_commit: String,
+    /// Machine description: cores, CPU model, memory, operating system.
+    pub machine: String,
+}
+
+/// What identifies a run, for resuming and for comparing sweeps.
+#[derive(Clone, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub struct RunKey {
+    /// Instance name.
+    pub instance: String,
+    /// Method name.
+    pub method: String,
+    /// Seed.
+    pub seed: u64,
+    /// Time limit in milliseconds (so the key can be hashed).
+    pub time_limit_ms: u64,
+}
+
+impl RunRecord {
+    /// The run's identity.
+    pub fn key(&self) -> RunKey {
+        RunKey {
+            instance: self.instance.clone(),
+            method: self.method.clone(),
+            seed: self.seed,
+            time_limit_ms: (self.time_limit * 1000.0).round() as u64,
+        }
+    }
+
+    /// True when the tour is shorter than the listed optimum: a distance bug or a wrong optimum,
+    /// never a record.
+    pub fn beats_optimum(&self) -> bool {
+        self.optimum.is_some_and(|o| self.length < o)
+    }
+}
+
+/// A line of a runs file that is not a run.
+#[derive(Debug, thiserror::Error)]
+#[error("{file}:{line}: {message}")]
+pub struct RecordError {
+    /// The file.
+    pub file: String,
+    /// 1-based line, 0 when the file could not be read at all.
+    pub line: usize,
+    /// What was wrong.
+    pub message: String,
+}
+
+/// Reads every run of a `runs.jsonl` file; a missing file holds no runs.
+pub fn read_runs(path: &Path) -> Result<Vec<RunRecord>, RecordError> {
+    let file = path.display().to_string();
+    let f = match std::fs::File::open(path) {
+        Ok(f) => f,
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => return Ok(Vec::new()),
+        Err(e) => {
+            return Err(RecordError {
+                file,
+                line: 0,
+                message: e.to_string(),
+            })
+        }
+    };
+    let mut runs = Vec::new();
+    for (i, line) in std::io::BufReader::new(f).lines().enumerate() {
+        let line = line.map_err(|e| RecordError {
+            file: file.clone(),
+            line: i + 1,
+            message: e.to_string(),
+        })?;
+        if line.trim().is_empty() {
+            continue;
+        }
+        let run = serde_json::from_str(&line).map_err(|e| RecordError {
+            file: file.clone(),
+            line: i + 1,
+            message: format!("not a run record: {e}"),
+        })?;
+        runs.push(run);
+    }
+    Ok(runs)
+}
+
+#[cfg(test)]
+pub(crate) fn sample(instance: &str, method: &str, seed: u64, length: i64) -> RunRecord {
+    RunRecord {
+        instance: instance.into(),
+        file: format!("instances/{instance}.tsp"),
+        problem_type: "TSP".into(),
+        nodes: 100,
+        method: method.into(),
+        seed,
+        time_limit: 1.0,
+        threads: 1,
+        length,
+        optimum: Some(1000),
+        gap_percent: Some(100.0 * (length - 1000) as f64 / 1000.0),
+        seconds: 1.0,
+        time_to_best: 0.5,
+        lower_bound: None,
+        stop_reason: "time_limit".into(),
+        restarts: 10,
+        trace: vec![(0.01, length + 50), (0.5, length)],
+        tour_file: None,
+        version: "0.1.0".into(),
+        git_commit: "unknown".into(),
+        machine: "test".into(),
+    }
+}

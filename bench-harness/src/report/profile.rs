@@ -1,0 +1,302 @@
+//! Performance profiles of the methods over the problems they all ran.
+
+use super::style::{self, Colours, Entry, Mark};
+use super::ReportError;
+use crate::record::RunRecord;
+use plotters::prelude::*;
+use std::collections::{BTreeMap, BTreeSet};
+use std::path::Path;
+
+/// File name of the figure.
+pub const FILE: &str = "performance-profile.svg";
+
+/// One method's profile as its step points.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ProfileCurve {
+    /// Method.
+    pub method: String,
+    /// `(τ, ρ(τ))` at τ = 1 and at each larger ratio the method reaches, τ increasing; ρ keeps
+    /// its value up to the next point (the profile is right-continuous).
+    pub steps: Vec<(f64, f64)>,
+}
+
+impl ProfileCurve {
+    /// ρ(τ): 0 below τ = 1, otherwise the value of the last step at or before τ.
+    pub fn rho(&self, tau: f64) -> f64 {
+        self.steps
+            .iter()
+            .take_while(|(t, _)| *t <= tau)
+            .last()
+            .map_or(0.0, |s| s.1)
+    }
+}
+
+/// The performance profile of every method.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PerformanceProfile {
+    /// Problems compared: those every method ran.
+    pub problems: usize,
+    /// One curve per method, by method name.
+    pub curves: Vec<ProfileCurve>,
+    /// The largest finite ratio of any method; 1 when all methods tie everywhere.
+    pub tau_max: f64,
+}
+
+/// The performance profile of Dolan and Moré, "Benchmarking optimization software with
+/// performance profiles", Mathematical Programming 91 (2002) 201–213, with tour length as the
+/// measure.
+///
+/// A problem `p` is an (instance, seed, time limit) triple that every method in `runs` has a
+/// run for; a method with several runs on one problem is taken at its shortest. With `l(p, m)`
+/// the length of method `m` on `p`, the ratio is `r(p, m) = l(p, m) / min over methods of
+/// l(p, ·)`, and the profile of `m` is `ρ_m(τ) = |{p : r(p, m) ≤ τ}| / |P|`: the share of problems
+/// on which `m` is within a factor τ of the best. `ρ_m(1)` is the share `m` wins (ties count for
+/// every method tied); `ρ_m` reaches 1 at the method's worst ratio.
+///
+/// A ratio needs a positive best length: where the best is 0 or below, the methods that match it
+/// get ratio 1 and the others never reach any τ (they count as failures on that problem).
+pub fn performance_profile(runs: &[RunRecord]) -> PerformanceProfile {
+    let methods: BTreeSet<&str> = runs.iter().map(|r| r.method.as_str()).collect();
+    let mut problems: BTreeMap<(&str, u64, u64), BTreeMap<&str, i64>> = BTreeMap::new();
+    for r in runs {
+        let k = r.key();
+        let best = problems
+            .entry((&r.instance, r.seed, k.time_limit_ms))
+            .or_default()
+            .entry(&r.method)
+            .or_insert(r.length);
+        *best = (*best).min(r.length);
+    }
+    problems.retain(|_, by_method| by_method.len() == methods.len());
+
+    let mut ratios: BTreeMap<&str, Vec<f64>> = methods.iter().map(|m| (*m, Vec::new())).collect();
+    for by_method in problems.values() {
+        let best = by_method.values().copied().min().unwrap_or(0);
+        for (m, &l) in by_method {
+            let r = if l == best {
+                1.0
+            } else if best > 0 {
+                l as f64 / best as f64
+            } else {
+                f64::INFINITY
+            };
+            ratios.entry(m).or_default().push(r);
+        }
+    }
+
+    let n = problems.len();
+    let mut tau_max: f64 = 1.0;
+    let curves = ratios
+        .into_iter()
+        .map(|(m, mut rs)| {
+            rs.sort_by(f64::total_cmp);
+            let mut steps = Vec::new();
+            if n > 0 {
+                let at_one = rs.iter().filter(|r| **r <= 1.0).count();
+                steps.push((1.0, at_one as f64 / n as f64));
+                let mut i = at_one;
+                while i < rs.len() && rs[i].is_finite() {
+                    let tau = rs[i];
+                    while i < rs.len() && rs[i] == tau {
+                        i += 1;
+                    }
+                    tau_max = tau_max.max(tau);
+                    steps.push((tau, i as f64 / n as f64));
+                }
+            }
+            ProfileCurve {
+                method: m.to_string(),
+                steps,
+            }
+        })
+        .collect();
+    PerformanceProfile {
+        problems: n,
+        curves,
+        tau_max,
+    }
+}
+
+/// Draws the profile into `path`.
+pub(crate) fn write_plot(
+    runs: &[RunRecord],
+    path: &Path,
+    colours: &Colours,
+) -> Result<(), ReportError> {
+    let profile = performance_profile(runs);
+    let legend: Vec<Entry> = profile
+        .curves
+        .iter()
+        .map(|c| Entry {
+            label: format!(
+                "{}\nbest or tied on {:.0}%",
+                c.method,
+                100.0 * c.steps.first().map_or(0.0, |s| s.1)
+            ),
+            mark: Mark::Solid(colours.of(&c.method)),
+        })
+        .collect();
+    let err = style::plot_error(path);
+    let mut svg = String::new();
+    {
+        let (w, h) = style::CHART_SIZE;
+        if profile.problems == 0 {
+            let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
+            root.fill(&WHITE).map_err(&err)?;
+            style::placeholder(
+                &root,
+                "Performance profile of tour length",
+                "No (instance, seed, time limit) was run by every method.",
+            )
+            .map_err(&err)?;
+            root.present().map_err(&err)?;
+        } else {
+            let title = format!(
+                "Performance profile of tour length over {} problem{}",
+                profile.problems,
+                if profile.problems == 1 { "" } else { "s" }
+            );
+            let lw = style::legend_width(&legend);
+            let root = SVGBackend::with_string(&mut svg, (w + lw, h)).into_drawing_area();
+            root.fill(&WHITE).map_err(&err)?;
+            let (plot, side) = root.split_horizontally(w);
+            draw(&plot, &title, &profile, colours).map_err(&err)?;
+            style::draw_legend(&side, 70, &legend).map_err(&err)?;
+            root.present().map_err(&err)?;
+        }
+    }
+    style::save(path, svg)
+}
+
+fn draw(
+    root: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+    title: &str,
+    profile: &PerformanceProfile,
+    colours: &Colours,
+) -> Result<(), DrawingAreaErrorKind<std::io::Error>> {
+    // With every method tied everywhere there is no ratio range: show a little past 1 anyway.
+    let reach = if profile.tau_max > 1.0 {
+        profile.tau_max - 1.0
+    } else {
+        0.01
+    };
+    // A margin past the largest ratio, so the last jump is not hidden in the frame.
+    let x1 = 1.0 + reach * 1.04;
+    let mut chart = ChartBuilder::on(root)
+        .caption(title, (style::FONT, style::TITLE_PX))
+        .margin(18)
+        .x_label_area_size(56)
+        .y_label_area_size(76)
+        // Below 0 a little too, so a method at ρ = 0 is not hidden in the x axis.
+        .build_cartesian_2d(1.0..x1, -0.03..1.04)?;
+    chart
+        .configure_mesh()
+        .x_desc("τ: tour length / shortest length of any method")
+        .y_desc("share of problems, ρ(τ)")
+        .axis_desc_style((style::FONT, style::AXIS_TITLE_PX))
+        .label_style((style::FONT, style::TICK_PX))
+        .x_label_formatter(&|v| style::number_label(*v, reach))
+        .y_label_formatter(&|v| style::number_label(*v, 1.0))
+        .bold_line_style(RGBColor(225, 225, 225))
+        .light_line_style(RGBColor(248, 248, 248))
+        .draw()?;
+
+    let n = profile.curves.len();
+    for (i, c) in profile.curves.iter().enumerate() {
+        // Methods that tie lie on top of each other; a thinner line for each later method
+        // keeps the ones below visible at its edges.
+        let width = 2 + (n - 1 - i).min(2) as u32;
+        let mut line = Vec::with_capacity(2 * c.steps.len() + 1);
+        for &(tau, rho) in &c.steps {
+            if let Some(&(_, before)) = line.last() {
+                line.push((tau, before));
+            }
+            line.push((tau, rho));
+        }
+        if let Some(&(_, last)) = line.last() {
+            line.push((x1, last));
+        }
+        chart.draw_series(LineSeries::new(
+            line,
+            colours.of(&c.method).stroke_width(width),
+        ))?;
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::record::sample;
+
+    fn run(instance: &str, method: &str, seed: u64, length: i64) -> RunRecord {
+        sample(instance, method, seed, length)
+    }
+
+    /// Three problems, two methods:
+    /// p1 (a, seed 1): A 100, B 110 → r_A 1, r_B 1.1;
+    /// p2 (a, seed 2): A 120, B 100 → r_A 1.2, r_B 1;
+    /// p3 (b, seed 1): A 200, B 200 → both 1.
+    /// So ρ_A = 2/3 on [1, 1.2), 1 from 1.2; ρ_B = 2/3 on [1, 1.1), 1 from 1.1.
+    /// A fourth problem that only A ran is not a problem at all.
+    #[test]
+    fn two_methods_three_problems_by_hand() {
+        let runs = vec![
+            run("a", "A", 1, 100),
+            run("a", "B", 1, 110),
+            run("a", "A", 2, 120),
+            run("a", "B", 2, 100),
+            run("b", "A", 1, 200),
+            run("b", "B", 1, 200),
+            run("c", "A", 1, 50),
+        ];
+        let p = performance_profile(&runs);
+        assert_eq!(p.problems, 3);
+        assert!((p.tau_max - 1.2).abs() < 1e-12);
+        let (a, b) = (&p.curves[0], &p.curves[1]);
+        assert_eq!((a.method.as_str(), b.method.as_str()), ("A", "B"));
+        let third = |k: f64| k / 3.0;
+        assert_eq!(a.rho(0.99), 0.0);
+        assert_eq!(a.rho(1.0), third(2.0));
+        assert_eq!(a.rho(1.15), third(2.0));
+        assert_eq!(a.rho(1.2), 1.0);
+        assert_eq!(a.rho(5.0), 1.0);
+        assert_eq!(b.rho(1.0), third(2.0));
+        assert_eq!(b.rho(1.05), third(2.0));
+        assert_eq!(b.rho(1.1), 1.0);
+        assert_eq!(a.steps.len(), 2);
+        assert!((a.steps[1].0 - 1.2).abs() < 1e-12);
+    }
+
+    #[test]
+    fn a_method_is_taken_at_its_best_on_duplicates_and_time_limits_split_problems() {
+        let mut long = run("a", "A", 1, 150);
+        long.time_limit = 10.0;
+        let mut long_b = run("a", "B", 1, 100);
+        long_b.time_limit = 10.0;
+        let runs = vec![
+            run("a", "A", 1, 100),
+            run("a", "A", 1, 300),
+            run("a", "B", 1, 125),
+            long,
+            long_b,
+        ];
+        let p = performance_profile(&runs);
+        assert_eq!(p.problems, 2);
+        // 1 s: A 100 (best), B 1.25. 10 s: A 1.5, B 100 (best).
+        assert_eq!(p.curves[0].rho(1.0), 0.5);
+        assert_eq!(p.curves[0].rho(1.49), 0.5);
+        assert_eq!(p.curves[0].rho(1.5), 1.0);
+        assert_eq!(p.curves[1].rho(1.25), 1.0);
+        assert!((p.tau_max - 1.5).abs() < 1e-12);
+    }
+
+    #[test]
+    fn zero_best_length_counts_others_as_failures() {
+        let runs = vec![run("a", "A", 1, 0), run("a", "B", 1, 5)];
+        let p = performance_profile(&runs);
+        assert_eq!(p.curves[0].rho(1.0), 1.0);
+        assert_eq!(p.curves[1].rho(1e9), 0.0);
+        assert_eq!(p.tau_max, 1.0);
+    }
+}

@@ -1,0 +1,344 @@
+//! Benchmark sweeps: every (instance, method, seed) run, resumable and splittable into shards.
+//!
+//! The run list is a pure function of the plan, sorted by (instance, method, seed), so shard
+//! `K/N` (runs whose index is `K-1` modulo `N`) names the same runs on every machine; merging
+//! shards is concatenating their `runs.jsonl` files.
+
+use crate::record::{read_runs, RunKey, RunRecord};
+use crate::tsplib::{read_instance, write_tour, Instance, TsplibError};
+use rayon::prelude::*;
+use std::collections::{BTreeMap, HashSet};
+use std::io::Write;
+use std::path::{Path, PathBuf};
+use std::sync::Mutex;
+use std::time::Duration;
+use wend::{Method, Solver};
+
+/// What to run.
+#[derive(Clone, Debug)]
+pub struct SweepPlan {
+    /// Instance files.
+    pub instances: Vec<PathBuf>,
+    /// Methods, by name.
+    pub methods: Vec<Method>,
+    /// Seeds.
+    pub seeds: Vec<u64>,
+    /// Time limit of each run, in seconds.
+    pub time_limit: f64,
+    /// Restart budget of each run; with one, runs are repeatable to the bit.
+    pub restarts: Option<usize>,
+    /// Threads inside each run.
+    pub threads_per_run: usize,
+    /// Runs at the same time.
+    pub jobs: usize,
+    /// `(k, n)`: run only the k-th (1-based) of n slices.
+    pub shard: Option<(usize, usize)>,
+    /// Known optimal lengths by instance name.
+    pub optima: BTreeMap<String, i64>,
+    /// Output folder.
+    pub out: PathBuf,
+}
+
+/// One run to do.
+#[derive(Clone, Debug, PartialEq)]
+pub struct RunSpec {
+    /// Instance file.
+    pub file: PathBuf,
+    /// Instance name (file stem).
+    pub instance: String,
+    /// Method.
+    pub method: Method,
+    /// Seed.
+    pub seed: u64,
+}
+
+/// Why a sweep could not run.
+#[derive(Debug, thiserror::Error)]
+pub enum SweepError {
+    /// An instance file is bad.
+    #[error(transparent)]
+    Instance(#[from] TsplibError),
+    /// The existing results file is bad.
+    #[error(transparent)]
+    Record(#[from] crate::record::RecordError),
+    /// The output folder could not be written.
+    #[error("{path}: {source}")]
+    Io {
+        /// The file or folder.
+        path: String,
+        /// The error.
+        source: std::io::Error,
+    },
+    /// A solve failed.
+    #[error("{file}: {message}")]
+    Solve {
+        /// The instance file.
+        file: String,
+        /// The error.
+        message: String,
+    },
+}
+
+/// What a sweep did.
+#[derive(Clone, Debug, Default)]
+pub struct SweepOutcome {
+    /// Runs in this shard.
+    pub planned: usize,
+    /// Runs skipped because `runs.jsonl` already held them.
+    pub skipped: usize,
+    /// Runs done now.
+    pub ran: usize,
+}
+
+/// Name of an instance: its file stem.
+pub fn instance_name(path: &Path) -> String {
+    path.file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| path.display().to_string())
+}
+
+/// The runs of the plan's shard, in a fixed order.
+pub fn plan_runs(plan: &SweepPlan) -> Vec<RunSpec> {
+    let mut files: Vec<(String, PathBuf)> = plan
+        .instances
+        .iter()
+        .map(|p| (instance_name(p), p.clone()))
+        .collect();
+    files.sort();
+    files.dedup_by(|a, b| a.0 == b.0);
+    let mut runs = Vec::new();
+    for (instance, file) in &files {
+        for method in &plan.methods {
+            for &seed in &plan.seeds {
+                runs.push(RunSpec {
+                    file: file.clone(),
+                    instance: instance.clone(),
+                    method: *method,
+                    seed,
+                });
+            }
+        }
+    }
+    match plan.shard {
+        Some((k, n)) => runs
+            .into_iter()
+            .enumerate()
+            .filter(|(i, _)| i % n == k - 1)
+            .map(|(_, r)| r)
+            .collect(),
+        None => runs,
+    }
+}
+
+/// Cores, CPU model, memory and operating system of this machine, in one line.
+pub fn machine_description() -> String {
+    let cores = std::thread::available_parallelism()
+        .map(|c| c.get())
+        .unwrap_or(1);
+    let cpu = std::fs::read_to_string("/proc/cpuinfo")
+        .ok()
+        .and_then(|s| {
+            s.lines()
+                .find(|l| l.starts_with("model name"))
+                .and_then(|l| l.split(':').nth(1))
+                .map(|m| m.trim().to_string())
+        })
+        .unwrap_or_else(|| "unknown CPU".into());
+    let mem = std::fs::read_to_string("/proc/meminfo")
+        .ok()
+        .and_then(|s| {
+            s.lines()
+                .find(|l| l.starts_with("MemTotal"))
+                .and_then(|l| l.split_whitespace().nth(1))
+                .and_then(|kb| kb.parse::<f64>().ok())
+        })
+        .map(|kb| format!("{:.0} GiB", kb / 1024.0 / 1024.0))
+        .unwrap_or_else(|| "unknown memory".into());
+    format!(
+        "{cores} cores, {cpu}, {mem}, {} {}",
+        std::env::consts::OS,
+        std::env::consts::ARCH
+    )
+}
+
+/// Runs every planned run not yet in `out/runs.jsonl`, appending each result as it finishes.
+/// `progress(done, total)` is called after each run.
+pub fn run_sweep(
+    plan: &SweepPlan,
+    progress: &(dyn Fn(usize, usize) + Sync),
+) -> Result<SweepOutcome, SweepError> {
+    let io = |path: &Path| {
+        let path = path.display().to_string();
+        move |source| SweepError::Io { path, source }
+    };
+    let tours_dir = plan.out.join("tours");
+    std::fs::create_dir_all(&tours_dir).map_err(io(&tours_dir))?;
+    let runs_path = plan.out.join("runs.jsonl");
+    let done: HashSet<RunKey> = read_runs(&runs_path)?.iter().map(|r| r.key()).collect();
+    let specs = plan_runs(plan);
+    let key = |s: &RunSpec| RunKey {
+        instance: s.instance.clone(),
+        method: s.method.name().to_string(),
+        seed: s.seed,
+        time_limit_ms: (plan.time_limit * 1000.0).round() as u64,
+    };
+    let todo: Vec<&RunSpec> = specs.iter().filter(|s| !done.contains(&key(s))).collect();
+    let outcome = SweepOutcome {
+        planned: specs.len(),
+        skipped: specs.len() - todo.len(),
+        ran: todo.len(),
+    };
+    let file = std::fs::OpenOptions::new()
+        .create(true)
+        .append(true)
+        .open(&runs_path)
+        .map_err(io(&runs_path))?;
+    let sink = Mutex::new(file);
+    let machine = machine_description();
+    let count = Mutex::new(0usize);
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(plan.jobs.max(1))
+        .build()
+        .map_err(|e| SweepError::Io {
+            path: "thread pool".into(),
+            source: std::io::Error::other(e),
+        })?;
+    // Instances are read once each, in order; the runs of one instance go in parallel.
+    let mut by_instance: BTreeMap<&str, Vec<&RunSpec>> = BTreeMap::new();
+    for s in &todo {
+        by_instance.entry(s.instance.as_str()).or_default().push(s);
+    }
+    for runs in by_instance.values() {
+        let inst = read_instance(&runs[0].file)?;
+        pool.install(|| {
+            runs.par_iter().try_for_each(|spec| {
+                let rec = run_one(plan, &inst, spec, &machine)?;
+                let line = serde_json::to_string(&rec).map_err(|e| SweepError::Io {
+                    path: runs_path.display().to_string(),
+                    source: std::io::Error::other(e),
+                })?;
+                {
+                    let mut f = sink.lock().unwrap_or_else(|e| e.into_inner());
+                    writeln!(f, "{line}")
+                        .and_then(|_| f.flush())
+                        .map_err(io(&runs_path))?;
+                }
+                let mut c = count.lock().unwrap_or_else(|e| e.into_inner());
+                *c += 1;
+                progress(*c, todo.len());
+                Ok::<(), SweepError>(())
+            })
+        })?;
+    }
+    Ok(outcome)
+}
+
+fn run_one(
+    plan: &SweepPlan,
+    inst: &Instance,
+    spec: &RunSpec,
+    machine: &str,
+) -> Result<RunRecord, SweepError> {
+    let mut solver = Solver::new(inst.cost())
+        .method(spec.method)
+        .seed(spec.seed)
+        .threads(plan.threads_per_run)
+        .time_limit(Duration::from_secs_f64(plan.time_limit));
+    if let Some(r) = plan.restarts {
+        solver = solver.restarts(r);
+    }
+    let sol = solver.solve().map_err(|e| SweepError::Solve {
+        file: spec.file.display().to_string(),
+        message: e.to_string(),
+    })?;
+    let tour_name = format!(
+        "{}.{}.s{}.t{}.tour",
+        spec.instance,
+        spec.method.name(),
+        spec.seed,
+        plan.time_limit
+    );
+    let tour_path = plan.out.join("tours").join(&tour_name);
+    let comment = format!(
+        "length {} found by wend {} (method {}, seed {})",
+        sol.length,
+        env!("CARGO_PKG_VERSION"),
+        spec.method.name(),
+        spec.seed
+    );
+    std::fs::File::create(&tour_path)
+        .and_then(|f| {
+            let mut w = std::io::BufWriter::new(f);
+            write_tour(&inst.name, &comment, sol.tour.order(), &mut w)?;
+            w.flush()
+        })
+        .map_err(|source| SweepError::Io {
+            path: tour_path.display().to_string(),
+            source,
+        })?;
+    let optimum = plan.optima.get(&spec.instance).copied();
+    Ok(RunRecord {
+        instance: spec.instance.clone(),
+        file: spec.file.display().to_string(),
+        problem_type: inst.kind.keyword().to_string(),
+        nodes: inst.dimension,
+        method: spec.method.name().to_string(),
+        seed: spec.seed,
+        time_limit: plan.time_limit,
+        threads: plan.threads_per_run,
+        length: sol.length,
+        optimum,
+        gap_percent: optimum
+            .filter(|&o| o != 0)
+            .map(|o| 100.0 * (sol.length - o) as f64 / o as f64),
+        seconds: sol.seconds,
+        time_to_best: sol.trace.last().map_or(sol.seconds, |t| t.seconds),
+        lower_bound: None,
+        stop_reason: serde_json::to_value(sol.stop_reason)
+            .ok()
+            .and_then(|v| v.as_str().map(str::to_string))
+            .unwrap_or_default(),
+        restarts: sol.restarts,
+        trace: sol.trace.iter().map(|t| (t.seconds, t.length)).collect(),
+        tour_file: Some(format!("tours/{tour_name}")),
+        version: env!("CARGO_PKG_VERSION").to_string(),
+        git_commit: env!("WEND_GIT_COMMIT").to_string(),
+        machine: machine.to_string(),
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn plan(shard: Option<(usize, usize)>) -> SweepPlan {
+        SweepPlan {
+            instances: vec!["b/x.tsp".into(), "a/y.tsp".into(), "c/x.tsp".into()],
+            methods: vec![Method::TwoOpt, Method::Greedy],
+            seeds: vec![0, 1, 2],
+            time_limit: 1.0,
+            restarts: None,
+            threads_per_run: 1,
+            jobs: 1,
+            shard,
+            optima: BTreeMap::new(),
+            out: "out".into(),
+        }
+    }
+
+    #[test]
+    fn shards_partition_the_run_list() {
+        let all = plan_runs(&plan(None));
+        // Two distinct names (x listed twice keeps its first file), 2 methods, 3 seeds.
+        assert_eq!(all.len(), 2 * 2 * 3);
+        let mut merged: Vec<RunSpec> = (1..=3)
+            .flat_map(|k| plan_runs(&plan(Some((k, 3)))))
+            .collect();
+        assert_eq!(merged.len(), all.len());
+        let key = |r: &RunSpec| (r.instance.clone(), r.method.name(), r.seed);
+        merged.sort_by_key(key);
+        let mut sorted = all.clone();
+        sorted.sort_by_key(key);
+        assert_eq!(merged, sorted);
+    }
+}
