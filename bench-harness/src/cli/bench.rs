@@ -310,7 +310,13 @@ fn report(dirs: &[PathBuf], out: &Path) -> Result<(), CliError> {
     // Drawings need the instance's points and the run's tour.
     let points = |r: &RunRecord| -> Option<(Vec<[f64; 2]>, Vec<usize>)> {
         let inst = read_instance(Path::new(&r.file)).ok()?;
-        let pts = inst.display?;
+        let geo = inst.edge_weight_type == "GEO";
+        // GEO display points are (latitude, longitude): draw longitude across, like a map.
+        let pts: Vec<[f64; 2]> = inst
+            .display?
+            .into_iter()
+            .map(|p| if geo { [p[1], p[0]] } else { p })
+            .collect();
         let dir = home.get(&r.key())?;
         let tour = read_tour(&dir.join(r.tour_file.as_ref()?)).ok()?;
         (tour.nodes.len() == pts.len()).then_some((pts, tour.nodes))
