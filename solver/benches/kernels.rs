@@ -6,7 +6,7 @@ use rand::{Rng, SeedableRng};
 use wend::candidates::k_nearest;
 use wend::construct::greedy_edge;
 use wend::improve::{two_opt_or_opt, ArrayTour};
-use wend::{Cost, CoordCost, Metric};
+use wend::{CoordCost, Cost, Metric};
 
 fn uniform(n: usize, seed: u64) -> CoordCost {
     let mut rng = rand_pcg::Pcg64::seed_from_u64(seed);
@@ -41,7 +41,9 @@ fn kernels(c: &mut Criterion) {
         })
     });
     group.sample_size(10);
-    group.bench_function("k_nearest_10_of_100000", |b| b.iter(|| k_nearest(&cost, 10)));
+    group.bench_function("k_nearest_10_of_100000", |b| {
+        b.iter(|| k_nearest(&cost, 10))
+    });
     group.finish();
 }
 
