@@ -41,8 +41,11 @@ pub struct RunRecord {
     pub lower_bound: Option<i64>,
     /// Why the run stopped (`time_limit`, `restart_budget`, ...).
     pub stop_reason: String,
-    /// Restarts completed.
+    /// Restarts completed (for `lk`: independent runs).
     pub restarts: usize,
+    /// Kicks tried (`lk`; zero for other methods and in older files).
+    #[serde(default)]
+    pub kicks: u64,
     /// Every new best tour as `[seconds, length]`: the run's anytime curve.
     pub trace: Vec<(f64, i64)>,
     /// The best tour, as a TOUR file relative to the output folder.
@@ -151,6 +154,7 @@ pub(crate) fn sample(instance: &str, method: &str, seed: u64, length: i64) -> Ru
         lower_bound: None,
         stop_reason: "time_limit".into(),
         restarts: 10,
+        kicks: 0,
         trace: vec![(0.01, length + 50), (0.5, length)],
         tour_file: None,
         version: "0.1.0".into(),

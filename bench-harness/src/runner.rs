@@ -27,6 +27,8 @@ pub struct SweepPlan {
     pub time_limit: f64,
     /// Restart budget of each run; with one, runs are repeatable to the bit.
     pub restarts: Option<usize>,
+    /// Kick budget of each `lk` run; with one (and a run count), runs are repeatable to the bit.
+    pub kicks: Option<u64>,
     /// Threads inside each run.
     pub threads_per_run: usize,
     /// Runs at the same time.
@@ -247,6 +249,9 @@ fn run_one(
     if let Some(r) = plan.restarts {
         solver = solver.restarts(r);
     }
+    if let Some(k) = plan.kicks {
+        solver = solver.kicks(k);
+    }
     let sol = solver.solve().map_err(|e| SweepError::Solve {
         file: spec.file.display().to_string(),
         message: e.to_string(),
@@ -299,6 +304,7 @@ fn run_one(
             .and_then(|v| v.as_str().map(str::to_string))
             .unwrap_or_default(),
         restarts: sol.restarts,
+        kicks: sol.kicks,
         trace: sol.trace.iter().map(|t| (t.seconds, t.length)).collect(),
         tour_file: Some(format!("tours/{tour_name}")),
         version: env!("CARGO_PKG_VERSION").to_string(),
@@ -318,6 +324,7 @@ mod tests {
             seeds: vec![0, 1, 2],
             time_limit: 1.0,
             restarts: None,
+            kicks: None,
             threads_per_run: 1,
             jobs: 1,
             shard,

@@ -195,8 +195,9 @@ pub fn two_opt_or_opt<C: Cost + ?Sized>(
     stats
 }
 
-/// Nodes whose tour edges a move changed (at most eight).
-type Touched = [Option<usize>; 8];
+/// Nodes whose tour edges a move changed (at most eight). For Or-opt moves the first four are
+/// the segment's old neighbours and its ends, `(p, nx, s1, s2)`, which `lk` relies on to undo.
+pub(crate) type Touched = [Option<usize>; 8];
 
 /// First improving 2-opt move removing an edge at `a`: replaces (a, b) and (c, d) by (a, c) and
 /// (b, d), with `c` a neighbour of `a`.
@@ -239,7 +240,7 @@ fn try_two_opt<C: Cost + ?Sized>(
 /// First improving Or-opt move of a segment of 1..=3 nodes that starts or ends at `a`, to
 /// between two adjacent nodes elsewhere, one of them a neighbour of a segment end. Reversed
 /// insertion is tried only when `reversible`.
-fn try_or_opt<C: Cost + ?Sized>(
+pub(crate) fn try_or_opt<C: Cost + ?Sized>(
     cost: &C,
     nb: &Neighbours,
     tour: &mut ArrayTour,

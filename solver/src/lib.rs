@@ -42,6 +42,7 @@ pub mod construct;
 pub mod cost;
 pub mod exact;
 pub mod improve;
+pub mod lk;
 pub mod search;
 pub mod solver;
 pub mod tour;

@@ -90,6 +90,12 @@ pub enum StopReason {
     Exhaustive,
     /// The method is a single construction, done.
     Constructed,
+    /// A tour no longer than the target length was found.
+    TargetReached,
+    /// Every run of an iterated search used up its kick budget.
+    KickBudget,
+    /// Runs of an iterated search ended after too many kicks in a row without improvement.
+    StallLimit,
 }
 
 pub(crate) struct RestartOutcome {
@@ -187,14 +193,14 @@ pub(crate) fn restarts<C: Cost + ?Sized>(
 
 /// Seed of restart `r`: a SplitMix64 step over (seed, r), so nearby seeds and indices give
 /// unrelated streams.
-fn mix(seed: u64, r: u64) -> u64 {
+pub(crate) fn mix(seed: u64, r: u64) -> u64 {
     let mut z = seed ^ r.wrapping_mul(0x9E37_79B9_7F4A_7C15);
     z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
     z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
     z ^ (z >> 31)
 }
 
-fn start_tour<C: Cost + ?Sized>(
+pub(crate) fn start_tour<C: Cost + ?Sized>(
     cost: &C,
     nb: &Neighbours,
     start: Start,

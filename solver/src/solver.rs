@@ -4,6 +4,7 @@ use crate::candidates::k_nearest;
 use crate::construct;
 use crate::cost::{Cost, CostError, FnCost, MatrixCost};
 use crate::exact;
+use crate::lk::{self, LkParams, LkPlan};
 use crate::search::{self, Improvement, RestartPlan, Start, StopHandle, StopReason};
 use crate::tour::{closed_length, Overflow, Tour};
 use std::sync::Mutex;
@@ -20,11 +21,15 @@ pub enum Method {
     Curve,
     /// Restarts of a construction followed by 2-opt and Or-opt over neighbour lists.
     TwoOpt,
+    /// Iterated Lin–Kernighan-style search: LK moves plus Or-opt, double-bridge kicks, parallel
+    /// independent runs (see [`crate::lk`]). The default.
+    Lk,
 }
 
 impl Method {
     /// Every method, in the order they are listed.
-    pub const ALL: [Method; 4] = [
+    pub const ALL: [Method; 5] = [
+        Method::Lk,
         Method::TwoOpt,
         Method::Greedy,
         Method::Nearest,
@@ -38,6 +43,7 @@ impl Method {
             Method::Greedy => "greedy",
             Method::Curve => "curve",
             Method::TwoOpt => "2opt",
+            Method::Lk => "lk",
         }
     }
 
@@ -55,6 +61,11 @@ impl Method {
             Method::TwoOpt => {
                 "parallel restarts: greedy/curve/nearest starts, 2-opt + Or-opt over 10 nearest \
                  neighbours with don't-look bits (Or-opt only for asymmetric costs)"
+            }
+            Method::Lk => {
+                "iterated Lin-Kernighan: greedy start, LK chains of 2-opt flips + Or-opt, local \
+                 double-bridge kicks kept when no longer; independent runs per thread (Or-opt \
+                 and direction-keeping kicks only for asymmetric costs)"
             }
         }
     }
@@ -90,8 +101,10 @@ pub struct Solution {
     pub length: i64,
     /// Wall-clock seconds the solve took, including neighbour lists.
     pub seconds: f64,
-    /// Restarts completed.
+    /// Restarts completed (for `lk`: independent runs started).
     pub restarts: usize,
+    /// Kicks tried over all runs (`lk` only; zero otherwise).
+    pub kicks: u64,
     /// Why the search ended.
     pub stop_reason: StopReason,
     /// Every new best tour's length and time, in order: the anytime curve of the run.
@@ -119,6 +132,9 @@ pub struct Solver<C> {
     seed: u64,
     threads: Option<usize>,
     restarts: Option<usize>,
+    kicks: Option<u64>,
+    stall_limit: Option<u64>,
+    target_length: Option<i64>,
     method: Method,
     neighbours: usize,
     stop: StopHandle,
@@ -129,10 +145,14 @@ pub struct Solver<C> {
 pub const DEFAULT_RESTARTS: usize = 8;
 /// Width of the neighbour lists by default.
 pub const DEFAULT_NEIGHBOURS: usize = 10;
+/// Independent `lk` runs when neither a time limit nor a run count is given, or when a kick
+/// budget is (so that the answer does not depend on the number of threads).
+pub const DEFAULT_LK_RUNS: usize = 2;
 
 impl<C: Cost> Solver<C> {
-    /// A solver over `cost` with default options: method `2opt`, seed 0, one thread per core,
-    /// [`DEFAULT_RESTARTS`] restarts unless a time limit is set.
+    /// A solver over `cost` with default options: method `lk`, seed 0, one thread per core.
+    /// Without a time limit, `lk` makes [`DEFAULT_LK_RUNS`] runs of [`lk::default_kicks`] kicks
+    /// each (and `2opt` makes [`DEFAULT_RESTARTS`] restarts).
     pub fn new(cost: C) -> Self {
         Solver {
             cost,
@@ -140,7 +160,10 @@ impl<C: Cost> Solver<C> {
             seed: 0,
             threads: None,
             restarts: None,
-            method: Method::TwoOpt,
+            kicks: None,
+            stall_limit: None,
+            target_length: None,
+            method: Method::Lk,
             neighbours: DEFAULT_NEIGHBOURS,
             stop: StopHandle::new(),
             observer: None,
@@ -168,8 +191,32 @@ impl<C: Cost> Solver<C> {
 
     /// Number of restarts (construction plus local search). Without a time limit the default
     /// is [`DEFAULT_RESTARTS`]; with one, restarts continue until it unless this is set.
+    /// For `lk` this is the number of independent runs (default [`DEFAULT_LK_RUNS`] without a
+    /// time limit or with a kick budget; otherwise runs follow one another until the limit).
     pub fn restarts(mut self, restarts: usize) -> Self {
         self.restarts = Some(restarts.max(1));
+        self
+    }
+
+    /// Kicks per `lk` run. With a kick budget and no time limit (or one long enough), the same
+    /// seed gives the same tour for any number of threads. Without a time limit the default is
+    /// [`lk::default_kicks`].
+    pub fn kicks(mut self, kicks: u64) -> Self {
+        self.kicks = Some(kicks);
+        self
+    }
+
+    /// Ends an `lk` run after this many kicks in a row that found no shorter tour; with a time
+    /// limit and no run count, a new run then starts.
+    pub fn stall_limit(mut self, kicks: u64) -> Self {
+        self.stall_limit = Some(kicks.max(1));
+        self
+    }
+
+    /// Stops `lk` as soon as a tour of at most this length is found (for example a known
+    /// optimum). Which tour is returned then depends on thread timing.
+    pub fn target_length(mut self, length: i64) -> Self {
+        self.target_length = Some(length);
         self
     }
 
@@ -220,22 +267,25 @@ impl<C: Cost> Solver<C> {
             }
             trace.lock().unwrap_or_else(|e| e.into_inner()).push(imp);
         };
-        let finish = |order: Vec<usize>, restarts, stop_reason, trace: &Mutex<Vec<Improvement>>| {
-            let length = closed_length(cost, &order)?;
-            let mut tour = Tour::trusted(order);
-            tour.rotate_to(0);
-            Ok(Solution {
-                tour,
-                length,
-                seconds: began.elapsed().as_secs_f64(),
-                restarts,
-                stop_reason,
-                trace: std::mem::take(&mut *trace.lock().unwrap_or_else(|e| e.into_inner())),
-                method: self.method,
-            })
-        };
+        let finish =
+            |order: Vec<usize>, restarts, kicks, stop_reason, trace: &Mutex<Vec<Improvement>>| {
+                let length = closed_length(cost, &order)?;
+                let mut tour = Tour::trusted(order);
+                tour.rotate_to(0);
+                Ok(Solution {
+                    tour,
+                    length,
+                    seconds: began.elapsed().as_secs_f64(),
+                    restarts,
+                    kicks,
+                    stop_reason,
+                    trace: std::mem::take(&mut *trace.lock().unwrap_or_else(|e| e.into_inner())),
+                    method: self.method,
+                })
+            };
 
-        if n <= exact::ENUMERATION_LIMIT && self.method == Method::TwoOpt {
+        let searches = matches!(self.method, Method::TwoOpt | Method::Lk);
+        if n <= exact::ENUMERATION_LIMIT && searches {
             let order = exact::enumerate(cost).unwrap_or_else(|| (0..n).collect());
             let length = closed_length(cost, &order)?;
             observe(Improvement {
@@ -243,7 +293,7 @@ impl<C: Cost> Solver<C> {
                 length,
                 restart: 0,
             });
-            return finish(order, 1, StopReason::Exhaustive, &trace);
+            return finish(order, 1, 0, StopReason::Exhaustive, &trace);
         }
 
         let nb = k_nearest(cost, self.neighbours);
@@ -265,9 +315,9 @@ impl<C: Cost> Solver<C> {
             Method::Nearest => Start::NearestNeighbour,
             Method::Greedy => Start::GreedyEdge,
             Method::Curve => Start::SpaceFillingCurve,
-            Method::TwoOpt => Start::Mixed,
+            Method::TwoOpt | Method::Lk => Start::Mixed,
         };
-        if self.method != Method::TwoOpt {
+        if !searches {
             let order = construction(start);
             let length = closed_length(cost, &order)?;
             observe(Improvement {
@@ -275,7 +325,36 @@ impl<C: Cost> Solver<C> {
                 length,
                 restart: 0,
             });
-            return finish(order, 1, StopReason::Constructed, &trace);
+            return finish(order, 1, 0, StopReason::Constructed, &trace);
+        }
+        if self.method == Method::Lk {
+            let bounded = self.kicks.is_some() || self.time_limit.is_none();
+            let plan = LkPlan {
+                seed: self.seed,
+                threads,
+                runs: match self.restarts {
+                    Some(r) => Some(r),
+                    None if bounded => Some(DEFAULT_LK_RUNS),
+                    None => None,
+                },
+                kicks: self
+                    .kicks
+                    .or(if self.time_limit.is_none() && self.stall_limit.is_none() {
+                        Some(lk::default_kicks(n))
+                    } else {
+                        None
+                    }),
+                stall: self.stall_limit,
+                target: self.target_length,
+                deadline: search::deadline(began, self.time_limit),
+                stop: self.stop.clone(),
+                params: LkParams::default(),
+            };
+            let out = lk::iterated(cost, &nb, &plan, began, &observe);
+            if out.length == i64::MAX {
+                closed_length(cost, &out.order)?;
+            }
+            return finish(out.order, out.runs, out.kicks, out.stop_reason, &trace);
         }
         let plan = RestartPlan {
             seed: self.seed,
@@ -295,7 +374,7 @@ impl<C: Cost> Solver<C> {
             // The restarts saturate a length they could not compute; recompute to report it.
             closed_length(cost, &out.order)?;
         }
-        finish(out.order, out.restarts, out.stop_reason, &trace)
+        finish(out.order, out.restarts, 0, out.stop_reason, &trace)
     }
 }
 

@@ -33,6 +33,9 @@ pub struct BenchArgs {
     /// still caps them).
     #[arg(long, value_name = "N")]
     restarts: Option<usize>,
+    /// Kick budget of each lk run (with --restarts, runs repeat to the bit).
+    #[arg(long, value_name = "N")]
+    kicks: Option<u64>,
     /// Threads inside each run.
     #[arg(long, value_name = "N")]
     threads_per_run: Option<usize>,
@@ -69,6 +72,7 @@ struct Suite {
     seeds: Option<u64>,
     time_limit: Option<f64>,
     restarts: Option<usize>,
+    kicks: Option<u64>,
     threads_per_run: Option<usize>,
     jobs: Option<usize>,
     optima: Option<String>,
@@ -209,6 +213,7 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
         seeds: (0..seeds).collect(),
         time_limit,
         restarts: a.restarts.or(suite.restarts),
+        kicks: a.kicks.or(suite.kicks),
         threads_per_run,
         jobs,
         shard,
@@ -235,7 +240,7 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
         outcome.skipped,
         out.join("runs.jsonl").display()
     );
-    report(&[out.clone()], &out)
+    report(std::slice::from_ref(&out), &out)
 }
 
 fn one_line(s: &str) -> String {

@@ -46,7 +46,7 @@ pub fn run(a: DemoArgs) -> Result<(), CliError> {
         "Solving {} TSPLIB instances for {} s each with method {} (seed {}).",
         DEMO.len(),
         a.time_limit,
-        Method::TwoOpt.name(),
+        Method::Lk.name(),
         a.seed
     );
     println!();

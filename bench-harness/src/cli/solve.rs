@@ -22,11 +22,23 @@ pub struct SolveArgs {
     /// Worker threads (default: one per core).
     #[arg(long)]
     threads: Option<usize>,
-    /// Number of restarts (default: 8 without a time limit, as many as fit with one).
+    /// Independent runs (lk) or restarts (2opt). Default without a time limit: 2 lk runs or 8
+    /// restarts; with one, as many as fit.
     #[arg(long)]
     restarts: Option<usize>,
+    /// Kicks per lk run; with a kick budget the same seed gives the same tour on any number of
+    /// threads (default without a time limit: the number of nodes, within 1,000-10,000).
+    #[arg(long, value_name = "N")]
+    kicks: Option<u64>,
+    /// End an lk run after this many kicks in a row without a shorter tour (a new run starts
+    /// while time remains).
+    #[arg(long, value_name = "N")]
+    stall_limit: Option<u64>,
+    /// Stop as soon as a tour of at most this length is found.
+    #[arg(long, value_name = "LENGTH")]
+    target: Option<i64>,
     /// Method to run; see --list-methods.
-    #[arg(long, default_value = "2opt")]
+    #[arg(long, default_value = "lk")]
     method: String,
     /// Width of the neighbour lists the moves look at.
     #[arg(long, default_value_t = wend::solver::DEFAULT_NEIGHBOURS)]
@@ -85,6 +97,15 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
     if let Some(r) = a.restarts {
         solver = solver.restarts(r);
     }
+    if let Some(k) = a.kicks {
+        solver = solver.kicks(k);
+    }
+    if let Some(k) = a.stall_limit {
+        solver = solver.stall_limit(k);
+    }
+    if let Some(t) = a.target {
+        solver = solver.target_length(t);
+    }
     let observer = progress.observer();
     let solver = solver.on_improvement(observer);
     let result = solver.solve();
@@ -122,6 +143,7 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
             "lower_bound": null,
             "seconds": sol.seconds,
             "restarts": sol.restarts,
+            "kicks": sol.kicks,
             "stop_reason": sol.stop_reason,
             "tour_out": a.tour_out.as_ref().map(|p| p.display().to_string()),
         });
@@ -136,9 +158,10 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
         println!("method     {}", method.name());
         println!("length     {}", sol.length);
         println!(
-            "time       {:.3} s, {} restart(s), stopped: {}",
+            "time       {:.3} s, {} run(s), {} kick(s), stopped: {}",
             sol.seconds,
             sol.restarts,
+            sol.kicks,
             stop_words(sol.stop_reason)
         );
         if let Some(out) = &a.tour_out {
@@ -156,5 +179,8 @@ fn stop_words(r: wend::StopReason) -> &'static str {
         Cancelled => "cancelled",
         Exhaustive => "every tour tried (optimal)",
         Constructed => "construction done",
+        TargetReached => "target length reached",
+        KickBudget => "all kicks done",
+        StallLimit => "stalled (no improvement within the stall limit)",
     }
 }

@@ -1,0 +1,1072 @@
+//! Lin–Kernighan-style local search and the iterated search built on it (method `lk`).
+//!
+//! # The move
+//!
+//! For symmetric costs one LK move is a chain of 2-opt moves ("flips") applied tentatively to an
+//! [`ArrayTour`]. Starting at a node `t1` with a tour neighbour `t2`, the chain removes the edge
+//! `(t1, t2)`, then at each level adds an edge `(t2, t3)` to a candidate `t3`, removes the tour
+//! edge `(t3, t4)` that keeps the tour one cycle, and closes with `(t4, t1)`. The chain goes on
+//! from `t4` while the cumulative gain stays positive (the positive gain criterion); the best
+//! closing seen is kept and the flips beyond it are undone. Edges removed in a move are not added
+//! again and added edges are not removed again, and a breadth schedule bounds the alternatives
+//! tried per level ([`LkParams`]).
+//!
+//! Moves covered:
+//! - every 2-opt move that adds a candidate edge (each level evaluates the closing of all its
+//!   candidates, not only those it descends into);
+//! - sequential 3-opt moves that reconnect with a reversed segment, as two chained flips, and
+//!   deeper sequential k-opt moves (k up to [`LkParams::max_depth`] + 1) reachable as chains of
+//!   flips whose every intermediate is a tour;
+//! - moving a segment elsewhere without reversing it (the pure sequential 3-opt "segment
+//!   insertion") needs three flips and is found when the gain criterion admits the intermediate
+//!   steps; for segments of up to [`crate::improve::MAX_SEGMENT`] nodes it is always tried
+//!   directly, in both orientations, by the Or-opt moves of [`crate::improve`], which run from
+//!   `t1` when no LK move starts there.
+//!
+//! For asymmetric costs a flip would reverse a path and change its cost, so only the
+//! direction-keeping Or-opt moves run.
+//!
+//! # The iterated search
+//!
+//! Each run builds a greedy tour, takes it to a local optimum, then repeats: a double-bridge kick
+//! close to a random node, local search from the eight endpoints of the kick, and acceptance if
+//! the tour is no longer than before (otherwise the kick and the repairs are undone from a log,
+//! so a rejected kick costs what it changed, not O(n)). Runs are independent, each with its own
+//! random stream seeded from (seed, run index), and the answer is the best by
+//! (length, run index), so with a kick budget the answer does not depend on thread timing.
+//! Tours of different runs are not recombined.
+//!
+//! TODO (large instances): every flip reverses the shorter side of an array, O(n) in the worst
+//! case, which is fine up to about 100,000 nodes. Beyond that, a two-level doubly-linked list
+//! (segments of about sqrt(n) nodes, each with a reversal bit and a sequence number) makes a
+//! flip O(sqrt(n)); it would implement the same `next` / `prev` / `between` / flip interface
+//! used here, so only the tour type would change.
+
+use crate::candidates::Neighbours;
+use crate::cost::Cost;
+use crate::improve::{try_or_opt, ArrayTour, ImproveStats, MAX_SEGMENT};
+use crate::search::{self, Improvement, Start, StopHandle, StopReason};
+use crate::tour::closed_length;
+use rand::Rng;
+use rand::SeedableRng;
+use rand_pcg::Pcg64;
+use std::collections::VecDeque;
+use std::sync::atomic::{AtomicBool, AtomicU64, AtomicUsize, Ordering};
+use std::sync::Mutex;
+use std::time::{Duration, Instant};
+
+/// Tuning of the LK move and of the kicks.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct LkParams {
+    /// Alternatives tried per level of the chain, first level first; levels beyond the list
+    /// try one.
+    pub breadth: Vec<usize>,
+    /// Most flips in one move.
+    pub max_depth: usize,
+    /// Longest segment of a double-bridge kick (capped at an eighth of the tour for small
+    /// instances).
+    pub kick_segment: usize,
+}
+
+impl Default for LkParams {
+    /// Chosen by measurement at a fixed time (10 s, one thread) on pr1002, fnl4461 and
+    /// brd14051: breadth 5, 3, 1 beat 3, 1 and 5, 1; depth 10 gave as short tours as 20 or 30
+    /// with about twice the kicks; segments of up to 100 beat 25, 50 and 400 (small kicks are
+    /// mostly repaired back into the same tour).
+    fn default() -> Self {
+        LkParams {
+            breadth: vec![5, 3, 1],
+            max_depth: 10,
+            kick_segment: 100,
+        }
+    }
+}
+
+/// One flip: tour edges `(a, a2)` and `(b, b2)`, with `a2` after `a` and `b2` after `b` when it
+/// was applied, replaced by `(a, b)` and `(a2, b2)`.
+#[derive(Clone, Copy, Debug)]
+struct Flip {
+    a: usize,
+    a2: usize,
+    b: usize,
+    b2: usize,
+}
+
+/// Replaces the edges after `a` and after `b` by `(a, b)` and `(next a, next b)`.
+fn flip(tour: &mut ArrayTour, a: usize, b: usize) -> Flip {
+    let a2 = tour.next(a);
+    let b2 = tour.next(b);
+    tour.reverse(a2, b, false);
+    Flip { a, a2, b, b2 }
+}
+
+/// Restores the two edges of `f`. The tour must be the same cycle as right after `f`, in either
+/// orientation: the shorter-side reversal may have turned the whole array round.
+fn unflip(tour: &mut ArrayTour, f: Flip) {
+    if tour.next(f.a) == f.b {
+        tour.reverse(f.b, f.a2, false); // a b .. a2 b2  ->  a a2 .. b b2
+    } else {
+        tour.reverse(f.a, f.b2, false); // b a .. b2 a2  ->  b b2 .. a a2
+    }
+}
+
+/// The flip of one LK level: removes `(t1, t2)` and `(t3, t4)`, adds `(t2, t3)` and `(t4, t1)`.
+/// Works in either orientation of the array.
+fn lk_flip(tour: &mut ArrayTour, t1: usize, t2: usize, t3: usize, t4: usize) -> Flip {
+    if tour.next(t1) == t2 {
+        flip(tour, t1, t4) // t1 t2 .. t4 t3  ->  t1 t4 .. t2 t3
+    } else {
+        flip(tour, t3, t2) // t3 t4 .. t2 t1  ->  t3 t2 .. t4 t1
+    }
+}
+
+/// What the log needs to take back a committed change.
+#[derive(Clone, Copy, Debug)]
+enum Undo {
+    Flip(Flip),
+    /// The segment `s1 ..= s2` had been between `p` and `nx` (in the order p s1 .. s2 nx).
+    OrOpt {
+        p: usize,
+        nx: usize,
+        s1: usize,
+        s2: usize,
+    },
+}
+
+/// Puts a segment that an Or-opt move took from between `p` and `nx` back there.
+fn undo_or_opt(tour: &mut ArrayTour, p: usize, nx: usize, s1: usize, s2: usize) {
+    // The segment is contiguous; find its length and which end comes first now (a later flip may
+    // have turned the array round).
+    let mut len = 1;
+    let mut v = s1;
+    let mut forward = s1 == s2;
+    while !forward && len < MAX_SEGMENT {
+        v = tour.next(v);
+        len += 1;
+        forward = v == s2;
+    }
+    let (first, len) = if forward {
+        (s1, len)
+    } else {
+        let mut len = 1;
+        let mut v = s1;
+        while v != s2 && len < MAX_SEGMENT {
+            v = tour.prev(v);
+            len += 1;
+        }
+        (s2, len)
+    };
+    let (target, want_first) = if tour.next(p) == nx {
+        (p, s1)
+    } else {
+        (nx, s2)
+    };
+    tour.move_segment(first, len, target);
+    if tour.next(target) != want_first {
+        let last = if first == s1 { s2 } else { s1 };
+        tour.reverse(first, last, true);
+    }
+}
+
+/// A double-bridge kick as applied, enough to take it back.
+#[derive(Clone, Copy, Debug)]
+pub struct Kick {
+    /// The node before the three segments.
+    pub v: usize,
+    /// The node after them.
+    pub w: usize,
+    /// Lengths of the segments as they were before the kick, in tour order after `v`.
+    pub lens: [usize; 3],
+    /// First node of the segment that now follows `v`.
+    pub first: usize,
+    /// The eight nodes whose tour edges changed.
+    pub ends: [usize; 8],
+    /// Change in tour length (positive: longer).
+    pub delta: i64,
+}
+
+/// Double bridge next to `v`: the three segments of `lens` nodes that follow `v`, `B C D`, are
+/// put in the order `D C B`, each keeping its direction, so four edges change and nothing is
+/// reversed (valid for asymmetric costs). Lengths below one count as one; when they do not
+/// leave at least one other node the tour is left alone (delta 0). Costs O(sum of `lens`).
+pub fn double_bridge<C: Cost + ?Sized>(
+    cost: &C,
+    tour: &mut ArrayTour,
+    v: usize,
+    lens: [usize; 3],
+) -> Kick {
+    let walk = |tour: &ArrayTour, mut x: usize, k: usize| {
+        for _ in 0..k {
+            x = tour.next(x);
+        }
+        x
+    };
+    let lens = lens.map(|l| l.max(1));
+    let b1 = tour.next(v);
+    if lens.iter().sum::<usize>() >= tour.len() {
+        return Kick {
+            v,
+            w: b1,
+            lens,
+            first: b1,
+            ends: [v; 8],
+            delta: 0,
+        };
+    }
+    let b2 = walk(tour, b1, lens[0] - 1);
+    let c1 = tour.next(b2);
+    let c2 = walk(tour, c1, lens[1] - 1);
+    let d1 = tour.next(c2);
+    let d2 = walk(tour, d1, lens[2] - 1);
+    let w = tour.next(d2);
+    let delta = cost.cost(v, d1) + cost.cost(d2, c1) + cost.cost(c2, b1) + cost.cost(b2, w)
+        - cost.cost(v, b1)
+        - cost.cost(b2, c1)
+        - cost.cost(c2, d1)
+        - cost.cost(d2, w);
+    // Reversing the whole window gives D' C' B'; reversing each piece back gives D C B.
+    tour.reverse(b1, d2, true);
+    tour.reverse(d2, d1, true);
+    tour.reverse(c2, c1, true);
+    tour.reverse(b2, b1, true);
+    Kick {
+        v,
+        w,
+        lens,
+        first: d1,
+        ends: [v, b1, b2, c1, c2, d1, d2, w],
+        delta,
+    }
+}
+
+/// Takes back a [`double_bridge`]; the tour must be the same cycle as right after it, in either
+/// orientation.
+pub fn undo_double_bridge<C: Cost + ?Sized>(cost: &C, tour: &mut ArrayTour, k: &Kick) {
+    let [b, c, d] = k.lens;
+    if tour.next(k.v) == k.first {
+        double_bridge(cost, tour, k.v, [d, c, b]);
+    } else {
+        // The array was turned round: from w the segments read B' C' D'.
+        double_bridge(cost, tour, k.w, [b, c, d]);
+    }
+}
+
+/// Lin–Kernighan-style local search over neighbour lists, with a queue of active nodes
+/// (don't-look bits) and an optional log of committed changes for undoing a rejected kick.
+///
+/// Buffers are kept between calls, so one value serves a whole iterated search.
+pub struct LinKernighan<'a, C: Cost + ?Sized> {
+    cost: &'a C,
+    nb: &'a Neighbours,
+    params: LkParams,
+    symmetric: bool,
+    /// `cost(i, nb.out(i)[j])` at `i * k + j`: most cost look-ups of a move are candidate
+    /// edges, and some cost oracles (GEO, closures) are slow.
+    nb_cost: Vec<i64>,
+    queue: VecDeque<usize>,
+    queued: Vec<bool>,
+    logging: bool,
+    log: Vec<Undo>,
+    // State of the move being built.
+    t1: usize,
+    chain: Vec<Flip>,
+    added: Vec<(usize, usize)>,
+    removed: Vec<(usize, usize)>,
+    best_gain: i64,
+    best_len: usize,
+    best_pending: Option<(usize, usize, usize)>,
+    cands: Vec<Vec<(i64, usize, usize)>>,
+}
+
+impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
+    /// A search over `cost` with candidate lists `nb`.
+    pub fn new(cost: &'a C, nb: &'a Neighbours, params: LkParams) -> Self {
+        let n = cost.len();
+        let depth = params.max_depth.max(1);
+        let nb_cost = (0..n)
+            .flat_map(|i| nb.out(i).iter().map(move |&j| cost.cost(i, j as usize)))
+            .collect();
+        LinKernighan {
+            cost,
+            nb,
+            params: LkParams {
+                max_depth: depth,
+                ..params
+            },
+            symmetric: cost.is_symmetric(),
+            nb_cost,
+            queue: VecDeque::new(),
+            queued: vec![false; n],
+            logging: false,
+            log: Vec::new(),
+            t1: 0,
+            chain: Vec::new(),
+            added: Vec::new(),
+            removed: Vec::new(),
+            best_gain: 0,
+            best_len: 0,
+            best_pending: None,
+            cands: vec![Vec::new(); depth],
+        }
+    }
+
+    /// Marks `v` active: the next [`LinKernighan::run`] tries moves from it.
+    pub fn activate(&mut self, v: usize) {
+        if !self.queued[v] {
+            self.queued[v] = true;
+            self.queue.push_back(v);
+        }
+    }
+
+    /// Takes `tour` to a local optimum from every node (in tour order), or until `should_stop`
+    /// says so (polled every few dozen nodes).
+    pub fn optimise(
+        &mut self,
+        tour: &mut ArrayTour,
+        should_stop: &mut dyn FnMut() -> bool,
+    ) -> ImproveStats {
+        for i in 0..tour.len() {
+            let v = tour.order()[i];
+            self.activate(v);
+        }
+        self.run(tour, should_stop)
+    }
+
+    /// Applies improving moves from the active nodes until none is active or `should_stop`
+    /// says so (polled every few dozen nodes).
+    pub fn run(
+        &mut self,
+        tour: &mut ArrayTour,
+        should_stop: &mut dyn FnMut() -> bool,
+    ) -> ImproveStats {
+        let mut stats = ImproveStats::default();
+        if tour.len() < 5 || self.nb.k() == 0 {
+            self.clear_queue();
+            return stats;
+        }
+        let mut polls = 0u32;
+        while let Some(a) = self.queue.pop_front() {
+            self.queued[a] = false;
+            polls += 1;
+            if polls.is_multiple_of(32) && should_stop() {
+                stats.interrupted = true;
+                break;
+            }
+            if let Some(gain) = self.improve_from(tour, a) {
+                stats.moves += 1;
+                stats.gain += gain;
+                self.activate(a);
+            }
+        }
+        stats
+    }
+
+    /// One improving move from `t1`, applied (its changed endpoints become active); its gain,
+    /// or `None` when no move starts at `t1`.
+    pub fn improve_from(&mut self, tour: &mut ArrayTour, t1: usize) -> Option<i64> {
+        if tour.len() < 5 || self.nb.k() == 0 {
+            return None;
+        }
+        if self.symmetric {
+            for t2 in [tour.next(t1), tour.prev(t1)] {
+                if let Some(g) = self.lk_move(tour, t1, t2) {
+                    return Some(g);
+                }
+            }
+        }
+        let (gain, touched) = try_or_opt(self.cost, self.nb, tour, t1, self.symmetric)?;
+        // Slots 0..4 are (p, nx, s1, s2): see `try_or_opt`.
+        if let [Some(p), Some(nx), Some(s1), Some(s2), ..] = touched {
+            if self.logging {
+                self.log.push(Undo::OrOpt { p, nx, s1, s2 });
+            }
+        }
+        for v in touched.into_iter().flatten() {
+            self.activate(v);
+        }
+        Some(gain)
+    }
+
+    /// Starts logging committed changes (clearing the log), for [`LinKernighan::undo_log`].
+    pub fn start_log(&mut self) {
+        self.logging = true;
+        self.log.clear();
+    }
+
+    /// Forgets the logged changes (they stay applied) and stops logging.
+    pub fn keep_log(&mut self) {
+        self.logging = false;
+        self.log.clear();
+    }
+
+    /// Takes back every change logged since [`LinKernighan::start_log`], newest first, and
+    /// stops logging.
+    pub fn undo_log(&mut self, tour: &mut ArrayTour) {
+        while let Some(u) = self.log.pop() {
+            match u {
+                Undo::Flip(f) => unflip(tour, f),
+                Undo::OrOpt { p, nx, s1, s2 } => undo_or_opt(tour, p, nx, s1, s2),
+            }
+        }
+        self.logging = false;
+    }
+
+    fn clear_queue(&mut self) {
+        while let Some(v) = self.queue.pop_front() {
+            self.queued[v] = false;
+        }
+    }
+
+    /// The best LK move that starts by removing `(t1, t2)`, applied if it gains.
+    fn lk_move(&mut self, tour: &mut ArrayTour, t1: usize, t2: usize) -> Option<i64> {
+        self.t1 = t1;
+        self.chain.clear();
+        self.added.clear();
+        self.removed.clear();
+        self.removed.push((t1, t2));
+        self.best_gain = 0;
+        self.best_len = 0;
+        self.best_pending = None;
+        let g = self.cost.cost(t1, t2);
+        if self.descend(tour, 0, t2, g) {
+            Some(self.commit(tour))
+        } else {
+            debug_assert!(self.chain.is_empty());
+            None
+        }
+    }
+
+    /// Level `level` of the chain: `chain` holds `level` applied flips, `t2` is the tour
+    /// neighbour of `t1` whose edge to it is the one to remove next, and `g` the gain so far
+    /// counting that edge as removed. True when a gaining move was found (and left for
+    /// [`Self::commit`]); false leaves the tour as it was on entry.
+    fn descend(&mut self, tour: &mut ArrayTour, level: usize, t2: usize, g: i64) -> bool {
+        let t1 = self.t1;
+        let fwd = tour.next(t1) == t2;
+        let mut cands = std::mem::take(&mut self.cands[level]);
+        cands.clear();
+        let k = self.nb.k();
+        for (j, &t3) in self.nb.out(t2).iter().enumerate() {
+            let t3 = t3 as usize;
+            let g1 = g - self.nb_cost[t2 * k + j];
+            if g1 <= 0 {
+                break; // sorted lists: no later candidate passes the gain criterion
+            }
+            if t3 == t1 {
+                continue;
+            }
+            // The neighbour of t3 on t2's side keeps one cycle; the other would split it.
+            let t4 = if fwd { tour.prev(t3) } else { tour.next(t3) };
+            if t4 == t2 {
+                continue; // (t2, t3) is already a tour edge
+            }
+            if self.removed.iter().any(|&e| same_edge(e, t2, t3))
+                || self.added.iter().any(|&e| same_edge(e, t3, t4))
+            {
+                continue;
+            }
+            let value = g1 + self.cost.cost(t3, t4);
+            let close = value - self.cost.cost(t4, t1);
+            if close > self.best_gain {
+                self.best_gain = close;
+                self.best_len = level;
+                self.best_pending = Some((t2, t3, t4));
+            }
+            cands.push((value, t3, t4));
+        }
+        let mut found = false;
+        if level + 1 < self.params.max_depth {
+            cands.sort_unstable_by(|x, y| y.0.cmp(&x.0).then(x.1.cmp(&y.1)));
+            let breadth = self.params.breadth.get(level).copied().unwrap_or(1);
+            for &(value, t3, t4) in cands.iter().take(breadth) {
+                if value <= self.nb_cost[t4 * k] {
+                    // Not even t4's nearest neighbour passes the gain criterion at the next
+                    // level: the flip would be applied only to be undone.
+                    continue;
+                }
+                let f = lk_flip(tour, t1, t2, t3, t4);
+                self.chain.push(f);
+                self.added.push((t2, t3));
+                self.removed.push((t3, t4));
+                if self.descend(tour, level + 1, t4, value) {
+                    found = true;
+                    break;
+                }
+                // A deeper level that returns false has seen no gain: safe to try the next.
+                self.chain.pop();
+                self.added.pop();
+                self.removed.pop();
+                unflip(tour, f);
+            }
+        }
+        self.cands[level] = cands;
+        found || self.best_gain > 0
+    }
+
+    /// Keeps the flips of the best closing found, activates their endpoints and returns the gain.
+    fn commit(&mut self, tour: &mut ArrayTour) -> i64 {
+        while self.chain.len() > self.best_len {
+            if let Some(f) = self.chain.pop() {
+                unflip(tour, f);
+            }
+        }
+        if let Some((t2, t3, t4)) = self.best_pending.take() {
+            let f = lk_flip(tour, self.t1, t2, t3, t4);
+            self.chain.push(f);
+        }
+        for i in 0..self.chain.len() {
+            let f = self.chain[i];
+            if self.logging {
+                self.log.push(Undo::Flip(f));
+            }
+            for v in [f.a, f.a2, f.b, f.b2] {
+                self.activate(v);
+            }
+        }
+        self.chain.clear();
+        self.best_gain
+    }
+}
+
+fn same_edge(e: (usize, usize), a: usize, b: usize) -> bool {
+    (e.0 == a && e.1 == b) || (e.0 == b && e.1 == a)
+}
+
+/// Takes `tour` to an LK local optimum with default parameters; the counterpart of
+/// [`crate::improve::two_opt_or_opt`].
+pub fn lin_kernighan<C: Cost + ?Sized>(
+    cost: &C,
+    nb: &Neighbours,
+    tour: &mut ArrayTour,
+    should_stop: &mut dyn FnMut() -> bool,
+) -> ImproveStats {
+    LinKernighan::new(cost, nb, LkParams::default()).optimise(tour, should_stop)
+}
+
+/// Longest kick segment for `n` nodes: `kick_segment`, but at most an eighth of the tour so that
+/// the three segments never wrap round.
+fn kick_segment(n: usize, cap: usize) -> usize {
+    cap.min(n / 8).max(1)
+}
+
+/// Smallest instance that gets kicks: three segments and the node before them must fit.
+const MIN_KICK_NODES: usize = 8;
+
+/// Minimum time between two reports to the observer, so that a long run on a large instance
+/// gives a readable anytime curve rather than one entry per accepted kick.
+const REPORT_INTERVAL: Duration = Duration::from_millis(10);
+
+/// Parameters of an iterated LK search.
+#[derive(Clone, Debug)]
+pub(crate) struct LkPlan {
+    pub seed: u64,
+    pub threads: usize,
+    /// Independent runs; `None`: one after another until the deadline.
+    pub runs: Option<usize>,
+    /// Kicks per run.
+    pub kicks: Option<u64>,
+    /// A run ends after this many kicks in a row without a shorter tour.
+    pub stall: Option<u64>,
+    /// Stop everything once a tour this short is found.
+    pub target: Option<i64>,
+    pub deadline: Option<Instant>,
+    pub stop: StopHandle,
+    pub params: LkParams,
+}
+
+pub(crate) struct LkOutcome {
+    pub order: Vec<usize>,
+    pub length: i64,
+    pub runs: usize,
+    pub kicks: u64,
+    pub stop_reason: StopReason,
+}
+
+/// Anytime reports, throttled to [`REPORT_INTERVAL`]; the last withheld one is sent at the end.
+struct Reporter<'o> {
+    began: Instant,
+    observer: &'o (dyn Fn(Improvement) + Sync),
+    state: Mutex<(i64, Option<Instant>, Option<Improvement>)>,
+}
+
+impl Reporter<'_> {
+    fn offer(&self, length: i64, run: usize) {
+        let mut s = self.state.lock().unwrap_or_else(|e| e.into_inner());
+        if length >= s.0 {
+            return;
+        }
+        s.0 = length;
+        let now = Instant::now();
+        let imp = Improvement {
+            seconds: now.duration_since(self.began).as_secs_f64(),
+            length,
+            restart: run,
+        };
+        if s.1.is_none_or(|t| now.duration_since(t) >= REPORT_INTERVAL) {
+            s.1 = Some(now);
+            s.2 = None;
+            (self.observer)(imp);
+        } else {
+            s.2 = Some(imp);
+        }
+    }
+
+    fn flush(&self) {
+        let mut s = self.state.lock().unwrap_or_else(|e| e.into_inner());
+        if let Some(imp) = s.2.take() {
+            (self.observer)(imp);
+        }
+    }
+}
+
+/// How one run ended.
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum RunEnd {
+    Kicks,
+    Stall,
+    Other,
+}
+
+/// Runs the iterated search and returns the best tour by (length, run index).
+pub(crate) fn iterated<C: Cost + ?Sized>(
+    cost: &C,
+    nb: &Neighbours,
+    plan: &LkPlan,
+    began: Instant,
+    observer: &(dyn Fn(Improvement) + Sync),
+) -> LkOutcome {
+    let n = cost.len();
+    let next = AtomicUsize::new(0);
+    let started = AtomicUsize::new(0);
+    let total_kicks = AtomicU64::new(0);
+    let timed_out = AtomicBool::new(false);
+    let target_hit = AtomicBool::new(false);
+    let stalled = AtomicBool::new(false);
+    let best: Mutex<Option<(i64, usize, Vec<usize>)>> = Mutex::new(None);
+    let reporter = Reporter {
+        began,
+        observer,
+        state: Mutex::new((i64::MAX, None, None)),
+    };
+    let over = || {
+        if plan.stop.is_stopped() || target_hit.load(Ordering::Relaxed) {
+            return true;
+        }
+        if plan.deadline.is_some_and(|d| Instant::now() >= d) {
+            timed_out.store(true, Ordering::Relaxed);
+            return true;
+        }
+        false
+    };
+    let reached = |length: i64| {
+        if plan.target.is_some_and(|t| length <= t) {
+            target_hit.store(true, Ordering::Relaxed);
+        }
+    };
+    let worker = || loop {
+        let r = next.fetch_add(1, Ordering::Relaxed);
+        if plan.runs.is_some_and(|m| r >= m) || (r > 0 && over()) {
+            break;
+        }
+        started.fetch_add(1, Ordering::Relaxed);
+        let mut rng = Pcg64::seed_from_u64(search::mix(plan.seed, r as u64));
+        let order = search::start_tour(cost, nb, Start::GreedyEdge, r, &mut rng);
+        let mut tour = ArrayTour::new(order);
+        let mut lk = LinKernighan::new(cost, nb, plan.params.clone());
+        // Run 0 always yields a tour, even when the deadline comes first.
+        lk.optimise(&mut tour, &mut || over());
+        let mut length = closed_length(cost, tour.order()).unwrap_or(i64::MAX);
+        reporter.offer(length, r);
+        reached(length);
+        let mut kicks = 0u64;
+        let mut since_better = 0u64;
+        let mut end = RunEnd::Other;
+        let seg = kick_segment(n, plan.params.kick_segment);
+        // An overflowing length cannot be updated by deltas; such a run keeps its local optimum.
+        while n >= MIN_KICK_NODES && length != i64::MAX {
+            if plan.kicks.is_some_and(|k| kicks >= k) {
+                end = RunEnd::Kicks;
+                break;
+            }
+            if plan.stall.is_some_and(|s| since_better >= s) {
+                end = RunEnd::Stall;
+                break;
+            }
+            if over() {
+                break;
+            }
+            let v = rng.gen_range(0..n);
+            let lens = [
+                rng.gen_range(1..=seg),
+                rng.gen_range(1..=seg),
+                rng.gen_range(1..=seg),
+            ];
+            let kick = double_bridge(cost, &mut tour, v, lens);
+            lk.start_log();
+            for v in kick.ends {
+                lk.activate(v);
+            }
+            let stats = lk.run(&mut tour, &mut || over());
+            let new_length = length + kick.delta - stats.gain;
+            kicks += 1;
+            if new_length <= length {
+                lk.keep_log();
+                if new_length < length {
+                    since_better = 0;
+                    length = new_length;
+                    reporter.offer(length, r);
+                    reached(length);
+                } else {
+                    since_better += 1;
+                }
+            } else {
+                lk.undo_log(&mut tour);
+                undo_double_bridge(cost, &mut tour, &kick);
+                since_better += 1;
+            }
+        }
+        if end == RunEnd::Stall {
+            stalled.store(true, Ordering::Relaxed);
+        }
+        total_kicks.fetch_add(kicks, Ordering::Relaxed);
+        let order = tour.into_order();
+        debug_assert_eq!(
+            closed_length(cost, &order).unwrap_or(i64::MAX),
+            length,
+            "incremental length drifted"
+        );
+        let mut guard = best.lock().unwrap_or_else(|e| e.into_inner());
+        if guard
+            .as_ref()
+            .is_none_or(|(l, i, _)| (length, r) < (*l, *i))
+        {
+            *guard = Some((length, r, order));
+        }
+    };
+    let threads = plan.threads.max(1);
+    if threads == 1 {
+        worker();
+    } else {
+        match rayon::ThreadPoolBuilder::new().num_threads(threads).build() {
+            Ok(pool) => {
+                pool.broadcast(|_| worker());
+            }
+            Err(_) => worker(),
+        }
+    }
+    reporter.flush();
+    let (length, _, order) = best
+        .into_inner()
+        .unwrap_or_else(|e| e.into_inner())
+        .unwrap_or((0, 0, (0..n).collect()));
+    let stop_reason = if plan.stop.is_stopped() {
+        StopReason::Cancelled
+    } else if target_hit.load(Ordering::Relaxed) {
+        StopReason::TargetReached
+    } else if timed_out.load(Ordering::Relaxed) {
+        StopReason::TimeLimit
+    } else if stalled.load(Ordering::Relaxed) {
+        StopReason::StallLimit
+    } else {
+        StopReason::KickBudget
+    };
+    LkOutcome {
+        order,
+        length,
+        runs: started.load(Ordering::Relaxed),
+        kicks: total_kicks.load(Ordering::Relaxed),
+        stop_reason,
+    }
+}
+
+/// Kicks per run when nothing else bounds a run (no time limit, no stall limit).
+pub fn default_kicks(n: usize) -> u64 {
+    n.clamp(1_000, 10_000) as u64
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::candidates::k_nearest;
+    use crate::cost::{CoordCost, MatrixCost, Metric};
+    use crate::tour::Tour;
+    use crate::Solver;
+    use proptest::prelude::*;
+    use rand::Rng;
+
+    /// Random integer costs: rounded Euclidean distances between random points, plus (when
+    /// `asym`) a direction-dependent term so that the matrix is not symmetric.
+    fn instance(n: usize, seed: u64, asym: bool) -> MatrixCost {
+        let mut rng = Pcg64::seed_from_u64(seed);
+        let pts: Vec<[f64; 2]> = (0..n)
+            .map(|_| [rng.gen_range(0.0..1000.0), rng.gen_range(0.0..1000.0)])
+            .collect();
+        let c = CoordCost::plane(Metric::Euc2d, &pts).unwrap();
+        let rows: Vec<Vec<i64>> = (0..n)
+            .map(|i| {
+                (0..n)
+                    .map(|j| {
+                        let extra = if asym && i != j {
+                            ((i * 7 + j * 13) % 17) as i64
+                        } else {
+                            0
+                        };
+                        c.cost(i, j) + extra
+                    })
+                    .collect()
+            })
+            .collect();
+        MatrixCost::from_rows(&rows).unwrap()
+    }
+
+    fn shuffled(n: usize, seed: u64) -> Vec<usize> {
+        let mut rng = Pcg64::seed_from_u64(seed ^ 0xABCD);
+        let mut v: Vec<usize> = (0..n).collect();
+        for i in (1..n).rev() {
+            v.swap(i, rng.gen_range(0..=i));
+        }
+        v
+    }
+
+    fn length(c: &MatrixCost, t: &ArrayTour) -> i64 {
+        closed_length(c, t.order()).unwrap()
+    }
+
+    /// The tour's edges as a sorted list, undirected when `undirected`.
+    fn edges(t: &ArrayTour, undirected: bool) -> Vec<(usize, usize)> {
+        let o = t.order();
+        let mut e: Vec<(usize, usize)> = (0..o.len())
+            .map(|i| {
+                let (a, b) = (o[i], o[(i + 1) % o.len()]);
+                if undirected {
+                    (a.min(b), a.max(b))
+                } else {
+                    (a, b)
+                }
+            })
+            .collect();
+        e.sort_unstable();
+        e
+    }
+
+    /// Best gain of any 2-opt move, by trying all pairs of tour edges.
+    fn best_two_opt_gain(c: &MatrixCost, order: &[usize]) -> i64 {
+        let n = order.len();
+        let mut best = 0;
+        for i in 0..n {
+            for j in i + 2..n {
+                if i == 0 && j == n - 1 {
+                    continue; // the two edges share node order[0]
+                }
+                let (a, b) = (order[i], order[i + 1]);
+                let (x, y) = (order[j], order[(j + 1) % n]);
+                best = best.max(c.cost(a, b) + c.cost(x, y) - c.cost(a, x) - c.cost(b, y));
+            }
+        }
+        best
+    }
+
+    #[test]
+    fn double_bridge_reorders_three_segments_keeping_direction() {
+        let c = instance(12, 1, true);
+        let mut t = ArrayTour::new((0..12).collect());
+        let k = double_bridge(&c, &mut t, 1, [2, 3, 1]);
+        // 0 1 [2 3] [4 5 6] [7] 8 ..  ->  0 1 [7] [4 5 6] [2 3] 8 ..
+        assert_eq!(t.order(), &[0, 1, 7, 4, 5, 6, 2, 3, 8, 9, 10, 11]);
+        assert_eq!(k.ends, [1, 2, 3, 4, 6, 7, 7, 8]);
+        undo_double_bridge(&c, &mut t, &k);
+        assert_eq!(t.order(), &(0..12).collect::<Vec<_>>()[..]);
+    }
+
+    /// The same cycle, read the other way round.
+    fn turned(t: &ArrayTour) -> ArrayTour {
+        ArrayTour::new(t.order().iter().rev().copied().collect())
+    }
+
+    // Undoing works whichever way the array reads: a later flip may have turned it round.
+    #[test]
+    fn undo_is_orientation_free() {
+        let n = 20;
+        let c = instance(n, 2, false);
+        let start = ArrayTour::new((0..n).collect());
+        let original = edges(&start, true);
+        for turn in [false, true] {
+            let mut t = start.clone();
+            let k = double_bridge(&c, &mut t, 17, [2, 3, 4]); // wraps past the array's end
+            if turn {
+                t = turned(&t);
+            }
+            undo_double_bridge(&c, &mut t, &k);
+            assert_eq!(edges(&t, true), original, "kick, turned: {turn}");
+
+            let mut t = start.clone();
+            let f = flip(&mut t, 3, 12);
+            assert_ne!(edges(&t, true), original);
+            if turn {
+                t = turned(&t);
+            }
+            unflip(&mut t, f);
+            assert_eq!(edges(&t, true), original, "flip, turned: {turn}");
+
+            for reversed in [false, true] {
+                // Segment 5 6 7 (between 4 and 8) moved to between 14 and 15.
+                let mut t = start.clone();
+                t.move_segment(5, 3, 14);
+                if reversed {
+                    t.reverse(5, 7, true);
+                }
+                if turn {
+                    t = turned(&t);
+                }
+                undo_or_opt(&mut t, 4, 8, 5, 7);
+                assert_eq!(
+                    edges(&t, true),
+                    original,
+                    "or-opt {reversed}, turned: {turn}"
+                );
+            }
+        }
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(64))]
+
+        // Each single LK step (or Or-opt fallback) keeps a permutation and reports exactly the
+        // change in length that a full recomputation sees.
+        #[test]
+        fn each_step_gain_is_the_length_change(n in 8usize..80, seed in 0u64..10_000, asym in any::<bool>(), k in 3usize..10) {
+            let c = instance(n, seed, asym);
+            let nb = k_nearest(&c, k);
+            let mut t = ArrayTour::new(shuffled(n, seed));
+            let mut lk = LinKernighan::new(&c, &nb, LkParams::default());
+            for round in 0..3 {
+                for i in 0..n {
+                    let v = (i * 7 + round) % n;
+                    let before = length(&c, &t);
+                    let g = lk.improve_from(&mut t, v);
+                    prop_assert!(Tour::new(t.order().to_vec(), n).is_ok());
+                    let after = length(&c, &t);
+                    prop_assert_eq!(before - after, g.unwrap_or(0));
+                    if let Some(g) = g { prop_assert!(g > 0); }
+                }
+            }
+        }
+
+        // A kick's delta is exact, and undoing the local search and then the kick from the log
+        // gives back the same cycle (the same directed cycle for asymmetric costs).
+        #[test]
+        fn kick_and_repair_undo_exactly(n in 8usize..80, seed in 0u64..10_000, asym in any::<bool>(), v in 0usize..80, l in (1usize..10, 1usize..10, 1usize..10)) {
+            let c = instance(n, seed, asym);
+            let nb = k_nearest(&c, 6);
+            let mut t = ArrayTour::new(shuffled(n, seed));
+            let mut lk = LinKernighan::new(&c, &nb, LkParams::default());
+            lk.optimise(&mut t, &mut || false);
+            let seg = kick_segment(n, 50);
+            let lens = [1 + (l.0 - 1) % seg, 1 + (l.1 - 1) % seg, 1 + (l.2 - 1) % seg];
+            let before_edges = edges(&t, !asym);
+            let before_order = t.order().to_vec();
+            let before = length(&c, &t);
+            let kick = double_bridge(&c, &mut t, v % n, lens);
+            prop_assert!(Tour::new(t.order().to_vec(), n).is_ok());
+            prop_assert_eq!(length(&c, &t) - before, kick.delta);
+            // Four arcs change (a kick never turns the array round); with symmetric costs and
+            // one-node segments some of them are old edges walked the other way.
+            let before_arcs = edges(&ArrayTour::new(before_order.clone()), false);
+            let mut changed: Vec<(usize, usize)> = edges(&t, false);
+            changed.retain(|e| !before_arcs.contains(e));
+            prop_assert_eq!(changed.len(), 4, "a double bridge changes four arcs");
+            lk.start_log();
+            for e in kick.ends { lk.activate(e); }
+            let stats = lk.run(&mut t, &mut || false);
+            prop_assert!(Tour::new(t.order().to_vec(), n).is_ok());
+            prop_assert_eq!(length(&c, &t), before + kick.delta - stats.gain);
+            lk.undo_log(&mut t);
+            undo_double_bridge(&c, &mut t, &kick);
+            prop_assert_eq!(edges(&t, !asym), before_edges);
+        }
+
+        // With complete candidate lists, a tour where LK finds nothing from any node admits no
+        // improving 2-opt move at all (checked by trying every pair of edges).
+        #[test]
+        fn lk_optimum_is_two_opt_optimal(n in 8usize..60, seed in 0u64..10_000) {
+            let c = instance(n, seed, false);
+            let nb = k_nearest(&c, n - 1);
+            let mut t = ArrayTour::new(shuffled(n, seed));
+            let mut lk = LinKernighan::new(&c, &nb, LkParams::default());
+            while lk.optimise(&mut t, &mut || false).moves > 0 {}
+            prop_assert_eq!(best_two_opt_gain(&c, t.order()), 0);
+        }
+    }
+
+    #[test]
+    fn same_seed_and_kicks_give_the_same_tour_for_any_thread_count() {
+        let c = instance(150, 9, false);
+        let run = |threads| {
+            Solver::new(&c)
+                .method(crate::Method::Lk)
+                .seed(4)
+                .restarts(3)
+                .kicks(300)
+                .threads(threads)
+                .solve()
+                .unwrap()
+        };
+        let (a, b) = (run(1), run(2));
+        assert_eq!(a.tour, b.tour);
+        assert_eq!(a.length, b.length);
+        assert_eq!(a.kicks, 900);
+        assert_eq!(a.stop_reason, StopReason::KickBudget);
+        let asym = instance(60, 9, true);
+        let run = |threads| {
+            Solver::new(&asym)
+                .seed(4)
+                .kicks(200)
+                .threads(threads)
+                .solve()
+                .unwrap()
+                .tour
+        };
+        assert_eq!(run(1), run(2));
+    }
+
+    #[test]
+    fn stops_on_stall_target_and_stop_handle() {
+        let c = instance(120, 5, false);
+        let s = Solver::new(&c).seed(1).stall_limit(20).solve().unwrap();
+        assert_eq!(s.stop_reason, StopReason::StallLimit);
+        // A target every tour meets ends the search after the first local optimum.
+        let s = Solver::new(&c)
+            .seed(1)
+            .target_length(i64::MAX)
+            .time_limit(Duration::from_secs(30))
+            .solve()
+            .unwrap();
+        assert_eq!(s.stop_reason, StopReason::TargetReached);
+        assert!(s.seconds < 5.0);
+        let stop = StopHandle::new();
+        stop.stop();
+        let s = Solver::new(&c)
+            .time_limit(Duration::from_secs(30))
+            .stop_handle(stop)
+            .solve()
+            .unwrap();
+        assert_eq!(s.stop_reason, StopReason::Cancelled);
+        assert!(Tour::new(s.tour.order().to_vec(), 120).is_ok());
+    }
+
+    #[test]
+    fn time_limit_is_honoured_within_a_few_milliseconds() {
+        let c = instance(2000, 3, false);
+        let limit = Duration::from_millis(300);
+        let s = Solver::new(&c)
+            .time_limit(limit)
+            .threads(2)
+            .solve()
+            .unwrap();
+        assert_eq!(s.stop_reason, StopReason::TimeLimit);
+        assert!(s.seconds < 0.3 + 0.2, "took {} s", s.seconds);
+        // The trace is the anytime curve: strictly decreasing, ending at the answer.
+        assert!(s.trace.windows(2).all(|w| w[1].length < w[0].length));
+        assert_eq!(s.trace.last().map(|i| i.length), Some(s.length));
+    }
+}

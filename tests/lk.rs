@@ -1,0 +1,86 @@
+//! Method `lk` on the TSPLIB instances in `instances/`, against published optima.
+//!
+//! Optimal lengths: TSPLIB 95 list of optimal solutions (Reinelt), as copied into
+//! `instances/optima.txt`; berlin52 7542, kroA100 21282 and ch150 6528 are from that list.
+
+use std::collections::BTreeMap;
+use wend::{Method, Solver, StopReason, Tour};
+use wend_bench::tsplib::{parse_optima, read_instance};
+use wend_tests::{all_instances, instance, instances_dir};
+
+fn optima() -> BTreeMap<String, i64> {
+    let path = instances_dir().join("optima.txt");
+    let text = std::fs::read_to_string(&path).unwrap();
+    parse_optima(&text, "optima.txt").unwrap()
+}
+
+// With a kick budget (no time limit, so the run is the same on any machine) `lk` finds the
+// published optimum of these three instances.
+#[test]
+fn reaches_the_published_optimum() {
+    for (name, opt) in [
+        ("berlin52.tsp", 7542),
+        ("kroA100.tsp", 21282),
+        ("ch150.tsp", 6528),
+    ] {
+        let inst = read_instance(&instance(name)).unwrap();
+        let sol = Solver::new(inst.cost())
+            .method(Method::Lk)
+            .seed(1)
+            .restarts(2)
+            .kicks(2_000)
+            .threads(2)
+            .solve()
+            .unwrap();
+        assert_eq!(sol.stop_reason, StopReason::KickBudget);
+        assert_eq!(sol.length, opt, "{name}");
+    }
+}
+
+// Never shorter than the optimum (that would be a cost or bookkeeping bug), and the reported
+// length is the recomputed length of a real permutation.
+#[test]
+fn never_below_the_optimum_on_any_instance() {
+    let optima = optima();
+    let files = all_instances();
+    assert!(files.len() >= 20, "instances/ should hold the test set");
+    for path in files {
+        let inst = read_instance(&path).unwrap();
+        let sol = Solver::new(inst.cost())
+            .method(Method::Lk)
+            .seed(7)
+            .restarts(2)
+            .kicks(300)
+            .threads(2)
+            .solve()
+            .unwrap();
+        let stem = path.file_stem().unwrap().to_str().unwrap();
+        let opt = optima[stem];
+        let tour = Tour::new(sol.tour.order().to_vec(), inst.dimension).expect("a permutation");
+        assert_eq!(tour.length(inst.cost()).unwrap(), sol.length, "{stem}");
+        assert!(
+            sol.length >= opt,
+            "{stem}: {} below the optimum {opt}",
+            sol.length
+        );
+    }
+}
+
+// Same seed and kick budget: the same tour with one thread or two.
+#[test]
+fn same_tour_for_one_and_two_threads() {
+    let inst = read_instance(&instance("a280.tsp")).unwrap();
+    let run = |threads| {
+        Solver::new(inst.cost())
+            .method(Method::Lk)
+            .seed(5)
+            .restarts(3)
+            .kicks(500)
+            .threads(threads)
+            .solve()
+            .unwrap()
+    };
+    let (a, b) = (run(1), run(2));
+    assert_eq!(a.tour, b.tour);
+    assert!(a.length >= 2579); // a280 optimum, TSPLIB 95 list
+}
