@@ -170,16 +170,21 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
         a.min_nodes.or(suite.min_nodes),
         a.max_nodes.or(suite.max_nodes),
     );
-    if min_nodes.is_some() || max_nodes.is_some() {
-        let mut kept = Vec::new();
-        for f in files {
-            let n = read_instance(&f)?.dimension;
-            if min_nodes.is_none_or(|m| n >= m) && max_nodes.is_none_or(|m| n <= m) {
-                kept.push(f);
+    // Every file is read once up front: a file that cannot be solved (a refused section, a
+    // syntax error) is reported and left out, instead of stopping the sweep halfway.
+    let mut kept = Vec::new();
+    for f in files {
+        match read_instance(&f) {
+            Ok(inst) => {
+                let n = inst.dimension;
+                if min_nodes.is_none_or(|m| n >= m) && max_nodes.is_none_or(|m| n <= m) {
+                    kept.push(f);
+                }
             }
+            Err(e) => eprintln!("wend: skipped: {e}"),
         }
-        files = kept;
     }
+    let files = kept;
     if files.is_empty() {
         return Err(CliError::Input("no instance files left to run".into()));
     }
