@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # Every TSPLIB symmetric instance of ../shared with 100-1000 nodes, one run each with
 # `wend solve --time-limit T`, gap to the published optimum, and the mean gap.
-# Usage: bench-harness/scripts/foundation-sweep.sh [SECONDS] [SEED]   (from the repository root)
+# Usage: [METHOD=2opt] bench-harness/scripts/foundation-sweep.sh [SECONDS] [SEED]   (from the repository root)
 set -euo pipefail
 limit=${1:-2}
 seed=${2:-0}
@@ -13,7 +13,7 @@ out=$(mktemp)
 for f in "$shared"/tsp/*.tsp; do
   n=$(grep -m1 -E '^DIMENSION' "$f" | tr -dc '0-9')
   if [ "$n" -ge 100 ] && [ "$n" -le 1000 ]; then
-    if "$wend" solve "$f" --time-limit "$limit" --seed "$seed" --json --tour-out "$out.tour" 2>"$out.err"; then
+    if "$wend" solve "$f" --method "${METHOD:-2opt}" --time-limit "$limit" --seed "$seed" --json --tour-out "$out.tour" 2>"$out.err"; then
       # The tour written must be valid and have the reported length.
       "$wend" measure "$f" "$out.tour" --json | sed 's/^/#measure /'
     else
