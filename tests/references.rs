@@ -2,7 +2,7 @@
 
 use std::collections::BTreeMap;
 use std::time::Duration;
-use wend::{Cost, Solver, Tour};
+use wend::{Cost, Method, Solver, Tour};
 use wend_bench::tsplib::{parse_optima, read_instance, read_tour};
 use wend_tests::{all_instances, instance, instances_dir};
 
@@ -59,7 +59,9 @@ fn solver_never_beats_the_published_optimum() {
     assert!(files.len() >= 20, "instances/ should hold the test set");
     for path in files {
         let inst = read_instance(&path).unwrap();
+        // The baseline method; tests/lk.rs holds the same check for `lk`.
         let sol = Solver::new(inst.cost())
+            .method(Method::TwoOpt)
             .seed(3)
             .restarts(4)
             .threads(2)

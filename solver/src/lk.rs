@@ -743,17 +743,7 @@ pub(crate) fn iterated<C: Cost + ?Sized>(
             *guard = Some((length, r, order));
         }
     };
-    let threads = plan.threads.max(1);
-    if threads == 1 {
-        worker();
-    } else {
-        match rayon::ThreadPoolBuilder::new().num_threads(threads).build() {
-            Ok(pool) => {
-                pool.broadcast(|_| worker());
-            }
-            Err(_) => worker(),
-        }
-    }
+    search::on_threads(plan.threads, &worker);
     reporter.flush();
     let (length, _, order) = best
         .into_inner()

@@ -161,17 +161,7 @@ pub(crate) fn restarts<C: Cost + ?Sized>(
             }
         }
     };
-    let threads = plan.threads.max(1);
-    if threads == 1 {
-        worker();
-    } else {
-        match rayon::ThreadPoolBuilder::new().num_threads(threads).build() {
-            Ok(pool) => {
-                pool.broadcast(|_| worker());
-            }
-            Err(_) => worker(),
-        }
-    }
+    on_threads(plan.threads, &worker);
     let (length, _, order) = best
         .into_inner()
         .unwrap_or_else(|e| e.into_inner())
@@ -188,6 +178,22 @@ pub(crate) fn restarts<C: Cost + ?Sized>(
         length,
         restarts: done.load(Ordering::Relaxed),
         stop_reason,
+    }
+}
+
+/// Runs `worker` once on each of `threads` threads (on this thread alone when `threads <= 1` or
+/// no pool can be built); workers share their work through atomics, so how many run only
+/// changes the speed.
+pub(crate) fn on_threads(threads: usize, worker: &(dyn Fn() + Sync)) {
+    if threads <= 1 {
+        worker();
+        return;
+    }
+    match rayon::ThreadPoolBuilder::new().num_threads(threads).build() {
+        Ok(pool) => {
+            pool.broadcast(|_| worker());
+        }
+        Err(_) => worker(),
     }
 }
 
