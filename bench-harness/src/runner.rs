@@ -37,6 +37,9 @@ pub struct SweepPlan {
     pub shard: Option<(usize, usize)>,
     /// Known optimal lengths by instance name.
     pub optima: BTreeMap<String, i64>,
+    /// End a run as soon as it reaches the instance's known optimum (nothing shorter exists,
+    /// so the result is the same; the sweep just finishes sooner).
+    pub stop_at_optimum: bool,
     /// Output folder.
     pub out: PathBuf,
 }
@@ -252,6 +255,11 @@ fn run_one(
     if let Some(k) = plan.kicks {
         solver = solver.kicks(k);
     }
+    if plan.stop_at_optimum {
+        if let Some(&o) = plan.optima.get(&spec.instance) {
+            solver = solver.target_length(o);
+        }
+    }
     let sol = solver.solve().map_err(|e| SweepError::Solve {
         file: spec.file.display().to_string(),
         message: e.to_string(),
@@ -329,6 +337,7 @@ mod tests {
             jobs: 1,
             shard,
             optima: BTreeMap::new(),
+            stop_at_optimum: false,
             out: "out".into(),
         }
     }

@@ -160,3 +160,30 @@ fn list_methods_names_the_default() {
         assert!(out.lines().any(|l| l.starts_with(name)), "{out}");
     }
 }
+
+#[test]
+fn both_candidate_sources_reach_the_published_optimum_of_berlin52() {
+    // Optimum 7542 from TSPLIB 95's list of optimal tour lengths.
+    let file = instances().join("berlin52.tsp").display().to_string();
+    for source in ["nearest", "quadrant"] {
+        let o = wend(&[
+            "solve",
+            &file,
+            "--candidates",
+            source,
+            "--json",
+            "--kicks",
+            "2000",
+        ]);
+        assert!(o.status.success(), "{}", stderr(&o));
+        let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+        assert_eq!(v["length"], 7542, "{source}");
+    }
+    let o = wend(&["solve", &file, "--candidates", "closest"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        stderr(&o).contains("unknown candidate source"),
+        "{}",
+        stderr(&o)
+    );
+}

@@ -47,6 +47,7 @@ pub mod search;
 pub mod solver;
 pub mod tour;
 
+pub use candidates::CandidateSource;
 pub use cost::{CoordCost, Cost, CostError, FnCost, Geometry, MatrixCost, Metric};
 pub use search::{Improvement, StopHandle, StopReason};
 pub use solver::{Method, Solution, SolveError, Solver};

@@ -780,7 +780,7 @@ mod tests {
     use crate::candidates::k_nearest;
     use crate::cost::{CoordCost, MatrixCost, Metric};
     use crate::tour::Tour;
-    use crate::Solver;
+    use crate::{Method, Solver};
     use proptest::prelude::*;
     use rand::Rng;
 
@@ -1033,6 +1033,16 @@ mod tests {
             .unwrap();
         assert_eq!(s.stop_reason, StopReason::TargetReached);
         assert!(s.seconds < 5.0);
+        // The 2-opt baseline honours the target too: one restart per thread at most.
+        let s = Solver::new(&c)
+            .method(Method::TwoOpt)
+            .threads(1)
+            .target_length(i64::MAX)
+            .time_limit(Duration::from_secs(30))
+            .solve()
+            .unwrap();
+        assert_eq!(s.stop_reason, StopReason::TargetReached);
+        assert_eq!(s.restarts, 1);
         let stop = StopHandle::new();
         stop.stop();
         let s = Solver::new(&c)

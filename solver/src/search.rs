@@ -62,6 +62,7 @@ pub(crate) struct RestartPlan {
     pub deadline: Option<Instant>,
     pub start: Start,
     pub improve: bool,
+    pub target: Option<i64>,
     pub stop: StopHandle,
 }
 
@@ -116,10 +117,11 @@ pub(crate) fn restarts<C: Cost + ?Sized>(
     let next = AtomicUsize::new(0);
     let done = AtomicUsize::new(0);
     let timed_out = AtomicBool::new(false);
+    let target_hit = AtomicBool::new(false);
     // (length, restart index, order): compared by (length, index) for a thread-independent answer.
     let best: Mutex<Option<(i64, usize, Vec<usize>)>> = Mutex::new(None);
     let over = || {
-        if plan.stop.is_stopped() {
+        if plan.stop.is_stopped() || target_hit.load(Ordering::Relaxed) {
             return true;
         }
         if plan.deadline.is_some_and(|d| Instant::now() >= d) {
@@ -144,6 +146,9 @@ pub(crate) fn restarts<C: Cost + ?Sized>(
         let order = tour.into_order();
         let length = closed_length(cost, &order).unwrap_or(i64::MAX);
         done.fetch_add(1, Ordering::Relaxed);
+        if plan.target.is_some_and(|t| length <= t) {
+            target_hit.store(true, Ordering::Relaxed);
+        }
         let mut guard = best.lock().unwrap_or_else(|e| e.into_inner());
         let better = match &*guard {
             None => true,
@@ -168,6 +173,8 @@ pub(crate) fn restarts<C: Cost + ?Sized>(
         .unwrap_or((0, 0, (0..cost.len()).collect()));
     let stop_reason = if plan.stop.is_stopped() {
         StopReason::Cancelled
+    } else if target_hit.load(Ordering::Relaxed) {
+        StopReason::TargetReached
     } else if timed_out.load(Ordering::Relaxed) {
         StopReason::TimeLimit
     } else {

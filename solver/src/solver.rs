@@ -1,6 +1,6 @@
 //! The embedding API: a builder that takes costs and options and returns a [`Solution`].
 
-use crate::candidates::k_nearest;
+use crate::candidates::{candidates, CandidateSource};
 use crate::construct;
 use crate::cost::{Cost, CostError, FnCost, MatrixCost};
 use crate::exact;
@@ -137,6 +137,7 @@ pub struct Solver<C> {
     target_length: Option<i64>,
     method: Method,
     neighbours: usize,
+    candidates: CandidateSource,
     stop: StopHandle,
     observer: Option<Observer>,
 }
@@ -165,6 +166,7 @@ impl<C: Cost> Solver<C> {
             target_length: None,
             method: Method::Lk,
             neighbours: DEFAULT_NEIGHBOURS,
+            candidates: CandidateSource::default(),
             stop: StopHandle::new(),
             observer: None,
         }
@@ -213,7 +215,7 @@ impl<C: Cost> Solver<C> {
         self
     }
 
-    /// Stops `lk` as soon as a tour of at most this length is found (for example a known
+    /// Stops `lk` and `2opt` as soon as a tour of at most this length is found (for example a known
     /// optimum). Which tour is returned then depends on thread timing.
     pub fn target_length(mut self, length: i64) -> Self {
         self.target_length = Some(length);
@@ -229,6 +231,13 @@ impl<C: Cost> Solver<C> {
     /// Width of the neighbour lists the moves look at.
     pub fn neighbours(mut self, k: usize) -> Self {
         self.neighbours = k.max(1);
+        self
+    }
+
+    /// Where the neighbour lists come from (quadrant lists by default, which help on clustered
+    /// instances; nearest lists are the plain alternative).
+    pub fn candidates(mut self, source: CandidateSource) -> Self {
+        self.candidates = source;
         self
     }
 
@@ -296,7 +305,7 @@ impl<C: Cost> Solver<C> {
             return finish(order, 1, 0, StopReason::Exhaustive, &trace);
         }
 
-        let nb = k_nearest(cost, self.neighbours);
+        let nb = candidates(cost, self.neighbours, self.candidates);
         let threads = self.threads.unwrap_or_else(|| {
             std::thread::available_parallelism()
                 .map(|t| t.get())
@@ -367,6 +376,7 @@ impl<C: Cost> Solver<C> {
             deadline: search::deadline(began, self.time_limit),
             start,
             improve: true,
+            target: self.target_length,
             stop: self.stop.clone(),
         };
         let out = search::restarts(cost, &nb, &plan, began, &observe);

@@ -6,7 +6,7 @@ use serde_json::json;
 use std::io::IsTerminal;
 use std::path::PathBuf;
 use std::time::Duration;
-use wend::{Method, Solver};
+use wend::{CandidateSource, Method, Solver};
 
 #[derive(Args, Debug)]
 pub struct SolveArgs {
@@ -43,6 +43,10 @@ pub struct SolveArgs {
     /// Width of the neighbour lists the moves look at.
     #[arg(long, default_value_t = wend::solver::DEFAULT_NEIGHBOURS)]
     neighbours: usize,
+    /// Where the neighbour lists come from: quadrant (the nearest few in each quadrant around a
+    /// node, topped up with the nearest; helps on clustered instances) or nearest.
+    #[arg(long, default_value = "quadrant", value_name = "SOURCE")]
+    candidates: String,
     /// Write the tour to this file in TSPLIB TOUR format.
     #[arg(long, value_name = "FILE")]
     tour_out: Option<PathBuf>,
@@ -78,6 +82,14 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
         Some(t) => Some(Duration::from_secs_f64(t.min(1.0e9))),
         None => None,
     };
+    let candidates = CandidateSource::from_name(&a.candidates).ok_or_else(|| {
+        let names: Vec<&str> = CandidateSource::ALL.iter().map(|s| s.name()).collect();
+        CliError::Input(format!(
+            "unknown candidate source {:?}; choose one of: {}",
+            a.candidates,
+            names.join(", ")
+        ))
+    })?;
     if a.threads == Some(0) {
         return Err(CliError::Input("--threads must be at least 1".into()));
     }
@@ -87,7 +99,8 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
     let mut solver = Solver::new(inst.cost())
         .seed(a.seed)
         .method(method)
-        .neighbours(a.neighbours);
+        .neighbours(a.neighbours)
+        .candidates(candidates);
     if let Some(l) = limit {
         solver = solver.time_limit(l);
     }
