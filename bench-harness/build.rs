@@ -10,7 +10,22 @@ fn main() {
         .and_then(|o| String::from_utf8(o.stdout).ok())
         .map(|s| s.trim().to_string())
         .unwrap_or_else(|| "unknown".into());
+    // A build from a tree with uncommitted changes says so.
+    let dirty = Command::new("git")
+        .args(["status", "--porcelain", "--untracked-files=no"])
+        .output()
+        .ok()
+        .filter(|o| o.status.success())
+        .is_some_and(|o| !o.stdout.is_empty());
+    let commit = if dirty && commit != "unknown" {
+        format!("{commit}-dirty")
+    } else {
+        commit
+    };
     println!("cargo:rustc-env=WEND_GIT_COMMIT={commit}");
+    println!("cargo:rerun-if-changed=../.git/index");
+    println!("cargo:rerun-if-changed=src");
+    println!("cargo:rerun-if-changed=../solver/src");
     println!("cargo:rerun-if-changed=../.git/HEAD");
     println!("cargo:rerun-if-changed=../.git/refs/heads");
 }

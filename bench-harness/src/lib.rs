@@ -1,5 +1,6 @@
 //! Benchmark harness for `wend`: TSPLIB 95 files in and out, sweeps and reports.
 
+pub mod generate;
 pub mod record;
 pub mod report;
 pub mod runner;

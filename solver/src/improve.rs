@@ -7,135 +7,12 @@
 
 use crate::candidates::Neighbours;
 use crate::cost::Cost;
+pub use crate::tour::ArrayTour;
+use crate::tour::TourRepr;
 use std::collections::VecDeque;
 
 /// Longest segment an Or-opt move relocates.
 pub const MAX_SEGMENT: usize = 3;
-
-/// A tour as an array plus the position of each node, so that successor, predecessor and
-/// "is between" are O(1) and a reversal costs the length of the shorter side.
-#[derive(Clone, Debug)]
-pub struct ArrayTour {
-    order: Vec<usize>,
-    pos: Vec<usize>,
-}
-
-impl ArrayTour {
-    /// Wraps a visiting order (a permutation of `0..order.len()`).
-    pub fn new(order: Vec<usize>) -> Self {
-        let mut pos = vec![0; order.len()];
-        for (p, &v) in order.iter().enumerate() {
-            pos[v] = p;
-        }
-        ArrayTour { order, pos }
-    }
-
-    /// Number of nodes.
-    pub fn len(&self) -> usize {
-        self.order.len()
-    }
-
-    /// True when there are no nodes.
-    pub fn is_empty(&self) -> bool {
-        self.order.is_empty()
-    }
-
-    /// The visiting order.
-    pub fn order(&self) -> &[usize] {
-        &self.order
-    }
-
-    /// The visiting order, consumed.
-    pub fn into_order(self) -> Vec<usize> {
-        self.order
-    }
-
-    /// Node after `v`.
-    #[inline]
-    pub fn next(&self, v: usize) -> usize {
-        let p = self.pos[v] + 1;
-        self.order[if p == self.order.len() { 0 } else { p }]
-    }
-
-    /// Node before `v`.
-    #[inline]
-    pub fn prev(&self, v: usize) -> usize {
-        let p = self.pos[v];
-        self.order[if p == 0 { self.order.len() - 1 } else { p - 1 }]
-    }
-
-    /// Number of steps forward from `a` to `b`.
-    #[inline]
-    fn steps(&self, a: usize, b: usize) -> usize {
-        let n = self.order.len();
-        (self.pos[b] + n - self.pos[a]) % n
-    }
-
-    /// Reverses the path `from ..= to` (walking forward). For symmetric costs reversing the
-    /// complementary path gives the same cycle, and is done when it is shorter; `keep_direction`
-    /// forbids that, because it would reverse the orientation of everything else.
-    pub fn reverse(&mut self, from: usize, to: usize, keep_direction: bool) {
-        let n = self.order.len();
-        let len = self.steps(from, to) + 1;
-        let (mut i, mut j, len) = if !keep_direction && 2 * len > n {
-            (self.pos[to] + 1, self.pos[from] + n - 1, n - len)
-        } else {
-            (self.pos[from], self.pos[from] + len - 1, len)
-        };
-        for _ in 0..len / 2 {
-            let (a, b) = (i % n, j % n);
-            self.order.swap(a, b);
-            self.pos[self.order[a]] = a;
-            self.pos[self.order[b]] = b;
-            i += 1;
-            j += n - 1;
-        }
-    }
-
-    /// Moves the segment of `len` nodes starting at `s1` (walking forward) to between `c` and
-    /// its successor, keeping the segment's direction. `c` must not be in the segment and must not
-    /// be the segment's predecessor. Shifts whichever side of the tour is shorter.
-    pub fn move_segment(&mut self, s1: usize, len: usize, c: usize) {
-        let n = self.order.len();
-        let i = self.pos[s1];
-        let mut seg = [0usize; MAX_SEGMENT];
-        for (t, slot) in seg.iter_mut().enumerate().take(len) {
-            *slot = self.order[(i + t) % n];
-        }
-        // Nodes strictly after the segment up to and including c.
-        let ahead = (self.pos[c] + n - (i + len) % n) % n + 1;
-        let behind = n - len - ahead;
-        if ahead <= behind {
-            for t in 0..ahead {
-                let v = self.order[(i + len + t) % n];
-                let p = (i + t) % n;
-                self.order[p] = v;
-                self.pos[v] = p;
-            }
-            for (t, &v) in seg.iter().enumerate().take(len) {
-                let p = (i + ahead + t) % n;
-                self.order[p] = v;
-                self.pos[v] = p;
-            }
-        } else {
-            // Shift the nodes from c's successor back to the segment's predecessor forward by
-            // `len`, and put the segment where they began.
-            for t in 0..behind {
-                let from = (i + n - 1 - t) % n;
-                let to = (from + len) % n;
-                let v = self.order[from];
-                self.order[to] = v;
-                self.pos[v] = to;
-            }
-            let start = (i + n - behind) % n;
-            for (t, &v) in seg.iter().enumerate().take(len) {
-                let p = (start + t) % n;
-                self.order[p] = v;
-                self.pos[v] = p;
-            }
-        }
-    }
-}
 
 /// What a local search run did.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
@@ -150,10 +27,10 @@ pub struct ImproveStats {
 
 /// Improves `tour` by 2-opt (symmetric costs only) and Or-opt moves until no improving move
 /// starts at any node, or `should_stop` returns true (polled every few hundred nodes).
-pub fn two_opt_or_opt<C: Cost + ?Sized>(
+pub fn two_opt_or_opt<C: Cost + ?Sized, T: TourRepr>(
     cost: &C,
     nb: &Neighbours,
-    tour: &mut ArrayTour,
+    tour: &mut T,
     should_stop: &mut dyn FnMut() -> bool,
 ) -> ImproveStats {
     let n = tour.len();
@@ -162,7 +39,7 @@ pub fn two_opt_or_opt<C: Cost + ?Sized>(
         return stats;
     }
     let symmetric = cost.is_symmetric();
-    let mut queue: VecDeque<usize> = tour.order().iter().copied().collect();
+    let mut queue: VecDeque<usize> = tour.stored_order().into_iter().collect();
     let mut queued = vec![true; n];
     let mut polls = 0u32;
     while let Some(a) = queue.pop_front() {
@@ -201,10 +78,10 @@ pub(crate) type Touched = [Option<usize>; 8];
 
 /// First improving 2-opt move removing an edge at `a`: replaces (a, b) and (c, d) by (a, c) and
 /// (b, d), with `c` a neighbour of `a`.
-fn try_two_opt<C: Cost + ?Sized>(
+fn try_two_opt<C: Cost + ?Sized, T: TourRepr>(
     cost: &C,
     nb: &Neighbours,
-    tour: &mut ArrayTour,
+    tour: &mut T,
     a: usize,
 ) -> Option<(i64, Touched)> {
     for forward in [true, false] {
@@ -240,10 +117,10 @@ fn try_two_opt<C: Cost + ?Sized>(
 /// First improving Or-opt move of a segment of 1..=3 nodes that starts or ends at `a`, to
 /// between two adjacent nodes elsewhere, one of them a neighbour of a segment end. Reversed
 /// insertion is tried only when `reversible`.
-pub(crate) fn try_or_opt<C: Cost + ?Sized>(
+pub(crate) fn try_or_opt<C: Cost + ?Sized, T: TourRepr>(
     cost: &C,
     nb: &Neighbours,
-    tour: &mut ArrayTour,
+    tour: &mut T,
     a: usize,
     reversible: bool,
 ) -> Option<(i64, Touched)> {
@@ -356,14 +233,20 @@ fn touched(p: usize, nx: usize, s1: usize, s2: usize, c: usize, d: usize) -> Tou
     ]
 }
 
-fn ahead(tour: &ArrayTour, v: usize, k: usize) -> usize {
-    let n = tour.len();
-    tour.order[(tour.pos[v] + k) % n]
+/// The node `k` steps after `v` (k is at most a segment length).
+fn ahead<T: TourRepr>(tour: &T, mut v: usize, k: usize) -> usize {
+    for _ in 0..k {
+        v = tour.next(v);
+    }
+    v
 }
 
-fn back(tour: &ArrayTour, v: usize, k: usize) -> usize {
-    let n = tour.len();
-    tour.order[(tour.pos[v] + n - k % n) % n]
+/// The node `k` steps before `v`.
+fn back<T: TourRepr>(tour: &T, mut v: usize, k: usize) -> usize {
+    for _ in 0..k {
+        v = tour.prev(v);
+    }
+    v
 }
 
 #[cfg(test)]
@@ -391,26 +274,6 @@ mod tests {
             .collect()
     }
 
-    #[test]
-    fn reverse_and_move_keep_a_permutation() {
-        let mut t = ArrayTour::new((0..10).collect());
-        let cyc = |t: &ArrayTour| {
-            let mut v = t.order().to_vec();
-            let p = v.iter().position(|&x| x == 0).unwrap();
-            v.rotate_left(p);
-            v
-        };
-        t.reverse(2, 5, true);
-        assert_eq!(t.order(), &[0, 1, 5, 4, 3, 2, 6, 7, 8, 9]);
-        t.move_segment(5, 2, 8); // segment 5 4 after 8
-        assert_eq!(cyc(&t), vec![0, 1, 3, 2, 6, 7, 8, 5, 4, 9]);
-        t.move_segment(9, 1, 1); // wraps: 9 after 1
-        assert_eq!(cyc(&t), vec![0, 1, 9, 3, 2, 6, 7, 8, 5, 4]);
-        for (p, &v) in t.order().iter().enumerate() {
-            assert_eq!(t.pos[v], p);
-        }
-    }
-
     proptest! {
         // Each applied move's reported gain equals the recomputed change in length, and the
         // result is a local optimum that is a permutation.
@@ -432,22 +295,6 @@ mod tests {
             prop_assert!(Tour::new(t.order().to_vec(), n).is_ok());
             prop_assert_eq!(before - after, stats.gain);
             prop_assert!(after <= before);
-        }
-
-        // move_segment keeps direction and equals the naive remove-and-insert.
-        #[test]
-        fn move_segment_matches_naive(n in 6usize..30, s in 0usize..30, len in 1usize..=3, c in 0usize..30) {
-            let s = s % n; let c = c % n;
-            let seg: Vec<usize> = (0..len).map(|t| (s + t) % n).collect();
-            let p = (s + n - 1) % n;
-            prop_assume!(!seg.contains(&c) && c != p);
-            let mut t = ArrayTour::new((0..n).collect());
-            t.move_segment(s, len, c);
-            let mut naive: Vec<usize> = (0..n).filter(|v| !seg.contains(v)).collect();
-            let at = naive.iter().position(|&v| v == c).unwrap() + 1;
-            for (k, &v) in seg.iter().enumerate() { naive.insert(at + k, v); }
-            let rot = |mut v: Vec<usize>| { let p = v.iter().position(|&x| x == 0).unwrap(); v.rotate_left(p); v };
-            prop_assert_eq!(rot(t.order().to_vec()), rot(naive));
         }
     }
 }

@@ -51,4 +51,4 @@ pub use candidates::CandidateSource;
 pub use cost::{CoordCost, Cost, CostError, FnCost, Geometry, MatrixCost, Metric};
 pub use search::{Improvement, StopHandle, StopReason};
 pub use solver::{Method, Solution, SolveError, Solver};
-pub use tour::{Overflow, Tour, TourError};
+pub use tour::{Layout, Overflow, Tour, TourError};

@@ -36,17 +36,18 @@
 //! (length, run index), so with a kick budget the answer does not depend on thread timing.
 //! Tours of different runs are not recombined.
 //!
-//! TODO (large instances): every flip reverses the shorter side of an array, O(n) in the worst
-//! case, which is fine up to about 100,000 nodes. Beyond that, a two-level doubly-linked list
-//! (segments of about sqrt(n) nodes, each with a reversal bit and a sequence number) makes a
-//! flip O(sqrt(n)); it would implement the same `next` / `prev` / `between` / flip interface
-//! used here, so only the tour type would change.
+//! # Representations
+//!
+//! Everything here is generic over [`TourRepr`]: the array of [`ArrayTour`] for small and medium
+//! instances, the segments of [`TwoLevelTour`] (O(sqrt(n)) flips) for large ones, chosen by
+//! [`Layout`]. Both give the same tour from the same seed.
 
 use crate::candidates::Neighbours;
 use crate::cost::Cost;
-use crate::improve::{try_or_opt, ArrayTour, ImproveStats, MAX_SEGMENT};
+use crate::improve::{try_or_opt, ImproveStats, MAX_SEGMENT};
 use crate::search::{self, Improvement, Start, StopHandle, StopReason};
 use crate::tour::closed_length;
+use crate::tour::{ArrayTour, Layout, TourRepr, TwoLevelTour};
 use rand::Rng;
 use rand::SeedableRng;
 use rand_pcg::Pcg64;
@@ -93,7 +94,7 @@ struct Flip {
 }
 
 /// Replaces the edges after `a` and after `b` by `(a, b)` and `(next a, next b)`.
-fn flip(tour: &mut ArrayTour, a: usize, b: usize) -> Flip {
+fn flip<T: TourRepr>(tour: &mut T, a: usize, b: usize) -> Flip {
     let a2 = tour.next(a);
     let b2 = tour.next(b);
     tour.reverse(a2, b, false);
@@ -102,7 +103,7 @@ fn flip(tour: &mut ArrayTour, a: usize, b: usize) -> Flip {
 
 /// Restores the two edges of `f`. The tour must be the same cycle as right after `f`, in either
 /// orientation: the shorter-side reversal may have turned the whole array round.
-fn unflip(tour: &mut ArrayTour, f: Flip) {
+fn unflip<T: TourRepr>(tour: &mut T, f: Flip) {
     if tour.next(f.a) == f.b {
         tour.reverse(f.b, f.a2, false); // a b .. a2 b2  ->  a a2 .. b b2
     } else {
@@ -112,7 +113,7 @@ fn unflip(tour: &mut ArrayTour, f: Flip) {
 
 /// The flip of one LK level: removes `(t1, t2)` and `(t3, t4)`, adds `(t2, t3)` and `(t4, t1)`.
 /// Works in either orientation of the array.
-fn lk_flip(tour: &mut ArrayTour, t1: usize, t2: usize, t3: usize, t4: usize) -> Flip {
+fn lk_flip<T: TourRepr>(tour: &mut T, t1: usize, t2: usize, t3: usize, t4: usize) -> Flip {
     if tour.next(t1) == t2 {
         flip(tour, t1, t4) // t1 t2 .. t4 t3  ->  t1 t4 .. t2 t3
     } else {
@@ -134,7 +135,7 @@ enum Undo {
 }
 
 /// Puts a segment that an Or-opt move took from between `p` and `nx` back there.
-fn undo_or_opt(tour: &mut ArrayTour, p: usize, nx: usize, s1: usize, s2: usize) {
+fn undo_or_opt<T: TourRepr>(tour: &mut T, p: usize, nx: usize, s1: usize, s2: usize) {
     // The segment is contiguous; find its length and which end comes first now (a later flip may
     // have turned the array round).
     let mut len = 1;
@@ -189,13 +190,13 @@ pub struct Kick {
 /// put in the order `D C B`, each keeping its direction, so four edges change and nothing is
 /// reversed (valid for asymmetric costs). Lengths below one count as one; when they do not
 /// leave at least one other node the tour is left alone (delta 0). Costs O(sum of `lens`).
-pub fn double_bridge<C: Cost + ?Sized>(
+pub fn double_bridge<C: Cost + ?Sized, T: TourRepr>(
     cost: &C,
-    tour: &mut ArrayTour,
+    tour: &mut T,
     v: usize,
     lens: [usize; 3],
 ) -> Kick {
-    let walk = |tour: &ArrayTour, mut x: usize, k: usize| {
+    let walk = |tour: &T, mut x: usize, k: usize| {
         for _ in 0..k {
             x = tour.next(x);
         }
@@ -241,7 +242,7 @@ pub fn double_bridge<C: Cost + ?Sized>(
 
 /// Takes back a [`double_bridge`]; the tour must be the same cycle as right after it, in either
 /// orientation.
-pub fn undo_double_bridge<C: Cost + ?Sized>(cost: &C, tour: &mut ArrayTour, k: &Kick) {
+pub fn undo_double_bridge<C: Cost + ?Sized, T: TourRepr>(cost: &C, tour: &mut T, k: &Kick) {
     let [b, c, d] = k.lens;
     if tour.next(k.v) == k.first {
         double_bridge(cost, tour, k.v, [d, c, b]);
@@ -320,13 +321,12 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
 
     /// Takes `tour` to a local optimum from every node (in tour order), or until `should_stop`
     /// says so (polled every few dozen nodes).
-    pub fn optimise(
+    pub fn optimise<T: TourRepr>(
         &mut self,
-        tour: &mut ArrayTour,
+        tour: &mut T,
         should_stop: &mut dyn FnMut() -> bool,
     ) -> ImproveStats {
-        for i in 0..tour.len() {
-            let v = tour.order()[i];
+        for v in tour.stored_order() {
             self.activate(v);
         }
         self.run(tour, should_stop)
@@ -334,9 +334,9 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
 
     /// Applies improving moves from the active nodes until none is active or `should_stop`
     /// says so (polled every few dozen nodes).
-    pub fn run(
+    pub fn run<T: TourRepr>(
         &mut self,
-        tour: &mut ArrayTour,
+        tour: &mut T,
         should_stop: &mut dyn FnMut() -> bool,
     ) -> ImproveStats {
         let mut stats = ImproveStats::default();
@@ -363,7 +363,7 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
 
     /// One improving move from `t1`, applied (its changed endpoints become active); its gain,
     /// or `None` when no move starts at `t1`.
-    pub fn improve_from(&mut self, tour: &mut ArrayTour, t1: usize) -> Option<i64> {
+    pub fn improve_from<T: TourRepr>(&mut self, tour: &mut T, t1: usize) -> Option<i64> {
         if tour.len() < 5 || self.nb.k() == 0 {
             return None;
         }
@@ -401,7 +401,7 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
 
     /// Takes back every change logged since [`LinKernighan::start_log`], newest first, and
     /// stops logging.
-    pub fn undo_log(&mut self, tour: &mut ArrayTour) {
+    pub fn undo_log<T: TourRepr>(&mut self, tour: &mut T) {
         while let Some(u) = self.log.pop() {
             match u {
                 Undo::Flip(f) => unflip(tour, f),
@@ -418,7 +418,7 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
     }
 
     /// The best LK move that starts by removing `(t1, t2)`, applied if it gains.
-    fn lk_move(&mut self, tour: &mut ArrayTour, t1: usize, t2: usize) -> Option<i64> {
+    fn lk_move<T: TourRepr>(&mut self, tour: &mut T, t1: usize, t2: usize) -> Option<i64> {
         self.t1 = t1;
         self.chain.clear();
         self.added.clear();
@@ -440,7 +440,7 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
     /// neighbour of `t1` whose edge to it is the one to remove next, and `g` the gain so far
     /// counting that edge as removed. True when a gaining move was found (and left for
     /// [`Self::commit`]); false leaves the tour as it was on entry.
-    fn descend(&mut self, tour: &mut ArrayTour, level: usize, t2: usize, g: i64) -> bool {
+    fn descend<T: TourRepr>(&mut self, tour: &mut T, level: usize, t2: usize, g: i64) -> bool {
         let t1 = self.t1;
         let fwd = tour.next(t1) == t2;
         let mut cands = std::mem::take(&mut self.cands[level]);
@@ -504,7 +504,7 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
     }
 
     /// Keeps the flips of the best closing found, activates their endpoints and returns the gain.
-    fn commit(&mut self, tour: &mut ArrayTour) -> i64 {
+    fn commit<T: TourRepr>(&mut self, tour: &mut T) -> i64 {
         while self.chain.len() > self.best_len {
             if let Some(f) = self.chain.pop() {
                 unflip(tour, f);
@@ -534,10 +534,10 @@ fn same_edge(e: (usize, usize), a: usize, b: usize) -> bool {
 
 /// Takes `tour` to an LK local optimum with default parameters; the counterpart of
 /// [`crate::improve::two_opt_or_opt`].
-pub fn lin_kernighan<C: Cost + ?Sized>(
+pub fn lin_kernighan<C: Cost + ?Sized, T: TourRepr>(
     cost: &C,
     nb: &Neighbours,
-    tour: &mut ArrayTour,
+    tour: &mut T,
     should_stop: &mut dyn FnMut() -> bool,
 ) -> ImproveStats {
     LinKernighan::new(cost, nb, LkParams::default()).optimise(tour, should_stop)
@@ -572,6 +572,7 @@ pub(crate) struct LkPlan {
     pub deadline: Option<Instant>,
     pub stop: StopHandle,
     pub params: LkParams,
+    pub layout: Layout,
 }
 
 pub(crate) struct LkOutcome {
@@ -671,65 +672,19 @@ pub(crate) fn iterated<C: Cost + ?Sized>(
         started.fetch_add(1, Ordering::Relaxed);
         let mut rng = Pcg64::seed_from_u64(search::mix(plan.seed, r as u64));
         let order = search::start_tour(cost, nb, Start::GreedyEdge, r, &mut rng);
-        let mut tour = ArrayTour::new(order);
-        let mut lk = LinKernighan::new(cost, nb, plan.params.clone());
-        // Run 0 always yields a tour, even when the deadline comes first.
-        lk.optimise(&mut tour, &mut || over());
-        let mut length = closed_length(cost, tour.order()).unwrap_or(i64::MAX);
-        reporter.offer(length, r);
-        reached(length);
-        let mut kicks = 0u64;
-        let mut since_better = 0u64;
-        let mut end = RunEnd::Other;
-        let seg = kick_segment(n, plan.params.kick_segment);
-        // An overflowing length cannot be updated by deltas; such a run keeps its local optimum.
-        while n >= MIN_KICK_NODES && length != i64::MAX {
-            if plan.kicks.is_some_and(|k| kicks >= k) {
-                end = RunEnd::Kicks;
-                break;
-            }
-            if plan.stall.is_some_and(|s| since_better >= s) {
-                end = RunEnd::Stall;
-                break;
-            }
-            if over() {
-                break;
-            }
-            let v = rng.gen_range(0..n);
-            let lens = [
-                rng.gen_range(1..=seg),
-                rng.gen_range(1..=seg),
-                rng.gen_range(1..=seg),
-            ];
-            let kick = double_bridge(cost, &mut tour, v, lens);
-            lk.start_log();
-            for v in kick.ends {
-                lk.activate(v);
-            }
-            let stats = lk.run(&mut tour, &mut || over());
-            let new_length = length + kick.delta - stats.gain;
-            kicks += 1;
-            if new_length <= length {
-                lk.keep_log();
-                if new_length < length {
-                    since_better = 0;
-                    length = new_length;
-                    reporter.offer(length, r);
-                    reached(length);
-                } else {
-                    since_better += 1;
-                }
-            } else {
-                lk.undo_log(&mut tour);
-                undo_double_bridge(cost, &mut tour, &kick);
-                since_better += 1;
-            }
-        }
+        let (length, order, kicks, end) = if plan.layout.two_level(n) {
+            one_run::<C, TwoLevelTour>(
+                cost, nb, plan, order, &mut rng, r, &over, &reached, &reporter,
+            )
+        } else {
+            one_run::<C, ArrayTour>(
+                cost, nb, plan, order, &mut rng, r, &over, &reached, &reporter,
+            )
+        };
         if end == RunEnd::Stall {
             stalled.store(true, Ordering::Relaxed);
         }
         total_kicks.fetch_add(kicks, Ordering::Relaxed);
-        let order = tour.into_order();
         debug_assert_eq!(
             closed_length(cost, &order).unwrap_or(i64::MAX),
             length,
@@ -767,6 +722,80 @@ pub(crate) fn iterated<C: Cost + ?Sized>(
         kicks: total_kicks.load(Ordering::Relaxed),
         stop_reason,
     }
+}
+
+/// One run of the iterated search on representation `T`: local optimum from `order`, then kicks
+/// until a budget, the stall limit or `over`. Returns the length, the tour from node 0, the
+/// kicks tried and why it ended.
+#[allow(clippy::too_many_arguments)]
+fn one_run<C: Cost + ?Sized, T: TourRepr>(
+    cost: &C,
+    nb: &Neighbours,
+    plan: &LkPlan,
+    order: Vec<usize>,
+    rng: &mut Pcg64,
+    r: usize,
+    over: &dyn Fn() -> bool,
+    reached: &dyn Fn(i64),
+    reporter: &Reporter<'_>,
+) -> (i64, Vec<usize>, u64, RunEnd) {
+    let n = cost.len();
+    let mut tour = T::from_order(order);
+    let mut lk = LinKernighan::new(cost, nb, plan.params.clone());
+    // Run 0 always yields a tour, even when the deadline comes first.
+    lk.optimise(&mut tour, &mut || over());
+    let mut length = closed_length(cost, &tour.stored_order()).unwrap_or(i64::MAX);
+    reporter.offer(length, r);
+    reached(length);
+    let mut kicks = 0u64;
+    let mut since_better = 0u64;
+    let mut end = RunEnd::Other;
+    let seg = kick_segment(n, plan.params.kick_segment);
+    // An overflowing length cannot be updated by deltas; such a run keeps its local optimum.
+    while n >= MIN_KICK_NODES && length != i64::MAX {
+        if plan.kicks.is_some_and(|k| kicks >= k) {
+            end = RunEnd::Kicks;
+            break;
+        }
+        if plan.stall.is_some_and(|s| since_better >= s) {
+            end = RunEnd::Stall;
+            break;
+        }
+        if over() {
+            break;
+        }
+        let v = rng.gen_range(0..n);
+        let lens = [
+            rng.gen_range(1..=seg),
+            rng.gen_range(1..=seg),
+            rng.gen_range(1..=seg),
+        ];
+        let kick = double_bridge(cost, &mut tour, v, lens);
+        lk.start_log();
+        for v in kick.ends {
+            lk.activate(v);
+        }
+        let stats = lk.run(&mut tour, &mut || over());
+        let new_length = length + kick.delta - stats.gain;
+        kicks += 1;
+        if new_length <= length {
+            lk.keep_log();
+            if new_length < length {
+                since_better = 0;
+                length = new_length;
+                reporter.offer(length, r);
+                reached(length);
+            } else {
+                since_better += 1;
+            }
+        } else {
+            lk.undo_log(&mut tour);
+            undo_double_bridge(cost, &mut tour, &kick);
+            since_better += 1;
+        }
+    }
+    // The same cycle gives the same answer from either representation: walk it from node 0.
+    (length, tour.walk_from(0), kicks, end)
 }
 
 /// Kicks per run when nothing else bounds a run (no time limit, no stall limit).
@@ -818,13 +847,13 @@ mod tests {
         v
     }
 
-    fn length(c: &MatrixCost, t: &ArrayTour) -> i64 {
-        closed_length(c, t.order()).unwrap()
+    fn length<T: TourRepr>(c: &MatrixCost, t: &T) -> i64 {
+        closed_length(c, &t.stored_order()).unwrap()
     }
 
     /// The tour's edges as a sorted list, undirected when `undirected`.
-    fn edges(t: &ArrayTour, undirected: bool) -> Vec<(usize, usize)> {
-        let o = t.order();
+    fn edges<T: TourRepr>(t: &T, undirected: bool) -> Vec<(usize, usize)> {
+        let o = t.stored_order();
         let mut e: Vec<(usize, usize)> = (0..o.len())
             .map(|i| {
                 let (a, b) = (o[i], o[(i + 1) % o.len()]);
@@ -918,61 +947,88 @@ mod tests {
         }
     }
 
+    /// Optimises `t`, kicks it, repairs, checks the delta and that undoing restores the cycle;
+    /// returns the cycle after the repair (from node 0) for comparing representations.
+    fn kick_and_undo<T: TourRepr>(
+        c: &MatrixCost,
+        nb: &Neighbours,
+        mut t: T,
+        v: usize,
+        lens: [usize; 3],
+        asym: bool,
+    ) -> Result<Vec<usize>, TestCaseError> {
+        let n = t.len();
+        let mut lk = LinKernighan::new(c, nb, LkParams::default());
+        lk.optimise(&mut t, &mut || false);
+        let before_edges = edges(&t, !asym);
+        let before_arcs = edges(&t, false);
+        let before = length(c, &t);
+        let kick = double_bridge(c, &mut t, v, lens);
+        prop_assert!(Tour::new(t.stored_order(), n).is_ok());
+        prop_assert_eq!(length(c, &t) - before, kick.delta);
+        // Four arcs change (a kick never turns the tour round); with symmetric costs and
+        // one-node segments some of them are old edges walked the other way.
+        let mut changed: Vec<(usize, usize)> = edges(&t, false);
+        changed.retain(|e| !before_arcs.contains(e));
+        prop_assert_eq!(changed.len(), 4, "a double bridge changes four arcs");
+        lk.start_log();
+        for e in kick.ends {
+            lk.activate(e);
+        }
+        let stats = lk.run(&mut t, &mut || false);
+        prop_assert!(Tour::new(t.stored_order(), n).is_ok());
+        prop_assert_eq!(length(c, &t), before + kick.delta - stats.gain);
+        let repaired = t.walk_from(0);
+        lk.undo_log(&mut t);
+        undo_double_bridge(c, &mut t, &kick);
+        prop_assert_eq!(edges(&t, !asym), before_edges);
+        Ok(repaired)
+    }
+
     proptest! {
         #![proptest_config(ProptestConfig::with_cases(64))]
 
         // Each single LK step (or Or-opt fallback) keeps a permutation and reports exactly the
-        // change in length that a full recomputation sees.
+        // change in length that a full recomputation sees, on both representations, which take
+        // the same steps.
         #[test]
         fn each_step_gain_is_the_length_change(n in 8usize..80, seed in 0u64..10_000, asym in any::<bool>(), k in 3usize..10) {
             let c = instance(n, seed, asym);
             let nb = k_nearest(&c, k);
             let mut t = ArrayTour::new(shuffled(n, seed));
+            let mut u = TwoLevelTour::new(shuffled(n, seed));
             let mut lk = LinKernighan::new(&c, &nb, LkParams::default());
+            let mut lk2 = LinKernighan::new(&c, &nb, LkParams::default());
             for round in 0..3 {
                 for i in 0..n {
                     let v = (i * 7 + round) % n;
                     let before = length(&c, &t);
                     let g = lk.improve_from(&mut t, v);
+                    let g2 = lk2.improve_from(&mut u, v);
                     prop_assert!(Tour::new(t.order().to_vec(), n).is_ok());
+                    prop_assert!(Tour::new(u.stored_order(), n).is_ok());
                     let after = length(&c, &t);
                     prop_assert_eq!(before - after, g.unwrap_or(0));
+                    prop_assert_eq!(length(&c, &u), after);
+                    prop_assert_eq!(g, g2);
+                    prop_assert_eq!(t.walk_from(0), u.walk_from(0));
                     if let Some(g) = g { prop_assert!(g > 0); }
                 }
             }
         }
 
         // A kick's delta is exact, and undoing the local search and then the kick from the log
-        // gives back the same cycle (the same directed cycle for asymmetric costs).
+        // gives back the same cycle (the same directed cycle for asymmetric costs), on both
+        // representations.
         #[test]
         fn kick_and_repair_undo_exactly(n in 8usize..80, seed in 0u64..10_000, asym in any::<bool>(), v in 0usize..80, l in (1usize..10, 1usize..10, 1usize..10)) {
             let c = instance(n, seed, asym);
             let nb = k_nearest(&c, 6);
-            let mut t = ArrayTour::new(shuffled(n, seed));
-            let mut lk = LinKernighan::new(&c, &nb, LkParams::default());
-            lk.optimise(&mut t, &mut || false);
             let seg = kick_segment(n, 50);
             let lens = [1 + (l.0 - 1) % seg, 1 + (l.1 - 1) % seg, 1 + (l.2 - 1) % seg];
-            let before_edges = edges(&t, !asym);
-            let before_order = t.order().to_vec();
-            let before = length(&c, &t);
-            let kick = double_bridge(&c, &mut t, v % n, lens);
-            prop_assert!(Tour::new(t.order().to_vec(), n).is_ok());
-            prop_assert_eq!(length(&c, &t) - before, kick.delta);
-            // Four arcs change (a kick never turns the array round); with symmetric costs and
-            // one-node segments some of them are old edges walked the other way.
-            let before_arcs = edges(&ArrayTour::new(before_order.clone()), false);
-            let mut changed: Vec<(usize, usize)> = edges(&t, false);
-            changed.retain(|e| !before_arcs.contains(e));
-            prop_assert_eq!(changed.len(), 4, "a double bridge changes four arcs");
-            lk.start_log();
-            for e in kick.ends { lk.activate(e); }
-            let stats = lk.run(&mut t, &mut || false);
-            prop_assert!(Tour::new(t.order().to_vec(), n).is_ok());
-            prop_assert_eq!(length(&c, &t), before + kick.delta - stats.gain);
-            lk.undo_log(&mut t);
-            undo_double_bridge(&c, &mut t, &kick);
-            prop_assert_eq!(edges(&t, !asym), before_edges);
+            let a = kick_and_undo(&c, &nb, ArrayTour::new(shuffled(n, seed)), v % n, lens, asym)?;
+            let b = kick_and_undo(&c, &nb, TwoLevelTour::new(shuffled(n, seed)), v % n, lens, asym)?;
+            prop_assert_eq!(a, b);
         }
 
         // With complete candidate lists, a tour where LK finds nothing from any node admits no
@@ -1017,6 +1073,26 @@ mod tests {
                 .tour
         };
         assert_eq!(run(1), run(2));
+    }
+
+    #[test]
+    fn both_representations_give_the_same_tour_from_the_same_seed() {
+        for (n, asym) in [(300, false), (120, true)] {
+            let c = instance(n, 11, asym);
+            let run = |layout| {
+                Solver::new(&c)
+                    .seed(3)
+                    .restarts(2)
+                    .kicks(400)
+                    .threads(1)
+                    .layout(layout)
+                    .solve()
+                    .unwrap()
+            };
+            let (a, b) = (run(Layout::Array), run(Layout::TwoLevel));
+            assert_eq!(a.tour, b.tour, "n {n}, asymmetric {asym}");
+            assert_eq!(a.length, b.length);
+        }
     }
 
     #[test]

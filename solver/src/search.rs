@@ -9,8 +9,9 @@
 use crate::candidates::Neighbours;
 use crate::construct;
 use crate::cost::Cost;
-use crate::improve::{two_opt_or_opt, ArrayTour};
+use crate::improve::two_opt_or_opt;
 use crate::tour::closed_length;
+use crate::tour::ArrayTour;
 use rand::{Rng, SeedableRng};
 use rand_pcg::Pcg64;
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};

@@ -6,7 +6,7 @@ use crate::cost::{Cost, CostError, FnCost, MatrixCost};
 use crate::exact;
 use crate::lk::{self, LkParams, LkPlan};
 use crate::search::{self, Improvement, RestartPlan, Start, StopHandle, StopReason};
-use crate::tour::{closed_length, Overflow, Tour};
+use crate::tour::{closed_length, Layout, Overflow, Tour};
 use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
@@ -138,6 +138,7 @@ pub struct Solver<C> {
     method: Method,
     neighbours: usize,
     candidates: CandidateSource,
+    layout: Layout,
     stop: StopHandle,
     observer: Option<Observer>,
 }
@@ -167,6 +168,7 @@ impl<C: Cost> Solver<C> {
             method: Method::Lk,
             neighbours: DEFAULT_NEIGHBOURS,
             candidates: CandidateSource::default(),
+            layout: Layout::default(),
             stop: StopHandle::new(),
             observer: None,
         }
@@ -238,6 +240,14 @@ impl<C: Cost> Solver<C> {
     /// instances; nearest lists are the plain alternative).
     pub fn candidates(mut self, source: CandidateSource) -> Self {
         self.candidates = source;
+        self
+    }
+
+    /// Which tour representation `lk` edits (by default the array below
+    /// [`crate::tour::TWO_LEVEL_FROM`] nodes, the two-level list from there on). The tour found
+    /// is the same either way; only the speed differs.
+    pub fn layout(mut self, layout: Layout) -> Self {
+        self.layout = layout;
         self
     }
 
@@ -358,6 +368,7 @@ impl<C: Cost> Solver<C> {
                 deadline: search::deadline(began, self.time_limit),
                 stop: self.stop.clone(),
                 params: LkParams::default(),
+                layout: self.layout,
             };
             let out = lk::iterated(cost, &nb, &plan, began, &observe);
             if out.length == i64::MAX {

@@ -2,6 +2,7 @@
 
 mod bench;
 mod demo;
+mod generate;
 mod measure;
 mod progress;
 mod solve;
@@ -25,6 +26,8 @@ enum Command {
     Measure(measure::MeasureArgs),
     /// Solve the built-in demo instances and compare with their published optima.
     Demo(demo::DemoArgs),
+    /// Write a seeded random instance (uniform points in a square) as a TSPLIB file.
+    Generate(generate::GenerateArgs),
     /// Run a seeded sweep of methods over instances and report gaps and times.
     Bench(bench::BenchArgs),
 }
@@ -36,6 +39,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
         Command::Measure(a) => measure::run(a),
         Command::Demo(a) => demo::run(a),
         Command::Bench(a) => bench::run(a),
+        Command::Generate(a) => generate::run(a),
     }
 }
 

@@ -6,7 +6,7 @@ use serde_json::json;
 use std::io::IsTerminal;
 use std::path::PathBuf;
 use std::time::Duration;
-use wend::{CandidateSource, Method, Solver};
+use wend::{CandidateSource, Layout, Method, Solver};
 
 #[derive(Args, Debug)]
 pub struct SolveArgs {
@@ -47,6 +47,10 @@ pub struct SolveArgs {
     /// node, topped up with the nearest; helps on clustered instances) or nearest.
     #[arg(long, default_value = "quadrant", value_name = "SOURCE")]
     candidates: String,
+    /// Tour representation lk edits: auto (array below 10,000 nodes, two-level list from
+    /// there), array or two-level. The tour is the same; only the speed differs.
+    #[arg(long, default_value = "auto", value_name = "LAYOUT")]
+    layout: String,
     /// Write the tour to this file in TSPLIB TOUR format.
     #[arg(long, value_name = "FILE")]
     tour_out: Option<PathBuf>,
@@ -90,6 +94,16 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
             names.join(", ")
         ))
     })?;
+    let layout = match a.layout.as_str() {
+        "auto" => Layout::Auto,
+        "array" => Layout::Array,
+        "two-level" => Layout::TwoLevel,
+        other => {
+            return Err(CliError::Input(format!(
+                "unknown layout {other:?}; choose one of: auto, array, two-level"
+            )))
+        }
+    };
     if a.threads == Some(0) {
         return Err(CliError::Input("--threads must be at least 1".into()));
     }
@@ -100,7 +114,8 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
         .seed(a.seed)
         .method(method)
         .neighbours(a.neighbours)
-        .candidates(candidates);
+        .candidates(candidates)
+        .layout(layout);
     if let Some(l) = limit {
         solver = solver.time_limit(l);
     }

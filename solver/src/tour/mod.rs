@@ -1,6 +1,102 @@
-//! Tours: validated permutations of the nodes, and their exact lengths.
+//! Tours: validated permutations of the nodes and their exact lengths, and the two
+//! representations that local search edits in place.
+//!
+//! - [`ArrayTour`]: the order in an array plus each node's position. Successor, predecessor and
+//!   distance along the tour are O(1); a reversal costs the length of the shorter side, up to
+//!   n / 2.
+//! - [`TwoLevelTour`]: segments of about sqrt(n) nodes, each with a reversal bit, kept in a ring.
+//!   Successor and predecessor are O(1) with a few more indirections; a reversal costs
+//!   O(sqrt(n)).
+//!
+//! Both implement [`TourRepr`] with the same semantics to the node: the same calls from the same
+//! order leave the same cycle in the same direction, so a search gives identical tours on
+//! either. [`Layout::Auto`] picks the array below [`TWO_LEVEL_FROM`] nodes and the segments from
+//! there on.
 
 use crate::cost::Cost;
+
+mod array;
+mod two_level;
+
+pub use array::ArrayTour;
+pub use two_level::TwoLevelTour;
+
+/// A closed tour that local moves edit in place.
+///
+/// "Forward" is the direction of [`TourRepr::next`]. Every implementation must make the same
+/// choices where the interface leaves one open (which side a reversal turns round), so that a
+/// search is independent of the representation.
+pub trait TourRepr {
+    /// Wraps a visiting order (a permutation of `0..order.len()`).
+    fn from_order(order: Vec<usize>) -> Self
+    where
+        Self: Sized;
+    /// Number of nodes.
+    fn len(&self) -> usize;
+    /// True when there are no nodes.
+    fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+    /// Node after `v`.
+    fn next(&self, v: usize) -> usize;
+    /// Node before `v`.
+    fn prev(&self, v: usize) -> usize;
+    /// Number of steps forward from `a` to `b` (0 when equal).
+    fn steps(&self, a: usize, b: usize) -> usize;
+    /// Reverses the path `from ..= to` (walking forward). Unless `keep_direction`, the
+    /// complementary path is reversed instead when it has fewer nodes (the same cycle, with the
+    /// other orientation); a path of all `n` nodes is then left alone.
+    fn reverse(&mut self, from: usize, to: usize, keep_direction: bool);
+    /// Moves the segment of `len` (at most [`crate::improve::MAX_SEGMENT`]) nodes starting at
+    /// `s1` (walking forward) to between `c` and its successor; every node keeps its direction.
+    /// `c` must not be in the segment and must not be the segment's predecessor.
+    fn move_segment(&mut self, s1: usize, len: usize, c: usize);
+    /// The nodes in the representation's own order: the given order until the first change,
+    /// then some rotation of the cycle, forward.
+    fn stored_order(&self) -> Vec<usize>;
+    /// [`TourRepr::stored_order`], consuming the tour.
+    fn into_stored_order(self) -> Vec<usize>
+    where
+        Self: Sized;
+    /// The cycle walked forward from `start`.
+    fn walk_from(&self, start: usize) -> Vec<usize> {
+        let n = self.len();
+        let mut out = Vec::with_capacity(n);
+        let mut v = start;
+        for _ in 0..n {
+            out.push(v);
+            v = self.next(v);
+        }
+        out
+    }
+}
+
+/// Which representation a search edits.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum Layout {
+    /// [`ArrayTour`] below [`TWO_LEVEL_FROM`] nodes, [`TwoLevelTour`] from there on.
+    #[default]
+    Auto,
+    /// Always [`ArrayTour`].
+    Array,
+    /// Always [`TwoLevelTour`].
+    TwoLevel,
+}
+
+/// Size from which [`Layout::Auto`] uses [`TwoLevelTour`]: measured crossover of kicks per
+/// second on 2 cores (array ahead by 14 % at 4,461 nodes, behind by 10 % at 14,051).
+pub const TWO_LEVEL_FROM: usize = 10_000;
+
+impl Layout {
+    /// True when a tour of `n` nodes should use [`TwoLevelTour`].
+    pub fn two_level(self, n: usize) -> bool {
+        match self {
+            Layout::Auto => n >= TWO_LEVEL_FROM,
+            Layout::Array => false,
+            Layout::TwoLevel => true,
+        }
+    }
+}
 
 /// A closed tour: every node exactly once, the last one returning to the first.
 #[derive(Clone, Debug, PartialEq, Eq)]

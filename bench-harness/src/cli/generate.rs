@@ -1,0 +1,56 @@
+//! `wend generate`.
+
+use super::{write_file, CliError};
+use clap::Args;
+use std::path::PathBuf;
+use wend_bench::generate::{expected_tour_length, uniform_square, write_points};
+
+#[derive(Args, Debug)]
+pub struct GenerateArgs {
+    /// Number of points.
+    #[arg(long, value_name = "N")]
+    nodes: usize,
+    /// Side of the square; coordinates are whole numbers in [0, SIDE).
+    #[arg(long, default_value_t = 1_000_000, value_name = "SIDE")]
+    side: u64,
+    /// Seed of the generator; the same seed gives the same file.
+    #[arg(long, default_value_t = 0)]
+    seed: u64,
+    /// Instance name written in the file (default: the file name without extension).
+    #[arg(long)]
+    name: Option<String>,
+    /// Output file.
+    #[arg(long, value_name = "FILE")]
+    out: PathBuf,
+}
+
+pub fn run(a: GenerateArgs) -> Result<(), CliError> {
+    if a.nodes == 0 {
+        return Err(CliError::Input("--nodes must be at least 1".into()));
+    }
+    if a.side == 0 {
+        return Err(CliError::Input("--side must be at least 1".into()));
+    }
+    let name = a.name.clone().unwrap_or_else(|| {
+        a.out
+            .file_stem()
+            .map(|s| s.to_string_lossy().into_owned())
+            .unwrap_or_else(|| "uniform".into())
+    });
+    let points = uniform_square(a.nodes, a.side, a.seed);
+    let comment = format!(
+        "{} uniform random points in [0, {}) squared, seed {}, written by wend {}",
+        a.nodes,
+        a.side,
+        a.seed,
+        env!("CARGO_PKG_VERSION")
+    );
+    write_file(&a.out, |w| write_points(&name, &comment, &points, w))?;
+    println!(
+        "{}: {} points; an optimal tour is about {:.0} long (0.7124 * sqrt(n * area))",
+        a.out.display(),
+        a.nodes,
+        expected_tour_length(a.nodes, a.side)
+    );
+    Ok(())
+}
