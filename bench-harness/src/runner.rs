@@ -6,10 +6,11 @@
 
 use crate::record::{read_runs, RunKey, RunRecord};
 use crate::tsplib::{read_instance, write_tour, Instance, TsplibError};
-use rayon::prelude::*;
+
 use std::collections::{BTreeMap, HashSet};
 use std::io::Write;
 use std::path::{Path, PathBuf};
+use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
 use std::time::Duration;
 use wend::{Method, Solver};
@@ -201,39 +202,52 @@ pub fn run_sweep(
     let sink = Mutex::new(file);
     let machine = machine_description();
     let count = Mutex::new(0usize);
-    let pool = rayon::ThreadPoolBuilder::new()
-        .num_threads(plan.jobs.max(1))
-        .build()
-        .map_err(|e| SweepError::Io {
-            path: "thread pool".into(),
-            source: std::io::Error::other(e),
-        })?;
-    // Instances are read once each, in order; the runs of one instance go in parallel.
+    // Instances are read once each, in order; the runs of one instance go `jobs` at a time on
+    // plain threads. (Not on a thread pool: a pool's worker that waits for a run's own worker
+    // threads would pick up the next run meanwhile, and runs would overlap.)
     let mut by_instance: BTreeMap<&str, Vec<&RunSpec>> = BTreeMap::new();
     for s in &todo {
         by_instance.entry(s.instance.as_str()).or_default().push(s);
     }
     for runs in by_instance.values() {
         let inst = read_instance(&runs[0].file)?;
-        pool.install(|| {
-            runs.par_iter().try_for_each(|spec| {
-                let rec = run_one(plan, &inst, spec, &machine)?;
+        let next = AtomicUsize::new(0);
+        let failed: Mutex<Option<SweepError>> = Mutex::new(None);
+        let worker = || loop {
+            let i = next.fetch_add(1, Ordering::Relaxed);
+            if i >= runs.len() || failed.lock().map_or(true, |f| f.is_some()) {
+                break;
+            }
+            let outcome = run_one(plan, &inst, runs[i], &machine).and_then(|rec| {
                 let line = serde_json::to_string(&rec).map_err(|e| SweepError::Io {
                     path: runs_path.display().to_string(),
                     source: std::io::Error::other(e),
                 })?;
-                {
-                    let mut f = sink.lock().unwrap_or_else(|e| e.into_inner());
-                    writeln!(f, "{line}")
-                        .and_then(|_| f.flush())
-                        .map_err(io(&runs_path))?;
+                let mut f = sink.lock().unwrap_or_else(|e| e.into_inner());
+                writeln!(f, "{line}")
+                    .and_then(|_| f.flush())
+                    .map_err(io(&runs_path))
+            });
+            match outcome {
+                Ok(()) => {
+                    let mut c = count.lock().unwrap_or_else(|e| e.into_inner());
+                    *c += 1;
+                    progress(*c, todo.len());
                 }
-                let mut c = count.lock().unwrap_or_else(|e| e.into_inner());
-                *c += 1;
-                progress(*c, todo.len());
-                Ok::<(), SweepError>(())
-            })
-        })?;
+                Err(e) => {
+                    let mut f = failed.lock().unwrap_or_else(|e| e.into_inner());
+                    f.get_or_insert(e);
+                }
+            }
+        };
+        std::thread::scope(|scope| {
+            for _ in 0..plan.jobs.clamp(1, runs.len().max(1)) {
+                scope.spawn(&worker);
+            }
+        });
+        if let Some(e) = failed.into_inner().unwrap_or_else(|e| e.into_inner()) {
+            return Err(e);
+        }
     }
     Ok(outcome)
 }

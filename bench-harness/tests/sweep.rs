@@ -211,3 +211,40 @@ fn bad_sweep_options_exit_2() {
         );
     }
 }
+
+#[test]
+fn runs_of_one_job_never_overlap() {
+    // With one job, a run that ends early must not wait for (or share the machine with) the
+    // next: lk stops at a280's optimum (2579, TSPLIB 95) within a few hundredths of a second,
+    // while the 2opt runs do not reach it and use their whole second.
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().display().to_string();
+    let file = instance("a280.tsp");
+    let o = wend(&[
+        "bench",
+        "--instances",
+        &file,
+        "--methods",
+        "lk",
+        "2opt",
+        "--seeds",
+        "3",
+        "--time-limit",
+        "1",
+        "--threads-per-run",
+        "2",
+        "--jobs",
+        "1",
+        "--stop-at-optimum",
+        "--out",
+        &out,
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let rs = runs(dir.path());
+    assert_eq!(rs.len(), 6);
+    for r in rs.iter().filter(|r| r["method"] == "lk") {
+        assert_eq!(r["length"], 2579);
+        assert_eq!(r["stop_reason"], "target_reached");
+        assert!(r["seconds"].as_f64().unwrap() < 0.5, "{r}");
+    }
+}

@@ -254,7 +254,7 @@ mod tests {
     use super::*;
     use crate::candidates::k_nearest;
     use crate::cost::{CoordCost, MatrixCost, Metric};
-    use crate::tour::{closed_length, Tour};
+    use crate::tour::{closed_length, Tour, TwoLevelTour};
     use proptest::prelude::*;
 
     fn random_points(n: usize, seed: u64) -> Vec<[f64; 2]> {
@@ -289,11 +289,16 @@ mod tests {
             let nb = k_nearest(&m, 8);
             let start: Vec<usize> = (0..n).collect();
             let before = closed_length(&m, &start).unwrap();
-            let mut t = ArrayTour::new(start);
+            let mut t = ArrayTour::new(start.clone());
             let stats = two_opt_or_opt(&m, &nb, &mut t, &mut || false);
             let after = closed_length(&m, t.order()).unwrap();
             prop_assert!(Tour::new(t.order().to_vec(), n).is_ok());
             prop_assert_eq!(before - after, stats.gain);
+            // The two-level list takes the very same moves.
+            let mut u = TwoLevelTour::new(start);
+            let stats2 = two_opt_or_opt(&m, &nb, &mut u, &mut || false);
+            prop_assert_eq!(stats, stats2);
+            prop_assert_eq!(u.walk_from(0), t.walk_from(0));
             prop_assert!(after <= before);
         }
     }
