@@ -214,3 +214,33 @@ fn asymmetric_instances_keep_direction() {
     assert_eq!(len, sol.length);
     assert!(sol.length >= 1286); // ftv33 optimum, TSPLIB list from memory (see instances/optima.txt)
 }
+
+#[test]
+fn alpha_lists_hold_nearly_every_optimal_edge() {
+    // Optimal tours of a280 and pr76 as published with TSPLIB 95. Alpha-nearness is reported
+    // to put nearly every optimal edge among a node's five alpha-nearest (Helsgaun 2000), and
+    // at least as many as the five nearest do (on a280's grid the nearest already hold all).
+    for (name, tour) in [("a280.tsp", "a280.opt.tour"), ("pr76.tsp", "pr76.opt.tour")] {
+        let inst = read_instance(&instance(name)).unwrap();
+        let opt = read_tour(&instances_dir().join("tours").join(tour)).unwrap();
+        let order = &opt.nodes;
+        let n = order.len();
+        let cover = |nb: &wend::candidates::Neighbours| {
+            (0..n)
+                .filter(|&i| {
+                    let (a, b) = (order[i], order[(i + 1) % n]);
+                    nb.out(a).contains(&(b as u32)) || nb.out(b).contains(&(a as u32))
+                })
+                .count() as f64
+                / n as f64
+        };
+        let alpha = wend::alpha::from_ascent(inst.cost(), 5).unwrap();
+        let nearest = wend::candidates::k_nearest(inst.cost(), 5);
+        let (ca, cn) = (cover(&alpha), cover(&nearest));
+        assert!(
+            ca >= 0.95,
+            "{name}: alpha lists hold {ca:.3} of the optimal edges"
+        );
+        assert!(ca >= cn, "{name}: alpha {ca:.3}, nearest {cn:.3}");
+    }
+}

@@ -242,7 +242,7 @@ pub fn run_sweep(
         };
         std::thread::scope(|scope| {
             for _ in 0..plan.jobs.clamp(1, runs.len().max(1)) {
-                scope.spawn(&worker);
+                scope.spawn(worker);
             }
         });
         if let Some(e) = failed.into_inner().unwrap_or_else(|e| e.into_inner()) {

@@ -162,10 +162,10 @@ fn list_methods_names_the_default() {
 }
 
 #[test]
-fn both_candidate_sources_reach_the_published_optimum_of_berlin52() {
+fn every_candidate_source_reaches_the_published_optimum_of_berlin52() {
     // Optimum 7542 from TSPLIB 95's list of optimal tour lengths.
     let file = instances().join("berlin52.tsp").display().to_string();
-    for source in ["nearest", "quadrant"] {
+    for source in ["nearest", "quadrant", "alpha"] {
         let o = wend(&[
             "solve",
             &file,
@@ -186,4 +186,40 @@ fn both_candidate_sources_reach_the_published_optimum_of_berlin52() {
         "{}",
         stderr(&o)
     );
+}
+
+#[test]
+fn bound_is_below_the_optimum_and_solve_reports_the_gap_it_proves() {
+    // berlin52's optimum is 7542 (TSPLIB 95 list of optimal tour lengths). The Held–Karp bound
+    // of Euclidean instances is typically within 1-2 % of the optimum (common practice).
+    let file = instances().join("berlin52.tsp").display().to_string();
+    let o = wend(&["bound", &file, "--time-limit", "5", "--json"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let b = v["lower_bound"].as_i64().unwrap();
+    assert!(b <= 7542 && b as f64 >= 0.98 * 7542.0, "{v}");
+
+    let o = wend(&[
+        "solve",
+        &file,
+        "--kicks",
+        "2000",
+        "--bound",
+        "--bound-time",
+        "5",
+        "--json",
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["length"], 7542);
+    let b = v["lower_bound"].as_i64().unwrap();
+    assert!(b <= 7542);
+    let gap = v["proven_gap_percent"].as_f64().unwrap();
+    assert!((gap - 100.0 * (7542 - b) as f64 / b as f64).abs() < 1e-9);
+
+    // Asymmetric costs are refused with one line.
+    let atsp = instances().join("br17.atsp").display().to_string();
+    let o = wend(&["bound", &atsp]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("symmetric"), "{}", stderr(&o));
 }

@@ -33,17 +33,26 @@ pub enum CandidateSource {
     /// uniform instances it finds as good tours as `Nearest`, on clustered ones better.
     #[default]
     Quadrant,
+    /// The alpha-nearest: edges that the cheapest 1-tree containing them makes least longer,
+    /// under penalties from a short Held–Karp ascent ([`crate::alpha`]). Symmetric costs up to
+    /// [`crate::alpha::ALPHA_LIMIT`] nodes; otherwise the same as `Quadrant`. Costs O(n²).
+    Alpha,
 }
 
 impl CandidateSource {
     /// Every source, for option parsing.
-    pub const ALL: [CandidateSource; 2] = [CandidateSource::Nearest, CandidateSource::Quadrant];
+    pub const ALL: [CandidateSource; 3] = [
+        CandidateSource::Nearest,
+        CandidateSource::Quadrant,
+        CandidateSource::Alpha,
+    ];
 
     /// Name as the command line takes it.
     pub fn name(self) -> &'static str {
         match self {
             CandidateSource::Nearest => "nearest",
             CandidateSource::Quadrant => "quadrant",
+            CandidateSource::Alpha => "alpha",
         }
     }
 
@@ -58,6 +67,9 @@ pub fn candidates<C: Cost + ?Sized>(cost: &C, k: usize, source: CandidateSource)
     match source {
         CandidateSource::Nearest => k_nearest(cost, k),
         CandidateSource::Quadrant => quadrant(cost, k),
+        CandidateSource::Alpha => {
+            crate::alpha::from_ascent(cost, k).unwrap_or_else(|_| quadrant(cost, k))
+        }
     }
 }
 

@@ -37,6 +37,9 @@
 
 #![warn(missing_docs)]
 
+pub mod alpha;
+pub mod bound;
+pub mod branch;
 pub mod candidates;
 pub mod construct;
 pub mod cost;

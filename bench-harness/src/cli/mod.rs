@@ -1,6 +1,7 @@
 //! Command-line definitions and dispatch. Each subcommand lives in a module of its own.
 
 mod bench;
+mod bound;
 mod demo;
 mod generate;
 mod measure;
@@ -26,6 +27,8 @@ enum Command {
     Measure(measure::MeasureArgs),
     /// Solve the built-in demo instances and compare with their published optima.
     Demo(demo::DemoArgs),
+    /// Compute the Held–Karp lower bound on every tour of a symmetric instance.
+    Bound(bound::BoundArgs),
     /// Write a seeded random instance (uniform points in a square) as a TSPLIB file.
     Generate(generate::GenerateArgs),
     /// Run a seeded sweep of methods over instances and report gaps and times.
@@ -40,6 +43,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
         Command::Demo(a) => demo::run(a),
         Command::Bench(a) => bench::run(a),
         Command::Generate(a) => generate::run(a),
+        Command::Bound(a) => bound::run(a),
     }
 }
 
