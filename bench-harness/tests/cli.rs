@@ -223,3 +223,51 @@ fn bound_is_below_the_optimum_and_solve_reports_the_gap_it_proves() {
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("symmetric"), "{}", stderr(&o));
 }
+
+// Optima from the TSPLIB 95 list of optimal tour lengths: burma14 3323, br17 39 (asymmetric),
+// st70 675, eil51 426.
+#[test]
+fn exact_proves_published_optima_and_says_when_it_cannot() {
+    for (name, optimum, method) in [
+        ("burma14.tsp", 3323, "dynamic-programme"),
+        ("br17.atsp", 39, "dynamic-programme"),
+        ("eil51.tsp", 426, "branch-and-bound"),
+        ("st70.tsp", 675, "branch-and-bound"),
+    ] {
+        let file = instances().join(name).display().to_string();
+        let dir = tempfile::tempdir().unwrap();
+        let tour = dir.path().join("t.tour").display().to_string();
+        let o = wend(&["solve", &file, "--exact", "--json", "--tour-out", &tour]);
+        assert!(o.status.success(), "{name}: {}", stderr(&o));
+        let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+        assert_eq!(v["proven_optimal"], true, "{v}");
+        assert_eq!(v["length"], optimum, "{v}");
+        assert_eq!(v["lower_bound"], optimum, "{v}");
+        assert_eq!(v["exact_method"], method, "{v}");
+        // The tour written has the published length, measured independently of the solve.
+        let m = wend(&["measure", &file, &tour, "--json"]);
+        assert!(m.status.success(), "{}", stderr(&m));
+        let mv: serde_json::Value = serde_json::from_slice(&m.stdout).unwrap();
+        assert_eq!(mv["length"], optimum, "{mv}");
+    }
+
+    // Out of time: a valid tour and bound, not proven. pr76's optimum is 108159 (TSPLIB 95).
+    let file = instances().join("pr76.tsp").display().to_string();
+    let o = wend(&["solve", &file, "--exact", "--time-limit", "0.5", "--json"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let (len, lb) = (
+        v["length"].as_i64().unwrap(),
+        v["lower_bound"].as_i64().unwrap(),
+    );
+    assert!(lb <= 108159 && 108159 <= len, "{v}");
+    assert_eq!(v["proven_optimal"], lb == len, "{v}");
+
+    // Asymmetric costs beyond the dynamic programme are refused with one line naming the file.
+    let file = instances().join("ftv33.atsp").display().to_string();
+    let o = wend(&["solve", &file, "--exact"]);
+    assert_eq!(o.status.code(), Some(2));
+    let e = stderr(&o);
+    assert!(e.contains("ftv33.atsp") && e.contains("24 nodes"), "{e}");
+    assert_eq!(e.trim().lines().count(), 1, "{e}");
+}

@@ -5,8 +5,9 @@ use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
 use rand::{Rng, SeedableRng};
 use wend::candidates::k_nearest;
 use wend::construct::greedy_edge;
+use wend::exact::{dynamic_programme, DEFAULT_DP_MEMORY};
 use wend::improve::{two_opt_or_opt, ArrayTour};
-use wend::{CoordCost, Cost, Metric};
+use wend::{CoordCost, Cost, MatrixCost, Metric};
 
 fn uniform(n: usize, seed: u64) -> CoordCost {
     let mut rng = rand_pcg::Pcg64::seed_from_u64(seed);
@@ -75,5 +76,27 @@ fn bench(c: &mut Criterion) {
     group.finish();
 }
 
-criterion_group!(benches, kernels, bench);
+/// The exact dynamic programme on random asymmetric integer costs (uniform in 1..1000) of 20
+/// and 24 nodes, on all cores.
+fn exact(c: &mut Criterion) {
+    let mut group = c.benchmark_group("dynamic_programme");
+    group.sample_size(10);
+    for n in [20usize, 24] {
+        let mut rng = rand_pcg::Pcg64::seed_from_u64(n as u64);
+        let rows: Vec<Vec<i64>> = (0..n)
+            .map(|i| {
+                (0..n)
+                    .map(|j| if i == j { 0 } else { rng.gen_range(1..1000) })
+                    .collect()
+            })
+            .collect();
+        let cost = MatrixCost::from_rows(&rows).expect("a square matrix");
+        group.bench_with_input(BenchmarkId::new("asymmetric", n), &n, |b, _| {
+            b.iter(|| dynamic_programme(&cost, DEFAULT_DP_MEMORY, &mut || false).expect("fits"))
+        });
+    }
+    group.finish();
+}
+
+criterion_group!(benches, kernels, bench, exact);
 criterion_main!(benches);

@@ -46,6 +46,7 @@ pub mod cost;
 pub mod exact;
 pub mod improve;
 pub mod lk;
+pub mod prove;
 pub mod search;
 pub mod solver;
 pub mod tour;

@@ -7,6 +7,7 @@ use std::io::IsTerminal;
 use std::path::PathBuf;
 use std::time::Duration;
 use wend::bound::{held_karp_bound, AscentOptions};
+use wend::prove::{prove_optimal, ExactMethod, ProveOptions};
 use wend::{CandidateSource, Layout, Method, Solver, StopHandle};
 
 #[derive(Args, Debug)]
@@ -56,6 +57,15 @@ pub struct SolveArgs {
     /// Also compute the Held–Karp lower bound and report the gap it proves (symmetric costs).
     #[arg(long)]
     bound: bool,
+    /// Prove the tour optimal: the dynamic programme up to 16 nodes (24 for asymmetric costs),
+    /// else a short lk search and branch and bound on the 1-tree bound (symmetric costs only).
+    /// With --time-limit, the best tour and bound when time runs out; JSON `proven_optimal`.
+    #[arg(long, conflicts_with_all = ["bound", "method", "restarts", "kicks", "stall_limit", "target", "candidates", "layout", "neighbours"])]
+    exact: bool,
+    /// With --exact: dynamic-programme (up to 24 nodes, either kind of costs) or
+    /// branch-and-bound (symmetric costs); default: chosen by size and symmetry.
+    #[arg(long, value_name = "METHOD", requires = "exact")]
+    exact_method: Option<String>,
     /// Seconds for the lower bound's ascent (with --bound).
     #[arg(long, value_name = "SECONDS", default_value_t = 10.0)]
     bound_time: f64,
@@ -117,6 +127,9 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
     }
     let path = a.path.clone().unwrap_or_default();
     let inst = load(&path)?;
+    if a.exact {
+        return run_exact(&a, &inst, &path, limit);
+    }
     let progress = Progress::start(limit, !a.json || std::io::stderr().is_terminal());
     let mut solver = Solver::new(inst.cost())
         .seed(a.seed)
@@ -225,6 +238,109 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
             sol.kicks,
             stop_words(sol.stop_reason)
         );
+        if let Some(out) = &a.tour_out {
+            println!("tour       written to {}", out.display());
+        }
+    }
+    Ok(())
+}
+
+/// `wend solve --exact`.
+fn run_exact(
+    a: &SolveArgs,
+    inst: &wend_bench::tsplib::Instance,
+    path: &std::path::Path,
+    limit: Option<Duration>,
+) -> Result<(), CliError> {
+    let method = match &a.exact_method {
+        None => None,
+        Some(name) => Some(ExactMethod::from_name(name).ok_or_else(|| {
+            CliError::Input(format!(
+                "unknown exact method {name:?}; choose one of: dynamic-programme, branch-and-bound"
+            ))
+        })?),
+    };
+    let opts = ProveOptions {
+        method,
+        time_limit: limit,
+        seed: a.seed,
+        threads: a.threads,
+        ..Default::default()
+    };
+    let progress = Progress::start(limit, !a.json || std::io::stderr().is_terminal());
+    let result = prove_optimal(inst.cost(), &opts, &StopHandle::new());
+    progress.finish();
+    let c = result.map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
+    let proven_gap = c
+        .lower_bound
+        .filter(|&b| b > 0)
+        .map(|b| 100.0 * (c.length - b) as f64 / b as f64);
+    if let Some(out) = &a.tour_out {
+        let comment = format!(
+            "length {} found by wend {} ({}{})",
+            c.length,
+            env!("CARGO_PKG_VERSION"),
+            c.method.name(),
+            if c.proven_optimal {
+                ", proven optimal"
+            } else {
+                ", not proven optimal"
+            }
+        );
+        write_file(out, |w| {
+            wend_bench::tsplib::write_tour(
+                &format!("{}.tour", inst.name),
+                &comment,
+                c.tour.order(),
+                w,
+            )
+        })?;
+    }
+    if a.json {
+        let obj = json!({
+            "instance": inst.name,
+            "file": path.display().to_string(),
+            "type": inst.kind.keyword(),
+            "nodes": inst.dimension,
+            "method": "exact",
+            "exact_method": c.method.name(),
+            "seed": a.seed,
+            "threads": a.threads,
+            "time_limit": a.time_limit,
+            "length": c.length,
+            "lower_bound": c.lower_bound,
+            "proven_optimal": c.proven_optimal,
+            "proven_gap_percent": proven_gap,
+            "first_tour_length": c.first_tour_length,
+            "subproblems": c.subproblems,
+            "seconds": c.seconds,
+            "tour_out": a.tour_out.as_ref().map(|p| p.display().to_string()),
+        });
+        println!("{obj}");
+    } else {
+        println!(
+            "instance   {} ({} nodes, {})",
+            inst.name,
+            inst.dimension,
+            inst.kind.keyword()
+        );
+        match c.method {
+            ExactMethod::DynamicProgramme => println!("method     exact: dynamic programme"),
+            ExactMethod::BranchAndBound => println!(
+                "method     exact: branch and bound, {} subproblem(s), first tour {}",
+                c.subproblems,
+                c.first_tour_length.unwrap_or(c.length)
+            ),
+        }
+        println!("length     {}", c.length);
+        match (c.proven_optimal, c.lower_bound, proven_gap) {
+            (true, _, _) => println!("proof      optimal"),
+            (false, Some(b), Some(g)) => println!(
+                "proof      not finished in time; bound {b}: the tour is at most {g:.3} % above the optimum"
+            ),
+            _ => println!("proof      not finished in time; no bound"),
+        }
+        println!("time       {:.3} s", c.seconds);
         if let Some(out) = &a.tour_out {
             println!("tour       written to {}", out.display());
         }

@@ -1,0 +1,326 @@
+//! Optimal tours with a certificate: the exact methods behind one call.
+//!
+//! [`prove_optimal`] picks the method the costs allow:
+//!
+//! - up to [`DP_DIRECT_LIMIT`] nodes, or asymmetric costs up to [`DP_LIMIT`] nodes: the dynamic
+//!   programme of [`crate::exact`], exact for either kind of costs;
+//! - larger symmetric costs: a short iterated Lin–Kernighan-style search for a first tour,
+//!   then the branch and bound of [`crate::branch`] on the 1-tree bound;
+//! - larger asymmetric costs are refused with [`ProveError::AsymmetricTooLarge`].
+//!
+//! With a time limit the answer may come back unproven: the best tour found, the best lower
+//! bound known (none when the dynamic programme was stopped) and `proven_optimal == false`.
+
+use crate::bound::BoundError;
+use crate::branch::{branch_and_bound, BranchOptions};
+use crate::cost::Cost;
+use crate::exact::{dynamic_programme, DpError, DEFAULT_DP_MEMORY, DP_LIMIT};
+use crate::search::StopHandle;
+use crate::solver::{Method, SolveError, Solver};
+use crate::tour::{Overflow, Tour, TourError};
+use std::time::{Duration, Instant};
+
+/// Symmetric instances up to this size go to the dynamic programme (it takes well under a
+/// second there); larger ones to branch and bound.
+pub const DP_DIRECT_LIMIT: usize = 16;
+
+/// Limits of [`prove_optimal`].
+#[derive(Clone, Debug)]
+pub struct ProveOptions {
+    /// Wall-clock limit over the whole call, first tour included.
+    pub time_limit: Option<Duration>,
+    /// Seed of the search for the first tour.
+    pub seed: u64,
+    /// Worker threads of the first tour's search and of the dynamic programme (default: one
+    /// per core).
+    pub threads: Option<usize>,
+    /// Memory the dynamic programme may allocate.
+    pub dp_memory_bytes: usize,
+    /// Largest number of branch-and-bound subproblems.
+    pub node_limit: Option<u64>,
+    /// The method to use; `None` picks as the module documentation says.
+    pub method: Option<ExactMethod>,
+}
+
+impl Default for ProveOptions {
+    fn default() -> Self {
+        ProveOptions {
+            time_limit: None,
+            seed: 0,
+            threads: None,
+            dp_memory_bytes: DEFAULT_DP_MEMORY,
+            node_limit: None,
+            method: None,
+        }
+    }
+}
+
+/// Which exact method answered.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ExactMethod {
+    /// The dynamic programme over subsets.
+    DynamicProgramme,
+    /// Branch and bound on the 1-tree bound.
+    BranchAndBound,
+}
+
+impl ExactMethod {
+    /// Both methods.
+    pub const ALL: [ExactMethod; 2] = [ExactMethod::DynamicProgramme, ExactMethod::BranchAndBound];
+
+    /// Name on the command line and in its JSON output.
+    pub fn name(self) -> &'static str {
+        match self {
+            ExactMethod::DynamicProgramme => "dynamic-programme",
+            ExactMethod::BranchAndBound => "branch-and-bound",
+        }
+    }
+
+    /// The method of a [`name`](Self::name).
+    pub fn from_name(name: &str) -> Option<ExactMethod> {
+        Self::ALL.into_iter().find(|m| m.name() == name)
+    }
+}
+
+/// What [`prove_optimal`] established.
+#[derive(Clone, Debug)]
+pub struct Certificate {
+    /// The best tour found, starting at node 0.
+    pub tour: Tour,
+    /// Its exact length.
+    pub length: i64,
+    /// A lower bound on every tour's length, when one is known; equal to `length` when
+    /// `proven_optimal`.
+    pub lower_bound: Option<i64>,
+    /// True when `tour` is proven optimal.
+    pub proven_optimal: bool,
+    /// The method that answered.
+    pub method: ExactMethod,
+    /// Branch-and-bound subproblems evaluated (zero for the dynamic programme).
+    pub subproblems: u64,
+    /// Length of the first tour, from the heuristic search (branch and bound only).
+    pub first_tour_length: Option<i64>,
+    /// Wall-clock seconds of the whole call.
+    pub seconds: f64,
+}
+
+/// Why [`prove_optimal`] gave no tour.
+#[derive(Debug, thiserror::Error)]
+pub enum ProveError {
+    /// Asymmetric costs beyond the dynamic programme's reach.
+    #[error(
+        "exact solving of asymmetric costs is limited to {limit} nodes (the dynamic programme); \
+         this instance has {n}"
+    )]
+    AsymmetricTooLarge {
+        /// Nodes in the instance.
+        n: usize,
+        /// [`DP_LIMIT`].
+        limit: usize,
+    },
+    /// The dynamic programme refused (memory, overflow).
+    #[error(transparent)]
+    Dp(#[from] DpError),
+    /// Branch and bound refused (overflowing costs, say).
+    #[error(transparent)]
+    Bound(#[from] BoundError),
+    /// The search for a first tour failed.
+    #[error(transparent)]
+    Solve(#[from] SolveError),
+    /// A tour length overflowed.
+    #[error(transparent)]
+    Overflow(#[from] Overflow),
+    /// A tour was malformed (a bug if it happens).
+    #[error(transparent)]
+    Tour(#[from] TourError),
+}
+
+/// An optimal tour with its proof, or the best tour and bound within the limits. See the module
+/// documentation for which method runs when [`ProveOptions::method`] is `None`; a method asked
+/// for that cannot run (the dynamic programme beyond [`DP_LIMIT`] nodes or its memory limit,
+/// branch and bound on asymmetric costs) is an error.
+pub fn prove_optimal<C: Cost + ?Sized>(
+    cost: &C,
+    opts: &ProveOptions,
+    stop: &StopHandle,
+) -> Result<Certificate, ProveError> {
+    let began = Instant::now();
+    let n = cost.len();
+    let symmetric = cost.is_symmetric();
+    let deadline = opts.time_limit.and_then(|l| began.checked_add(l));
+    let remaining = || deadline.map(|d| d.saturating_duration_since(Instant::now()));
+    let method = opts
+        .method
+        .unwrap_or(if n <= DP_DIRECT_LIMIT || (!symmetric && n <= DP_LIMIT) {
+            ExactMethod::DynamicProgramme
+        } else {
+            ExactMethod::BranchAndBound
+        });
+    if !symmetric && method == ExactMethod::BranchAndBound {
+        return Err(if opts.method.is_some() {
+            ProveError::Bound(BoundError::Asymmetric)
+        } else {
+            ProveError::AsymmetricTooLarge { n, limit: DP_LIMIT }
+        });
+    }
+    if method == ExactMethod::DynamicProgramme {
+        let mut should_stop = || stop.is_stopped() || deadline.is_some_and(|d| Instant::now() >= d);
+        let pool = opts.threads.and_then(|t| {
+            rayon::ThreadPoolBuilder::new()
+                .num_threads(t.max(1))
+                .build()
+                .ok()
+        });
+        let dp = match pool {
+            Some(pool) => {
+                pool.install(|| dynamic_programme(cost, opts.dp_memory_bytes, &mut should_stop))
+            }
+            None => dynamic_programme(cost, opts.dp_memory_bytes, &mut should_stop),
+        };
+        return match dp {
+            Ok(t) => Ok(Certificate {
+                tour: Tour::new(t.order, n)?,
+                length: t.length,
+                lower_bound: Some(t.length),
+                proven_optimal: true,
+                method: ExactMethod::DynamicProgramme,
+                subproblems: 0,
+                first_tour_length: None,
+                seconds: began.elapsed().as_secs_f64(),
+            }),
+            Err(DpError::Stopped) => {
+                // Out of time: the best heuristic tour there is time for, without a bound.
+                let mut s = Solver::new(cost)
+                    .seed(opts.seed)
+                    .time_limit(Duration::from_millis(200));
+                if let Some(t) = opts.threads {
+                    s = s.threads(t);
+                }
+                let sol = s.solve()?;
+                let mut tour = sol.tour;
+                tour.rotate_to(0);
+                Ok(Certificate {
+                    tour,
+                    length: sol.length,
+                    lower_bound: None,
+                    proven_optimal: false,
+                    method: ExactMethod::DynamicProgramme,
+                    subproblems: 0,
+                    first_tour_length: None,
+                    seconds: began.elapsed().as_secs_f64(),
+                })
+            }
+            Err(e) => Err(e.into()),
+        };
+    }
+    // A first tour: the better it is, the less the branch and bound has to search. A tenth of
+    // the time limit, at most a few seconds; without one, a kick budget of n per run.
+    let mut s = Solver::new(cost)
+        .seed(opts.seed)
+        .method(Method::Lk)
+        .stop_handle(stop.clone());
+    if let Some(t) = opts.threads {
+        s = s.threads(t);
+    }
+    s = match remaining() {
+        Some(r) => s.time_limit((r / 10).min(Duration::from_secs(5))),
+        None => s.restarts(2).kicks(n as u64),
+    };
+    let first = s.solve()?;
+    let branch = BranchOptions {
+        time_limit: remaining(),
+        node_limit: opts.node_limit,
+    };
+    let proof = branch_and_bound(cost, first.tour.order().to_vec(), &branch, stop)?;
+    Ok(Certificate {
+        tour: Tour::new(proof.tour, n)?,
+        length: proof.length,
+        lower_bound: Some(proof.lower_bound),
+        proven_optimal: proof.proven_optimal,
+        method: ExactMethod::BranchAndBound,
+        subproblems: proof.nodes,
+        first_tour_length: Some(first.length),
+        seconds: began.elapsed().as_secs_f64(),
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::cost::MatrixCost;
+    use crate::exact::enumerate;
+
+    #[allow(clippy::needless_range_loop)]
+    fn random_matrix(n: usize, seed: u64, symmetric: bool) -> Vec<Vec<i64>> {
+        use rand::{Rng, SeedableRng};
+        let mut rng = rand_pcg::Pcg64::seed_from_u64(seed);
+        let mut m = vec![vec![0i64; n]; n];
+        for i in 0..n {
+            for j in 0..n {
+                if i != j && (!symmetric || j > i) {
+                    m[i][j] = rng.gen_range(1..1000);
+                    if symmetric {
+                        m[j][i] = m[i][j];
+                    }
+                }
+            }
+        }
+        m
+    }
+
+    // Against enumeration of every tour (n <= 9), both kinds of costs.
+    #[test]
+    fn matches_enumeration_on_small_instances() {
+        for seed in 0..20 {
+            for symmetric in [true, false] {
+                let n = 4 + (seed as usize % 6);
+                let c = MatrixCost::from_rows(&random_matrix(n, seed, symmetric)).unwrap();
+                let best = enumerate(&c).unwrap();
+                let expected = crate::tour::closed_length(&c, &best).unwrap();
+                let cert = prove_optimal(&c, &ProveOptions::default(), &StopHandle::new()).unwrap();
+                assert!(cert.proven_optimal);
+                assert_eq!(cert.length, expected, "seed {seed}, symmetric {symmetric}");
+                assert_eq!(cert.tour.length(&c).unwrap(), expected);
+                assert_eq!(cert.lower_bound, Some(expected));
+            }
+        }
+    }
+
+    #[test]
+    fn large_asymmetric_costs_are_refused() {
+        let c = MatrixCost::from_rows(&random_matrix(DP_LIMIT + 1, 1, false)).unwrap();
+        let e = prove_optimal(&c, &ProveOptions::default(), &StopHandle::new()).unwrap_err();
+        assert!(
+            matches!(e, ProveError::AsymmetricTooLarge { n: 25, .. }),
+            "{e}"
+        );
+    }
+
+    // Above the dynamic programme's direct range the branch and bound answers and its proof
+    // agrees with the dynamic programme run on the same costs.
+    #[test]
+    fn branch_and_bound_agrees_with_the_dynamic_programme() {
+        for seed in 0..3 {
+            let c = MatrixCost::from_rows(&random_matrix(20, seed, true)).unwrap();
+            let cert = prove_optimal(&c, &ProveOptions::default(), &StopHandle::new()).unwrap();
+            assert_eq!(cert.method, ExactMethod::BranchAndBound);
+            let dp = dynamic_programme(&c, DEFAULT_DP_MEMORY, &mut || false).unwrap();
+            assert!(cert.proven_optimal);
+            assert_eq!(cert.length, dp.length);
+        }
+    }
+
+    // A zero time limit on a table that takes a while still returns a valid tour, unproven.
+    #[test]
+    fn a_stopped_dynamic_programme_returns_an_unproven_tour() {
+        let c = MatrixCost::from_rows(&random_matrix(22, 5, false)).unwrap();
+        let opts = ProveOptions {
+            time_limit: Some(Duration::ZERO),
+            ..Default::default()
+        };
+        let cert = prove_optimal(&c, &opts, &StopHandle::new()).unwrap();
+        assert!(!cert.proven_optimal);
+        assert_eq!(cert.lower_bound, None);
+        assert_eq!(cert.tour.length(&c).unwrap(), cert.length);
+    }
+}
