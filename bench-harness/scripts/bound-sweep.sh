@@ -25,7 +25,7 @@ for f in "$shared"/tsp/*.tsp; do
   fi
 done > "$out"
 python3 - "$out" "$shared/optima.txt" "$limit" <<'PY'
-import json, sys
+import json, os, sys
 optima = {}
 for line in open(sys.argv[2]):
     p = line.split('#')[0].split(':')
@@ -39,7 +39,9 @@ for line in open(sys.argv[1]):
         _, name, kind = line.split()
         kinds[name] = kind
     else:
-        rows.append(json.loads(line))
+        r = json.loads(line)
+        r['instance'] = os.path.splitext(os.path.basename(r['file']))[0]
+        rows.append(r)
 print(f"| instance | nodes | distances | optimum | bound | below optimum (%) | 1-trees | seconds |")
 print(f"|---|---:|---|---:|---:|---:|---:|---:|")
 worst, over1, slow = 0.0, [], []
@@ -54,4 +56,5 @@ for r in rows:
 print()
 print(f"{len(rows)} instances; worst gap {worst:.3f} %; above 1 %: {', '.join(over1) or 'none'}; over the time limit: {', '.join(slow) or 'none'}")
 PY
+[ -n "${RAW:-}" ] && cp "$out" "$RAW"
 rm -f "$out" "$out.err"

@@ -22,7 +22,7 @@ for f in "$shared"/tsp/*.tsp; do
   fi
 done > "$out"
 python3 - "$out" "$shared/optima.txt" <<'PY'
-import json, sys
+import json, os, sys
 optima = {}
 for line in open(sys.argv[2]):
     p = line.split('#')[0].split(':')
@@ -33,7 +33,9 @@ for line in open(sys.argv[1]):
     if line.startswith('#refused '):
         print('refused:', line[9:].strip())
     else:
-        rows.append(json.loads(line))
+        r = json.loads(line)
+        r['instance'] = os.path.splitext(os.path.basename(r['file']))[0]
+        rows.append(r)
 print("| instance | nodes | optimum | length | lower bound | proven | method | subproblems | seconds |")
 print("|---|---:|---:|---:|---:|---|---|---:|---:|")
 proven = 0
@@ -48,4 +50,5 @@ for r in sorted(rows, key=lambda r: (r['nodes'], r['instance'])):
 print()
 print(f"proven optimal: {proven} of {len(rows)}")
 PY
+[ -n "${RAW:-}" ] && cp "$out" "$RAW"
 rm -f "$out" "$out.err"

@@ -13,15 +13,98 @@ use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
 use std::time::Duration;
-use wend::{Method, Solver};
+use wend::{CandidateSource, Method, Solver};
+
+/// A method with optional candidate-list settings: `lk`, `lk:alpha`, `lk:nearest:5`. Runs of
+/// different variants of one method are kept apart in records and reports by their label.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct MethodSpec {
+    /// The method.
+    pub method: Method,
+    /// Where neighbour lists come from (default: the solver's).
+    pub candidates: Option<CandidateSource>,
+    /// Width of the neighbour lists (default: the solver's).
+    pub neighbours: Option<usize>,
+}
+
+impl From<Method> for MethodSpec {
+    fn from(method: Method) -> Self {
+        MethodSpec {
+            method,
+            candidates: None,
+            neighbours: None,
+        }
+    }
+}
+
+impl MethodSpec {
+    /// Reads `METHOD[:SOURCE[:WIDTH]]`, with a message naming the choices when it is wrong.
+    pub fn parse(text: &str) -> Result<MethodSpec, String> {
+        let mut parts = text.split(':');
+        let name = parts.next().unwrap_or_default();
+        let method = Method::from_name(name).ok_or_else(|| {
+            let names: Vec<&str> = Method::ALL.iter().map(|m| m.name()).collect();
+            format!(
+                "unknown method {name:?} in {text:?}; choose from: {}",
+                names.join(", ")
+            )
+        })?;
+        let candidates = match parts.next() {
+            None => None,
+            Some(src) => Some(CandidateSource::from_name(src).ok_or_else(|| {
+                let names: Vec<&str> = CandidateSource::ALL.iter().map(|s| s.name()).collect();
+                format!(
+                    "unknown candidate source {src:?} in {text:?}; choose from: {}",
+                    names.join(", ")
+                )
+            })?),
+        };
+        let neighbours = match parts.next() {
+            None => None,
+            Some(k) => match k.parse::<usize>() {
+                Ok(k) if k >= 1 => Some(k),
+                _ => return Err(format!(
+                    "neighbour-list width {k:?} in {text:?} must be a whole number of at least 1"
+                )),
+            },
+        };
+        if parts.next().is_some() {
+            return Err(format!(
+                "{text:?} has too many parts; write METHOD, METHOD:SOURCE or METHOD:SOURCE:WIDTH"
+            ));
+        }
+        Ok(MethodSpec {
+            method,
+            candidates,
+            neighbours,
+        })
+    }
+
+    /// The canonical text of the variant, as records and reports name it.
+    pub fn label(&self) -> String {
+        let mut s = self.method.name().to_string();
+        if let Some(c) = self.candidates {
+            s.push(':');
+            s.push_str(c.name());
+        }
+        if let Some(k) = self.neighbours {
+            if self.candidates.is_none() {
+                s.push(':');
+                s.push_str(CandidateSource::default().name());
+            }
+            s.push_str(&format!(":{k}"));
+        }
+        s
+    }
+}
 
 /// What to run.
 #[derive(Clone, Debug)]
 pub struct SweepPlan {
     /// Instance files.
     pub instances: Vec<PathBuf>,
-    /// Methods, by name.
-    pub methods: Vec<Method>,
+    /// Methods and their variants.
+    pub methods: Vec<MethodSpec>,
     /// Seeds.
     pub seeds: Vec<u64>,
     /// Time limit of each run, in seconds.
@@ -52,8 +135,8 @@ pub struct RunSpec {
     pub file: PathBuf,
     /// Instance name (file stem).
     pub instance: String,
-    /// Method.
-    pub method: Method,
+    /// Method and variant.
+    pub method: MethodSpec,
     /// Seed.
     pub seed: u64,
 }
@@ -184,7 +267,7 @@ pub fn run_sweep(
     let specs = plan_runs(plan);
     let key = |s: &RunSpec| RunKey {
         instance: s.instance.clone(),
-        method: s.method.name().to_string(),
+        method: s.method.label(),
         seed: s.seed,
         time_limit_ms: (plan.time_limit * 1000.0).round() as u64,
     };
@@ -259,10 +342,16 @@ fn run_one(
     machine: &str,
 ) -> Result<RunRecord, SweepError> {
     let mut solver = Solver::new(inst.cost())
-        .method(spec.method)
+        .method(spec.method.method)
         .seed(spec.seed)
         .threads(plan.threads_per_run)
         .time_limit(Duration::from_secs_f64(plan.time_limit));
+    if let Some(c) = spec.method.candidates {
+        solver = solver.candidates(c);
+    }
+    if let Some(k) = spec.method.neighbours {
+        solver = solver.neighbours(k);
+    }
     if let Some(r) = plan.restarts {
         solver = solver.restarts(r);
     }
@@ -281,7 +370,7 @@ fn run_one(
     let tour_name = format!(
         "{}.{}.s{}.t{}.tour",
         spec.instance,
-        spec.method.name(),
+        spec.method.label().replace(':', "-"),
         spec.seed,
         plan.time_limit
     );
@@ -290,7 +379,7 @@ fn run_one(
         "length {} found by wend {} (method {}, seed {})",
         sol.length,
         env!("CARGO_PKG_VERSION"),
-        spec.method.name(),
+        spec.method.label(),
         spec.seed
     );
     std::fs::File::create(&tour_path)
@@ -309,7 +398,7 @@ fn run_one(
         file: spec.file.display().to_string(),
         problem_type: inst.kind.keyword().to_string(),
         nodes: inst.dimension,
-        method: spec.method.name().to_string(),
+        method: spec.method.label(),
         seed: spec.seed,
         time_limit: plan.time_limit,
         threads: plan.threads_per_run,
@@ -342,7 +431,7 @@ mod tests {
     fn plan(shard: Option<(usize, usize)>) -> SweepPlan {
         SweepPlan {
             instances: vec!["b/x.tsp".into(), "a/y.tsp".into(), "c/x.tsp".into()],
-            methods: vec![Method::TwoOpt, Method::Greedy],
+            methods: vec![Method::TwoOpt.into(), Method::Greedy.into()],
             seeds: vec![0, 1, 2],
             time_limit: 1.0,
             restarts: None,
@@ -365,7 +454,7 @@ mod tests {
             .flat_map(|k| plan_runs(&plan(Some((k, 3)))))
             .collect();
         assert_eq!(merged.len(), all.len());
-        let key = |r: &RunSpec| (r.instance.clone(), r.method.name(), r.seed);
+        let key = |r: &RunSpec| (r.instance.clone(), r.method.label(), r.seed);
         merged.sort_by_key(key);
         let mut sorted = all.clone();
         sorted.sort_by_key(key);

@@ -248,3 +248,74 @@ fn runs_of_one_job_never_overlap() {
         assert!(r["seconds"].as_f64().unwrap() < 0.5, "{r}");
     }
 }
+
+// Variants of one method (`lk:SOURCE:WIDTH`) run with their own neighbour lists: each variant's
+// run gives the same tour as `wend solve` with the same settings, and records keep them apart.
+#[test]
+fn method_variants_run_with_their_own_neighbour_lists() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("sweep");
+    let file = instance("pr76.tsp");
+    let o = wend(&[
+        "bench",
+        "--instances",
+        &file,
+        "--methods",
+        "lk:nearest:5",
+        "lk:alpha:5",
+        "--restarts",
+        "1",
+        "--kicks",
+        "3",
+        "--time-limit",
+        "60",
+        "--jobs",
+        "1",
+        "--out",
+        &out.display().to_string(),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let recs = runs(&out);
+    let labels: BTreeSet<&str> = recs.iter().map(|r| r["method"].as_str().unwrap()).collect();
+    assert_eq!(labels, BTreeSet::from(["lk:alpha:5", "lk:nearest:5"]));
+    for source in ["nearest", "alpha"] {
+        let o = wend(&[
+            "solve",
+            &file,
+            "--candidates",
+            source,
+            "--neighbours",
+            "5",
+            "--restarts",
+            "1",
+            "--kicks",
+            "3",
+            "--json",
+        ]);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+        let rec = recs
+            .iter()
+            .find(|r| r["method"] == format!("lk:{source}:5"))
+            .unwrap();
+        assert_eq!(rec["length"], v["length"], "{source}");
+    }
+    // Bad variants are refused, naming the part that is wrong.
+    for (bad, part) in [
+        ("lk:far", "far"),
+        ("lk:alpha:0", "0"),
+        ("lk:alpha:5:x", "too many"),
+    ] {
+        let o = wend(&[
+            "bench",
+            "--instances",
+            &file,
+            "--methods",
+            bad,
+            "--out",
+            &out.display().to_string(),
+        ]);
+        assert_eq!(o.status.code(), Some(2), "{bad}");
+        assert!(String::from_utf8_lossy(&o.stderr).contains(part), "{bad}");
+    }
+}

@@ -6,8 +6,8 @@ use indicatif::{ProgressBar, ProgressStyle};
 use serde::Deserialize;
 use std::collections::{BTreeMap, HashMap};
 use std::path::{Path, PathBuf};
-use wend::Method;
 use wend_bench::record::{read_runs, RunKey, RunRecord};
+use wend_bench::runner::MethodSpec;
 use wend_bench::runner::{run_sweep, SweepPlan};
 use wend_bench::tsplib::{read_instance, read_optima, read_tour};
 
@@ -20,7 +20,8 @@ pub struct BenchArgs {
     /// Instance files, folders (every .tsp and .atsp inside) or glob patterns.
     #[arg(long, num_args = 1.., value_name = "PATH")]
     instances: Vec<String>,
-    /// Methods to run (see `wend solve --list-methods`).
+    /// Methods to run (see `wend solve --list-methods`), each optionally with the source and
+    /// width of its neighbour lists: `lk`, `lk:alpha`, `lk:nearest:5`.
     #[arg(long, num_args = 1.., value_name = "NAME")]
     methods: Vec<String>,
     /// Number of seeds per (instance, method): seeds 0, 1, ..., N-1.
@@ -133,15 +134,7 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
     }
     let methods = method_names
         .iter()
-        .map(|n| {
-            Method::from_name(n).ok_or_else(|| {
-                let names: Vec<&str> = Method::ALL.iter().map(|m| m.name()).collect();
-                CliError::Input(format!(
-                    "unknown method {n:?}; choose from: {}",
-                    names.join(", ")
-                ))
-            })
-        })
+        .map(|n| MethodSpec::parse(n).map_err(CliError::Input))
         .collect::<Result<Vec<_>, _>>()?;
     let seeds = a.seeds.or(suite.seeds).unwrap_or(1);
     if seeds == 0 {
