@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # `wend solve --exact --time-limit T` on every TSPLIB symmetric instance of ../shared with MIN to
 # MAX nodes: proven or not, length, bound, subproblems and seconds, against the published optimum.
-# Usage: bench-harness/scripts/exact-sweep.sh [SECONDS] [MIN] [MAX]   (from the repository root)
+# Usage: [THREADS=N] [RAW=FILE] bench-harness/scripts/exact-sweep.sh [SECONDS] [MIN] [MAX]
+# (from the repository root; RAW keeps the JSON lines of the runs)
 set -euo pipefail
 limit=${1:-60}
 min=${2:-1}
@@ -14,7 +15,7 @@ out=$(mktemp)
 for f in "$shared"/tsp/*.tsp; do
   n=$(grep -m1 -E '^DIMENSION' "$f" | tr -dc '0-9')
   if [ "$n" -ge "$min" ] && [ "$n" -le "$max" ]; then
-    if line=$("$wend" solve "$f" --exact --time-limit "$limit" --json 2>"$out.err"); then
+    if line=$("$wend" solve "$f" --exact --time-limit "$limit" ${THREADS:+--threads "$THREADS"} --json 2>"$out.err"); then
       echo "$line"
     else
       echo "#refused $(tail -n1 "$out.err")"

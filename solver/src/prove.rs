@@ -213,19 +213,20 @@ pub fn prove_optimal<C: Cost + ?Sized>(
             Err(e) => Err(e.into()),
         };
     }
-    // A first tour: the better it is, the less the branch and bound has to search. A tenth of
-    // the time limit, at most a few seconds; without one, a kick budget of n per run.
+    // A first tour: the better it is, the less the branch and bound has to search. Two runs of
+    // n kicks each, within a tenth of the time limit.
     let mut s = Solver::new(cost)
         .seed(opts.seed)
         .method(Method::Lk)
+        .restarts(2)
+        .kicks(n as u64)
         .stop_handle(stop.clone());
     if let Some(t) = opts.threads {
         s = s.threads(t);
     }
-    s = match remaining() {
-        Some(r) => s.time_limit((r / 10).min(Duration::from_secs(5))),
-        None => s.restarts(2).kicks(n as u64),
-    };
+    if let Some(r) = remaining() {
+        s = s.time_limit(r / 10);
+    }
     let first = s.solve()?;
     let branch = BranchOptions {
         time_limit: remaining(),
