@@ -47,9 +47,68 @@ pub fn write_points(
     writeln!(out, "EOF")
 }
 
+/// An `n x n` matrix of asymmetric costs drawn uniformly from `1..=max_cost` off the diagonal
+/// (0 on it); the same seed gives the same matrix on every platform.
+pub fn uniform_matrix(n: usize, max_cost: i64, seed: u64) -> Vec<Vec<i64>> {
+    let mut rng = Pcg64::seed_from_u64(seed);
+    let max_cost = max_cost.max(1);
+    (0..n)
+        .map(|i| {
+            (0..n)
+                .map(|j| {
+                    if i == j {
+                        0
+                    } else {
+                        rng.gen_range(1..=max_cost)
+                    }
+                })
+                .collect()
+        })
+        .collect()
+}
+
+/// Writes `rows` as a TSPLIB `ATSP` instance with an `EXPLICIT` `FULL_MATRIX`.
+pub fn write_matrix(
+    name: &str,
+    comment: &str,
+    rows: &[Vec<i64>],
+    out: &mut impl Write,
+) -> io::Result<()> {
+    writeln!(out, "NAME : {name}")?;
+    writeln!(out, "COMMENT : {comment}")?;
+    writeln!(out, "TYPE : ATSP")?;
+    writeln!(out, "DIMENSION : {}", rows.len())?;
+    writeln!(out, "EDGE_WEIGHT_TYPE : EXPLICIT")?;
+    writeln!(out, "EDGE_WEIGHT_FORMAT : FULL_MATRIX")?;
+    writeln!(out, "EDGE_WEIGHT_SECTION")?;
+    for row in rows {
+        let line: Vec<String> = row.iter().map(|c| c.to_string()).collect();
+        writeln!(out, "{}", line.join(" "))?;
+    }
+    writeln!(out, "EOF")
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn uniform_matrix_is_seeded_and_in_range() {
+        let m = uniform_matrix(50, 1000, 3);
+        assert_eq!(m, uniform_matrix(50, 1000, 3));
+        assert_ne!(m, uniform_matrix(50, 1000, 4));
+        for (i, row) in m.iter().enumerate() {
+            for (j, &c) in row.iter().enumerate() {
+                assert!(if i == j {
+                    c == 0
+                } else {
+                    (1..=1000).contains(&c)
+                });
+            }
+        }
+        // Asymmetric: some pair differs by direction.
+        assert!((0..50).any(|i| (0..50).any(|j| m[i][j] != m[j][i])));
+    }
 
     #[test]
     fn same_seed_same_points_and_they_fill_the_square() {

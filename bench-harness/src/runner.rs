@@ -63,9 +63,11 @@ impl MethodSpec {
             None => None,
             Some(k) => match k.parse::<usize>() {
                 Ok(k) if k >= 1 => Some(k),
-                _ => return Err(format!(
+                _ => {
+                    return Err(format!(
                     "neighbour-list width {k:?} in {text:?} must be a whole number of at least 1"
-                )),
+                ))
+                }
             },
         };
         if parts.next().is_some() {

@@ -271,3 +271,81 @@ fn exact_proves_published_optima_and_says_when_it_cannot() {
     assert!(e.contains("ftv33.atsp") && e.contains("24 nodes"), "{e}");
     assert_eq!(e.trim().lines().count(), 1, "{e}");
 }
+
+/// `wend solve INST --json --tour-out FILE EXTRA..`: the JSON object and the TOUR file's nodes
+/// (zero-based), after checking that the JSON length is the path length of the file's order.
+fn solve_path(inst: &Path, extra: &[&str], dir: &Path) -> (serde_json::Value, Vec<usize>) {
+    let tour = dir.join("path.tour");
+    let mut args = vec![
+        "solve",
+        inst.to_str().unwrap(),
+        "--kicks",
+        "200",
+        "--json",
+        "--tour-out",
+        tour.to_str().unwrap(),
+    ];
+    args.extend_from_slice(extra);
+    let o = wend(&args);
+    assert!(o.status.success(), "{extra:?}: {}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let file = wend_bench::tsplib::read_tour(&tour).unwrap();
+    assert!(
+        file.comments.iter().any(|c| c.contains("open path")),
+        "{:?}",
+        file.comments
+    );
+    let instance = wend_bench::tsplib::read_instance(inst).unwrap();
+    let mut sorted = file.nodes.clone();
+    sorted.sort_unstable();
+    assert_eq!(sorted, (0..instance.dimension).collect::<Vec<_>>());
+    let length = wend::ends::path_length(instance.cost(), &file.nodes).unwrap();
+    assert_eq!(v["length"].as_i64(), Some(length), "{extra:?}");
+    (v, file.nodes)
+}
+
+#[test]
+fn open_start_and_end_give_paths_with_those_ends() {
+    let dir = tempfile::tempdir().unwrap();
+    for name in ["burma14.tsp", "br17.atsp"] {
+        let inst = instances().join(name);
+        let (v, _) = solve_path(&inst, &["--open"], dir.path());
+        assert_eq!(v["ends"], "open", "{name}");
+        let (v, nodes) = solve_path(&inst, &["--start", "3"], dir.path());
+        assert_eq!(
+            (v["ends"].as_str(), v["start"].as_u64()),
+            (Some("start"), Some(3))
+        );
+        assert_eq!(nodes[0], 2, "{name}: TOUR files number nodes from 1");
+        let (v, nodes) = solve_path(&inst, &["--end", "5"], dir.path());
+        assert_eq!(
+            (v["ends"].as_str(), v["end"].as_u64()),
+            (Some("end"), Some(5))
+        );
+        assert_eq!(nodes.last(), Some(&4), "{name}");
+        let (v, nodes) = solve_path(&inst, &["--start", "2", "--end", "7"], dir.path());
+        assert_eq!(v["ends"], "start-end", "{name}");
+        assert_eq!((nodes[0], nodes[nodes.len() - 1]), (1, 6), "{name}");
+    }
+}
+
+#[test]
+fn bad_path_ends_exit_2_with_one_line_naming_the_problem() {
+    let inst = instances().join("burma14.tsp");
+    let inst = inst.to_str().unwrap();
+    for (args, needle) in [
+        (vec!["--start", "0"], "--start 0"),
+        (vec!["--end", "15"], "--end 15"),
+        (vec!["--start", "1", "--end", "99"], "--end 99"),
+        (vec!["--open", "--exact"], "--exact"),
+        (vec!["--start", "2", "--bound"], "--bound"),
+    ] {
+        let mut all = vec!["solve", inst];
+        all.extend_from_slice(&args);
+        let o = wend(&all);
+        assert_eq!(o.status.code(), Some(2), "{args:?}");
+        let e = stderr(&o);
+        assert_eq!(e.trim().lines().count(), 1, "{args:?}: {e}");
+        assert!(e.contains(needle), "{args:?}: {e}");
+    }
+}

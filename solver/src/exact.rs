@@ -2,6 +2,7 @@
 //! dynamic programme over subsets ([`dynamic_programme`], up to 24 nodes).
 
 use crate::cost::Cost;
+use crate::ends::{path_length, EndedCost, Ends};
 use rayon::prelude::*;
 
 /// Largest instance [`enumerate`] accepts: 8! = 40,320 orders with the first node fixed.
@@ -121,6 +122,9 @@ pub enum DpError {
     /// `should_stop` returned true.
     #[error("the dynamic programme was stopped")]
     Stopped,
+    /// The ends asked of [`optimal_path`] are out of range, or their penalty could overflow.
+    #[error(transparent)]
+    Ends(#[from] crate::ends::EndsError),
 }
 
 /// `bytes` in MiB or GiB, for messages.
@@ -298,6 +302,47 @@ pub fn dynamic_programme<C: Cost + ?Sized>(
     };
     let length = crate::tour::closed_length(cost, &order).map_err(|_| DpError::Overflow)?;
     debug_assert_eq!(length, best);
+    Ok(DpTour { order, length })
+}
+
+/// The shortest visiting order with the given [`Ends`] by the dynamic programme: for a closed
+/// tour ([`Ends::Closed`], or `StartEnd(s, s)`) that of [`dynamic_programme`], rotated to start
+/// at `s`; for a path, the shortest closed tour of the costs with one dummy node
+/// ([`crate::ends::EndedCost`], exact because its penalty exceeds every difference of path
+/// lengths), read off as a path. The order runs from the path's first node to its last, and
+/// `length` is the path's length on `cost`, without a return step. Paths take one node more
+/// than tours, so at most `DP_LIMIT - 1` nodes.
+pub fn optimal_path<C: Cost + ?Sized>(
+    cost: &C,
+    ends: Ends,
+    memory_limit_bytes: usize,
+    should_stop: &mut dyn FnMut() -> bool,
+) -> Result<DpTour, DpError> {
+    let n = cost.len();
+    ends.check(n)?;
+    if !ends.is_path() {
+        let mut t = dynamic_programme(cost, memory_limit_bytes, should_stop)?;
+        if let Some(p) = t.order.iter().position(|&v| Some(v) == ends.start()) {
+            t.order.rotate_left(p);
+        }
+        return Ok(t);
+    }
+    if n < 2 {
+        return Ok(DpTour {
+            order: (0..n).collect(),
+            length: 0,
+        });
+    }
+    if n + 1 > DP_LIMIT {
+        return Err(DpError::TooManyNodes {
+            n,
+            limit: DP_LIMIT - 1,
+        });
+    }
+    let ended = EndedCost::new(cost, ends)?;
+    let t = dynamic_programme(&ended, memory_limit_bytes, should_stop)?;
+    let order = ended.path_from_tour(&t.order);
+    let length = path_length(cost, &order).map_err(|_| DpError::Overflow)?;
     Ok(DpTour { order, length })
 }
 

@@ -38,11 +38,13 @@
 #![warn(missing_docs)]
 
 pub mod alpha;
+pub mod assignment;
 pub mod bound;
 pub mod branch;
 pub mod candidates;
 pub mod construct;
 pub mod cost;
+pub mod ends;
 pub mod exact;
 pub mod improve;
 pub mod lk;
@@ -50,9 +52,11 @@ pub mod prove;
 pub mod search;
 pub mod solver;
 pub mod tour;
+pub mod twin;
 
 pub use candidates::CandidateSource;
 pub use cost::{CoordCost, Cost, CostError, FnCost, Geometry, MatrixCost, Metric};
+pub use ends::Ends;
 pub use search::{Improvement, StopHandle, StopReason};
-pub use solver::{Method, Solution, SolveError, Solver};
+pub use solver::{AsymmetricMode, Method, Solution, SolveError, Solver};
 pub use tour::{Layout, Overflow, Tour, TourError};

@@ -23,8 +23,11 @@
 //!   directly, in both orientations, by the Or-opt moves of [`crate::improve`], which run from
 //!   `t1` when no LK move starts there.
 //!
-//! For asymmetric costs a flip would reverse a path and change its cost, so only the
-//! direction-keeping Or-opt moves run.
+//! For asymmetric costs a flip would reverse a path and change its cost, so on the costs as
+//! given only the direction-keeping Or-opt moves run. By default [`crate::Solver`] does not
+//! search asymmetric costs that way: it runs these symmetric moves on their transformation to
+//! symmetric costs over twice the nodes (Jonker and Volgenant 1983, [`crate::twin`]) and maps
+//! the tour back; [`crate::AsymmetricMode::Direct`] keeps the direct moves.
 //!
 //! # The iterated search
 //!

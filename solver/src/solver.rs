@@ -1,12 +1,14 @@
 //! The embedding API: a builder that takes costs and options and returns a [`Solution`].
 
-use crate::candidates::{candidates, CandidateSource};
+use crate::candidates::{candidates, CandidateSource, Neighbours};
 use crate::construct;
 use crate::cost::{Cost, CostError, FnCost, MatrixCost};
+use crate::ends::{path_length, EndedCost, Ends, EndsError};
 use crate::exact;
 use crate::lk::{self, LkParams, LkPlan};
 use crate::search::{self, Improvement, RestartPlan, Start, StopHandle, StopReason};
 use crate::tour::{closed_length, Layout, Overflow, Tour};
+use crate::twin::{TwinCost, TwinTooLarge};
 use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
@@ -64,8 +66,8 @@ impl Method {
             }
             Method::Lk => {
                 "iterated Lin-Kernighan: greedy start, LK chains of 2-opt flips + Or-opt, local \
-                 double-bridge kicks kept when no longer; independent runs per thread (Or-opt \
-                 and direction-keeping kicks only for asymmetric costs)"
+                 double-bridge kicks kept when no longer; independent runs per thread \
+                 (asymmetric costs: on their symmetric 2n-node transformation)"
             }
         }
     }
@@ -90,15 +92,37 @@ pub enum SolveError {
     /// The costs could not be built.
     #[error(transparent)]
     Cost(#[from] CostError),
+    /// The requested ends are out of range, or their penalty could overflow.
+    #[error(transparent)]
+    Ends(#[from] EndsError),
+    /// The symmetric transformation of asymmetric costs could overflow.
+    #[error(transparent)]
+    Twin(#[from] TwinTooLarge),
+}
+
+/// How `lk` searches asymmetric costs.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
+pub enum AsymmetricMode {
+    /// Lin–Kernighan moves on the symmetric transformation over `2n` nodes (Jonker and
+    /// Volgenant 1983; see [`crate::twin`]), the tour mapped back to the caller's nodes.
+    #[default]
+    Transformed,
+    /// Direction-keeping Or-opt moves and kicks on the costs as given.
+    Direct,
 }
 
 /// What a solve returns.
 #[derive(Clone, Debug)]
 pub struct Solution {
-    /// The best tour found.
+    /// The best tour found: for a closed tour, from node 0 (or the fixed start); for a path,
+    /// from its first node to its last.
     pub tour: Tour,
-    /// Its exact length.
+    /// Its exact length on the caller's costs: with the return step for a closed tour, without
+    /// it for a path.
     pub length: i64,
+    /// The ends asked for, which `tour` has: a closed tour when [`Ends::is_path`] is false
+    /// (`Closed`, or `StartEnd(s, s)`: a closed tour from `s`), otherwise a path.
+    pub ends: Ends,
     /// Wall-clock seconds the solve took, including neighbour lists.
     pub seconds: f64,
     /// Restarts completed (for `lk`: independent runs started).
@@ -139,6 +163,8 @@ pub struct Solver<C> {
     neighbours: usize,
     candidates: CandidateSource,
     layout: Layout,
+    ends: Ends,
+    asymmetric_mode: AsymmetricMode,
     stop: StopHandle,
     observer: Option<Observer>,
 }
@@ -169,6 +195,8 @@ impl<C: Cost> Solver<C> {
             neighbours: DEFAULT_NEIGHBOURS,
             candidates: CandidateSource::default(),
             layout: Layout::default(),
+            ends: Ends::Closed,
+            asymmetric_mode: AsymmetricMode::default(),
             stop: StopHandle::new(),
             observer: None,
         }
@@ -251,6 +279,23 @@ impl<C: Cost> Solver<C> {
         self
     }
 
+    /// Which ends the answer has: a closed tour (the default) or a path with free or fixed ends
+    /// ([`Ends`]). Every method handles every variant through one dummy node (see
+    /// [`crate::ends`]); the [`Solution`] then holds the path from its first node and its length
+    /// without a return step. Fixed ends must be below the number of nodes
+    /// ([`SolveError::Ends`] otherwise).
+    pub fn ends(mut self, ends: Ends) -> Self {
+        self.ends = ends;
+        self
+    }
+
+    /// How `lk` searches asymmetric costs: on their symmetric transformation (the default) or
+    /// with direction-keeping moves only. Other methods and symmetric costs ignore it.
+    pub fn asymmetric_mode(mut self, mode: AsymmetricMode) -> Self {
+        self.asymmetric_mode = mode;
+        self
+    }
+
     /// A handle whose [`StopHandle::stop`] ends the solve early with the best tour so far.
     pub fn stop_handle(mut self, stop: StopHandle) -> Self {
         self.stop = stop;
@@ -273,6 +318,7 @@ impl<C: Cost> Solver<C> {
         let began = Instant::now();
         let cost = &self.cost;
         let n = cost.len();
+        self.ends.check(n)?;
         if let Some(max_cost) = cost.max_cost_hint() {
             // Moves add and subtract a handful of costs on top of a tour length.
             if max_cost.checked_mul(n as i64 + 8).is_none() {
@@ -286,36 +332,125 @@ impl<C: Cost> Solver<C> {
             }
             trace.lock().unwrap_or_else(|e| e.into_inner()).push(imp);
         };
-        let finish =
-            |order: Vec<usize>, restarts, kicks, stop_reason, trace: &Mutex<Vec<Improvement>>| {
+        let ends = self.ends;
+        let finish = |mut order: Vec<usize>, raw: Raw, trace: &Mutex<Vec<Improvement>>| {
+            let length = if ends.is_path() {
+                path_length(cost, &order)?
+            } else {
                 let length = closed_length(cost, &order)?;
-                let mut tour = Tour::trusted(order);
-                tour.rotate_to(0);
-                Ok(Solution {
-                    tour,
-                    length,
-                    seconds: began.elapsed().as_secs_f64(),
-                    restarts,
-                    kicks,
-                    stop_reason,
-                    trace: std::mem::take(&mut *trace.lock().unwrap_or_else(|e| e.into_inner())),
-                    method: self.method,
-                })
+                if let Some(p) = order.iter().position(|&v| v == ends.start().unwrap_or(0)) {
+                    order.rotate_left(p);
+                }
+                length
             };
+            Ok(Solution {
+                tour: Tour::trusted(order),
+                length,
+                ends,
+                seconds: began.elapsed().as_secs_f64(),
+                restarts: raw.restarts,
+                kicks: raw.kicks,
+                stop_reason: raw.stop_reason,
+                trace: std::mem::take(&mut *trace.lock().unwrap_or_else(|e| e.into_inner())),
+                method: self.method,
+            })
+        };
+        let twin = !cost.is_symmetric()
+            && self.method == Method::Lk
+            && self.asymmetric_mode == AsymmetricMode::Transformed;
+        if !ends.is_path() || n < 2 {
+            let raw = if n < 2 {
+                let order: Vec<usize> = (0..n).collect();
+                observe(Improvement {
+                    seconds: began.elapsed().as_secs_f64(),
+                    length: 0,
+                    restart: 0,
+                });
+                Raw {
+                    order,
+                    restarts: 1,
+                    kicks: 0,
+                    stop_reason: StopReason::Exhaustive,
+                }
+            } else {
+                let nb = || candidates(cost, self.neighbours, self.candidates);
+                self.search_maybe_twinned(cost, nb, twin, self.target_length, began, &observe)?
+            };
+            return finish(raw.order.clone(), raw, &trace);
+        }
+        let ended = EndedCost::new(cost, ends)?;
+        let observe_ended = |imp: Improvement| {
+            if let Some(length) = ended.path_length_of(imp.length) {
+                observe(Improvement { length, ..imp });
+            }
+        };
+        let target = self.target_length.and_then(|t| ended.tour_length_of(t));
+        let nb = || {
+            ended.neighbours(
+                &candidates(cost, self.neighbours, self.candidates),
+                self.candidates,
+            )
+        };
+        let raw = self.search_maybe_twinned(&ended, nb, twin, target, began, &observe_ended)?;
+        finish(ended.path_from_tour(&raw.order), raw, &trace)
+    }
 
+    /// The search on `cost` directly, or (`twin`) on its symmetric transformation, whose tour
+    /// is mapped back. `nb` gives neighbour lists of `cost`; `target` and the lengths passed to
+    /// `observe` are on `cost`.
+    fn search_maybe_twinned<D: Cost>(
+        &self,
+        cost: &D,
+        nb: impl FnOnce() -> Neighbours,
+        twin: bool,
+        target: Option<i64>,
+        began: Instant,
+        observe: &(dyn Fn(Improvement) + Sync),
+    ) -> Result<Raw, SolveError> {
+        if !twin || cost.len() <= exact::ENUMERATION_LIMIT {
+            return Ok(self.search(cost, nb, target, began, observe));
+        }
+        let twinned = TwinCost::new(cost)?;
+        let observe_twinned = |imp: Improvement| {
+            if let Some(length) = twinned.original_length(imp.length) {
+                observe(Improvement { length, ..imp });
+            }
+        };
+        let target = target.and_then(|t| twinned.transformed_length(t));
+        let nb = || twinned.neighbours(&nb(), self.candidates);
+        let raw = self.search(&twinned, nb, target, began, &observe_twinned);
+        let (order, _repaired) = twinned.tour_back(&raw.order);
+        Ok(Raw { order, ..raw })
+    }
+
+    /// The configured method on `cost` (any number of nodes); the order found, from node 0.
+    fn search<D: Cost>(
+        &self,
+        cost: &D,
+        nb: impl FnOnce() -> Neighbours,
+        target: Option<i64>,
+        began: Instant,
+        observe: &(dyn Fn(Improvement) + Sync),
+    ) -> Raw {
+        let n = cost.len();
         let searches = matches!(self.method, Method::TwoOpt | Method::Lk);
         if n <= exact::ENUMERATION_LIMIT && searches {
             let order = exact::enumerate(cost).unwrap_or_else(|| (0..n).collect());
-            let length = closed_length(cost, &order)?;
+            let length = closed_length(cost, &order).unwrap_or(i64::MAX);
             observe(Improvement {
                 seconds: began.elapsed().as_secs_f64(),
                 length,
                 restart: 0,
             });
-            return finish(order, 1, 0, StopReason::Exhaustive, &trace);
+            return Raw {
+                order,
+                restarts: 1,
+                kicks: 0,
+                stop_reason: StopReason::Exhaustive,
+            };
         }
 
-        let nb = candidates(cost, self.neighbours, self.candidates);
+        let nb = nb();
         let threads = self.threads.unwrap_or_else(|| {
             std::thread::available_parallelism()
                 .map(|t| t.get())
@@ -338,13 +473,18 @@ impl<C: Cost> Solver<C> {
         };
         if !searches {
             let order = construction(start);
-            let length = closed_length(cost, &order)?;
+            let length = closed_length(cost, &order).unwrap_or(i64::MAX);
             observe(Improvement {
                 seconds: began.elapsed().as_secs_f64(),
                 length,
                 restart: 0,
             });
-            return finish(order, 1, 0, StopReason::Constructed, &trace);
+            return Raw {
+                order,
+                restarts: 1,
+                kicks: 0,
+                stop_reason: StopReason::Constructed,
+            };
         }
         if self.method == Method::Lk {
             let bounded = self.kicks.is_some() || self.time_limit.is_none();
@@ -364,17 +504,23 @@ impl<C: Cost> Solver<C> {
                         None
                     }),
                 stall: self.stall_limit,
-                target: self.target_length,
+                target,
                 deadline: search::deadline(began, self.time_limit),
                 stop: self.stop.clone(),
                 params: LkParams::default(),
                 layout: self.layout,
             };
-            let out = lk::iterated(cost, &nb, &plan, began, &observe);
-            if out.length == i64::MAX {
-                closed_length(cost, &out.order)?;
-            }
-            return finish(out.order, out.runs, out.kicks, out.stop_reason, &trace);
+            let out = lk::iterated(cost, &nb, &plan, began, observe);
+            // A saturated length is recomputed, and refused, by the caller.
+            debug_assert!(
+                out.length == i64::MAX || closed_length(cost, &out.order) == Ok(out.length)
+            );
+            return Raw {
+                order: out.order,
+                restarts: out.runs,
+                kicks: out.kicks,
+                stop_reason: out.stop_reason,
+            };
         }
         let plan = RestartPlan {
             seed: self.seed,
@@ -387,16 +533,26 @@ impl<C: Cost> Solver<C> {
             deadline: search::deadline(began, self.time_limit),
             start,
             improve: true,
-            target: self.target_length,
+            target,
             stop: self.stop.clone(),
         };
-        let out = search::restarts(cost, &nb, &plan, began, &observe);
-        if out.length == i64::MAX {
-            // The restarts saturate a length they could not compute; recompute to report it.
-            closed_length(cost, &out.order)?;
+        let out = search::restarts(cost, &nb, &plan, began, observe);
+        debug_assert!(out.length == i64::MAX || closed_length(cost, &out.order) == Ok(out.length));
+        Raw {
+            order: out.order,
+            restarts: out.restarts,
+            kicks: 0,
+            stop_reason: out.stop_reason,
         }
-        finish(out.order, out.restarts, 0, out.stop_reason, &trace)
     }
+}
+
+/// What a search on some costs (the caller's, or transformed ones) found.
+struct Raw {
+    order: Vec<usize>,
+    restarts: usize,
+    kicks: u64,
+    stop_reason: StopReason,
 }
 
 impl<F: Fn(usize, usize) -> i64 + Sync> Solver<FnCost<F>> {

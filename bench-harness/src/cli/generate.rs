@@ -3,13 +3,27 @@
 use super::{write_file, CliError};
 use clap::Args;
 use std::path::PathBuf;
-use wend_bench::generate::{expected_tour_length, uniform_square, write_points};
+use wend_bench::generate::{
+    expected_tour_length, uniform_matrix, uniform_square, write_matrix, write_points,
+};
 
 #[derive(Args, Debug)]
 pub struct GenerateArgs {
-    /// Number of points.
+    /// Number of points (nodes).
     #[arg(long, value_name = "N")]
     nodes: usize,
+    /// Write random asymmetric integer costs, uniform in 1..=MAX_COST, as an ATSP full matrix
+    /// instead of points.
+    #[arg(long)]
+    asymmetric: bool,
+    /// Largest cost of --asymmetric.
+    #[arg(
+        long,
+        default_value_t = 1000,
+        value_name = "MAX_COST",
+        requires = "asymmetric"
+    )]
+    max_cost: i64,
     /// Side of the square; coordinates are whole numbers in [0, SIDE).
     #[arg(long, default_value_t = 1_000_000, value_name = "SIDE")]
     side: u64,
@@ -37,6 +51,34 @@ pub fn run(a: GenerateArgs) -> Result<(), CliError> {
             .map(|s| s.to_string_lossy().into_owned())
             .unwrap_or_else(|| "uniform".into())
     });
+    if a.asymmetric {
+        if a.max_cost < 1 {
+            return Err(CliError::Input("--max-cost must be at least 1".into()));
+        }
+        if a.nodes > 20_000 {
+            return Err(CliError::Input(format!(
+                "--asymmetric writes a full matrix; {} nodes would be {} entries (at most 20,000 nodes)",
+                a.nodes,
+                a.nodes as u128 * a.nodes as u128
+            )));
+        }
+        let rows = uniform_matrix(a.nodes, a.max_cost, a.seed);
+        let comment = format!(
+            "{} nodes, asymmetric costs uniform in 1..={}, seed {}, written by wend {}",
+            a.nodes,
+            a.max_cost,
+            a.seed,
+            env!("CARGO_PKG_VERSION")
+        );
+        write_file(&a.out, |w| write_matrix(&name, &comment, &rows, w))?;
+        println!(
+            "{}: {} nodes, asymmetric costs in 1..={}",
+            a.out.display(),
+            a.nodes,
+            a.max_cost
+        );
+        return Ok(());
+    }
     let points = uniform_square(a.nodes, a.side, a.seed);
     let comment = format!(
         "{} uniform random points in [0, {}) squared, seed {}, written by wend {}",

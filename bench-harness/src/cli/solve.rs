@@ -6,9 +6,10 @@ use serde_json::json;
 use std::io::IsTerminal;
 use std::path::PathBuf;
 use std::time::Duration;
+use wend::assignment::assignment_bound;
 use wend::bound::{held_karp_bound, AscentOptions};
 use wend::prove::{prove_optimal, ExactMethod, ProveOptions};
-use wend::{CandidateSource, Layout, Method, Solver, StopHandle};
+use wend::{CandidateSource, Ends, Layout, Method, Solver, StopHandle};
 
 #[derive(Args, Debug)]
 pub struct SolveArgs {
@@ -54,7 +55,8 @@ pub struct SolveArgs {
     /// there), array or two-level. The tour is the same; only the speed differs.
     #[arg(long, default_value = "auto", value_name = "LAYOUT")]
     layout: String,
-    /// Also compute the Held–Karp lower bound and report the gap it proves (symmetric costs).
+    /// Also compute a lower bound and report the gap it proves: Held–Karp for symmetric costs,
+    /// the assignment bound for asymmetric ones.
     #[arg(long)]
     bound: bool,
     /// Prove the tour optimal: the dynamic programme up to 16 nodes (24 for asymmetric costs),
@@ -69,6 +71,17 @@ pub struct SolveArgs {
     /// Seconds for the lower bound's ascent (with --bound).
     #[arg(long, value_name = "SECONDS", default_value_t = 10.0)]
     bound_time: f64,
+    /// Find an open path (no return to the first node) instead of a closed tour; with --start
+    /// or --end one end is fixed and the other free.
+    #[arg(long)]
+    open: bool,
+    /// Find a path starting at this node (a node number of the file, from 1).
+    #[arg(long, value_name = "ID")]
+    start: Option<usize>,
+    /// Find a path ending at this node (a node number of the file, from 1). With --start and
+    /// the same ID: a closed tour starting there.
+    #[arg(long, value_name = "ID")]
+    end: Option<usize>,
     /// Write the tour to this file in TSPLIB TOUR format.
     #[arg(long, value_name = "FILE")]
     tour_out: Option<PathBuf>,
@@ -125,8 +138,17 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
     if a.threads == Some(0) {
         return Err(CliError::Input("--threads must be at least 1".into()));
     }
+    let wants_path = a.open || a.start.is_some() || a.end.is_some();
+    if wants_path && (a.exact || a.bound) {
+        return Err(CliError::Input(format!(
+            "--open, --start and --end cannot be combined with {}: it handles closed tours only",
+            if a.exact { "--exact" } else { "--bound" }
+        )));
+    }
     let path = a.path.clone().unwrap_or_default();
     let inst = load(&path)?;
+    let ends = path_ends(&a, inst.dimension)
+        .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
     if a.exact {
         return run_exact(&a, &inst, &path, limit);
     }
@@ -136,7 +158,8 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
         .method(method)
         .neighbours(a.neighbours)
         .candidates(candidates)
-        .layout(layout);
+        .layout(layout)
+        .ends(ends);
     if let Some(l) = limit {
         solver = solver.time_limit(l);
     }
@@ -172,9 +195,16 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
             max_iterations: None,
             upper_bound: Some(sol.length),
         };
-        let asc = held_karp_bound(inst.cost(), &opts, &StopHandle::new())
-            .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
-        Some(asc.lower_bound.min(sol.length))
+        let bound = if inst.cost().is_symmetric() {
+            held_karp_bound(inst.cost(), &opts, &StopHandle::new())
+                .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?
+                .lower_bound
+        } else {
+            assignment_bound(inst.cost())
+                .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?
+                .lower_bound
+        };
+        Some(bound.min(sol.length))
     } else {
         None
     };
@@ -183,13 +213,19 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
         .map(|b| 100.0 * (sol.length - b) as f64 / b as f64);
 
     if let Some(out) = &a.tour_out {
-        let comment = format!(
+        let mut comment = format!(
             "length {} found by wend {} (method {}, seed {})",
             sol.length,
             env!("CARGO_PKG_VERSION"),
             method.name(),
             a.seed
         );
+        if ends.is_path() {
+            comment = format!(
+                "open path (no return edge), {}; {comment}",
+                ends_words(&sol)
+            );
+        }
         write_file(out, |w| {
             wend_bench::tsplib::write_tour(
                 &format!("{}.tour", inst.name),
@@ -209,6 +245,12 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
             "seed": a.seed,
             "threads": a.threads,
             "time_limit": a.time_limit,
+            "ends": ends.name(),
+            "start": ends.start().map(|s| s + 1),
+            "end": match ends {
+                Ends::StartEnd(_, e) | Ends::End(e) => Some(e + 1),
+                _ => None,
+            },
             "length": sol.length,
             "lower_bound": lower_bound,
             "proven_gap_percent": proven_gap,
@@ -227,6 +269,9 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
             inst.kind.keyword()
         );
         println!("method     {}", method.name());
+        if ends != Ends::Closed {
+            println!("ends       {}", ends_words(&sol));
+        }
         println!("length     {}", sol.length);
         if let (Some(b), Some(g)) = (lower_bound, proven_gap) {
             println!("bound      {b}: the tour is at most {g:.3} % above the optimum");
@@ -243,6 +288,47 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
         }
     }
     Ok(())
+}
+
+/// The ends `--open`, `--start` and `--end` ask for, with the file's 1-based node numbers
+/// checked against `nodes` and turned into 0-based ids.
+fn path_ends(a: &SolveArgs, nodes: usize) -> Result<Ends, String> {
+    let id = |flag: &str, v: Option<usize>| -> Result<Option<usize>, String> {
+        match v {
+            None => Ok(None),
+            Some(v) if (1..=nodes).contains(&v) => Ok(Some(v - 1)),
+            Some(v) => Err(format!(
+                "{flag} {v} is out of range: the instance has nodes 1 to {nodes}"
+            )),
+        }
+    };
+    let start = id("--start", a.start)?;
+    let end = id("--end", a.end)?;
+    Ok(match (start, end) {
+        (Some(s), Some(e)) => Ends::StartEnd(s, e),
+        (Some(s), None) => Ends::Start(s),
+        (None, Some(e)) => Ends::End(e),
+        (None, None) if a.open => Ends::Open,
+        (None, None) => Ends::Closed,
+    })
+}
+
+/// "from 3 to 7", in the file's node numbers, for the path of `sol`.
+fn ends_words(sol: &wend::Solution) -> String {
+    let order = sol.tour.order();
+    let what = match sol.ends {
+        Ends::Closed => "closed tour",
+        Ends::StartEnd(s, e) if s == e => "closed tour from a fixed node",
+        Ends::Open => "open path, free ends",
+        Ends::Start(_) => "path from a fixed start",
+        Ends::End(_) => "path to a fixed end",
+        Ends::StartEnd(..) => "path between fixed ends",
+    };
+    match (order.first(), order.last()) {
+        (Some(f), Some(l)) if sol.ends.is_path() => format!("{what}, {} to {}", f + 1, l + 1),
+        (Some(f), _) => format!("{what}, from {}", f + 1),
+        _ => what.to_string(),
+    }
 }
 
 /// `wend solve --exact`.
