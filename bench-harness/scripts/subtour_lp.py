@@ -14,26 +14,31 @@ The programme, over the edges e = {i, j} of the complete graph, is
 Held and Karp (1970) showed that the best 1-tree bound over all node penalties (the Held-Karp
 bound) equals this optimum. The script is an independent reference for wend's own Held-Karp
 bound: it solves the programme with a general-purpose LP solver (scipy.optimize.linprog, method
-"highs") instead of subgradient optimisation, so the benchmark docs can say how far below the
+"highs") rather than through 1-trees, so the benchmark docs can say how far below the
 TSPLIB optimum each instance's true Held-Karp value lies and how close wend's bound gets to it.
 It is a reference run beside the benchmarks, not part of the tests.
 
-Method: cutting planes. After each LP solve the support graph (edges with x_e > 0, weighted by
-x_e) is searched for violated subtour constraints: every connected component is one when the
-graph is disconnected; otherwise paths of edges with x_e = 1 are contracted (this keeps every
-violated cut) and a flow-equivalent tree of minimum cuts (Gusfield's method, scipy max flows)
-gives all node sets with x(delta(S)) < 2 at once; when it finds none, networkx.stoer_wagner
-confirms that the global minimum cut is at least 2. Instances above FULL_LP_MAX_NODES nodes use
-column generation: the LP starts from the 10 nearest neighbours of every node plus a
-nearest-neighbour tour, and once no cut is violated every edge of the complete graph is priced
-with the LP duals; edges of negative reduced cost are added and the loop repeats until none is
-left, at which point the LP optimum over the restricted edge set is the optimum over all edges.
+Method: cutting planes with column generation. After each LP solve the support graph (edges
+with x_e > 0, weighted by x_e) is searched for violated subtour constraints: when it is
+disconnected every connected component is one; inside each component (or the whole graph when
+it is connected) paths of edges with x_e = 1 are contracted, which keeps every violated cut, and
+a flow-equivalent tree of minimum cuts (n - 1 max flows with scipy) yields the node sets with
+x(delta(S)) < 2 at once; when it finds none in a connected support graph, networkx.stoer_wagner
+confirms that the global minimum cut is at least 2. Cuts that stay slack for a few solves leave
+the LP again (separation is exact, so this cannot weaken the result). Instances with more than
+FULL_LP_MAX_NODES (100) nodes start from a sparse edge set, the 20 nearest neighbours of every
+node plus a nearest-neighbour tour, and after every solve all edges of the complete graph are
+priced with the LP duals; edges of negative reduced cost are added. The loop ends when no edge
+prices out and no cut is violated: then the LP solution satisfies every subtour constraint and
+is optimal over all edges, so its value is the subtour LP optimum (to about 1e-6).
 
-Output, per instance: name, nodes, LP optimum, the optimum rounded up (tour lengths are
-integers, so every tour is at least that long), LP solves ("rounds"), cuts in the final LP,
-edges (columns) in the final LP, and wall seconds including reading the file. With --json,
-one JSON object a line with keys instance, nodes, subtour_lp, subtour_lp_ceil, rounds, cuts,
-edges, seconds. Files whose TYPE is not TSP are refused with a message on stderr.
+Output, per instance: name (the file name without its extension), nodes, LP optimum, the
+optimum rounded up (tour lengths are integers, so no tour is shorter), LP solves ("rounds"),
+cuts added in total, edges (columns) in the final LP, and wall seconds including reading the
+file. With --json, one JSON object a line with keys instance, nodes, subtour_lp,
+subtour_lp_ceil, rounds, cuts, edges, seconds. A file whose TYPE is not TSP (or that fails
+otherwise) is refused with a one-line message on stderr naming it, the other files are still
+run, and the exit status is then 1.
 """
 import json
 import math
@@ -48,15 +53,17 @@ from scipy import sparse
 from scipy.optimize import linprog
 from scipy.sparse import csgraph
 
-FULL_LP_MAX_NODES = 300  # up to this many nodes every edge is a column from the start
-NEIGHBOURS = 10  # nearest neighbours per node in the starting edge set of column generation
+FULL_LP_MAX_NODES = 100  # up to this many nodes every edge is a column from the start
+NEIGHBOURS = 20  # nearest neighbours per node in the starting edge set of column generation
 SUPPORT_EPS = 1e-9  # x_e above this is in the support graph
 ONE_EPS = 1e-9  # x_e at least 1 - ONE_EPS is contracted before the min-cut search
 CUT_EPS = 1e-6  # a cut is violated when x(delta(S)) < 2 - CUT_EPS
 PRICE_EPS = 1e-6  # an edge enters when its reduced cost is below -PRICE_EPS
-DUAL_CHECK_EPS = 1e-5  # fractional LP edges must have |reduced cost| below this
+DUAL_CHECK_EPS = 1e-6  # fractional LP edges: |reduced cost| below this times max c_e
 FLOW_SCALE = 2 ** 26  # max flows run on integer capacities round(x * FLOW_SCALE)
 PRICE_BLOCK = 512  # rows of the distance matrix priced at a time
+CUT_AGE_LIMIT = 20  # a cut slack in this many solves in a row leaves the LP (it may come back)
+MAX_ROUNDS = 5000  # give up (with an error) after this many LP solves
 
 
 # ---------------------------------------------------------------------------- distances
@@ -90,9 +97,10 @@ def distance_matrix(problem, nodes):
         rng = np.random.default_rng(12345)
         sample = rng.integers(0, n, size=(min(2000, n * n), 2))
         for i, j in sample:
-            if i != j and d[i, j] != problem.get_weight(nodes[i], nodes[j]):
-                raise RuntimeError(f"vectorised {kind} distance of {nodes[i]},{nodes[j]} is "
-                                   f"{d[i, j]}, tsplib95 says {problem.get_weight(nodes[i], nodes[j])}")
+            want = problem.get_weight(nodes[i], nodes[j]) if i != j else 0
+            if d[i, j] != want:
+                raise RuntimeError(f"vectorised {kind} distance of nodes {nodes[i]}, {nodes[j]} "
+                                   f"is {d[i, j]}, tsplib95 says {want}")
         return d
     d = np.zeros((n, n), dtype=np.int64)
     for i in range(n):
@@ -143,10 +151,11 @@ def cut_value(mask, u, v, w):
     return float(w[mask[u] != mask[v]].sum())
 
 
-def gusfield_cuts(m, u, v, w):
-    """Node sets (bool masks over m nodes) with cut value < 2 - CUT_EPS among the n - 1 minimum
-    s-t cuts of Gusfield's flow-equivalent tree of the graph with edges (u, v, w). The smallest
-    of those n - 1 cuts is a global minimum cut."""
+def flow_tree_cuts(m, u, v, w):
+    """Node sets (bool masks over m nodes) with cut value < 2 - CUT_EPS among the m - 1 minimum
+    s-t cuts that build a flow-equivalent tree of the graph with edges (u, v, w): each node s
+    is cut from its current tree parent t, and the later nodes on s's side whose parent was t
+    are hung below s. The smallest of those m - 1 cuts is a global minimum cut."""
     cap = np.rint(w * FLOW_SCALE).astype(np.int64)
     keep = cap > 0
     degree = np.bincount(u, cap, m) + np.bincount(v, cap, m)
@@ -176,40 +185,62 @@ def gusfield_cuts(m, u, v, w):
     return found
 
 
-def separate(n, eu, ev, x):
-    """Violated subtour cuts of the LP solution x over edges (eu, ev), as bool masks over nodes."""
-    sup = x > SUPPORT_EPS
-    u, v, w = eu[sup], ev[sup], x[sup]
-    graph = sparse.coo_matrix((w, (u, v)), shape=(n, n)).tocsr()
-    ncomp, label = csgraph.connected_components(graph, directed=False)
-    if ncomp > 1:
-        return [label == c for c in range(ncomp)]
+def connected_cuts(m, u, v, w, confirm):
+    """Violated cuts (bool masks over m nodes) of a connected support graph with edges (u, v, w)
+    over nodes 0..m-1 whose x-degrees are all 2. With confirm, when the flow tree finds none,
+    networkx.stoer_wagner checks that the global minimum cut is not below 2 either."""
     # Contract paths of edges with x_e = 1. If S separates the ends a, b of such an edge and
-    # x(delta(S)) < 2, then moving b to a's side changes the cut by x(delta(B)) - 2 x(B, S) <= 0
-    # for the contracted path B containing b (x(delta(B)) = 2 since B is a path of 1-edges
-    # and the degrees are 2), so a violated cut survives the contraction.
-    one = x[sup] >= 1 - ONE_EPS
-    ones = sparse.coo_matrix((np.ones(one.sum()), (u[one], v[one])), shape=(n, n)).tocsr()
-    m, group = csgraph.connected_components(ones, directed=False)
-    if m < 3:
+    # x(delta(S)) < 2, putting b on a's side gives x(delta(S + b)) = x(delta(S)) + x(delta(b))
+    # - 2 x(b, S) <= x(delta(S)), since x(delta(b)) = 2 and x(b, S) >= x_ab = 1. Repeating this
+    # never empties the other side (a non-empty set of nodes of 1-paths has cut value >= 2),
+    # so some violated cut splits no 1-path and survives the contraction.
+    one = w >= 1 - ONE_EPS
+    ones = sparse.coo_matrix((np.ones(one.sum()), (u[one], v[one])), shape=(m, m)).tocsr()
+    k, group = csgraph.connected_components(ones, directed=False)
+    if k < 3:
         return []  # one node: a tour; two: two paths, and the cut between them is exactly 2
     gu, gv = group[u], group[v]
     cross = gu != gv
     a, b = np.minimum(gu[cross], gv[cross]), np.maximum(gu[cross], gv[cross])
-    shrunk = sparse.coo_matrix((w[cross], (a, b)), shape=(m, m)).tocsr()
+    shrunk = sparse.coo_matrix((w[cross], (a, b)), shape=(k, k)).tocsr()
     shrunk.sum_duplicates()
     shrunk = shrunk.tocoo()
     su, sv, sw = shrunk.row.astype(np.int64), shrunk.col.astype(np.int64), shrunk.data
-    found = gusfield_cuts(m, su, sv, sw)
-    if not found:
+    found = flow_tree_cuts(k, su, sv, sw)
+    if not found and confirm:
         g = nx.Graph()
         g.add_weighted_edges_from(zip(su.tolist(), sv.tolist(), sw.tolist()))
         value, (side, _) = nx.stoer_wagner(g, weight="weight")
         if value < 2 - CUT_EPS:
-            mask = np.zeros(m, dtype=bool)
+            mask = np.zeros(k, dtype=bool)
             mask[list(side)] = True
             found = [mask]
     return [mask[group] for mask in found]
+
+
+def separate(n, eu, ev, x):
+    """Violated subtour cuts of the LP solution x over edges (eu, ev), as bool masks over nodes:
+    the connected components of the support graph when there are several, and the violated
+    cuts found inside each component (a set inside a component is a subtour cut as well)."""
+    sup = x > SUPPORT_EPS
+    u, v, w = eu[sup], ev[sup], x[sup]
+    graph = sparse.coo_matrix((w, (u, v)), shape=(n, n)).tocsr()
+    ncomp, label = csgraph.connected_components(graph, directed=False)
+    if ncomp == 1:
+        return connected_cuts(n, u, v, w, confirm=True)
+    cuts = []
+    local = np.zeros(n, dtype=np.int64)
+    for c in range(ncomp):
+        members = np.flatnonzero(label == c)
+        cuts.append(label == c)
+        local[members] = np.arange(len(members))
+        inside = label[u] == c
+        for sub in connected_cuts(len(members), local[u[inside]], local[v[inside]], w[inside],
+                                  confirm=False):
+            mask = np.zeros(n, dtype=bool)
+            mask[members[sub]] = True
+            cuts.append(mask)
+    return cuts
 
 
 # ---------------------------------------------------------------------------- the LP
@@ -224,9 +255,14 @@ class SubtourLP:
         self.in_lp = np.zeros((self.n, self.n), dtype=bool)
         self.in_lp[self.eu, self.ev] = True
         self.cuts = []  # bool masks over nodes, normalised to exclude node 0
-        self.keys = set()
+        self.keys = []  # packed masks, to skip cuts already in the LP
+        self.age = []  # solves in a row in which each cut was slack
+        self.key_set = set()
+        self.purge_level = -math.inf  # LP value at the last drop of slack cuts
+        self.cuts_added = 0
         self.rounds = 0
         self.result = None
+        self.scale = max(1.0, float(np.abs(dist).max()))  # tolerances of the dual checks
 
     def add_cut(self, mask):
         if mask[0]:
@@ -234,11 +270,34 @@ class SubtourLP:
         if not mask.any() or mask.all():
             return False
         key = np.packbits(mask).tobytes()
-        if key in self.keys:
+        if key in self.key_set:
             return False
-        self.keys.add(key)
+        self.key_set.add(key)
+        self.keys.append(key)
         self.cuts.append(mask)
+        self.age.append(0)
+        self.cuts_added += 1
         return True
+
+    def purge(self):
+        """Drop the cuts that have been slack for CUT_AGE_LIMIT solves in a row, so the LP stays
+        small. The result stays exact: separation is exact, so the final LP solution satisfies
+        every subtour constraint, dropped or not. Cuts are dropped only when the LP value has
+        risen since the last drop: once no more edges enter, the value never falls (adding cuts
+        cannot lower it, dropping slack ones keeps it), so drops stop and the loop cannot cycle."""
+        if not self.cuts:
+            return
+        slack = np.asarray(self.result.ineqlin.residual) > CUT_EPS
+        self.age = [a + 1 if s else 0 for a, s in zip(self.age, slack)]
+        if self.result.fun <= self.purge_level + CUT_EPS:
+            return
+        self.purge_level = self.result.fun
+        keep = [i for i, a in enumerate(self.age) if a < CUT_AGE_LIMIT]
+        if len(keep) < len(self.cuts):
+            self.cuts = [self.cuts[i] for i in keep]
+            self.keys = [self.keys[i] for i in keep]
+            self.age = [self.age[i] for i in keep]
+            self.key_set = set(self.keys)
 
     def solve(self):
         n, m = self.n, len(self.eu)
@@ -260,6 +319,8 @@ class SubtourLP:
         res = linprog(cost, A_ub=a_ub, b_ub=b_ub, A_eq=a_eq, b_eq=2.0 * np.ones(n),
                       bounds=(0, 1), method="highs")
         self.rounds += 1
+        if self.rounds > MAX_ROUNDS:
+            raise RuntimeError(f"no convergence in {MAX_ROUNDS} LP solves")
         if res.status != 0:
             raise RuntimeError(f"LP solve failed: {res.message}")
         self.result = res
@@ -283,28 +344,27 @@ class SubtourLP:
                 rc -= zs * (mask[u] != mask[v])
         return rc
 
-    def check_duals(self):
-        """The LP's fractional edges are basic, so their reduced cost must be 0; edges at 0 must
-        not be negative and edges at 1 not positive."""
-        y, z = self.duals()
+    def check_duals(self, rc):
+        """rc: reduced costs of the LP's edges. Fractional edges are basic, so theirs must be 0;
+        edges at 0 must not be negative and edges at 1 not positive."""
         x = self.result.x
-        rc = self.reduced_costs(self.eu, self.ev, y, z)
-        scale = max(1.0, float(np.abs(self.dist).max()))
         frac = (x > 1e-7) & (x < 1 - 1e-7)
-        bad = np.abs(rc[frac]).max(initial=0.0)
-        bad = max(bad, -rc[x <= 1e-7].min(initial=0.0), rc[x >= 1 - 1e-7].max(initial=0.0))
-        if bad > DUAL_CHECK_EPS * scale:
+        bad = max(np.abs(rc[frac]).max(initial=0.0), -rc[x <= 1e-7].min(initial=0.0),
+                  rc[x >= 1 - 1e-7].max(initial=0.0))
+        if bad > DUAL_CHECK_EPS * self.scale:
             raise RuntimeError(f"dual check failed: reduced cost off by {bad:g}")
-        if np.any(z < -DUAL_CHECK_EPS * scale):
-            raise RuntimeError("dual check failed: a cut dual is negative")
 
     def price(self):
-        """Add every edge not in the LP whose reduced cost is below -PRICE_EPS; return how many."""
-        self.check_duals()
+        """Add the edges not in the LP whose reduced cost is below -PRICE_EPS (at most n of them,
+        the most negative); return how many."""
         n = self.n
+        y, z = self.duals()
+        if np.any(z < -DUAL_CHECK_EPS * self.scale):
+            raise RuntimeError("dual check failed: a cut dual is negative")
+        rc_lp = self.reduced_costs(self.eu, self.ev, y, z)
+        self.check_duals(rc_lp)
         if len(self.eu) == n * (n - 1) // 2:
             return 0
-        y, z = self.duals()
         active = np.flatnonzero(z > 0)
         masks = np.array([self.cuts[i] for i in active], dtype=float).reshape(len(active), n)
         za = z[active]
@@ -316,6 +376,11 @@ class SubtourLP:
             # z-weight of cuts separating u and v: a_u + a_v - 2 sum_S z_S [u in S][v in S]
             sep = a[start:stop, None] + a[None, :] - 2.0 * (weighted[start:stop] @ masks)
             rc = self.dist[start:stop] - y[start:stop, None] - y[None, :] - sep
+            # the matrix form must agree with the edge-by-edge definition on the LP's edges
+            here = (self.eu >= start) & (self.eu < stop)
+            off = np.abs(rc[self.eu[here] - start, self.ev[here]] - rc_lp[here]).max(initial=0.0)
+            if off > DUAL_CHECK_EPS * self.scale:
+                raise RuntimeError(f"pricing check failed: reduced costs differ by {off:g}")
             rows = np.arange(start, stop)[:, None]
             cand = (rc < -PRICE_EPS) & (np.arange(n)[None, :] > rows) & ~self.in_lp[start:stop]
             r, c = np.nonzero(cand)
@@ -332,14 +397,18 @@ class SubtourLP:
         return len(new_u)
 
     def run(self):
+        """Solve, price and separate until no edge prices out and no cut is violated. Pricing
+        every round, not only once the cuts have converged, keeps the restricted edge set from
+        forcing long detours on clustered instances."""
         while True:
-            while True:
-                res = self.solve()
-                cuts = separate(self.n, self.eu, self.ev, res.x)
-                if not sum(self.add_cut(mask) for mask in cuts):
-                    break
-            if not self.price():
+            res = self.solve()
+            columns = self.price()
+            found = separate(self.n, self.eu[:len(res.x)], self.ev[:len(res.x)], res.x)
+            if not columns and not found:
                 return res.fun
+            self.purge()
+            for mask in found:
+                self.add_cut(mask)
 
 
 # ---------------------------------------------------------------------------- command line
@@ -357,12 +426,12 @@ def run_file(path):
     lp = SubtourLP(dist)
     value = lp.run()
     return {
-        "instance": problem.name or os.path.splitext(os.path.basename(path))[0],
+        "instance": os.path.splitext(os.path.basename(path))[0],
         "nodes": len(nodes),
         "subtour_lp": round(float(value), 6),
         "subtour_lp_ceil": int(math.ceil(value - 1e-6)),
         "rounds": lp.rounds,
-        "cuts": len(lp.cuts),
+        "cuts": lp.cuts_added,
         "edges": len(lp.eu),
         "seconds": round(time.time() - start, 2),
     }
