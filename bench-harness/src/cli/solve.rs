@@ -226,14 +226,7 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
                 ends_words(&sol)
             );
         }
-        write_file(out, |w| {
-            wend_bench::tsplib::write_tour(
-                &format!("{}.tour", inst.name),
-                &comment,
-                sol.tour.order(),
-                w,
-            )
-        })?;
+        write_tour_file(out, &inst, &comment, sol.tour.order())?;
     }
     if a.json {
         let obj = json!({
@@ -331,6 +324,18 @@ fn ends_words(sol: &wend::Solution) -> String {
     }
 }
 
+/// Writes `order` to `out` as a TSPLIB TOUR file named after the instance.
+fn write_tour_file(
+    out: &std::path::Path,
+    inst: &wend_bench::tsplib::Instance,
+    comment: &str,
+    order: &[usize],
+) -> Result<(), CliError> {
+    write_file(out, |w| {
+        wend_bench::tsplib::write_tour(&format!("{}.tour", inst.name), comment, order, w)
+    })
+}
+
 /// `wend solve --exact`.
 fn run_exact(
     a: &SolveArgs,
@@ -373,14 +378,7 @@ fn run_exact(
                 ", not proven optimal"
             }
         );
-        write_file(out, |w| {
-            wend_bench::tsplib::write_tour(
-                &format!("{}.tour", inst.name),
-                &comment,
-                c.tour.order(),
-                w,
-            )
-        })?;
+        write_tour_file(out, inst, &comment, c.tour.order())?;
     }
     if a.json {
         let obj = json!({
