@@ -32,7 +32,7 @@ fn reaches_the_published_optimum() {
             .threads(2)
             .solve()
             .unwrap();
-        assert_eq!(sol.stop_reason, StopReason::KickBudget);
+        assert_eq!(sol.stop_reason, StopReason::IterationBudget);
         assert_eq!(sol.length, opt, "{name}");
     }
 }

@@ -44,6 +44,7 @@ pub mod branch;
 pub mod candidates;
 pub mod construct;
 pub mod cost;
+pub mod drive;
 pub mod ends;
 pub mod exact;
 pub mod improve;

@@ -47,17 +47,15 @@
 
 use crate::candidates::Neighbours;
 use crate::cost::Cost;
+use crate::drive::{drive, Iterative, LoopOutcome, LoopPlan};
 use crate::improve::{try_or_opt, ImproveStats, MAX_SEGMENT};
-use crate::search::{self, Improvement, Start, StopHandle, StopReason};
+use crate::search::{self, Improvement, Start};
 use crate::tour::closed_length;
 use crate::tour::{ArrayTour, Layout, TourRepr, TwoLevelTour};
 use rand::Rng;
-use rand::SeedableRng;
 use rand_pcg::Pcg64;
 use std::collections::VecDeque;
-use std::sync::atomic::{AtomicBool, AtomicU64, AtomicUsize, Ordering};
-use std::sync::Mutex;
-use std::time::{Duration, Instant};
+use std::time::Instant;
 
 /// Tuning of the LK move and of the kicks.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -555,250 +553,124 @@ fn kick_segment(n: usize, cap: usize) -> usize {
 /// Smallest instance that gets kicks: three segments and the node before them must fit.
 const MIN_KICK_NODES: usize = 8;
 
-/// Minimum time between two reports to the observer, so that a long run on a large instance
-/// gives a readable anytime curve rather than one entry per accepted kick.
-const REPORT_INTERVAL: Duration = Duration::from_millis(10);
-
 /// Parameters of an iterated LK search.
 #[derive(Clone, Debug)]
 pub(crate) struct LkPlan {
-    pub seed: u64,
-    pub threads: usize,
-    /// Independent runs; `None`: one after another until the deadline.
-    pub runs: Option<usize>,
-    /// Kicks per run.
-    pub kicks: Option<u64>,
-    /// A run ends after this many kicks in a row without a shorter tour.
-    pub stall: Option<u64>,
-    /// Stop everything once a tour this short is found.
-    pub target: Option<i64>,
-    pub deadline: Option<Instant>,
-    pub stop: StopHandle,
+    /// Runs, kicks per run (iterations), stall and target limits, deadline, stop handle.
+    pub limits: LoopPlan,
     pub params: LkParams,
     pub layout: Layout,
+    /// A tour run 0 starts from instead of its greedy tour (the patched assignment cover, for
+    /// asymmetric costs); the other runs keep their own starts, for diversity.
+    pub start: Option<Vec<usize>>,
 }
 
-pub(crate) struct LkOutcome {
-    pub order: Vec<usize>,
-    pub length: i64,
-    pub runs: usize,
-    pub kicks: u64,
-    pub stop_reason: StopReason,
+/// One run of the iterated search on representation `T`: a local optimum, then one kick and its
+/// repair per step, kept when the tour is no longer.
+struct LkRun<'a, C: Cost + ?Sized, T: TourRepr> {
+    cost: &'a C,
+    lk: LinKernighan<'a, C>,
+    tour: T,
+    length: i64,
+    seg: usize,
 }
 
-/// Anytime reports, throttled to [`REPORT_INTERVAL`]; the last withheld one is sent at the end.
-struct Reporter<'o> {
-    began: Instant,
-    observer: &'o (dyn Fn(Improvement) + Sync),
-    state: Mutex<(i64, Option<Instant>, Option<Improvement>)>,
-}
-
-impl Reporter<'_> {
-    fn offer(&self, length: i64, run: usize) {
-        let mut s = self.state.lock().unwrap_or_else(|e| e.into_inner());
-        if length >= s.0 {
-            return;
-        }
-        s.0 = length;
-        let now = Instant::now();
-        let imp = Improvement {
-            seconds: now.duration_since(self.began).as_secs_f64(),
+impl<'a, C: Cost + ?Sized, T: TourRepr> LkRun<'a, C, T> {
+    fn start(
+        cost: &'a C,
+        nb: &'a Neighbours,
+        plan: &LkPlan,
+        order: Vec<usize>,
+        should_stop: &mut dyn FnMut() -> bool,
+    ) -> Self {
+        let mut tour = T::from_order(order);
+        let mut lk = LinKernighan::new(cost, nb, plan.params.clone());
+        lk.optimise(&mut tour, should_stop);
+        let length = closed_length(cost, &tour.stored_order()).unwrap_or(i64::MAX);
+        LkRun {
+            cost,
+            lk,
+            tour,
             length,
-            restart: run,
-        };
-        if s.1.is_none_or(|t| now.duration_since(t) >= REPORT_INTERVAL) {
-            s.1 = Some(now);
-            s.2 = None;
-            (self.observer)(imp);
+            seg: kick_segment(cost.len(), plan.params.kick_segment),
+        }
+    }
+}
+
+impl<C: Cost + ?Sized, T: TourRepr> Iterative for LkRun<'_, C, T> {
+    fn step(&mut self, rng: &mut Pcg64, should_stop: &mut dyn FnMut() -> bool) {
+        let n = self.cost.len();
+        let v = rng.gen_range(0..n);
+        let lens = [
+            rng.gen_range(1..=self.seg),
+            rng.gen_range(1..=self.seg),
+            rng.gen_range(1..=self.seg),
+        ];
+        let kick = double_bridge(self.cost, &mut self.tour, v, lens);
+        self.lk.start_log();
+        for v in kick.ends {
+            self.lk.activate(v);
+        }
+        let stats = self.lk.run(&mut self.tour, should_stop);
+        let new_length = self.length + kick.delta - stats.gain;
+        if new_length <= self.length {
+            self.lk.keep_log();
+            self.length = new_length;
         } else {
-            s.2 = Some(imp);
+            self.lk.undo_log(&mut self.tour);
+            undo_double_bridge(self.cost, &mut self.tour, &kick);
         }
     }
 
-    fn flush(&self) {
-        let mut s = self.state.lock().unwrap_or_else(|e| e.into_inner());
-        if let Some(imp) = s.2.take() {
-            (self.observer)(imp);
-        }
+    fn best_length(&self) -> i64 {
+        self.length
+    }
+
+    /// The same cycle gives the same answer from either representation: walked from node 0.
+    fn best_order(&self) -> Vec<usize> {
+        self.tour.walk_from(0)
+    }
+
+    /// Too small for kicks, or a length that overflowed (it cannot be updated by deltas; such a
+    /// run keeps its local optimum).
+    fn finished(&self) -> bool {
+        self.cost.len() < MIN_KICK_NODES || self.length == i64::MAX
     }
 }
 
-/// How one run ended.
-#[derive(Clone, Copy, PartialEq, Eq)]
-enum RunEnd {
-    Kicks,
-    Stall,
-    Other,
-}
-
-/// Runs the iterated search and returns the best tour by (length, run index).
+/// Runs the iterated search on the loop owner and returns the best tour by (length, run index).
 pub(crate) fn iterated<C: Cost + ?Sized>(
     cost: &C,
     nb: &Neighbours,
     plan: &LkPlan,
     began: Instant,
     observer: &(dyn Fn(Improvement) + Sync),
-) -> LkOutcome {
-    let n = cost.len();
-    let next = AtomicUsize::new(0);
-    let started = AtomicUsize::new(0);
-    let total_kicks = AtomicU64::new(0);
-    let timed_out = AtomicBool::new(false);
-    let target_hit = AtomicBool::new(false);
-    let stalled = AtomicBool::new(false);
-    let best: Mutex<Option<(i64, usize, Vec<usize>)>> = Mutex::new(None);
-    let reporter = Reporter {
-        began,
-        observer,
-        state: Mutex::new((i64::MAX, None, None)),
-    };
-    let over = || {
-        if plan.stop.is_stopped() || target_hit.load(Ordering::Relaxed) {
-            return true;
-        }
-        if plan.deadline.is_some_and(|d| Instant::now() >= d) {
-            timed_out.store(true, Ordering::Relaxed);
-            return true;
-        }
-        false
-    };
-    let reached = |length: i64| {
-        if plan.target.is_some_and(|t| length <= t) {
-            target_hit.store(true, Ordering::Relaxed);
-        }
-    };
-    let worker = || loop {
-        let r = next.fetch_add(1, Ordering::Relaxed);
-        if plan.runs.is_some_and(|m| r >= m) || (r > 0 && over()) {
-            break;
-        }
-        started.fetch_add(1, Ordering::Relaxed);
-        let mut rng = Pcg64::seed_from_u64(search::mix(plan.seed, r as u64));
-        let order = search::start_tour(cost, nb, Start::GreedyEdge, r, &mut rng);
-        let (length, order, kicks, end) = if plan.layout.two_level(n) {
-            one_run::<C, TwoLevelTour>(
-                cost, nb, plan, order, &mut rng, r, &over, &reached, &reporter,
-            )
-        } else {
-            one_run::<C, ArrayTour>(
-                cost, nb, plan, order, &mut rng, r, &over, &reached, &reporter,
-            )
-        };
-        if end == RunEnd::Stall {
-            stalled.store(true, Ordering::Relaxed);
-        }
-        total_kicks.fetch_add(kicks, Ordering::Relaxed);
-        debug_assert_eq!(
-            closed_length(cost, &order).unwrap_or(i64::MAX),
-            length,
-            "incremental length drifted"
-        );
-        let mut guard = best.lock().unwrap_or_else(|e| e.into_inner());
-        if guard
-            .as_ref()
-            .is_none_or(|(l, i, _)| (length, r) < (*l, *i))
-        {
-            *guard = Some((length, r, order));
-        }
-    };
-    search::on_threads(plan.threads, &worker);
-    reporter.flush();
-    let (length, _, order) = best
-        .into_inner()
-        .unwrap_or_else(|e| e.into_inner())
-        .unwrap_or((0, 0, (0..n).collect()));
-    let stop_reason = if plan.stop.is_stopped() {
-        StopReason::Cancelled
-    } else if target_hit.load(Ordering::Relaxed) {
-        StopReason::TargetReached
-    } else if timed_out.load(Ordering::Relaxed) {
-        StopReason::TimeLimit
-    } else if stalled.load(Ordering::Relaxed) {
-        StopReason::StallLimit
+) -> LoopOutcome {
+    fn go<C: Cost + ?Sized, T: TourRepr>(
+        cost: &C,
+        nb: &Neighbours,
+        plan: &LkPlan,
+        began: Instant,
+        observer: &(dyn Fn(Improvement) + Sync),
+    ) -> LoopOutcome {
+        drive(&plan.limits, began, observer, |r, rng, should_stop| {
+            let order = match &plan.start {
+                Some(order) if r == 0 => order.clone(),
+                _ => search::start_tour(cost, nb, Start::GreedyEdge, r, rng),
+            };
+            LkRun::<C, T>::start(cost, nb, plan, order, should_stop)
+        })
+    }
+    let out = if plan.layout.two_level(cost.len()) {
+        go::<C, TwoLevelTour>(cost, nb, plan, began, observer)
     } else {
-        StopReason::KickBudget
+        go::<C, ArrayTour>(cost, nb, plan, began, observer)
     };
-    LkOutcome {
-        order,
-        length,
-        runs: started.load(Ordering::Relaxed),
-        kicks: total_kicks.load(Ordering::Relaxed),
-        stop_reason,
-    }
-}
-
-/// One run of the iterated search on representation `T`: local optimum from `order`, then kicks
-/// until a budget, the stall limit or `over`. Returns the length, the tour from node 0, the
-/// kicks tried and why it ended.
-#[allow(clippy::too_many_arguments)]
-fn one_run<C: Cost + ?Sized, T: TourRepr>(
-    cost: &C,
-    nb: &Neighbours,
-    plan: &LkPlan,
-    order: Vec<usize>,
-    rng: &mut Pcg64,
-    r: usize,
-    over: &dyn Fn() -> bool,
-    reached: &dyn Fn(i64),
-    reporter: &Reporter<'_>,
-) -> (i64, Vec<usize>, u64, RunEnd) {
-    let n = cost.len();
-    let mut tour = T::from_order(order);
-    let mut lk = LinKernighan::new(cost, nb, plan.params.clone());
-    // Run 0 always yields a tour, even when the deadline comes first.
-    lk.optimise(&mut tour, &mut || over());
-    let mut length = closed_length(cost, &tour.stored_order()).unwrap_or(i64::MAX);
-    reporter.offer(length, r);
-    reached(length);
-    let mut kicks = 0u64;
-    let mut since_better = 0u64;
-    let mut end = RunEnd::Other;
-    let seg = kick_segment(n, plan.params.kick_segment);
-    // An overflowing length cannot be updated by deltas; such a run keeps its local optimum.
-    while n >= MIN_KICK_NODES && length != i64::MAX {
-        if plan.kicks.is_some_and(|k| kicks >= k) {
-            end = RunEnd::Kicks;
-            break;
-        }
-        if plan.stall.is_some_and(|s| since_better >= s) {
-            end = RunEnd::Stall;
-            break;
-        }
-        if over() {
-            break;
-        }
-        let v = rng.gen_range(0..n);
-        let lens = [
-            rng.gen_range(1..=seg),
-            rng.gen_range(1..=seg),
-            rng.gen_range(1..=seg),
-        ];
-        let kick = double_bridge(cost, &mut tour, v, lens);
-        lk.start_log();
-        for v in kick.ends {
-            lk.activate(v);
-        }
-        let stats = lk.run(&mut tour, &mut || over());
-        let new_length = length + kick.delta - stats.gain;
-        kicks += 1;
-        if new_length <= length {
-            lk.keep_log();
-            if new_length < length {
-                since_better = 0;
-                length = new_length;
-                reporter.offer(length, r);
-                reached(length);
-            } else {
-                since_better += 1;
-            }
-        } else {
-            lk.undo_log(&mut tour);
-            undo_double_bridge(cost, &mut tour, &kick);
-            since_better += 1;
-        }
-    }
-    // The same cycle gives the same answer from either representation: walk it from node 0.
-    (length, tour.walk_from(0), kicks, end)
+    debug_assert!(
+        out.length == i64::MAX || closed_length(cost, &out.order) == Ok(out.length),
+        "incremental length drifted"
+    );
+    out
 }
 
 /// Kicks per run when nothing else bounds a run (no time limit, no stall limit).
@@ -811,10 +683,13 @@ mod tests {
     use super::*;
     use crate::candidates::k_nearest;
     use crate::cost::{CoordCost, MatrixCost, Metric};
+    use crate::search::{StopHandle, StopReason};
     use crate::tour::Tour;
     use crate::{Method, Solver};
     use proptest::prelude::*;
     use rand::Rng;
+    use rand::SeedableRng;
+    use std::time::Duration;
 
     /// Random integer costs: rounded Euclidean distances between random points, plus (when
     /// `asym`) a direction-dependent term so that the matrix is not symmetric.
@@ -1064,7 +939,7 @@ mod tests {
         assert_eq!(a.tour, b.tour);
         assert_eq!(a.length, b.length);
         assert_eq!(a.kicks, 900);
-        assert_eq!(a.stop_reason, StopReason::KickBudget);
+        assert_eq!(a.stop_reason, StopReason::IterationBudget);
         let asym = instance(60, 9, true);
         let run = |threads| {
             Solver::new(&asym)

@@ -94,8 +94,8 @@ pub enum StopReason {
     Constructed,
     /// A tour no longer than the target length was found.
     TargetReached,
-    /// Every run of an iterated search used up its kick budget.
-    KickBudget,
+    /// Every run of an iterative method used up its iteration budget (kicks for `lk`).
+    IterationBudget,
     /// Runs of an iterated search ended after too many kicks in a row without improvement.
     StallLimit,
 }

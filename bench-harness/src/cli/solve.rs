@@ -441,7 +441,7 @@ fn stop_words(r: wend::StopReason) -> &'static str {
         Exhaustive => "every tour tried (optimal)",
         Constructed => "construction done",
         TargetReached => "target length reached",
-        KickBudget => "all kicks done",
+        IterationBudget => "iteration budget used up",
         StallLimit => "stalled (no improvement within the stall limit)",
     }
 }
