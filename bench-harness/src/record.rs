@@ -17,6 +17,11 @@ pub struct RunRecord {
     /// `TSP` or `ATSP`.
     #[serde(rename = "type")]
     pub problem_type: String,
+    /// What was asked for: `closed` (a tour), or a path: `open`, `start` (from the file's first
+    /// node), `end` (to it) or `start-end` (from the first node to the last). Older files,
+    /// without the field, hold closed tours.
+    #[serde(default = "closed")]
+    pub ends: String,
     /// Number of nodes.
     pub nodes: usize,
     /// Method name, as `wend solve --method` takes it.
@@ -69,6 +74,12 @@ pub struct RunKey {
     pub seed: u64,
     /// Time limit in milliseconds (so the key can be hashed).
     pub time_limit_ms: u64,
+    /// `closed`, or the kind of path.
+    pub ends: String,
+}
+
+fn closed() -> String {
+    "closed".into()
 }
 
 impl RunRecord {
@@ -79,6 +90,32 @@ impl RunRecord {
             method: self.method.clone(),
             seed: self.seed,
             time_limit_ms: (self.time_limit * 1000.0).round() as u64,
+            ends: self.ends.clone(),
+        }
+    }
+
+    /// True for a closed tour, false for any kind of path.
+    pub fn is_closed(&self) -> bool {
+        self.ends == "closed"
+    }
+
+    /// The problem the run solved: the instance name for a closed tour, `name [ends path]` for
+    /// a path, so that reports never compare or average paths with tours.
+    pub fn problem(&self) -> String {
+        if self.is_closed() {
+            self.instance.clone()
+        } else {
+            format!("{} [{} path]", self.instance, self.ends)
+        }
+    }
+
+    /// The kind of problem, as report sections name it: `TSP`, `ATSP`, or with the kind of path
+    /// (`TSP, open paths`).
+    pub fn kind(&self) -> String {
+        if self.is_closed() {
+            self.problem_type.clone()
+        } else {
+            format!("{}, {} paths", self.problem_type, self.ends)
         }
     }
 
@@ -141,6 +178,7 @@ pub(crate) fn sample(instance: &str, method: &str, seed: u64, length: i64) -> Ru
         instance: instance.into(),
         file: format!("instances/{instance}.tsp"),
         problem_type: "TSP".into(),
+        ends: "closed".into(),
         nodes: 100,
         method: method.into(),
         seed,

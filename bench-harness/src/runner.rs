@@ -13,7 +13,7 @@ use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
 use std::time::Duration;
-use wend::{CandidateSource, Method, Solver};
+use wend::{CandidateSource, Ends, Method, Solver};
 
 /// A method with optional candidate-list settings: `lk`, `lk:alpha`, `lk:nearest:5`. Runs of
 /// different variants of one method are kept apart in records and reports by their label.
@@ -100,6 +100,67 @@ impl MethodSpec {
     }
 }
 
+/// What each run is asked for: a closed tour or a kind of path, with fixed ends taken from the
+/// file's first and last nodes so that every run of a sweep asks the same.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum EndsChoice {
+    /// A closed tour (the default).
+    #[default]
+    Closed,
+    /// A path with free ends.
+    Open,
+    /// A path from the file's first node, the other end free.
+    Start,
+    /// A path to the file's first node, the other end free.
+    End,
+    /// A path from the file's first node to its last.
+    StartEnd,
+}
+
+impl EndsChoice {
+    /// Every choice, in the order help texts list them.
+    pub const ALL: [EndsChoice; 5] = [
+        EndsChoice::Closed,
+        EndsChoice::Open,
+        EndsChoice::Start,
+        EndsChoice::End,
+        EndsChoice::StartEnd,
+    ];
+
+    /// The name on the command line and in run records (as `wend solve --json` names ends).
+    pub fn name(self) -> &'static str {
+        match self {
+            EndsChoice::Closed => "closed",
+            EndsChoice::Open => "open",
+            EndsChoice::Start => "start",
+            EndsChoice::End => "end",
+            EndsChoice::StartEnd => "start-end",
+        }
+    }
+
+    /// The choice with this name, or a message naming the choices.
+    pub fn parse(name: &str) -> Result<EndsChoice, String> {
+        EndsChoice::ALL
+            .into_iter()
+            .find(|e| e.name() == name)
+            .ok_or_else(|| {
+                let names: Vec<&str> = EndsChoice::ALL.iter().map(|e| e.name()).collect();
+                format!("unknown ends {name:?}; choose from: {}", names.join(", "))
+            })
+    }
+
+    /// The ends to ask the solver for on `n` nodes.
+    pub fn ends(self, n: usize) -> Ends {
+        match self {
+            EndsChoice::Closed => Ends::Closed,
+            EndsChoice::Open => Ends::Open,
+            EndsChoice::Start => Ends::Start(0),
+            EndsChoice::End => Ends::End(0),
+            EndsChoice::StartEnd => Ends::StartEnd(0, n.saturating_sub(1)),
+        }
+    }
+}
+
 /// What to run.
 #[derive(Clone, Debug)]
 pub struct SweepPlan {
@@ -107,6 +168,8 @@ pub struct SweepPlan {
     pub instances: Vec<PathBuf>,
     /// Methods and their variants.
     pub methods: Vec<MethodSpec>,
+    /// Closed tours, paths, or both: every instance and method runs with each.
+    pub ends: Vec<EndsChoice>,
     /// Seeds.
     pub seeds: Vec<u64>,
     /// Time limit of each run, in seconds.
@@ -139,6 +202,8 @@ pub struct RunSpec {
     pub instance: String,
     /// Method and variant.
     pub method: MethodSpec,
+    /// Closed tour or kind of path.
+    pub ends: EndsChoice,
     /// Seed.
     pub seed: u64,
 }
@@ -198,15 +263,24 @@ pub fn plan_runs(plan: &SweepPlan) -> Vec<RunSpec> {
     files.sort();
     files.dedup_by(|a, b| a.0 == b.0);
     let mut runs = Vec::new();
+    let closed_only = [EndsChoice::Closed];
+    let ends = if plan.ends.is_empty() {
+        &closed_only[..]
+    } else {
+        &plan.ends[..]
+    };
     for (instance, file) in &files {
-        for method in &plan.methods {
-            for &seed in &plan.seeds {
-                runs.push(RunSpec {
-                    file: file.clone(),
-                    instance: instance.clone(),
-                    method: *method,
-                    seed,
-                });
+        for &e in ends {
+            for method in &plan.methods {
+                for &seed in &plan.seeds {
+                    runs.push(RunSpec {
+                        file: file.clone(),
+                        instance: instance.clone(),
+                        method: *method,
+                        ends: e,
+                        seed,
+                    });
+                }
             }
         }
     }
@@ -272,6 +346,7 @@ pub fn run_sweep(
         method: s.method.label(),
         seed: s.seed,
         time_limit_ms: (plan.time_limit * 1000.0).round() as u64,
+        ends: s.ends.name().to_string(),
     };
     let todo: Vec<&RunSpec> = specs.iter().filter(|s| !done.contains(&key(s))).collect();
     let outcome = SweepOutcome {
@@ -347,7 +422,8 @@ fn run_one(
         .method(spec.method.method)
         .seed(spec.seed)
         .threads(plan.threads_per_run)
-        .time_limit(Duration::from_secs_f64(plan.time_limit));
+        .time_limit(Duration::from_secs_f64(plan.time_limit))
+        .ends(spec.ends.ends(inst.dimension));
     if let Some(c) = spec.method.candidates {
         solver = solver.candidates(c);
     }
@@ -360,8 +436,11 @@ fn run_one(
     if let Some(k) = plan.kicks {
         solver = solver.kicks(k);
     }
+    // Known optima are of closed tours; a path has none.
+    let closed = spec.ends == EndsChoice::Closed;
+    let optimum = plan.optima.get(&spec.instance).copied().filter(|_| closed);
     if plan.stop_at_optimum {
-        if let Some(&o) = plan.optima.get(&spec.instance) {
+        if let Some(o) = optimum {
             solver = solver.target_length(o);
         }
     }
@@ -370,15 +449,25 @@ fn run_one(
         message: e.to_string(),
     })?;
     let tour_name = format!(
-        "{}.{}.s{}.t{}.tour",
+        "{}{}.{}.s{}.t{}.tour",
         spec.instance,
+        if closed {
+            String::new()
+        } else {
+            format!(".{}-path", spec.ends.name())
+        },
         spec.method.label().replace(':', "-"),
         spec.seed,
         plan.time_limit
     );
     let tour_path = plan.out.join("tours").join(&tour_name);
     let comment = format!(
-        "length {} found by wend {} (method {}, seed {})",
+        "{}length {} found by wend {} (method {}, seed {})",
+        if closed {
+            String::new()
+        } else {
+            format!("{} path, no return step: ", spec.ends.name())
+        },
         sol.length,
         env!("CARGO_PKG_VERSION"),
         spec.method.label(),
@@ -394,11 +483,11 @@ fn run_one(
             path: tour_path.display().to_string(),
             source,
         })?;
-    let optimum = plan.optima.get(&spec.instance).copied();
     Ok(RunRecord {
         instance: spec.instance.clone(),
         file: spec.file.display().to_string(),
         problem_type: inst.kind.keyword().to_string(),
+        ends: spec.ends.name().to_string(),
         nodes: inst.dimension,
         method: spec.method.label(),
         seed: spec.seed,
@@ -434,6 +523,7 @@ mod tests {
         SweepPlan {
             instances: vec!["b/x.tsp".into(), "a/y.tsp".into(), "c/x.tsp".into()],
             methods: vec![Method::TwoOpt.into(), Method::Greedy.into()],
+            ends: Vec::new(),
             seeds: vec![0, 1, 2],
             time_limit: 1.0,
             restarts: None,

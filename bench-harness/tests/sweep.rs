@@ -319,3 +319,84 @@ fn method_variants_run_with_their_own_neighbour_lists() {
         assert!(String::from_utf8_lossy(&o.stderr).contains(part), "{bad}");
     }
 }
+
+#[test]
+fn paths_and_atsp_runs_are_kept_apart_from_closed_tours() {
+    let tmp = tempfile::tempdir().unwrap();
+    let out = tmp.path().join("ends");
+    let out_s = out.display().to_string();
+    let (tsp, atsp) = (instance("berlin52.tsp"), instance("br17.atsp"));
+    let o = wend(&[
+        "bench",
+        "--instances",
+        &tsp,
+        &atsp,
+        "--methods",
+        "lk",
+        "--ends",
+        "closed",
+        "open",
+        "start-end",
+        "--kicks",
+        "200",
+        "--restarts",
+        "1",
+        "--time-limit",
+        "60",
+        "--out",
+        &out_s,
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let all = runs(&out);
+    assert_eq!(all.len(), 2 * 3);
+    for r in &all {
+        let ends = r["ends"].as_str().unwrap();
+        let tour = out.join(r["tour_file"].as_str().unwrap());
+        let text = std::fs::read_to_string(&tour).unwrap();
+        let order: Vec<usize> = text
+            .lines()
+            .skip_while(|l| l.trim() != "TOUR_SECTION")
+            .skip(1)
+            .map_while(|l| l.trim().parse::<i64>().ok().filter(|&v| v > 0))
+            .map(|v| v as usize)
+            .collect();
+        let n = r["nodes"].as_u64().unwrap() as usize;
+        assert_eq!(order.len(), n, "{tour:?}");
+        if ends == "closed" {
+            // Published optima (TSPLIB list; ../shared/tsplib/optima.txt agrees): berlin52
+            // 7542, br17 39. A closed tour is never shorter and is measured against them.
+            assert!(r["gap_percent"].as_f64().is_some());
+            assert!(r["length"].as_i64().unwrap() >= r["optimum"].as_i64().unwrap());
+        } else {
+            // Known optima are of tours: a path gets no gap, and its fixed ends hold.
+            assert!(r["optimum"].is_null() && r["gap_percent"].is_null());
+            if ends == "start-end" {
+                assert_eq!((order[0], order[n - 1]), (1, n), "{tour:?}");
+            }
+        }
+    }
+    // Dropping the return step of a closed tour leaves an open path, so the open path found
+    // is no longer than the closed tour (both instances are solved to optimality here).
+    for inst in ["berlin52", "br17"] {
+        let length = |ends: &str| {
+            all.iter()
+                .find(|r| r["instance"] == inst && r["ends"] == ends)
+                .and_then(|r| r["length"].as_i64())
+                .unwrap()
+        };
+        assert!(length("open") <= length("closed"), "{inst}");
+    }
+    let summary = std::fs::read_to_string(out.join("summary.md")).unwrap();
+    for section in [
+        "### TSP\n",
+        "### ATSP\n",
+        "### TSP, open paths",
+        "### ATSP, start-end paths",
+    ] {
+        assert!(summary.contains(section), "no {section:?} in\n{summary}");
+    }
+    assert!(
+        summary.contains(r"berlin52 \[open path\] | TSP, open paths"),
+        "{summary}"
+    );
+}

@@ -7,8 +7,8 @@ use serde::Deserialize;
 use std::collections::{BTreeMap, HashMap};
 use std::path::{Path, PathBuf};
 use wend_bench::record::{read_runs, RunKey, RunRecord};
-use wend_bench::runner::MethodSpec;
 use wend_bench::runner::{run_sweep, SweepPlan};
+use wend_bench::runner::{EndsChoice, MethodSpec};
 use wend_bench::tsplib::{read_instance, read_optima, read_tour};
 
 #[derive(Args, Debug)]
@@ -24,6 +24,12 @@ pub struct BenchArgs {
     /// width of its neighbour lists: `lk`, `lk:alpha`, `lk:nearest:5`.
     #[arg(long, num_args = 1.., value_name = "NAME")]
     methods: Vec<String>,
+    /// What each run is asked for: closed (tours), open (paths with free ends), start (paths
+    /// from the file's first node), end (paths to it), start-end (paths from the first node to
+    /// the last). Several give runs of each; paths are reported apart from tours, and their gap
+    /// columns stay empty (known optima are of tours) [default: closed]
+    #[arg(long, num_args = 1.., value_name = "ENDS")]
+    ends: Vec<String>,
     /// Number of seeds per (instance, method): seeds 0, 1, ..., N-1.
     #[arg(long, value_name = "N")]
     seeds: Option<u64>,
@@ -74,6 +80,7 @@ pub struct BenchArgs {
 struct Suite {
     instances: Option<Vec<String>>,
     methods: Option<Vec<String>>,
+    ends: Option<Vec<String>>,
     seeds: Option<u64>,
     time_limit: Option<f64>,
     restarts: Option<usize>,
@@ -135,6 +142,15 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
     let methods = method_names
         .iter()
         .map(|n| MethodSpec::parse(n).map_err(CliError::Input))
+        .collect::<Result<Vec<_>, _>>()?;
+    let ends_names = if !a.ends.is_empty() {
+        a.ends.clone()
+    } else {
+        suite.ends.clone().unwrap_or_default()
+    };
+    let ends = ends_names
+        .iter()
+        .map(|n| EndsChoice::parse(n).map_err(CliError::Input))
         .collect::<Result<Vec<_>, _>>()?;
     let seeds = a.seeds.or(suite.seeds).unwrap_or(1);
     if seeds == 0 {
@@ -213,6 +229,7 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
     let plan = SweepPlan {
         instances: files,
         methods,
+        ends,
         seeds: (0..seeds).collect(),
         time_limit,
         restarts: a.restarts.or(suite.restarts),

@@ -143,10 +143,10 @@ pub fn write_report(
     Ok(done)
 }
 
-/// The shortest run of each instance.
+/// The shortest closed tour of each instance (paths are not drawn).
 fn best_runs(runs: &[RunRecord]) -> BTreeMap<&str, &RunRecord> {
     let mut best: BTreeMap<&str, &RunRecord> = BTreeMap::new();
-    for r in runs {
+    for r in runs.iter().filter(|r| r.is_closed()) {
         let better = match best.get(r.instance.as_str()) {
             None => true,
             Some(b) => {

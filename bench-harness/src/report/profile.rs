@@ -57,11 +57,11 @@ pub struct PerformanceProfile {
 /// get ratio 1 and the others never reach any τ (they count as failures on that problem).
 pub fn performance_profile(runs: &[RunRecord]) -> PerformanceProfile {
     let methods: BTreeSet<&str> = runs.iter().map(|r| r.method.as_str()).collect();
-    let mut problems: BTreeMap<(&str, u64, u64), BTreeMap<&str, i64>> = BTreeMap::new();
+    let mut problems: BTreeMap<(String, u64, u64), BTreeMap<&str, i64>> = BTreeMap::new();
     for r in runs {
         let k = r.key();
         let best = problems
-            .entry((&r.instance, r.seed, k.time_limit_ms))
+            .entry((r.problem(), r.seed, k.time_limit_ms))
             .or_default()
             .entry(&r.method)
             .or_insert(r.length);

@@ -5,7 +5,7 @@ use crate::record::RunRecord;
 use std::path::Path;
 
 /// Column names, in order; they follow the JSON field names so both files read the same.
-const HEADER: [&str; 21] = [
+const HEADER: [&str; 22] = [
     "instance",
     "file",
     "type",
@@ -27,6 +27,7 @@ const HEADER: [&str; 21] = [
     "version",
     "git_commit",
     "machine",
+    "ends",
 ];
 
 /// Writes the runs sorted by (instance, method, seed, time limit); runs equal in all four keep
@@ -38,8 +39,8 @@ pub(crate) fn write(runs: &[RunRecord], path: &Path) -> Result<(), ReportError> 
     };
     let mut sorted: Vec<&RunRecord> = runs.iter().collect();
     sorted.sort_by(|a, b| {
-        (&a.instance, &a.method, a.seed)
-            .cmp(&(&b.instance, &b.method, b.seed))
+        (&a.instance, &a.ends, &a.method, a.seed)
+            .cmp(&(&b.instance, &b.ends, &b.method, b.seed))
             .then(a.time_limit.total_cmp(&b.time_limit))
     });
     let mut w = csv::Writer::from_path(path).map_err(csv_err)?;
@@ -53,7 +54,7 @@ pub(crate) fn write(runs: &[RunRecord], path: &Path) -> Result<(), ReportError> 
     })
 }
 
-fn row(r: &RunRecord) -> [String; 21] {
+fn row(r: &RunRecord) -> [String; 22] {
     [
         r.instance.clone(),
         r.file.clone(),
@@ -76,6 +77,7 @@ fn row(r: &RunRecord) -> [String; 21] {
         r.version.clone(),
         r.git_commit.clone(),
         r.machine.clone(),
+        r.ends.clone(),
     ]
 }
 

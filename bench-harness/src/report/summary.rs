@@ -107,7 +107,7 @@ fn mean(values: impl Iterator<Item = f64>) -> Option<f64> {
 /// One row of the table by method and size class.
 #[derive(Clone, Debug, PartialEq)]
 pub struct GroupRow {
-    /// Problem type (`TSP`, `ATSP`) as the runs give it.
+    /// Kind of problem ([`RunRecord::kind`]): `TSP`, `ATSP`, or either with a kind of path.
     pub problem_type: String,
     /// Method.
     pub method: String,
@@ -117,14 +117,14 @@ pub struct GroupRow {
     pub stats: GroupStats,
 }
 
-/// Groups by problem type, method and size class; rows come TSP first, then ATSP, then any
-/// other type by name, and within a type by method and size.
+/// Groups by kind of problem, method and size class; rows come TSP first, then ATSP, then any
+/// other type by name (closed tours before paths), and within a kind by method and size.
 pub fn method_size_table(runs: &[RunRecord]) -> Vec<GroupRow> {
-    let mut groups: BTreeMap<(u8, &str, &str, SizeClass), Vec<&RunRecord>> = BTreeMap::new();
+    let mut groups: BTreeMap<(u8, String, &str, SizeClass), Vec<&RunRecord>> = BTreeMap::new();
     for r in runs {
         let key = (
             type_rank(&r.problem_type),
-            r.problem_type.as_str(),
+            r.kind(),
             r.method.as_str(),
             SizeClass::of(r.nodes),
         );
@@ -133,7 +133,7 @@ pub fn method_size_table(runs: &[RunRecord]) -> Vec<GroupRow> {
     groups
         .into_iter()
         .map(|((_, t, m, size), rs)| GroupRow {
-            problem_type: t.to_string(),
+            problem_type: t,
             method: m.to_string(),
             size,
             stats: GroupStats::of(rs),
@@ -167,9 +167,9 @@ pub struct MethodResult {
 /// One row of the table by instance: one instance under one time limit.
 #[derive(Clone, Debug, PartialEq)]
 pub struct InstanceRow {
-    /// Instance name.
+    /// Problem ([`RunRecord::problem`]): the instance name, with the kind of path for paths.
     pub instance: String,
-    /// Problem type.
+    /// Kind of problem ([`RunRecord::kind`]).
     pub problem_type: String,
     /// Nodes.
     pub nodes: usize,
@@ -181,13 +181,13 @@ pub struct InstanceRow {
     pub methods: BTreeMap<String, MethodResult>,
 }
 
-/// Rows by instance and then time limit: a run under 1 s and one under 60 s are not seeds of
-/// the same experiment, so they are not averaged together.
+/// Rows by problem (instance, closed or kind of path) and then time limit: a run under 1 s and
+/// one under 60 s are not seeds of the same experiment, so they are not averaged together.
 pub fn instance_table(runs: &[RunRecord]) -> Vec<InstanceRow> {
-    let mut groups: BTreeMap<(&str, u64), Vec<&RunRecord>> = BTreeMap::new();
+    let mut groups: BTreeMap<(String, u64), Vec<&RunRecord>> = BTreeMap::new();
     for r in runs {
         groups
-            .entry((&r.instance, r.key().time_limit_ms))
+            .entry((r.problem(), r.key().time_limit_ms))
             .or_default()
             .push(r);
     }
@@ -215,8 +215,8 @@ pub fn instance_table(runs: &[RunRecord]) -> Vec<InstanceRow> {
                 })
                 .collect();
             InstanceRow {
-                instance: first.instance.clone(),
-                problem_type: first.problem_type.clone(),
+                instance: first.problem(),
+                problem_type: first.kind(),
                 nodes: rs.iter().map(|r| r.nodes).max().unwrap_or(0),
                 optimum: rs.iter().find_map(|r| r.optimum),
                 time_limit: first.time_limit,
@@ -248,10 +248,10 @@ pub fn find_errors(runs: &[RunRecord]) -> Vec<String> {
             describe(key)
         ));
     }
-    let mut optima: BTreeMap<&str, BTreeSet<i64>> = BTreeMap::new();
+    let mut optima: BTreeMap<String, BTreeSet<i64>> = BTreeMap::new();
     for r in runs {
         if let Some(o) = r.optimum {
-            optima.entry(&r.instance).or_default().insert(o);
+            optima.entry(r.problem()).or_default().insert(o);
         }
     }
     for (inst, os) in optima.iter().filter(|(_, os)| os.len() > 1) {
@@ -266,8 +266,13 @@ pub fn find_errors(runs: &[RunRecord]) -> Vec<String> {
 
 fn describe(k: &RunKey) -> String {
     format!(
-        "{} / {} / seed {} / {} s",
+        "{}{} / {} / seed {} / {} s",
         k.instance,
+        if k.ends == "closed" {
+            String::new()
+        } else {
+            format!(" [{} path]", k.ends)
+        },
         k.method,
         k.seed,
         k.time_limit_ms as f64 / 1000.0
