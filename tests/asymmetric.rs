@@ -4,8 +4,9 @@
 use proptest::prelude::*;
 use wend::ends::path_length;
 use wend::exact::{optimal_path, DEFAULT_DP_MEMORY};
+use wend::prove::{prove_optimal, ProveOptions};
 use wend::tour::closed_length;
-use wend::{AsymmetricMode, Cost, Ends, MatrixCost, Solution, SolveError, Solver};
+use wend::{AsymmetricMode, Cost, Ends, MatrixCost, Solution, SolveError, Solver, StopHandle};
 use wend_bench::tsplib::read_instance;
 use wend_tests::instance;
 
@@ -167,6 +168,54 @@ fn the_heuristic_finds_the_optimal_path_on_most_instances() {
         hits * 100 >= total * 80,
         "optimal on {hits} of {total} (instance, variant) pairs"
     );
+}
+
+/// Shortest order with `ends` by trying every permutation (independent of the solver).
+fn brute_force(c: &MatrixCost, ends: Ends) -> i64 {
+    fn permute(k: usize, order: &mut Vec<usize>, visit: &mut dyn FnMut(&[usize])) {
+        if k == order.len() {
+            visit(order);
+            return;
+        }
+        for i in k..order.len() {
+            order.swap(k, i);
+            permute(k + 1, order, visit);
+            order.swap(k, i);
+        }
+    }
+    let mut order: Vec<usize> = (0..c.len()).collect();
+    let mut best = i64::MAX;
+    permute(0, &mut order, &mut |o| {
+        if ends.respected_by(o) {
+            let l = if ends.is_path() {
+                path_length(c, o).unwrap()
+            } else {
+                closed_length(c, o).unwrap()
+            };
+            best = best.min(l);
+        }
+    });
+    best
+}
+
+#[test]
+fn prove_optimal_gives_the_brute_force_optimum_of_every_variant() {
+    // Reference: every permutation tried (7! = 5,040 orders).
+    for seed in 0..6u64 {
+        for asym in [false, true] {
+            let c = random_costs(7, seed, asym);
+            for ends in variants(7, seed) {
+                let opts = ProveOptions {
+                    ends,
+                    ..Default::default()
+                };
+                let cert = prove_optimal(&c, &opts, &StopHandle::new()).unwrap();
+                assert!(cert.proven_optimal);
+                assert!(ends.respected_by(cert.tour.order()), "{ends:?}");
+                assert_eq!(cert.length, brute_force(&c, ends), "{ends:?} asym {asym}");
+            }
+        }
+    }
 }
 
 #[test]

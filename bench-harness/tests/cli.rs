@@ -395,8 +395,10 @@ fn bad_path_ends_exit_2_with_one_line_naming_the_problem() {
         (vec!["--start", "0"], "--start 0"),
         (vec!["--end", "15"], "--end 15"),
         (vec!["--start", "1", "--end", "99"], "--end 99"),
-        (vec!["--open", "--exact"], "--exact"),
-        (vec!["--start", "2", "--bound"], "--bound"),
+        (
+            vec!["--open", "--exact", "--exact-method", "branch-and-bound"],
+            "branch and bound was asked for",
+        ),
     ] {
         let mut all = vec!["solve", inst];
         all.extend_from_slice(&args);
@@ -406,4 +408,50 @@ fn bad_path_ends_exit_2_with_one_line_naming_the_problem() {
         assert_eq!(e.trim().lines().count(), 1, "{args:?}: {e}");
         assert!(e.contains(needle), "{args:?}: {e}");
     }
+}
+
+#[test]
+fn exact_paths_and_their_bounds_bracket_the_heuristic_path() {
+    // Reference: the dynamic programme proves each path optimal; the bound of the same path
+    // variant must not exceed it, and the heuristic path must not beat it.
+    let dir = tempfile::tempdir().unwrap();
+    for name in ["burma14.tsp", "br17.atsp"] {
+        let inst = instances().join(name);
+        let inst_s = inst.to_str().unwrap();
+        for ends in [
+            vec!["--open"],
+            vec!["--start", "3"],
+            vec!["--end", "5"],
+            vec!["--start", "2", "--end", "7"],
+        ] {
+            let mut args = vec!["solve", inst_s, "--exact", "--json"];
+            args.extend_from_slice(&ends);
+            let o = wend(&args);
+            assert!(o.status.success(), "{name} {ends:?}: {}", stderr(&o));
+            let exact: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+            assert_eq!(exact["proven_optimal"], true, "{name} {ends:?}");
+            let optimum = exact["length"].as_i64().unwrap();
+            let mut with_bound = ends.clone();
+            with_bound.push("--bound");
+            let (heuristic, _) = solve_path(&inst, &with_bound, dir.path());
+            let length = heuristic["length"].as_i64().unwrap();
+            let bound = heuristic["lower_bound"].as_i64().unwrap();
+            assert!(
+                bound <= optimum && optimum <= length,
+                "{name} {ends:?}: bound {bound}, optimum {optimum}, heuristic {length}"
+            );
+        }
+    }
+    let o = wend(&[
+        "solve",
+        instances().join("berlin52.tsp").to_str().unwrap(),
+        "--exact",
+        "--open",
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        stderr(&o).contains("dynamic programme only"),
+        "{}",
+        stderr(&o)
+    );
 }

@@ -14,7 +14,8 @@
 use crate::bound::BoundError;
 use crate::branch::{branch_and_bound, BranchOptions};
 use crate::cost::Cost;
-use crate::exact::{dynamic_programme, DpError, DEFAULT_DP_MEMORY, DP_LIMIT};
+use crate::ends::Ends;
+use crate::exact::{optimal_path, DpError, DEFAULT_DP_MEMORY, DP_LIMIT};
 use crate::search::StopHandle;
 use crate::solver::{Method, SolveError, Solver};
 use crate::tour::{Overflow, Tour, TourError};
@@ -40,6 +41,9 @@ pub struct ProveOptions {
     pub node_limit: Option<u64>,
     /// The method to use; `None` picks as the module documentation says.
     pub method: Option<ExactMethod>,
+    /// A closed tour (the default) or a path: paths are solved by the dynamic programme only
+    /// ([`crate::exact::optimal_path`], up to `DP_LIMIT - 1` nodes).
+    pub ends: Ends,
 }
 
 impl Default for ProveOptions {
@@ -51,6 +55,7 @@ impl Default for ProveOptions {
             dp_memory_bytes: DEFAULT_DP_MEMORY,
             node_limit: None,
             method: None,
+            ends: Ends::Closed,
         }
     }
 }
@@ -85,9 +90,10 @@ impl ExactMethod {
 /// What [`prove_optimal`] established.
 #[derive(Clone, Debug)]
 pub struct Certificate {
-    /// The best tour found, starting at node 0.
+    /// The best tour found, starting at node 0 (or at the fixed start of
+    /// [`ProveOptions::ends`]); for a path, from its first node to its last.
     pub tour: Tour,
-    /// Its exact length.
+    /// Its exact length (for a path, without a return step).
     pub length: i64,
     /// A lower bound on every tour's length, when one is known; equal to `length` when
     /// `proven_optimal`.
@@ -117,6 +123,21 @@ pub enum ProveError {
         n: usize,
         /// [`DP_LIMIT`].
         limit: usize,
+    },
+    /// A path asked of a method that handles closed tours only, or of more nodes than the
+    /// dynamic programme takes.
+    #[error(
+        "exact paths are found by the dynamic programme only, for up to {limit} nodes; this \
+         instance has {n}{}",
+        if *branch_asked { " and branch and bound was asked for" } else { "" }
+    )]
+    PathUnsupported {
+        /// Nodes in the instance.
+        n: usize,
+        /// `DP_LIMIT - 1` (the dummy node takes one place).
+        limit: usize,
+        /// True when branch and bound was asked for.
+        branch_asked: bool,
     },
     /// The dynamic programme refused (memory, overflow).
     #[error(transparent)]
@@ -149,6 +170,16 @@ pub fn prove_optimal<C: Cost + ?Sized>(
     let symmetric = cost.is_symmetric();
     let deadline = opts.time_limit.and_then(|l| began.checked_add(l));
     let remaining = || deadline.map(|d| d.saturating_duration_since(Instant::now()));
+    if opts.ends.is_path() {
+        let branch_asked = opts.method == Some(ExactMethod::BranchAndBound);
+        if branch_asked || n + 1 > DP_LIMIT {
+            return Err(ProveError::PathUnsupported {
+                n,
+                limit: DP_LIMIT - 1,
+                branch_asked,
+            });
+        }
+    }
     let method = opts
         .method
         .unwrap_or(if n <= DP_DIRECT_LIMIT || (!symmetric && n <= DP_LIMIT) {
@@ -171,11 +202,10 @@ pub fn prove_optimal<C: Cost + ?Sized>(
                 .build()
                 .ok()
         });
+        let mut run = || optimal_path(cost, opts.ends, opts.dp_memory_bytes, &mut should_stop);
         let dp = match pool {
-            Some(pool) => {
-                pool.install(|| dynamic_programme(cost, opts.dp_memory_bytes, &mut should_stop))
-            }
-            None => dynamic_programme(cost, opts.dp_memory_bytes, &mut should_stop),
+            Some(pool) => pool.install(run),
+            None => run(),
         };
         return match dp {
             Ok(t) => Ok(Certificate {
@@ -192,13 +222,16 @@ pub fn prove_optimal<C: Cost + ?Sized>(
                 // Out of time: the best heuristic tour there is time for, without a bound.
                 let mut s = Solver::new(cost)
                     .seed(opts.seed)
+                    .ends(opts.ends)
                     .time_limit(Duration::from_millis(200));
                 if let Some(t) = opts.threads {
                     s = s.threads(t);
                 }
                 let sol = s.solve()?;
                 let mut tour = sol.tour;
-                tour.rotate_to(0);
+                if !opts.ends.is_path() {
+                    tour.rotate_to(opts.ends.start().unwrap_or(0));
+                }
                 Ok(Certificate {
                     tour,
                     length: sol.length,
@@ -249,6 +282,7 @@ pub fn prove_optimal<C: Cost + ?Sized>(
 mod tests {
     use super::*;
     use crate::cost::MatrixCost;
+    use crate::exact::dynamic_programme;
     use crate::exact::enumerate;
 
     #[allow(clippy::needless_range_loop)]

@@ -8,8 +8,9 @@ use std::path::PathBuf;
 use std::time::Duration;
 use wend::assignment::assignment_bound;
 use wend::bound::{held_karp_bound, AscentOptions};
+use wend::ends::EndedCost;
 use wend::prove::{prove_optimal, ExactMethod, ProveOptions};
-use wend::{CandidateSource, Ends, Layout, Method, Solver, StopHandle};
+use wend::{CandidateSource, Cost, Ends, Layout, Method, Solver, StopHandle};
 
 #[derive(Args, Debug)]
 pub struct SolveArgs {
@@ -138,19 +139,12 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
     if a.threads == Some(0) {
         return Err(CliError::Input("--threads must be at least 1".into()));
     }
-    let wants_path = a.open || a.start.is_some() || a.end.is_some();
-    if wants_path && (a.exact || a.bound) {
-        return Err(CliError::Input(format!(
-            "--open, --start and --end cannot be combined with {}: it handles closed tours only",
-            if a.exact { "--exact" } else { "--bound" }
-        )));
-    }
     let path = a.path.clone().unwrap_or_default();
     let inst = load(&path)?;
     let ends = path_ends(&a, inst.dimension)
         .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
     if a.exact {
-        return run_exact(&a, &inst, &path, limit);
+        return run_exact(&a, &inst, &path, limit, ends);
     }
     let progress = Progress::start(limit, !a.json || std::io::stderr().is_terminal());
     let mut solver = Solver::new(inst.cost())
@@ -195,14 +189,23 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
             max_iterations: None,
             upper_bound: Some(sol.length),
         };
-        let bound = if inst.cost().is_symmetric() {
-            held_karp_bound(inst.cost(), &opts, &StopHandle::new())
-                .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?
-                .lower_bound
+        let bad = |e: &dyn std::fmt::Display| CliError::Input(format!("{}: {e}", path.display()));
+        let bound = if ends.is_path() {
+            // The bound of the closed tours through the dummy node that fixes the ends, less
+            // what such a tour pays at that node on top of its path: every path with the
+            // requested ends is one of those tours, so this is a bound on every such path.
+            let ended = EndedCost::new(inst.cost(), ends).map_err(|e| bad(&e))?;
+            let tour_bound = lower_bound_of(
+                &ended,
+                AscentOptions {
+                    upper_bound: ended.tour_length_of(sol.length),
+                    ..opts
+                },
+            )
+            .map_err(|e| bad(&e))?;
+            tour_bound.saturating_sub(ended.offset())
         } else {
-            assignment_bound(inst.cost())
-                .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?
-                .lower_bound
+            lower_bound_of(inst.cost(), opts).map_err(|e| bad(&e))?
         };
         Some(bound.min(sol.length))
     } else {
@@ -337,11 +340,25 @@ fn write_tour_file(
 }
 
 /// `wend solve --exact`.
+/// The Held–Karp bound of symmetric costs, the assignment bound of asymmetric ones.
+fn lower_bound_of<C: Cost + ?Sized>(cost: &C, opts: AscentOptions) -> Result<i64, String> {
+    if cost.is_symmetric() {
+        held_karp_bound(cost, &opts, &StopHandle::new())
+            .map(|b| b.lower_bound)
+            .map_err(|e| e.to_string())
+    } else {
+        assignment_bound(cost)
+            .map(|b| b.lower_bound)
+            .map_err(|e| e.to_string())
+    }
+}
+
 fn run_exact(
     a: &SolveArgs,
     inst: &wend_bench::tsplib::Instance,
     path: &std::path::Path,
     limit: Option<Duration>,
+    ends: Ends,
 ) -> Result<(), CliError> {
     let method = match &a.exact_method {
         None => None,
@@ -356,6 +373,7 @@ fn run_exact(
         time_limit: limit,
         seed: a.seed,
         threads: a.threads,
+        ends,
         ..Default::default()
     };
     let progress = Progress::start(limit, !a.json || std::io::stderr().is_terminal());
@@ -368,7 +386,12 @@ fn run_exact(
         .map(|b| 100.0 * (c.length - b) as f64 / b as f64);
     if let Some(out) = &a.tour_out {
         let comment = format!(
-            "length {} found by wend {} ({}{})",
+            "{}length {} found by wend {} ({}{})",
+            if ends.is_path() {
+                format!("{} path, no return step: ", ends.name())
+            } else {
+                String::new()
+            },
             c.length,
             env!("CARGO_PKG_VERSION"),
             c.method.name(),
@@ -388,6 +411,7 @@ fn run_exact(
             "nodes": inst.dimension,
             "method": "exact",
             "exact_method": c.method.name(),
+            "ends": ends.name(),
             "seed": a.seed,
             "threads": a.threads,
             "time_limit": a.time_limit,
@@ -415,6 +439,12 @@ fn run_exact(
                 c.subproblems,
                 c.first_tour_length.unwrap_or(c.length)
             ),
+        }
+        if ends.is_path() {
+            let order = c.tour.order();
+            if let (Some(f), Some(l)) = (order.first(), order.last()) {
+                println!("ends       {} path, {} to {}", ends.name(), f + 1, l + 1);
+            }
         }
         println!("length     {}", c.length);
         match (c.proven_optimal, c.lower_bound, proven_gap) {
