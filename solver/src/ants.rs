@@ -29,10 +29,13 @@
 //!   Dorigo and Stützle 2004, "Ant Colony Optimization", MIT Press). Every trail is then kept
 //!   within `[tau_min, tau_max]`, with `tau_max = 1 / (rho L_best)` and
 //!   `tau_min = tau_max (1 - p_dec) / ((n/2 - 1) p_dec)`, `p_dec = p_best^(1/n)`. Trails start
-//!   at `tau_max` and are set back to it when they have converged (average lambda-branching
-//!   factor, lambda = 0.05, over the candidate lists below [`AntParams::restart_branching`]) or
-//!   after [`AntParams::restart_stall`] generations without a shorter tour since the last
-//!   reinitialisation.
+//!   at `tau_max` and are set back to it when they have converged or the search has stalled:
+//!   when the average lambda-branching factor (lambda = 0.05) falls below
+//!   [`AntParams::restart_branching`], or after [`AntParams::restart_stall`] generations without
+//!   a shorter tour since the last reinitialisation. The branching factor counts, per node, the
+//!   candidate edges whose trail is at least `tau_min + lambda (tau_max - tau_min)`: measured
+//!   against the limits rather than the node's own extreme trails, it does not mistake the
+//!   first deposit (one edge per node at `tau_max`, the rest just below) for convergence.
 //!
 //! # Pheromone storage
 //!
@@ -46,7 +49,7 @@
 //! # Parallelism and reproducibility
 //!
 //! Each generation draws one `u64` from the run's generator; ant `a` draws from its own
-//! generator seeded from that value and `a` ([`crate::search::mix`]). Ants of MAX–MIN ant system
+//! generator seeded from that value and `a` (the same mixing as the restarts' seeds). Ants of MAX–MIN ant system
 //! are built and improved in parallel, those of ant colony system are built in lockstep and
 //! improved in parallel; the generation's best is the shortest tour by (length, ant index). So
 //! the same seed gives the same tour on any number of threads.
@@ -75,8 +78,8 @@ pub const DENSE_TRAILS_UP_TO: usize = 2_000;
 /// of cost zero is very attractive but not infinitely so.
 pub const ETA_EPSILON: f64 = 0.1;
 
-/// The lambda of the lambda-branching factor: an edge counts as a branch of node `i` when its
-/// trail is above `min + LAMBDA (max - min)` over `i`'s candidate edges.
+/// The lambda of the lambda-branching factor: a candidate edge counts as a branch when its trail
+/// is at least `tau_min + LAMBDA (tau_max - tau_min)`.
 const LAMBDA: f64 = 0.05;
 
 /// Which ant colony method runs.
@@ -128,8 +131,8 @@ impl AntLocalSearch {
 /// the method's own default.
 #[derive(Clone, Debug, PartialEq)]
 pub struct AntParams {
-    /// Ants per generation, `m` in the papers. `None`: 10 for ant colony system, `n` but at
-    /// most [`MAX_MIN_COLONY`] for MAX–MIN ant system.
+    /// Ants per generation, `m` in the papers. `None`: 10 for ant colony system; for MAX–MIN
+    /// ant system `n`, but at most [`MAX_MIN_COLONY`] with local search and twice that without.
     pub colony_size: Option<usize>,
     /// Exponent `alpha` of the trail in the choice rule (dimensionless). MAX–MIN ant system only;
     /// ant colony system uses 1. Default 1.
@@ -150,8 +153,9 @@ pub struct AntParams {
     /// which the lower trail limit follows. MAX–MIN ant system only. Default 0.05.
     pub best_probability: f64,
     /// Trails count as converged when the average lambda-branching factor per node, divided by
-    /// 2 for symmetric costs, falls below this (1 is a fully converged colony); they are then
-    /// reinitialised. 0 turns the test off. MAX–MIN ant system only. Default 1.00001.
+    /// 2 for symmetric costs, falls below this (at most 1 in a fully converged colony, where only
+    /// the edges of one tour keep trails well above `tau_min`); they are then reinitialised.
+    /// 0 turns the test off. MAX–MIN ant system only. Default 1.00001.
     pub restart_branching: f64,
     /// Trails are reinitialised after this many generations in a row without a shorter tour
     /// since the last reinitialisation (`None`: never). MAX–MIN ant system only. Default 250.
@@ -161,7 +165,7 @@ pub struct AntParams {
     pub local_search: Option<AntLocalSearch>,
 }
 
-/// Largest automatic colony of MAX–MIN ant system.
+/// Largest automatic colony of MAX–MIN ant system with local search (twice this without).
 pub const MAX_MIN_COLONY: usize = 25;
 
 /// Largest colony [`AntParams::set`] accepts.
@@ -209,7 +213,7 @@ fn number_in(
 }
 
 /// A whole number parsed from `value`, within `lo ..= hi`; the error names the key, the range
-/// and the word (`auto`, `never`) that `what` allows instead.
+/// and the `word` (`auto`, `never`) allowed instead.
 fn count_in(key: &str, value: &str, lo: u64, hi: u64, word: &str) -> Result<u64, String> {
     let err =
         || format!("{key}: expected a whole number from {lo} to {hi} or `{word}`, got `{value}`");
@@ -226,7 +230,7 @@ impl AntParams {
     pub const KEYS: &'static [(&'static str, &'static str)] = &[
         (
             "colony-size",
-            "ants per generation (m), 1 to 10000, or `auto` (10; MAX-MIN: n, at most 25)",
+            "ants per generation (m), 1 to 10000, or `auto` (10; MAX-MIN: n, at most 25, 50 without local search)",
         ),
         (
             "trail-weight",
@@ -339,10 +343,12 @@ impl AntParams {
         if ls == AntLocalSearch::Lk && !symmetric {
             ls = AntLocalSearch::TwoOpt;
         }
-        let ants = self
-            .colony_size
-            .unwrap_or(if acs { 10 } else { n.min(MAX_MIN_COLONY) })
-            .clamp(1, MAX_COLONY);
+        let auto = match (acs, ls) {
+            (true, _) => 10,
+            (false, AntLocalSearch::None) => n.min(2 * MAX_MIN_COLONY),
+            (false, _) => n.min(MAX_MIN_COLONY),
+        };
+        let ants = self.colony_size.unwrap_or(auto).clamp(1, MAX_COLONY);
         let rho = self.evaporation.unwrap_or(match (acs, ls) {
             (true, _) => 0.1,
             (false, AntLocalSearch::None) => 0.02,
@@ -1070,22 +1076,22 @@ impl<'a, C: Cost + ?Sized> Colony<'a, C> {
     }
 
     /// Average lambda-branching factor over the candidate lists, per tour edge at a node (2 for
-    /// symmetric costs, 1 otherwise); infinite without lists.
+    /// symmetric costs, 1 otherwise): candidate edges whose trail is at least
+    /// `tau_min + LAMBDA (tau_max - tau_min)`. Infinite without lists.
     fn branching_factor(&self) -> f64 {
         let (nb, n) = (self.field.nb, self.field.cost.len());
         if nb.k() == 0 || n == 0 {
             return f64::INFINITY;
         }
-        let mut branches = 0usize;
-        let mut vals = Vec::with_capacity(nb.k());
-        for i in 0..n {
-            vals.clear();
-            vals.extend((0..nb.k()).map(|x| self.field.trails.at_slot(nb, i, x)));
-            let lo = vals.iter().copied().fold(f64::INFINITY, f64::min);
-            let hi = vals.iter().copied().fold(f64::NEG_INFINITY, f64::max);
-            let cut = lo + LAMBDA * (hi - lo);
-            branches += vals.iter().filter(|&&t| t >= cut).count();
-        }
+        let (lo, hi) = self.limits;
+        let cut = lo + LAMBDA * (hi - lo);
+        let branches = (0..n)
+            .map(|i| {
+                (0..nb.k())
+                    .filter(|&x| self.field.trails.at_slot(nb, i, x) >= cut)
+                    .count()
+            })
+            .sum::<usize>();
         let per = if self.field.trails.symmetric { 2 } else { 1 };
         branches as f64 / (n * per) as f64
     }
@@ -1401,49 +1407,78 @@ mod tests {
         (c, optimum)
     }
 
+    /// Runs `col` until its best tour is `optimum` long or `budget` generations have passed,
+    /// checking that it never gets shorter; returns the generations used.
+    fn generations_to<C: Cost + ?Sized>(
+        col: &mut Colony<'_, C>,
+        rng: &mut Pcg64,
+        optimum: i64,
+        budget: usize,
+    ) -> usize {
+        assert!(col.best_length() >= optimum, "shorter than the optimum");
+        let mut gens = 0;
+        while col.best_length() > optimum && gens < budget {
+            col.step(rng, &mut || false);
+            assert!(col.best_length() >= optimum, "shorter than the optimum");
+            gens += 1;
+        }
+        gens
+    }
+
+    /// A `w x h` grid of spacing 10 under rounded Euclidean costs.
+    fn grid(w: usize, h: usize) -> CoordCost {
+        let pts: Vec<[f64; 2]> = (0..w * h)
+            .map(|i| [(i % w) as f64 * 10.0, (i / w) as f64 * 10.0])
+            .collect();
+        CoordCost::plane(Metric::Euc2d, &pts).unwrap()
+    }
+
+    // Outside reference: on a grid of spacing 10 under rounded Euclidean costs every edge costs
+    // at least 10, so a tour of n edges costs at least 10 n; when one side of the grid is even a
+    // serpentine tour uses grid edges only and costs exactly 10 n. The starting tours are not
+    // optimal, so the ants (with local search) have to find it.
+    #[test]
+    fn local_search_colonies_reach_the_grid_optimum_in_a_few_generations() {
+        for (w, h, variant, ls, budget) in [
+            (20, 15, AntVariant::MaxMin, AntLocalSearch::Lk, 5),
+            (20, 15, AntVariant::Acs, AntLocalSearch::Lk, 5),
+            (10, 9, AntVariant::MaxMin, AntLocalSearch::TwoOpt, 5),
+            (10, 9, AntVariant::Acs, AntLocalSearch::TwoOpt, 5),
+            (6, 5, AntVariant::MaxMin, AntLocalSearch::None, 400),
+            (6, 5, AntVariant::Acs, AntLocalSearch::None, 400),
+        ] {
+            let c = grid(w, h);
+            let n = w * h;
+            let optimum = 10 * n as i64;
+            let nb = k_nearest(&c, 8);
+            let (mut col, mut rng) = colony(&c, &nb, variant, &params(ls), 4, n);
+            assert!(col.best_length() > optimum, "the start is already optimal");
+            let gens = generations_to(&mut col, &mut rng, optimum, budget);
+            assert_eq!(
+                col.best_length(),
+                optimum,
+                "{w}x{h} {variant:?} {ls:?} ({gens})"
+            );
+        }
+    }
+
     // Outside reference: for points in convex position the shortest tour visits them in the
     // order of the convex hull (a geometric fact: any other tour has two crossing edges, and
     // uncrossing them shortens it by the strict triangle inequality). Rounding changes each edge
     // by at most 1/2 while the gain of uncrossing is of the order of the radius times the
-    // angle gaps (here far above n), so the hull order stays optimal after rounding.
+    // angle gaps (here far above n), so the hull order stays optimal after rounding. The
+    // nearest-neighbour start is not optimal; the ants alone, without local search, find it.
     #[test]
-    fn max_min_with_local_search_finds_the_hull_tour() {
-        for (n, seed) in [(30, 1), (45, 2), (60, 3)] {
+    fn ants_alone_find_the_hull_tour() {
+        for (n, seed) in [(45, 2), (60, 3)] {
             let (c, optimum) = convex(n, seed);
             let nb = k_nearest(&c, 8);
-            for ls in [AntLocalSearch::TwoOpt, AntLocalSearch::Lk] {
-                let (mut col, mut rng) = colony(&c, &nb, AntVariant::MaxMin, &params(ls), seed, n);
-                let mut gens = 0;
-                while col.best_length() > optimum && gens < 5 {
-                    col.step(&mut rng, &mut || false);
-                    assert!(col.best_length() >= optimum, "shorter than the optimum");
-                    gens += 1;
-                }
-                assert_eq!(col.best_length(), optimum, "n {n}, {ls:?}");
-            }
-        }
-    }
-
-    // Outside reference: on a 6 x 5 grid of spacing 10 under rounded Euclidean costs, every
-    // edge costs at least 10, so a tour of 30 edges costs at least 300, and a serpentine round
-    // the grid (one side even) costs exactly 300. Both methods, without local search too.
-    #[test]
-    fn both_methods_reach_the_grid_optimum() {
-        let pts: Vec<[f64; 2]> = (0..30)
-            .map(|i| [(i % 6) as f64 * 10.0, (i / 6) as f64 * 10.0])
-            .collect();
-        let c = CoordCost::plane(Metric::Euc2d, &pts).unwrap();
-        let nb = k_nearest(&c, 8);
-        for variant in [AntVariant::Acs, AntVariant::MaxMin] {
-            for (ls, budget) in [(AntLocalSearch::None, 400), (AntLocalSearch::TwoOpt, 40)] {
-                let (mut col, mut rng) = colony(&c, &nb, variant, &params(ls), 4, 30);
-                let mut gens = 0;
-                while col.best_length() > 300 && gens < budget {
-                    col.step(&mut rng, &mut || false);
-                    assert!(col.best_length() >= 300);
-                    gens += 1;
-                }
-                assert_eq!(col.best_length(), 300, "{variant:?} {ls:?}");
+            for (variant, budget) in [(AntVariant::Acs, 20), (AntVariant::MaxMin, 300)] {
+                let (mut col, mut rng) =
+                    colony(&c, &nb, variant, &params(AntLocalSearch::None), 4, n);
+                assert!(col.best_length() > optimum, "the start is already optimal");
+                generations_to(&mut col, &mut rng, optimum, budget);
+                assert_eq!(col.best_length(), optimum, "n {n}, {variant:?}");
             }
         }
     }
@@ -1475,6 +1510,54 @@ mod tests {
         assert_eq!(closed_length(&c, &out.order), Ok(out.length));
         let single = go(1);
         assert_eq!((single.order, single.length), (out.order, out.length));
+    }
+
+    // Trails that were just set to tau_max cannot have converged a few generations later: an
+    // edge without deposits keeps at least (1 - rho)^t of tau_max, far above the cut-off.
+    #[test]
+    fn trails_are_not_reset_before_they_can_have_converged() {
+        let c = instance(60, 8, false);
+        let nb = k_nearest(&c, 8);
+        for ls in AntLocalSearch::ALL {
+            let p = AntParams {
+                evaporation: Some(0.2),
+                restart_stall: None,
+                ..params(ls)
+            };
+            let (mut col, mut rng) = colony(&c, &nb, AntVariant::MaxMin, &p, 1, 60);
+            for _ in 0..8 {
+                col.step(&mut rng, &mut || false);
+            }
+            assert_eq!(col.reinitialisations(), 0, "{ls:?}");
+            // Without a stall limit or a branching test the trails converge and stay so.
+            let p = AntParams {
+                restart_branching: 0.0,
+                ..p
+            };
+            let (mut col, mut rng) = colony(&c, &nb, AntVariant::MaxMin, &p, 1, 60);
+            for _ in 0..120 {
+                col.step(&mut rng, &mut || false);
+            }
+            assert_eq!(col.reinitialisations(), 0, "{ls:?}");
+            assert!(col.branching_factor() <= 1.0, "{}", col.branching_factor());
+        }
+    }
+
+    // A converged colony is reinitialised by the branching test alone.
+    #[test]
+    fn converged_trails_are_reinitialised() {
+        let c = instance(40, 8, false);
+        let nb = k_nearest(&c, 8);
+        let p = AntParams {
+            evaporation: Some(0.5),
+            restart_stall: None,
+            ..params(AntLocalSearch::TwoOpt)
+        };
+        let (mut col, mut rng) = colony(&c, &nb, AntVariant::MaxMin, &p, 1, 40);
+        for _ in 0..200 {
+            col.step(&mut rng, &mut || false);
+        }
+        assert!(col.reinitialisations() > 0);
     }
 
     #[test]
