@@ -38,6 +38,7 @@
 #![warn(missing_docs)]
 
 pub mod alpha;
+pub mod anneal;
 pub mod ants;
 pub mod assignment;
 pub mod bound;
