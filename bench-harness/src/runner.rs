@@ -15,9 +15,10 @@ use std::sync::Mutex;
 use std::time::Duration;
 use wend::{CandidateSource, Ends, Method, Solver};
 
-/// A method with optional candidate-list settings: `lk`, `lk:alpha`, `lk:nearest:5`. Runs of
-/// different variants of one method are kept apart in records and reports by their label.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+/// A method with optional candidate-list settings and parameters: `lk`, `lk:alpha`,
+/// `lk:nearest:5`, `mmas+local-search=2opt+evaporation=0.1`. Runs of different variants of one
+/// method are kept apart in records and reports by their label.
+#[derive(Clone, Debug, PartialEq, Eq)]
 pub struct MethodSpec {
     /// The method.
     pub method: Method,
@@ -25,6 +26,8 @@ pub struct MethodSpec {
     pub candidates: Option<CandidateSource>,
     /// Width of the neighbour lists (default: the solver's).
     pub neighbours: Option<usize>,
+    /// Method parameters as `(key, value)`, set in order ([`Solver::set`]).
+    pub settings: Vec<(String, String)>,
 }
 
 impl From<Method> for MethodSpec {
@@ -33,14 +36,25 @@ impl From<Method> for MethodSpec {
             method,
             candidates: None,
             neighbours: None,
+            settings: Vec::new(),
         }
     }
 }
 
 impl MethodSpec {
-    /// Reads `METHOD[:SOURCE[:WIDTH]]`, with a message naming the choices when it is wrong.
+    /// Reads `METHOD[:SOURCE[:WIDTH]][+KEY=VALUE...]`, with a message naming the choices when
+    /// it is wrong.
     pub fn parse(text: &str) -> Result<MethodSpec, String> {
-        let mut parts = text.split(':');
+        let mut pieces = text.split('+');
+        let head = pieces.next().unwrap_or_default();
+        let mut settings = Vec::new();
+        for piece in pieces {
+            let (k, v) = piece.split_once('=').ok_or_else(|| {
+                format!("{piece:?} in {text:?} is not KEY=VALUE; write METHOD+KEY=VALUE")
+            })?;
+            settings.push((k.trim().to_string(), v.trim().to_string()));
+        }
+        let mut parts = head.split(':');
         let name = parts.next().unwrap_or_default();
         let method = Method::from_name(name).ok_or_else(|| {
             let names: Vec<&str> = Method::ALL.iter().map(|m| m.name()).collect();
@@ -75,11 +89,22 @@ impl MethodSpec {
                 "{text:?} has too many parts; write METHOD, METHOD:SOURCE or METHOD:SOURCE:WIDTH"
             ));
         }
-        Ok(MethodSpec {
+        let spec = MethodSpec {
             method,
             candidates,
             neighbours,
-        })
+            settings,
+        };
+        // Checked now, so that a bad key stops the sweep before its first run.
+        spec.settings
+            .iter()
+            .try_fold(
+                Solver::new(wend::MatrixCost::from_rows(&[]).map_err(|e| e.to_string())?)
+                    .method(method),
+                |s, (k, v)| s.set(k, v),
+            )
+            .map_err(|e| format!("{text:?}: {e}"))?;
+        Ok(spec)
     }
 
     /// The canonical text of the variant, as records and reports name it.
@@ -95,6 +120,9 @@ impl MethodSpec {
                 s.push_str(CandidateSource::default().name());
             }
             s.push_str(&format!(":{k}"));
+        }
+        for (k, v) in &self.settings {
+            s.push_str(&format!("+{k}={v}"));
         }
         s
     }
@@ -276,7 +304,7 @@ pub fn plan_runs(plan: &SweepPlan) -> Vec<RunSpec> {
                     runs.push(RunSpec {
                         file: file.clone(),
                         instance: instance.clone(),
-                        method: *method,
+                        method: method.clone(),
                         ends: e,
                         seed,
                     });
@@ -418,8 +446,14 @@ fn run_one(
     spec: &RunSpec,
     machine: &str,
 ) -> Result<RunRecord, SweepError> {
-    let mut solver = Solver::new(inst.cost())
-        .method(spec.method.method)
+    let mut solver = Solver::new(inst.cost()).method(spec.method.method);
+    for (k, v) in &spec.method.settings {
+        solver = solver.set(k, v).map_err(|e| SweepError::Solve {
+            file: spec.file.display().to_string(),
+            message: e.to_string(),
+        })?;
+    }
+    let mut solver = solver
         .seed(spec.seed)
         .threads(plan.threads_per_run)
         .time_limit(Duration::from_secs_f64(plan.time_limit))
@@ -506,7 +540,7 @@ fn run_one(
             .and_then(|v| v.as_str().map(str::to_string))
             .unwrap_or_default(),
         restarts: sol.restarts,
-        kicks: sol.kicks,
+        kicks: sol.iterations,
         trace: sol.trace.iter().map(|t| (t.seconds, t.length)).collect(),
         tour_file: Some(format!("tours/{tour_name}")),
         version: env!("CARGO_PKG_VERSION").to_string(),

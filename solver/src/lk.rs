@@ -938,7 +938,7 @@ mod tests {
         let (a, b) = (run(1), run(2));
         assert_eq!(a.tour, b.tour);
         assert_eq!(a.length, b.length);
-        assert_eq!(a.kicks, 900);
+        assert_eq!(a.iterations, 900);
         assert_eq!(a.stop_reason, StopReason::IterationBudget);
         let asym = instance(60, 9, true);
         let run = |threads| {

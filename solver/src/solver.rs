@@ -1,10 +1,12 @@
 //! The embedding API: a builder that takes costs and options and returns a [`Solution`].
 
+use crate::anneal::{AnnealParams, Annealer};
+use crate::ants::{AntParams, AntVariant, Colony};
 use crate::assignment::{assignment_bound, patch_cover};
 use crate::candidates::{candidates, CandidateSource, Neighbours};
 use crate::construct;
 use crate::cost::{Cost, CostError, FnCost, MatrixCost};
-use crate::drive::LoopPlan;
+use crate::drive::{drive, LoopPlan};
 use crate::ends::{path_length, EndedCost, Ends, EndsError};
 use crate::exact;
 use crate::lk::{self, LkParams, LkPlan};
@@ -28,12 +30,22 @@ pub enum Method {
     /// Iterated Lin–Kernighan-style search: LK moves plus Or-opt, double-bridge kicks, parallel
     /// independent runs (see [`crate::lk`]). The default.
     Lk,
+    /// Ant colony system (see [`crate::ants`]), ants built in parallel.
+    Acs,
+    /// MAX–MIN ant system (see [`crate::ants`]), ants built in parallel.
+    MaxMin,
+    /// Simulated annealing over 2-opt, Or-opt and segment exchanges (see [`crate::anneal`]),
+    /// independent runs per thread.
+    Anneal,
 }
 
 impl Method {
     /// Every method, in the order they are listed.
-    pub const ALL: [Method; 5] = [
+    pub const ALL: [Method; 8] = [
         Method::Lk,
+        Method::MaxMin,
+        Method::Acs,
+        Method::Anneal,
         Method::TwoOpt,
         Method::Greedy,
         Method::Nearest,
@@ -48,6 +60,9 @@ impl Method {
             Method::Curve => "curve",
             Method::TwoOpt => "2opt",
             Method::Lk => "lk",
+            Method::Acs => "acs",
+            Method::MaxMin => "mmas",
+            Method::Anneal => "anneal",
         }
     }
 
@@ -71,7 +86,37 @@ impl Method {
                  double-bridge kicks kept when no longer; independent runs per thread \
                  (asymmetric costs: on their symmetric 2n-node transformation)"
             }
+            Method::Acs => {
+                "ant colony system: ants on candidate lists, greedy or proportional steps, local \
+                 and global trail updates, LK (symmetric) or Or-opt on every ant's tour"
+            }
+            Method::MaxMin => {
+                "MAX-MIN ant system: trails kept within limits and reinitialised on convergence, \
+                 LK (symmetric) or Or-opt on every ant's tour"
+            }
+            Method::Anneal => {
+                "simulated annealing: 2-opt, Or-opt and segment exchanges on candidate lists, \
+                 start temperature from sampled gains, reheats from the best tour; one run per \
+                 thread"
+            }
         }
+    }
+
+    /// Keys [`Solver::set`] takes for this method, each with a one-line meaning.
+    pub fn keys(self) -> &'static [(&'static str, &'static str)] {
+        match self {
+            Method::Acs | Method::MaxMin => AntParams::KEYS,
+            Method::Anneal => AnnealParams::KEYS,
+            _ => &[],
+        }
+    }
+
+    /// True for the methods that run under the loop owner and take an iteration budget.
+    pub fn iterates(self) -> bool {
+        matches!(
+            self,
+            Method::Lk | Method::Acs | Method::MaxMin | Method::Anneal
+        )
     }
 }
 
@@ -100,6 +145,14 @@ pub enum SolveError {
     /// The symmetric transformation of asymmetric costs could overflow.
     #[error(transparent)]
     Twin(#[from] TwinTooLarge),
+    /// A method parameter set by name was unknown or out of range.
+    #[error("method {method}: {message}")]
+    Parameter {
+        /// The method's name.
+        method: &'static str,
+        /// What was wrong, naming the key.
+        message: String,
+    },
 }
 
 /// How `lk` searches asymmetric costs.
@@ -129,8 +182,9 @@ pub struct Solution {
     pub seconds: f64,
     /// Restarts completed (for `lk`: independent runs started).
     pub restarts: usize,
-    /// Kicks tried over all runs (`lk` only; zero otherwise).
-    pub kicks: u64,
+    /// Steps of an iterative method over all runs: kicks for `lk`, generations for the ant
+    /// colonies, batches of moves for `anneal` (zero for the other methods).
+    pub iterations: u64,
     /// Why the search ended.
     pub stop_reason: StopReason,
     /// Every new best tour's length and time, in order: the anytime curve of the run.
@@ -167,6 +221,8 @@ pub struct Solver<C> {
     layout: Layout,
     ends: Ends,
     asymmetric_mode: AsymmetricMode,
+    ants: AntParams,
+    annealing: AnnealParams,
     stop: StopHandle,
     observer: Option<Observer>,
 }
@@ -182,6 +238,26 @@ pub struct Solver<C> {
 pub const PATCH_LIMIT: usize = 3_000;
 /// See [`PATCH_LIMIT`].
 pub const PATCH_FROM: usize = 200;
+
+/// Independent runs of an iterative method when neither a time limit nor a run count is given,
+/// or when an iteration budget is: one colony for the ant methods, [`DEFAULT_LK_RUNS`] otherwise.
+pub fn default_runs(method: Method) -> usize {
+    match method {
+        Method::Acs | Method::MaxMin => 1,
+        _ => DEFAULT_LK_RUNS,
+    }
+}
+
+/// Steps per run of an iterative method without a time limit or stall limit: kicks for `lk`
+/// ([`lk::default_kicks`]), 100 generations for the ant colonies, 500 batches of moves for
+/// `anneal` (with the default batches, a cooling cycle takes a few dozen).
+pub fn default_iterations(method: Method, n: usize) -> u64 {
+    match method {
+        Method::Acs | Method::MaxMin => 100,
+        Method::Anneal => 500,
+        _ => lk::default_kicks(n),
+    }
+}
 
 /// Restarts run when neither a time limit nor a restart count is given.
 pub const DEFAULT_RESTARTS: usize = 8;
@@ -211,6 +287,8 @@ impl<C: Cost> Solver<C> {
             layout: Layout::default(),
             ends: Ends::Closed,
             asymmetric_mode: AsymmetricMode::default(),
+            ants: AntParams::default(),
+            annealing: AnnealParams::default(),
             stop: StopHandle::new(),
             observer: None,
         }
@@ -244,12 +322,46 @@ impl<C: Cost> Solver<C> {
         self
     }
 
-    /// Kicks per `lk` run. With a kick budget and no time limit (or one long enough), the same
-    /// seed gives the same tour for any number of threads. Without a time limit the default is
-    /// [`lk::default_kicks`].
-    pub fn kicks(mut self, kicks: u64) -> Self {
-        self.kicks = Some(kicks);
+    /// Steps per run of an iterative method: kicks for `lk`, generations for the ant colonies,
+    /// batches of moves at one temperature for `anneal`. With such a budget and no time limit
+    /// (or one long enough), the same seed gives the same tour for any number of threads.
+    /// Without a time limit the default is [`default_iterations`].
+    pub fn iterations(mut self, steps: u64) -> Self {
+        self.kicks = Some(steps);
         self
+    }
+
+    /// Kicks per `lk` run: [`Solver::iterations`] under the name `lk` users know it by.
+    pub fn kicks(self, kicks: u64) -> Self {
+        self.iterations(kicks)
+    }
+
+    /// The ant colony methods' parameters (the defaults of [`AntParams`] otherwise).
+    pub fn ant_params(mut self, params: AntParams) -> Self {
+        self.ants = params;
+        self
+    }
+
+    /// Simulated annealing's parameters (the defaults of [`AnnealParams`] otherwise).
+    pub fn anneal_params(mut self, params: AnnealParams) -> Self {
+        self.annealing = params;
+        self
+    }
+
+    /// Sets one parameter of the chosen method by its key (see [`Method::keys`]), as the
+    /// command line's `--set KEY=VALUE` does. Set the method first.
+    pub fn set(mut self, key: &str, value: &str) -> Result<Self, SolveError> {
+        let method = self.method;
+        let result = match method {
+            Method::Acs | Method::MaxMin => self.ants.set(key, value),
+            Method::Anneal => self.annealing.set(key, value),
+            _ => Err(format!("takes no parameters (`{key}` was given)")),
+        };
+        result.map_err(|message| SolveError::Parameter {
+            method: method.name(),
+            message,
+        })?;
+        Ok(self)
     }
 
     /// Ends an `lk` run after this many kicks in a row that found no shorter tour; with a time
@@ -363,7 +475,7 @@ impl<C: Cost> Solver<C> {
                 ends,
                 seconds: began.elapsed().as_secs_f64(),
                 restarts: raw.restarts,
-                kicks: raw.kicks,
+                iterations: raw.iterations,
                 stop_reason: raw.stop_reason,
                 trace: std::mem::take(&mut *trace.lock().unwrap_or_else(|e| e.into_inner())),
                 method: self.method,
@@ -383,7 +495,7 @@ impl<C: Cost> Solver<C> {
                 Raw {
                     order,
                     restarts: 1,
-                    kicks: 0,
+                    iterations: 0,
                     stop_reason: StopReason::Exhaustive,
                 }
             } else {
@@ -462,7 +574,7 @@ impl<C: Cost> Solver<C> {
         observe: &(dyn Fn(Improvement) + Sync),
     ) -> Raw {
         let n = cost.len();
-        let searches = matches!(self.method, Method::TwoOpt | Method::Lk);
+        let searches = self.method == Method::TwoOpt || self.method.iterates();
         if n <= exact::ENUMERATION_LIMIT && searches {
             let order = exact::enumerate(cost).unwrap_or_else(|| (0..n).collect());
             let length = closed_length(cost, &order).unwrap_or(i64::MAX);
@@ -474,7 +586,7 @@ impl<C: Cost> Solver<C> {
             return Raw {
                 order,
                 restarts: 1,
-                kicks: 0,
+                iterations: 0,
                 stop_reason: StopReason::Exhaustive,
             };
         }
@@ -498,7 +610,7 @@ impl<C: Cost> Solver<C> {
             Method::Nearest => Start::NearestNeighbour,
             Method::Greedy => Start::GreedyEdge,
             Method::Curve => Start::SpaceFillingCurve,
-            Method::TwoOpt | Method::Lk => Start::Mixed,
+            _ => Start::Mixed,
         };
         if !searches {
             let order = construction(start_kind);
@@ -511,42 +623,75 @@ impl<C: Cost> Solver<C> {
             return Raw {
                 order,
                 restarts: 1,
-                kicks: 0,
+                iterations: 0,
                 stop_reason: StopReason::Constructed,
             };
         }
-        if self.method == Method::Lk {
+        if self.method.iterates() {
             let bounded = self.kicks.is_some() || self.time_limit.is_none();
-            let plan = LkPlan {
-                limits: LoopPlan {
-                    seed: self.seed,
-                    threads,
-                    runs: match self.restarts {
-                        Some(r) => Some(r),
-                        None if bounded => Some(DEFAULT_LK_RUNS),
-                        None => None,
-                    },
-                    iterations: self.kicks.or(
-                        if self.time_limit.is_none() && self.stall_limit.is_none() {
-                            Some(lk::default_kicks(n))
-                        } else {
-                            None
-                        },
-                    ),
-                    stall: self.stall_limit,
-                    target,
-                    deadline: search::deadline(began, self.time_limit),
-                    stop: self.stop.clone(),
+            let limits = LoopPlan {
+                seed: self.seed,
+                threads,
+                runs: match self.restarts {
+                    Some(r) => Some(r),
+                    None if bounded => Some(default_runs(self.method)),
+                    None => None,
                 },
-                params: LkParams::default(),
-                layout: self.layout,
-                start,
+                iterations: self.kicks.or(
+                    if self.time_limit.is_none() && self.stall_limit.is_none() {
+                        Some(default_iterations(self.method, n))
+                    } else {
+                        None
+                    },
+                ),
+                stall: self.stall_limit,
+                target,
+                deadline: search::deadline(began, self.time_limit),
+                stop: self.stop.clone(),
             };
-            let out = lk::iterated(cost, &nb, &plan, began, observe);
+            let out = match self.method {
+                Method::Acs | Method::MaxMin => {
+                    let variant = if self.method == Method::Acs {
+                        AntVariant::Acs
+                    } else {
+                        AntVariant::MaxMin
+                    };
+                    // One colony at a time; its ants are built on the threads.
+                    let limits = LoopPlan {
+                        threads: 1,
+                        ..limits
+                    };
+                    let run = || {
+                        drive(&limits, began, observe, |_, rng, should_stop| {
+                            Colony::start(cost, &nb, variant, &self.ants, rng, should_stop)
+                        })
+                    };
+                    match rayon::ThreadPoolBuilder::new().num_threads(threads).build() {
+                        Ok(pool) => pool.install(run),
+                        Err(_) => run(),
+                    }
+                }
+                Method::Anneal => drive(&limits, began, observe, |r, rng, _| {
+                    let order = search::start_tour(cost, &nb, Start::NearestNeighbour, r, rng);
+                    Annealer::start(cost, &nb, &self.annealing, order, rng)
+                }),
+                _ => {
+                    let plan = LkPlan {
+                        limits,
+                        params: LkParams::default(),
+                        layout: self.layout,
+                        start,
+                    };
+                    lk::iterated(cost, &nb, &plan, began, observe)
+                }
+            };
+            debug_assert!(
+                out.length == i64::MAX || closed_length(cost, &out.order) == Ok(out.length)
+            );
             return Raw {
                 order: out.order,
                 restarts: out.runs,
-                kicks: out.iterations,
+                iterations: out.iterations,
                 stop_reason: out.stop_reason,
             };
         }
@@ -569,7 +714,7 @@ impl<C: Cost> Solver<C> {
         Raw {
             order: out.order,
             restarts: out.restarts,
-            kicks: 0,
+            iterations: 0,
             stop_reason: out.stop_reason,
         }
     }
@@ -579,7 +724,7 @@ impl<C: Cost> Solver<C> {
 struct Raw {
     order: Vec<usize>,
     restarts: usize,
-    kicks: u64,
+    iterations: u64,
     stop_reason: StopReason,
 }
 

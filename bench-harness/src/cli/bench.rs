@@ -21,7 +21,8 @@ pub struct BenchArgs {
     #[arg(long, num_args = 1.., value_name = "PATH")]
     instances: Vec<String>,
     /// Methods to run (see `wend solve --list-methods`), each optionally with the source and
-    /// width of its neighbour lists: `lk`, `lk:alpha`, `lk:nearest:5`.
+    /// width of its neighbour lists and with parameters: `lk`, `lk:alpha`, `lk:nearest:5`,
+    /// `mmas+local-search=2opt`.
     #[arg(long, num_args = 1.., value_name = "NAME")]
     methods: Vec<String>,
     /// What each run is asked for: closed (tours), open (paths with free ends), start (paths
@@ -40,9 +41,10 @@ pub struct BenchArgs {
     /// still caps them).
     #[arg(long, value_name = "N")]
     restarts: Option<usize>,
-    /// Kick budget of each lk run (with --restarts, runs repeat to the bit).
-    #[arg(long, value_name = "N")]
-    kicks: Option<u64>,
+    /// Steps of each run of an iterative method: kicks (lk), generations (acs, mmas), batches of
+    /// moves (anneal). With --restarts, runs repeat to the bit.
+    #[arg(long, visible_alias = "kicks", value_name = "N")]
+    iterations: Option<u64>,
     /// Threads inside each run.
     #[arg(long, value_name = "N")]
     threads_per_run: Option<usize>,
@@ -84,7 +86,8 @@ struct Suite {
     seeds: Option<u64>,
     time_limit: Option<f64>,
     restarts: Option<usize>,
-    kicks: Option<u64>,
+    #[serde(alias = "kicks")]
+    iterations: Option<u64>,
     threads_per_run: Option<usize>,
     jobs: Option<usize>,
     optima: Option<String>,
@@ -233,7 +236,7 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
         seeds: (0..seeds).collect(),
         time_limit,
         restarts: a.restarts.or(suite.restarts),
-        kicks: a.kicks.or(suite.kicks),
+        kicks: a.iterations.or(suite.iterations),
         threads_per_run,
         jobs,
         shard,

@@ -80,7 +80,7 @@ pub fn run(a: DemoArgs) -> Result<(), CliError> {
             opt.map_or("-".into(), |o| o.to_string()),
             sol.length,
             gap.map_or("-".into(), |g| format!("{g:.2}")),
-            sol.kicks,
+            sol.iterations,
             sol.seconds
         );
     }

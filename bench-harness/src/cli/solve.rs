@@ -26,18 +26,24 @@ pub struct SolveArgs {
     /// Worker threads (default: one per core).
     #[arg(long)]
     threads: Option<usize>,
-    /// Independent runs (lk) or restarts (2opt). Default without a time limit: 2 lk runs or 8
-    /// restarts; with one, as many as fit.
+    /// Independent runs (lk, anneal, colonies of acs and mmas) or restarts (2opt). Default
+    /// without a time limit: 2 runs (1 colony) or 8 restarts; with one, as many as fit.
     #[arg(long)]
     restarts: Option<usize>,
-    /// Kicks per lk run; with a kick budget the same seed gives the same tour on any number of
-    /// threads (default without a time limit: the number of nodes, within 1,000-10,000).
-    #[arg(long, value_name = "N")]
-    kicks: Option<u64>,
-    /// End an lk run after this many kicks in a row without a shorter tour (a new run starts
-    /// while time remains).
+    /// Steps per run: kicks (lk), generations (acs, mmas), batches of moves at one temperature
+    /// (anneal). With such a budget the same seed gives the same tour on any number of threads
+    /// (default without a time limit: lk the number of nodes within 1,000-10,000; acs and mmas
+    /// 100; anneal 500).
+    #[arg(long, visible_alias = "kicks", value_name = "N")]
+    iterations: Option<u64>,
+    /// End a run after this many steps in a row without a shorter tour (a new run starts while
+    /// time remains).
     #[arg(long, value_name = "N")]
     stall_limit: Option<u64>,
+    /// Set a parameter of the method, KEY=VALUE; repeat for several. `--list-methods` lists
+    /// each method's keys.
+    #[arg(long = "set", value_name = "KEY=VALUE")]
+    settings: Vec<String>,
     /// Stop as soon as a tour of at most this length is found.
     #[arg(long, value_name = "LENGTH")]
     target: Option<i64>,
@@ -63,7 +69,7 @@ pub struct SolveArgs {
     /// Prove the tour optimal: the dynamic programme up to 16 nodes (24 for asymmetric costs),
     /// else a short lk search and branch and bound on the 1-tree bound (symmetric costs only).
     /// With --time-limit, the best tour and bound when time runs out; JSON `proven_optimal`.
-    #[arg(long, conflicts_with_all = ["bound", "method", "restarts", "kicks", "stall_limit", "target", "candidates", "layout", "neighbours"])]
+    #[arg(long, conflicts_with_all = ["bound", "method", "restarts", "iterations", "settings", "stall_limit", "target", "candidates", "layout", "neighbours"])]
     exact: bool,
     /// With --exact: dynamic-programme (up to 24 nodes, either kind of costs) or
     /// branch-and-bound (symmetric costs); default: chosen by size and symmetry.
@@ -98,6 +104,9 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
     if a.list_methods {
         for m in Method::ALL {
             println!("{:<10} {}", m.name(), m.describe());
+            for (key, meaning) in m.keys() {
+                println!("{:<10}   --set {key}=...  {meaning}", "");
+            }
         }
         return Ok(());
     }
@@ -163,8 +172,16 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
     if let Some(r) = a.restarts {
         solver = solver.restarts(r);
     }
-    if let Some(k) = a.kicks {
-        solver = solver.kicks(k);
+    if let Some(k) = a.iterations {
+        solver = solver.iterations(k);
+    }
+    for setting in &a.settings {
+        let (key, value) = setting
+            .split_once('=')
+            .ok_or_else(|| CliError::Input(format!("--set takes KEY=VALUE, got {setting:?}")))?;
+        solver = solver
+            .set(key.trim(), value.trim())
+            .map_err(|e| CliError::Input(e.to_string()))?;
     }
     if let Some(k) = a.stall_limit {
         solver = solver.stall_limit(k);
@@ -252,7 +269,7 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
             "proven_gap_percent": proven_gap,
             "seconds": sol.seconds,
             "restarts": sol.restarts,
-            "kicks": sol.kicks,
+            "iterations": sol.iterations,
             "stop_reason": sol.stop_reason,
             "tour_out": a.tour_out.as_ref().map(|p| p.display().to_string()),
         });
@@ -273,10 +290,15 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
             println!("bound      {b}: the tour is at most {g:.3} % above the optimum");
         }
         println!(
-            "time       {:.3} s, {} run(s), {} kick(s), stopped: {}",
+            "time       {:.3} s, {} run(s), {} {}, stopped: {}",
             sol.seconds,
             sol.restarts,
-            sol.kicks,
+            sol.iterations,
+            match method {
+                Method::Acs | Method::MaxMin => "generation(s)",
+                Method::Anneal => "batch(es) of moves",
+                _ => "kick(s)",
+            },
             stop_words(sol.stop_reason)
         );
         if let Some(out) = &a.tour_out {
