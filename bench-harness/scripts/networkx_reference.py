@@ -75,6 +75,8 @@ def main():
     ap.add_argument("--optima")
     ap.add_argument("--wend", default="target/release/wend")
     ap.add_argument("--christofides-max", type=int, default=400)
+    ap.add_argument("--methods", nargs="+",
+                    help="run only these (nx-greedy, nx-christofides, nx-annealing, nx-threshold)")
     args = ap.parse_args()
 
     os.makedirs(os.path.join(args.out, "tours"), exist_ok=True)
@@ -87,6 +89,11 @@ def main():
         "nx-annealing": lambda g, s: approx.simulated_annealing_tsp(g, "greedy", seed=s),
         "nx-threshold": lambda g, s: approx.threshold_accepting_tsp(g, "greedy", seed=s),
     }
+    if args.methods:
+        unknown = set(args.methods) - set(methods)
+        if unknown:
+            sys.exit(f"unknown methods {sorted(unknown)}; choose from {sorted(methods)}")
+        methods = {m: f for m, f in methods.items() if m in args.methods}
     deterministic = {"nx-greedy", "nx-christofides"}
     with open(runs_path, "a") as out:
         for path in args.instances:

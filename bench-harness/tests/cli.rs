@@ -455,3 +455,57 @@ fn exact_paths_and_their_bounds_bracket_the_heuristic_path() {
         stderr(&o)
     );
 }
+
+#[test]
+fn methods_take_parameters_by_name_and_refuse_bad_ones_with_exit_2() {
+    let inst = instances().join("berlin52.tsp");
+    let inst = inst.to_str().unwrap();
+    let o = wend(&[
+        "solve",
+        inst,
+        "--method",
+        "mmas",
+        "--set",
+        "local-search=2opt",
+        "--set",
+        "colony-size=4",
+        "--iterations",
+        "3",
+        "--json",
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(
+        (v["method"].as_str(), v["iterations"].as_u64()),
+        (Some("mmas"), Some(3))
+    );
+    // berlin52: 7542, TSPLIB list of optimal solutions.
+    assert!(v["length"].as_i64().unwrap() >= 7542);
+    for (args, needle) in [
+        (vec!["--method", "anneal", "--set", "cooling=2"], "cooling"),
+        (vec!["--method", "acs", "--set", "greed"], "KEY=VALUE"),
+        (
+            vec!["--method", "2opt", "--set", "cooling=0.5"],
+            "takes no parameters",
+        ),
+    ] {
+        let mut all = vec!["solve", inst];
+        all.extend_from_slice(&args);
+        let o = wend(&all);
+        assert_eq!(o.status.code(), Some(2), "{args:?}");
+        let e = stderr(&o);
+        assert_eq!(e.trim().lines().count(), 1, "{args:?}: {e}");
+        assert!(e.contains(needle), "{args:?}: {e}");
+    }
+    let o = wend(&["solve", "--list-methods"]);
+    let listed = String::from_utf8_lossy(&o.stdout);
+    for needle in [
+        "mmas",
+        "acs",
+        "anneal",
+        "--set evaporation=",
+        "--set schedule=",
+    ] {
+        assert!(listed.contains(needle), "{needle} not in\n{listed}");
+    }
+}
