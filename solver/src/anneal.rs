@@ -872,45 +872,20 @@ mod tests {
     use crate::cost::{CoordCost, MatrixCost, Metric};
     use crate::drive::{drive, LoopPlan};
     use crate::search::{StopHandle, StopReason};
+    use crate::testing::{random_costs, shuffled};
     use proptest::prelude::*;
     use rand::{Rng, SeedableRng};
     use std::time::Instant;
+
+    fn instance(n: usize, seed: u64, asym: bool) -> MatrixCost {
+        random_costs(n, seed, if asym { 5 } else { 0 })
+    }
 
     fn points(n: usize, seed: u64) -> Vec<[f64; 2]> {
         let mut rng = Pcg64::seed_from_u64(seed);
         (0..n)
             .map(|_| [rng.gen_range(0.0..1000.0), rng.gen_range(0.0..1000.0)])
             .collect()
-    }
-
-    /// Rounded Euclidean distances between random points, plus (when `asym`) a
-    /// direction-dependent term so that the matrix is not symmetric.
-    fn instance(n: usize, seed: u64, asym: bool) -> MatrixCost {
-        let c = CoordCost::plane(Metric::Euc2d, &points(n, seed)).unwrap();
-        let rows: Vec<Vec<i64>> = (0..n)
-            .map(|i| {
-                (0..n)
-                    .map(|j| {
-                        let extra = if asym && i != j {
-                            ((i * 7 + j * 13) % 17) as i64 * 5
-                        } else {
-                            0
-                        };
-                        c.cost(i, j) + extra
-                    })
-                    .collect()
-            })
-            .collect();
-        MatrixCost::from_rows(&rows).unwrap()
-    }
-
-    fn shuffled(n: usize, seed: u64) -> Vec<usize> {
-        let mut rng = Pcg64::seed_from_u64(seed ^ 0xABCD);
-        let mut v: Vec<usize> = (0..n).collect();
-        for i in (1..n).rev() {
-            v.swap(i, rng.gen_range(0..=i));
-        }
-        v
     }
 
     fn check_best<C: Cost + ?Sized>(run: &Annealer<'_, C>, n: usize) {

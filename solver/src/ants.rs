@@ -1154,34 +1154,14 @@ mod tests {
     use crate::cost::{CoordCost, MatrixCost, Metric};
     use crate::drive::{drive, LoopPlan};
     use crate::search::{StopHandle, StopReason};
+    use crate::testing::random_costs;
     use crate::tour::Tour;
     use proptest::prelude::*;
     use rand::Rng;
     use std::time::Instant;
 
-    /// Random integer costs: rounded distances between random points, plus (when `asym`) a
-    /// direction-dependent term so that the matrix is not symmetric.
     fn instance(n: usize, seed: u64, asym: bool) -> MatrixCost {
-        let mut rng = Pcg64::seed_from_u64(seed);
-        let pts: Vec<[f64; 2]> = (0..n)
-            .map(|_| [rng.gen_range(0.0..1000.0), rng.gen_range(0.0..1000.0)])
-            .collect();
-        let c = CoordCost::plane(Metric::Euc2d, &pts).unwrap();
-        let rows: Vec<Vec<i64>> = (0..n)
-            .map(|i| {
-                (0..n)
-                    .map(|j| {
-                        let extra = if asym && i != j {
-                            ((i * 7 + j * 13) % 17) as i64
-                        } else {
-                            0
-                        };
-                        c.cost(i, j) + extra
-                    })
-                    .collect()
-            })
-            .collect();
-        MatrixCost::from_rows(&rows).unwrap()
+        random_costs(n, seed, if asym { 1 } else { 0 })
     }
 
     fn variant_of(i: u8) -> AntVariant {

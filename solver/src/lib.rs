@@ -54,6 +54,8 @@ pub mod lk;
 pub mod prove;
 pub mod search;
 pub mod solver;
+#[cfg(test)]
+mod testing;
 pub mod tour;
 pub mod twin;
 

@@ -682,47 +682,16 @@ pub fn default_kicks(n: usize) -> u64 {
 mod tests {
     use super::*;
     use crate::candidates::k_nearest;
-    use crate::cost::{CoordCost, MatrixCost, Metric};
+    use crate::cost::MatrixCost;
     use crate::search::{StopHandle, StopReason};
+    use crate::testing::{random_costs, shuffled};
     use crate::tour::Tour;
     use crate::{Method, Solver};
     use proptest::prelude::*;
-    use rand::Rng;
-    use rand::SeedableRng;
     use std::time::Duration;
 
-    /// Random integer costs: rounded Euclidean distances between random points, plus (when
-    /// `asym`) a direction-dependent term so that the matrix is not symmetric.
     fn instance(n: usize, seed: u64, asym: bool) -> MatrixCost {
-        let mut rng = Pcg64::seed_from_u64(seed);
-        let pts: Vec<[f64; 2]> = (0..n)
-            .map(|_| [rng.gen_range(0.0..1000.0), rng.gen_range(0.0..1000.0)])
-            .collect();
-        let c = CoordCost::plane(Metric::Euc2d, &pts).unwrap();
-        let rows: Vec<Vec<i64>> = (0..n)
-            .map(|i| {
-                (0..n)
-                    .map(|j| {
-                        let extra = if asym && i != j {
-                            ((i * 7 + j * 13) % 17) as i64
-                        } else {
-                            0
-                        };
-                        c.cost(i, j) + extra
-                    })
-                    .collect()
-            })
-            .collect();
-        MatrixCost::from_rows(&rows).unwrap()
-    }
-
-    fn shuffled(n: usize, seed: u64) -> Vec<usize> {
-        let mut rng = Pcg64::seed_from_u64(seed ^ 0xABCD);
-        let mut v: Vec<usize> = (0..n).collect();
-        for i in (1..n).rev() {
-            v.swap(i, rng.gen_range(0..=i));
-        }
-        v
+        random_costs(n, seed, if asym { 1 } else { 0 })
     }
 
     fn length<T: TourRepr>(c: &MatrixCost, t: &T) -> i64 {
