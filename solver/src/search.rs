@@ -1,4 +1,6 @@
-//! Independent restarts of construction plus local search, in parallel, under a deadline.
+//! What the searches share: the stop handle, improvement reports and stop reasons, starting
+//! tours, seeds, threads, and the restarts of the `2opt` baseline ([`Restart`]: construction
+//! plus local search, one restart a run of the loop owner, [`crate::drive`]).
 //!
 //! Restart `r` draws its random numbers from a generator seeded by (seed, r) alone, and the
 //! answer is the best result by (length, restart index). So the answer does not depend on which
@@ -9,13 +11,14 @@
 use crate::candidates::Neighbours;
 use crate::construct;
 use crate::cost::Cost;
+use crate::drive::Iterative;
 use crate::improve::two_opt_or_opt;
 use crate::tour::closed_length;
 use crate::tour::ArrayTour;
-use rand::{Rng, SeedableRng};
+use rand::Rng;
 use rand_pcg::Pcg64;
-use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
-use std::sync::{Arc, Mutex};
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::Arc;
 use std::time::{Duration, Instant};
 
 /// A shared flag that asks a running solve to stop and return its best tour so far.
@@ -54,19 +57,6 @@ pub enum Start {
     Mixed,
 }
 
-/// Parameters of a restart search.
-#[derive(Clone, Debug)]
-pub(crate) struct RestartPlan {
-    pub seed: u64,
-    pub threads: usize,
-    pub max_restarts: Option<usize>,
-    pub deadline: Option<Instant>,
-    pub start: Start,
-    pub improve: bool,
-    pub target: Option<i64>,
-    pub stop: StopHandle,
-}
-
 /// One new best tour, as reported to observers.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Improvement {
@@ -100,92 +90,47 @@ pub enum StopReason {
     StallLimit,
 }
 
-pub(crate) struct RestartOutcome {
-    pub order: Vec<usize>,
-    pub length: i64,
-    pub restarts: usize,
-    pub stop_reason: StopReason,
+/// One restart: a starting tour taken to a local optimum of 2-opt and Or-opt when it starts.
+/// It has no steps: under [`crate::drive::drive`] each run is one restart, and the loop owner
+/// runs them in parallel under the limits.
+pub(crate) struct Restart {
+    order: Vec<usize>,
+    length: i64,
 }
 
-/// Runs restarts until the budget, the deadline or a stop request, and returns the best.
-pub(crate) fn restarts<C: Cost + ?Sized>(
-    cost: &C,
-    nb: &Neighbours,
-    plan: &RestartPlan,
-    began: Instant,
-    observer: &(dyn Fn(Improvement) + Sync),
-) -> RestartOutcome {
-    let next = AtomicUsize::new(0);
-    let done = AtomicUsize::new(0);
-    let timed_out = AtomicBool::new(false);
-    let target_hit = AtomicBool::new(false);
-    // (length, restart index, order): compared by (length, index) for a thread-independent answer.
-    let best: Mutex<Option<(i64, usize, Vec<usize>)>> = Mutex::new(None);
-    let over = || {
-        if plan.stop.is_stopped() || target_hit.load(Ordering::Relaxed) {
-            return true;
-        }
-        if plan.deadline.is_some_and(|d| Instant::now() >= d) {
-            timed_out.store(true, Ordering::Relaxed);
-            return true;
-        }
-        false
-    };
-    let worker = || loop {
-        let r = next.fetch_add(1, Ordering::Relaxed);
-        if plan.max_restarts.is_some_and(|m| r >= m) || (r > 0 && over()) {
-            break;
-        }
-        let mut rng = Pcg64::seed_from_u64(mix(plan.seed, r as u64));
-        let order = start_tour(cost, nb, plan.start, r, &mut rng);
-        let mut tour = ArrayTour::new(order);
-        if plan.improve {
-            // Restart 0 always yields a tour, even when the deadline comes first; it is then
-            // a partly improved one.
-            two_opt_or_opt(cost, nb, &mut tour, &mut || over());
-        }
+impl Restart {
+    /// Restart `r`: the starting tour of `start` from `rng`, improved unless `should_stop`
+    /// (restart 0 always yields a tour, even when the deadline comes first; it is then a
+    /// partly improved one).
+    pub(crate) fn start<C: Cost + ?Sized>(
+        cost: &C,
+        nb: &Neighbours,
+        start: Start,
+        r: usize,
+        rng: &mut Pcg64,
+        should_stop: &mut dyn FnMut() -> bool,
+    ) -> Restart {
+        let mut tour = ArrayTour::new(start_tour(cost, nb, start, r, rng));
+        two_opt_or_opt(cost, nb, &mut tour, should_stop);
         let order = tour.into_order();
         let length = closed_length(cost, &order).unwrap_or(i64::MAX);
-        done.fetch_add(1, Ordering::Relaxed);
-        if plan.target.is_some_and(|t| length <= t) {
-            target_hit.store(true, Ordering::Relaxed);
-        }
-        let mut guard = best.lock().unwrap_or_else(|e| e.into_inner());
-        let better = match &*guard {
-            None => true,
-            Some((l, i, _)) => (length, r) < (*l, *i),
-        };
-        if better {
-            let improved = guard.as_ref().is_none_or(|(l, _, _)| length < *l);
-            *guard = Some((length, r, order));
-            if improved {
-                observer(Improvement {
-                    seconds: began.elapsed().as_secs_f64(),
-                    length,
-                    restart: r,
-                });
-            }
-        }
-    };
-    on_threads(plan.threads, &worker);
-    let (length, _, order) = best
-        .into_inner()
-        .unwrap_or_else(|e| e.into_inner())
-        .unwrap_or((0, 0, (0..cost.len()).collect()));
-    let stop_reason = if plan.stop.is_stopped() {
-        StopReason::Cancelled
-    } else if target_hit.load(Ordering::Relaxed) {
-        StopReason::TargetReached
-    } else if timed_out.load(Ordering::Relaxed) {
-        StopReason::TimeLimit
-    } else {
-        StopReason::RestartBudget
-    };
-    RestartOutcome {
-        order,
-        length,
-        restarts: done.load(Ordering::Relaxed),
-        stop_reason,
+        Restart { order, length }
+    }
+}
+
+impl Iterative for Restart {
+    fn step(&mut self, _: &mut Pcg64, _: &mut dyn FnMut() -> bool) {}
+
+    fn best_length(&self) -> i64 {
+        self.length
+    }
+
+    fn best_order(&self) -> Vec<usize> {
+        self.order.clone()
+    }
+
+    fn finished(&self) -> bool {
+        true
     }
 }
 

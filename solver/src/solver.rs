@@ -10,7 +10,7 @@ use crate::drive::{drive, LoopPlan};
 use crate::ends::{path_length, EndedCost, Ends, EndsError};
 use crate::exact;
 use crate::lk::{self, LkParams, LkPlan};
-use crate::search::{self, Improvement, RestartPlan, Start, StopHandle, StopReason};
+use crate::search::{self, Improvement, Restart, Start, StopHandle, StopReason};
 use crate::tour::{closed_length, Layout, Overflow, Tour};
 use crate::twin::{TwinCost, TwinTooLarge};
 use std::sync::Mutex;
@@ -695,27 +695,32 @@ impl<C: Cost> Solver<C> {
                 stop_reason: out.stop_reason,
             };
         }
-        let plan = RestartPlan {
+        let limits = LoopPlan {
             seed: self.seed,
             threads,
-            max_restarts: match (self.restarts, self.time_limit) {
+            runs: match (self.restarts, self.time_limit) {
                 (Some(r), _) => Some(r),
                 (None, Some(_)) => None,
                 (None, None) => Some(DEFAULT_RESTARTS),
             },
-            deadline: search::deadline(began, self.time_limit),
-            start: start_kind,
-            improve: true,
+            iterations: None,
+            stall: None,
             target,
+            deadline: search::deadline(began, self.time_limit),
             stop: self.stop.clone(),
         };
-        let out = search::restarts(cost, &nb, &plan, began, observe);
+        let out = drive(&limits, began, observe, |r, rng, should_stop| {
+            Restart::start(cost, &nb, start_kind, r, rng, should_stop)
+        });
         debug_assert!(out.length == i64::MAX || closed_length(cost, &out.order) == Ok(out.length));
         Raw {
             order: out.order,
-            restarts: out.restarts,
+            restarts: out.runs,
             iterations: 0,
-            stop_reason: out.stop_reason,
+            stop_reason: match out.stop_reason {
+                StopReason::IterationBudget => StopReason::RestartBudget,
+                other => other,
+            },
         }
     }
 }
