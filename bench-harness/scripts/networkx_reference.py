@@ -75,8 +75,9 @@ def main():
     ap.add_argument("--optima")
     ap.add_argument("--wend", default="target/release/wend")
     ap.add_argument("--christofides-max", type=int, default=400)
-    ap.add_argument("--methods", nargs="+",
-                    help="run only these (nx-greedy, nx-christofides, nx-annealing, nx-threshold)")
+    ap.add_argument("--methods",
+                    help="comma-separated: run only these of nx-greedy, nx-christofides, "
+                         "nx-annealing, nx-threshold")
     args = ap.parse_args()
 
     os.makedirs(os.path.join(args.out, "tours"), exist_ok=True)
@@ -90,10 +91,11 @@ def main():
         "nx-threshold": lambda g, s: approx.threshold_accepting_tsp(g, "greedy", seed=s),
     }
     if args.methods:
-        unknown = set(args.methods) - set(methods)
+        wanted = [m.strip() for m in args.methods.split(",") if m.strip()]
+        unknown = set(wanted) - set(methods)
         if unknown:
             sys.exit(f"unknown methods {sorted(unknown)}; choose from {sorted(methods)}")
-        methods = {m: f for m, f in methods.items() if m in args.methods}
+        methods = {m: f for m, f in methods.items() if m in wanted}
     deterministic = {"nx-greedy", "nx-christofides"}
     with open(runs_path, "a") as out:
         for path in args.instances:
