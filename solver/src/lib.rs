@@ -53,6 +53,8 @@ pub mod improve;
 pub mod lk;
 pub mod prove;
 pub mod search;
+#[cfg(feature = "sky")]
+pub mod sky;
 pub mod solver;
 #[cfg(test)]
 mod testing;

@@ -1,0 +1,95 @@
+//! The sky adapter: from a pool of targets to asymmetric slew costs, momentum and observing
+//! sequences for a sunshield observatory at the Sun–Earth L2 point.
+//!
+//! **Caution.** Spacecraft operations can damage hardware. Everything here is a planning aid:
+//! a plan it makes is a proposal that the operations team's validated flight-dynamics and
+//! constraint-checking tools must confirm.
+//!
+//! This module holds the data the adapter works on ([`Target`], [`Profile`]); reading them from
+//! files is the command line's job (crate `wend-bench`). The model lives in submodules, one
+//! topic each, with the published formulas they rest on named in their documentation.
+//!
+//! Units are SI unless a field's name says otherwise (`_deg`, `_s`); directions are ICRS
+//! (J2000 axes); times are Julian dates in TT ([`Epoch`]).
+
+/// A moment in time as a Julian date in Terrestrial Time (TT). The difference between TT and
+/// UTC (about 69 s) moves the Sun by under 0.001°, below this model's accuracy; callers that
+/// start from UTC may add it or not, and say which.
+#[derive(Clone, Copy, Debug, PartialEq, PartialOrd)]
+pub struct Epoch {
+    /// Julian date (days).
+    pub jd: f64,
+}
+
+/// One approved target of the pool.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Target {
+    /// The target's identifier, as in the input (unique in a pool).
+    pub id: String,
+    /// Right ascension, ICRS, degrees in [0, 360).
+    pub ra_deg: f64,
+    /// Declination, ICRS, degrees in [-90, 90].
+    pub dec_deg: f64,
+    /// Dwell time of the observation, seconds (at least 0).
+    pub duration_s: f64,
+    /// Index into [`Profile::instruments`] of the instrument the observation uses.
+    pub instrument: usize,
+}
+
+/// An instrument (or mode) of the observatory.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Instrument {
+    /// Name, as targets refer to it.
+    pub name: String,
+    /// Fine-guidance acquisition and settling at the destination of a slew that ends with
+    /// this instrument, seconds.
+    pub settle_s: f64,
+}
+
+/// Everything the model needs to know about the observatory. The built-in demo profile
+/// describes an invented observatory; every value of a real one comes from its operations team.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Profile {
+    /// Name of the observatory (for reports).
+    pub name: String,
+    /// Slew rate limit about the eigen-axis, degrees per second (ω).
+    pub slew_rate_deg_s: f64,
+    /// Slew acceleration limit about the eigen-axis, degrees per second squared (a).
+    pub slew_accel_deg_s2: f64,
+    /// Thermal settling per degree of solar pitch gained (attitude turning hotter), seconds
+    /// per degree (`k_warm`).
+    pub thermal_warm_s_per_deg: f64,
+    /// Thermal settling per degree of solar pitch lost (attitude turning cooler), seconds per
+    /// degree (`k_cool`).
+    pub thermal_cool_s_per_deg: f64,
+    /// The instruments; targets name one of them.
+    pub instruments: Vec<Instrument>,
+    /// `setup_s[i][j]`: time to change from instrument `i` to instrument `j`, seconds (0 on
+    /// the diagonal; not symmetric in general).
+    pub setup_s: Vec<Vec<f64>>,
+    /// Smallest solar elongation the telescope may point at, degrees.
+    pub elongation_min_deg: f64,
+    /// Largest solar elongation the telescope may point at, degrees.
+    pub elongation_max_deg: f64,
+    /// Area of the sunshield, square metres (S).
+    pub shield_area_m2: f64,
+    /// Unit normal of the sunshield toward the Sun side, body frame (`n`; the body frame has
+    /// the boresight on +z and the Sun in the x–z plane on the +x side).
+    pub shield_normal: [f64; 3],
+    /// Specular reflectivity of the shield's Sun side (ρs, 0 to 1).
+    pub specular_reflectivity: f64,
+    /// Diffuse reflectivity of the shield's Sun side (ρd, 0 to 1, with ρs + ρd ≤ 1).
+    pub diffuse_reflectivity: f64,
+    /// Centre of pressure relative to the centre of mass, body frame, metres (`r_cp`).
+    pub pressure_offset_m: [f64; 3],
+    /// Momentum the reaction wheels may hold, newton metre seconds (`H_max`).
+    pub wheel_limit_nms: f64,
+    /// Share of [`Profile::wheel_limit_nms`] that planning may use before a dump (0 to 1).
+    pub wheel_margin: f64,
+    /// Moment arm of the thruster couple that dumps momentum, metres (L).
+    pub thruster_arm_m: f64,
+    /// Specific impulse of the thrusters, seconds (Isp).
+    pub thruster_isp_s: f64,
+    /// Time one momentum dump takes, seconds.
+    pub dump_s: f64,
+}
