@@ -331,10 +331,13 @@ impl<'a, C: Cost + ?Sized> EndedCost<'a, C> {
             row.sort_by_key(|&(c, _)| c);
             list.extend(row.drain(..).map(|(_, j)| j));
         };
+        // The dummy node comes last in every list, whatever its cost: at cost 0 (a free end) it
+        // would lead every list, and the moves would spend their first tries on it from every
+        // node (measured: an open path on 3,000 points took twice the time per kick).
         for i in 0..n {
             row.extend(nb.out(i).iter().map(|&j| (self.cost(i, j as usize), j)));
-            row.push((self.cost(i, d), d as u32));
             push(&mut out, &mut row);
+            out.push(d as u32);
         }
         row.extend((0..n).map(|j| (self.cost(d, j), j as u32)));
         row.sort_by_key(|&(c, _)| c);
@@ -348,8 +351,8 @@ impl<'a, C: Cost + ?Sized> EndedCost<'a, C> {
                         .iter()
                         .map(|&j| (self.cost(j as usize, i), j)),
                 );
-                row.push((self.cost(d, i), d as u32));
                 push(&mut inc, &mut row);
+                inc.push(d as u32);
             }
             row.extend((0..n).map(|j| (self.cost(j, d), j as u32)));
             row.sort_by_key(|&(c, _)| c);
