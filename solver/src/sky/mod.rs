@@ -93,3 +93,6 @@ pub struct Profile {
     /// Time one momentum dump takes, seconds.
     pub dump_s: f64,
 }
+
+pub mod geometry;
+pub mod sun;
