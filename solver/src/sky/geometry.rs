@@ -168,3 +168,155 @@ pub fn eigen_axis_angle(from: &Attitude, to: &Attitude) -> f64 {
 pub fn eigen_axis_angle_deg(from: &Attitude, to: &Attitude) -> f64 {
     eigen_axis_angle(from, to).to_degrees()
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    /// Rows of `fixtures/separation_astropy.csv`: (ra1, dec1, ra2, dec2, separation), degrees.
+    fn astropy_separations() -> Vec<[f64; 5]> {
+        let text = include_str!("fixtures/separation_astropy.csv");
+        let mut rows = Vec::new();
+        for line in text.lines().filter(|l| !l.starts_with('#')).skip(1) {
+            let v: Vec<f64> = line.split(',').map(|f| f.trim().parse().unwrap()).collect();
+            assert_eq!(v.len(), 5, "bad fixture line {line}");
+            rows.push([v[0], v[1], v[2], v[3], v[4]]);
+        }
+        rows
+    }
+
+    #[test]
+    fn separations_match_astropy() {
+        // astropy SkyCoord.separation, fixture made by solver/scripts/sky_fixtures.py; it holds
+        // exact 0° and 180° pairs, near-antipodal ones and pairs across the poles and RA = 0.
+        let rows = astropy_separations();
+        assert!(rows.iter().any(|r| r[4] == 0.0) && rows.iter().any(|r| r[4] == 180.0));
+        for [ra1, dec1, ra2, dec2, sep] in rows {
+            let ours = separation_deg(&unit_vector(ra1, dec1), &unit_vector(ra2, dec2));
+            assert!(
+                (ours - sep).abs() < 1e-9,
+                "({ra1}, {dec1}) to ({ra2}, {dec2}): {ours} against {sep}"
+            );
+        }
+    }
+
+    #[test]
+    fn separation_is_exact_at_0_and_180() {
+        // a × a and a × (−a) vanish exactly in floating point: atan2 gives exactly 0 and π.
+        let a = unit_vector(123.4, -56.7);
+        let b = [-a[0], -a[1], -a[2]];
+        assert_eq!(separation_deg(&a, &a), 0.0);
+        assert_eq!(separation(&a, &b), std::f64::consts::PI);
+    }
+
+    #[test]
+    fn ra_dec_round_trip() {
+        let (ra, dec) = ra_dec_deg(&unit_vector(359.5, -12.25));
+        assert!((ra - 359.5).abs() < 1e-12 && (dec + 12.25).abs() < 1e-12);
+        let (ra, dec) = ra_dec_deg(&[0.0, 0.0, 0.0]);
+        assert!(ra.is_nan() && dec.is_nan());
+    }
+
+    #[test]
+    fn degenerate_attitudes_are_none() {
+        let u = unit_vector(40.0, 10.0);
+        let anti = [-u[0], -u[1], -u[2]];
+        assert_eq!(Attitude::nominal(&u, &u), None);
+        assert_eq!(Attitude::nominal(&u, &anti), None);
+        assert_eq!(Attitude::nominal(&[0.0; 3], &u), None);
+        assert_eq!(Attitude::nominal(&u, &[f64::NAN, 0.0, 1.0]), None);
+        assert_eq!(Attitude::nominal(&[f64::INFINITY, 0.0, 0.0], &u), None);
+    }
+
+    #[test]
+    fn nominal_attitude_by_hand() {
+        // Boresight +z, Sun along +x (90° elongation): the body axes are the inertial ones.
+        let a = Attitude::nominal(&[0.0, 0.0, 1.0], &[1.0, 0.0, 0.0]);
+        let Some(a) = a else { panic!("defined") };
+        for (got, want) in [
+            (a.x, [1.0, 0.0, 0.0]),
+            (a.y, [0.0, 1.0, 0.0]),
+            (a.z, [0.0, 0.0, 1.0]),
+        ] {
+            for k in 0..3 {
+                assert!((got[k] - want[k]).abs() < 1e-15);
+            }
+        }
+        // Sun 30° from the boresight in the x–z plane: solar pitch 30° − 90° = −60°.
+        let s = [0.5, 0.0, 3f64.sqrt() / 2.0];
+        assert!((solar_pitch_deg(&[0.0, 0.0, 1.0], &s) + 60.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn pure_roll_has_eigen_angle_of_the_roll() {
+        // Same boresight +z, Sun moved from +x to +y: a 90° roll about the boresight, although
+        // the boresight does not move.
+        let z = [0.0, 0.0, 1.0];
+        let (Some(a), Some(b)) = (
+            Attitude::nominal(&z, &[1.0, 0.0, 0.0]),
+            Attitude::nominal(&z, &[0.0, 1.0, 0.0]),
+        ) else {
+            panic!("defined")
+        };
+        assert!((eigen_axis_angle_deg(&a, &b) - 90.0).abs() < 1e-12);
+        assert_eq!(eigen_axis_angle(&a, &a), 0.0);
+    }
+
+    fn matmul_t(aj: &[[f64; 3]; 3], ai: &[[f64; 3]; 3]) -> [[f64; 3]; 3] {
+        let mut r = [[0.0; 3]; 3];
+        for (row, r_row) in r.iter_mut().enumerate() {
+            for (col, cell) in r_row.iter_mut().enumerate() {
+                *cell = (0..3).map(|k| aj[row][k] * ai[col][k]).sum();
+            }
+        }
+        r
+    }
+
+    fn direction() -> impl Strategy<Value = Vec3> {
+        (0.0f64..360.0, -1.0f64..1.0)
+            .prop_map(|(ra, sin_dec)| unit_vector(ra, sin_dec.asin().to_degrees()))
+    }
+
+    proptest! {
+        #[test]
+        fn attitude_is_orthonormal_with_sun_on_plus_x(u in direction(), s in direction()) {
+            if let Some(a) = Attitude::nominal(&u, &s) {
+                let m = a.matrix();
+                let det = m[0][0] * (m[1][1] * m[2][2] - m[1][2] * m[2][1])
+                    - m[0][1] * (m[1][0] * m[2][2] - m[1][2] * m[2][0])
+                    + m[0][2] * (m[1][0] * m[2][1] - m[1][1] * m[2][0]);
+                prop_assert!((det - 1.0).abs() < 1e-12);
+                for (p, q) in [(a.x, a.y), (a.y, a.z), (a.z, a.x)] {
+                    prop_assert!(dot(&p, &q).abs() < 1e-12);
+                }
+                for p in [a.x, a.y, a.z] {
+                    prop_assert!((norm(&p) - 1.0).abs() < 1e-12);
+                }
+                for k in 0..3 {
+                    prop_assert!((a.z[k] - u[k]).abs() < 1e-12);
+                }
+                prop_assert!(dot(&s, &a.y).abs() < 1e-9);
+                prop_assert!(dot(&s, &a.x) >= 0.0);
+            }
+        }
+
+        #[test]
+        fn eigen_angle_at_least_boresight_separation(
+            u1 in direction(), u2 in direction(), s1 in direction(), s2 in direction()
+        ) {
+            if let (Some(a), Some(b)) = (Attitude::nominal(&u1, &s1), Attitude::nominal(&u2, &s2)) {
+                let phi = eigen_axis_angle(&a, &b);
+                prop_assert!(phi + 1e-9 >= separation(&a.z, &b.z));
+                // The model's formula on the explicit product A_j A_iᵀ, away from 0 and π
+                // where acos is well conditioned.
+                let r = matmul_t(&b.matrix(), &a.matrix());
+                let c = ((r[0][0] + r[1][1] + r[2][2] - 1.0) / 2.0).clamp(-1.0, 1.0);
+                if c.abs() < 0.99 {
+                    prop_assert!((phi - c.acos()).abs() < 1e-12);
+                }
+                prop_assert!((phi - eigen_axis_angle(&b, &a)).abs() < 1e-15);
+            }
+        }
+    }
+}

@@ -95,4 +95,6 @@ pub struct Profile {
 }
 
 pub mod geometry;
+pub mod momentum;
+pub mod slew;
 pub mod sun;
