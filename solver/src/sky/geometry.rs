@@ -110,7 +110,7 @@ impl Attitude {
         let z = normalize(u)?;
         let s = normalize(s)?;
         let zs = cross(&z, &s);
-        if !(norm(&zs) >= DEGENERATE_SINE) {
+        if norm(&zs) < DEGENERATE_SINE {
             return None;
         }
         let y = normalize(&zs)?;
@@ -293,8 +293,8 @@ mod tests {
                 for p in [a.x, a.y, a.z] {
                     prop_assert!((norm(&p) - 1.0).abs() < 1e-12);
                 }
-                for k in 0..3 {
-                    prop_assert!((a.z[k] - u[k]).abs() < 1e-12);
+                for (zk, uk) in a.z.iter().zip(u.iter()) {
+                    prop_assert!((zk - uk).abs() < 1e-12);
                 }
                 prop_assert!(dot(&s, &a.y).abs() < 1e-9);
                 prop_assert!(dot(&s, &a.x) >= 0.0);

@@ -43,7 +43,7 @@ pub fn flat_plate_force_n(
         return [0.0; 3];
     };
     let cos_g = dot(&s, &n);
-    if !(cos_g > 0.0) {
+    if cos_g <= 0.0 {
         return [0.0; 3];
     }
     let k = -pressure_n_m2 * area_m2 * cos_g;

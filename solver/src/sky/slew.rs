@@ -85,10 +85,8 @@ pub enum CostError {
 /// angle is negative or not finite, or a limit is not positive and finite.
 pub fn slew_time_s(angle_deg: f64, rate_deg_s: f64, accel_deg_s2: f64) -> Option<f64> {
     let valid_limit = |v: f64| v.is_finite() && v > 0.0;
-    if !(angle_deg.is_finite() && angle_deg >= 0.0)
-        || !valid_limit(rate_deg_s)
-        || !valid_limit(accel_deg_s2)
-    {
+    let valid_angle = angle_deg.is_finite() && angle_deg >= 0.0;
+    if !(valid_angle && valid_limit(rate_deg_s) && valid_limit(accel_deg_s2)) {
         return None;
     }
     if angle_deg <= rate_deg_s * rate_deg_s / accel_deg_s2 {
@@ -186,8 +184,8 @@ fn cost_checked_s(profile: &Profile, from: &Pointing, to: &Pointing) -> f64 {
 }
 
 /// The directed cost of going from pointing `from` (i) to pointing `to` (j), seconds:
-/// `c(i→j) = t_slew(φ_ij) + settle(inst_j) + k_warm · max(0, p_j − p_i)
-/// + k_cool · max(0, p_i − p_j) + setup[inst_i][inst_j]`, with `φ_ij` the eigen-axis angle.
+/// `c(i→j) = t_slew(φ_ij) + settle(inst_j) + k_warm · max(0, p_j − p_i) +
+/// k_cool · max(0, p_i − p_j) + setup[inst_i][inst_j]`, with `φ_ij` the eigen-axis angle.
 /// Errors when the profile is invalid or an instrument index is out of range (reported with
 /// index 0 and an empty identifier, as pointings carry none).
 pub fn transition_cost_s(
@@ -420,11 +418,11 @@ mod tests {
             .collect();
         let m = cost_matrix_ms(&p, &targets, Epoch { jd: 2_461_000.5 });
         let Ok(m) = m else { panic!("{m:?}") };
-        for i in 0..m.len() {
-            for j in 0..m.len() {
-                assert!((m[i][j] - m[j][i]).abs() <= 1, "{i} {j}");
+        for (i, row) in m.iter().enumerate() {
+            for (j, &c) in row.iter().enumerate() {
+                assert!((c - m[j][i]).abs() <= 1, "{i} {j}");
                 if i != j {
-                    assert!(m[i][j] >= 9000);
+                    assert!(c >= 9000);
                 }
             }
         }
