@@ -93,3 +93,8 @@ pub struct Profile {
     /// Time one momentum dump takes, seconds.
     pub dump_s: f64,
 }
+
+pub mod geometry;
+pub mod momentum;
+pub mod slew;
+pub mod sun;
