@@ -141,7 +141,7 @@ pub fn read_profile(path: &Path) -> Result<Profile, ProfileError> {
 pub fn parse_profile(text: &str, source: &str) -> Result<Profile, ProfileError> {
     let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let ctx = Ctx { text, source };
-    let raw: RawProfile = toml::from_str(text).map_err(|e| ctx.from_toml(&e))?;
+    let raw: RawProfile = toml::from_str(text).map_err(|e| ctx.toml_error(&e))?;
     ctx.check(raw)
 }
 
@@ -165,15 +165,54 @@ impl Ctx<'_> {
         }
     }
 
-    fn from_toml(&self, e: &toml::de::Error) -> ProfileError {
-        let message = e.message().trim().to_string();
-        // serde names the field in `unknown field `x`, expected ...` and `missing field `x``.
+    fn toml_error(&self, e: &toml::de::Error) -> ProfileError {
+        // Some messages span several lines (a syntax error and what was expected).
+        let message = e
+            .message()
+            .lines()
+            .map(str::trim)
+            .filter(|l| !l.is_empty())
+            .collect::<Vec<_>>()
+            .join("; ");
+        let mut span = e.span();
         let key = if message.starts_with("unknown field") || message.starts_with("missing field") {
+            // serde names the field: "unknown field `x`, expected ...", "missing field `x`".
+            if message.starts_with("missing field") && span.as_ref().is_some_and(|s| s.start == 0) {
+                // The whole document is the table that lacks the key: no line to name.
+                span = None;
+            }
             message.split('`').nth(1).unwrap_or("").to_string()
         } else {
-            String::new()
+            span.as_ref()
+                .map(|s| self.key_on_line_of(s.start))
+                .unwrap_or_default()
         };
-        self.err(&key, e.span(), message)
+        self.err(&key, span, message)
+    }
+
+    /// The bare key assigned on the line holding byte `offset` (`key = ...`), or "".
+    fn key_on_line_of(&self, offset: usize) -> String {
+        let at = offset.min(self.text.len());
+        let start = self.text.as_bytes()[..at]
+            .iter()
+            .rposition(|&b| b == b'\n')
+            .map_or(0, |i| i + 1);
+        let line = self.text[start..].lines().next().unwrap_or("");
+        match line.split_once('=') {
+            Some((key, _)) => {
+                let key = key.trim();
+                let bare = !key.is_empty()
+                    && key
+                        .chars()
+                        .all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-');
+                if bare {
+                    key.to_string()
+                } else {
+                    String::new()
+                }
+            }
+            None => String::new(),
+        }
     }
 
     fn finite(&self, key: &str, v: &Spanned<f64>) -> Result<f64, ProfileError> {
@@ -773,7 +812,11 @@ time_s = 20
         );
         let p = parse(&with("shield_normal", "shield_normal = [0, 0, -2.5]")).unwrap();
         assert_eq!(p.shield_normal, [0.0, 0.0, -1.0]);
-        let shown = error_at(&with("shield_normal", "shield_normal = [1, 0]"), "", 10);
+        let shown = error_at(
+            &with("shield_normal", "shield_normal = [1, 0]"),
+            "shield_normal",
+            10,
+        );
         assert!(shown.contains("length 3"), "{shown}");
     }
 
@@ -793,28 +836,27 @@ time_s = 20
     #[test]
     fn missing_keys_are_named() {
         let text = with("thruster_isp_s", "");
-        let e = parse(&text).unwrap_err();
-        assert_eq!(e.key, "thruster_isp_s", "{e}");
-        assert!(
-            e.to_string().contains("missing field `thruster_isp_s`"),
-            "{e}"
-        );
+        let shown = error_at(&text, "thruster_isp_s", 0);
+        assert!(shown.contains("missing field `thruster_isp_s`"), "{shown}");
+        // Inside an [[instrument]] table, the line of the table that lacks the key.
         let text = BASE.replace("settle_s = 240.5\n", "");
-        let e = parse(&text).unwrap_err();
-        assert_eq!(e.key, "settle_s", "{e}");
-        assert!(e.to_string().starts_with("p.toml:"), "{e}");
+        let shown = error_at(&text, "settle_s", 24);
+        assert!(shown.contains("missing field `settle_s`"), "{shown}");
     }
 
     #[test]
     fn wrong_types_and_syntax_errors_name_the_line() {
         let shown = error_at(
             &with("slew_rate_deg_s", "slew_rate_deg_s = \"fast\""),
-            "",
+            "slew_rate_deg_s",
             3,
         );
-        assert!(shown.contains("invalid type"), "{shown}");
-        let shown = error_at(&with("dump_s", "dump_s = = 5"), "", 18);
-        assert!(shown.len() > "p.toml:18: ".len(), "{shown}");
+        assert!(shown.contains("invalid type: string \"fast\""), "{shown}");
+        let shown = error_at(&with("dump_s", "dump_s = = 5"), "dump_s", 18);
+        assert!(!shown.contains('\n'), "one line: {shown}");
+        let text = BASE.replacen("[[setup]]", "[setup]", 2);
+        let shown = error_at(&text, "", 33);
+        assert!(shown.contains("duplicate key `setup`"), "{shown}");
         let shown = error_at(&with("name", "name = \"\""), "name", 2);
         assert!(shown.contains("must not be empty"), "{shown}");
     }
