@@ -4,4 +4,5 @@ pub mod generate;
 pub mod record;
 pub mod report;
 pub mod runner;
+pub mod sky;
 pub mod tsplib;

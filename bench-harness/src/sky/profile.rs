@@ -1,0 +1,964 @@
+//! Reading the observatory profile (TOML).
+//!
+//! **Caution.** Plans are planning proposals to be confirmed by the operations team's
+//! validated tools.
+//!
+//! # Keys
+//!
+//! Units are in the key names. All top-level keys are required; unknown keys are refused
+//! anywhere. Integers are accepted where a number is expected. `instances/sky/demo-profile.toml`
+//! is a commented example.
+//!
+//! | key                      | unit / range                                              |
+//! |--------------------------|-----------------------------------------------------------|
+//! | `name`                   | text, not empty                                           |
+//! | `slew_rate_deg_s`        | degrees per second, > 0 (rate limit ω)                    |
+//! | `slew_accel_deg_s2`      | degrees per second squared, > 0 (acceleration limit a)    |
+//! | `thermal_warm_s_per_deg` | seconds per degree of solar pitch gained, ≥ 0 (k_warm)    |
+//! | `thermal_cool_s_per_deg` | seconds per degree of solar pitch lost, ≥ 0 (k_cool)      |
+//! | `elongation_min_deg`     | degrees, 0 ≤ min < max                                    |
+//! | `elongation_max_deg`     | degrees, min < max ≤ 180                                  |
+//! | `shield_area_m2`         | square metres, > 0 (S)                                    |
+//! | `shield_normal`          | body-frame vector `[x, y, z]`, non-zero; scaled to unit length |
+//! | `specular_reflectivity`  | 0 to 1 (ρs)                                               |
+//! | `diffuse_reflectivity`   | 0 to 1 (ρd), with ρs + ρd ≤ 1                             |
+//! | `pressure_offset_m`      | body-frame vector `[x, y, z]`, metres (r_cp)              |
+//! | `wheel_limit_nms`        | newton metre seconds, > 0 (H_max)                         |
+//! | `wheel_margin`           | share of the wheel limit planning may use, in (0, 1]      |
+//! | `thruster_arm_m`         | metres, > 0 (L)                                           |
+//! | `thruster_isp_s`         | seconds, > 0 (Isp)                                        |
+//! | `dump_s`                 | seconds one momentum dump takes, ≥ 0                      |
+//!
+//! Instruments, at least one, in `[[instrument]]` tables (the first is the default for targets
+//! that name none): `name` (unique, not empty, no leading or trailing spaces) and `settle_s`
+//! (seconds, ≥ 0).
+//!
+//! Setup times in `[[setup]]` tables: `from`, `to` (instrument names, different) and `time_s`
+//! (seconds, ≥ 0). Every ordered pair of two different instruments appears exactly once;
+//! changing to the same instrument costs 0 s and is not listed.
+//!
+//! Errors name the file, the key and, where the TOML reader tells it, the line.
+
+use std::collections::HashMap;
+use std::ops::Range;
+use std::path::Path;
+
+use serde::Deserialize;
+use toml::Spanned;
+use wend::sky::{Instrument, Profile};
+
+/// A profile that could not be read, with the place the trouble was found.
+///
+/// Displayed as `{source_name}:{line}: {key}: {message}`; the line part is left out when
+/// `line == 0` and the key part when `key` is empty.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("{source_name}{}: {}{message}", line_part(*.line), key_part(.key))]
+pub struct ProfileError {
+    /// The file name (or other label) the text came from.
+    pub source_name: String,
+    /// 1-based line in the file; 0 when the trouble is not tied to one line.
+    pub line: usize,
+    /// The key at fault: a top-level key, or `instrument.<key>` / `setup.<key>` inside those
+    /// tables; empty when no single key is at fault (a syntax error).
+    pub key: String,
+    /// What was expected and what was found.
+    pub message: String,
+}
+
+fn line_part(line: usize) -> String {
+    if line == 0 {
+        String::new()
+    } else {
+        format!(":{line}")
+    }
+}
+
+fn key_part(key: &str) -> String {
+    if key.is_empty() {
+        String::new()
+    } else {
+        format!("{key}: ")
+    }
+}
+
+/// The file as written; every value keeps its place for error messages.
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawProfile {
+    name: Spanned<String>,
+    slew_rate_deg_s: Spanned<f64>,
+    slew_accel_deg_s2: Spanned<f64>,
+    thermal_warm_s_per_deg: Spanned<f64>,
+    thermal_cool_s_per_deg: Spanned<f64>,
+    elongation_min_deg: Spanned<f64>,
+    elongation_max_deg: Spanned<f64>,
+    shield_area_m2: Spanned<f64>,
+    shield_normal: Spanned<[f64; 3]>,
+    specular_reflectivity: Spanned<f64>,
+    diffuse_reflectivity: Spanned<f64>,
+    pressure_offset_m: Spanned<[f64; 3]>,
+    wheel_limit_nms: Spanned<f64>,
+    wheel_margin: Spanned<f64>,
+    thruster_arm_m: Spanned<f64>,
+    thruster_isp_s: Spanned<f64>,
+    dump_s: Spanned<f64>,
+    instrument: Vec<RawInstrument>,
+    #[serde(default)]
+    setup: Vec<RawSetup>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawInstrument {
+    name: Spanned<String>,
+    settle_s: Spanned<f64>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSetup {
+    from: Spanned<String>,
+    to: Spanned<String>,
+    time_s: Spanned<f64>,
+}
+
+/// Reads an observatory profile file; see [`parse_profile`]. The path, as displayed, names
+/// the file in errors. Bytes that are not UTF-8 are refused.
+pub fn read_profile(path: &Path) -> Result<Profile, ProfileError> {
+    let source = path.display().to_string();
+    let text = super::read_utf8(path).map_err(|(line, message)| ProfileError {
+        source_name: source.clone(),
+        line,
+        key: String::new(),
+        message,
+    })?;
+    parse_profile(&text, &source)
+}
+
+/// Parses an observatory profile (keys in the [module documentation](self)) and checks every
+/// value. `source` names the text in errors (usually the file name). A byte-order mark and
+/// CRLF line endings are accepted. The shield normal is scaled to unit length.
+pub fn parse_profile(text: &str, source: &str) -> Result<Profile, ProfileError> {
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    let ctx = Ctx { text, source };
+    let raw: RawProfile = toml::from_str(text).map_err(|e| ctx.toml_error(&e))?;
+    ctx.check(raw)
+}
+
+struct Ctx<'a> {
+    text: &'a str,
+    source: &'a str,
+}
+
+impl Ctx<'_> {
+    fn err(
+        &self,
+        key: &str,
+        span: Option<Range<usize>>,
+        message: impl Into<String>,
+    ) -> ProfileError {
+        ProfileError {
+            source_name: self.source.to_string(),
+            line: span.map_or(0, |s| super::line_of(self.text, s.start)),
+            key: key.to_string(),
+            message: message.into(),
+        }
+    }
+
+    fn toml_error(&self, e: &toml::de::Error) -> ProfileError {
+        // Some messages span several lines (a syntax error and what was expected).
+        let message = e
+            .message()
+            .lines()
+            .map(str::trim)
+            .filter(|l| !l.is_empty())
+            .collect::<Vec<_>>()
+            .join("; ");
+        let mut span = e.span();
+        let key = if message.starts_with("unknown field") || message.starts_with("missing field") {
+            // serde names the field: "unknown field `x`, expected ...", "missing field `x`".
+            if message.starts_with("missing field") && span.as_ref().is_some_and(|s| s.start == 0) {
+                // The whole document is the table that lacks the key: no line to name.
+                span = None;
+            }
+            message.split('`').nth(1).unwrap_or("").to_string()
+        } else {
+            span.as_ref()
+                .map(|s| self.key_on_line_of(s.start))
+                .unwrap_or_default()
+        };
+        self.err(&key, span, message)
+    }
+
+    /// The bare key assigned on the line holding byte `offset` (`key = ...`), or "".
+    fn key_on_line_of(&self, offset: usize) -> String {
+        let at = offset.min(self.text.len());
+        let start = self.text.as_bytes()[..at]
+            .iter()
+            .rposition(|&b| b == b'\n')
+            .map_or(0, |i| i + 1);
+        let line = self.text[start..].lines().next().unwrap_or("");
+        match line.split_once('=') {
+            Some((key, _)) => {
+                let key = key.trim();
+                let bare = !key.is_empty()
+                    && key
+                        .chars()
+                        .all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-');
+                if bare {
+                    key.to_string()
+                } else {
+                    String::new()
+                }
+            }
+            None => String::new(),
+        }
+    }
+
+    fn finite(&self, key: &str, v: &Spanned<f64>) -> Result<f64, ProfileError> {
+        let x = *v.get_ref();
+        if x.is_finite() {
+            Ok(x)
+        } else {
+            Err(self.err(
+                key,
+                Some(v.span()),
+                format!("must be a finite number, found {x}"),
+            ))
+        }
+    }
+
+    fn positive(&self, key: &str, v: &Spanned<f64>) -> Result<f64, ProfileError> {
+        let x = self.finite(key, v)?;
+        if x > 0.0 {
+            Ok(x)
+        } else {
+            Err(self.err(
+                key,
+                Some(v.span()),
+                format!("must be greater than 0, found {x}"),
+            ))
+        }
+    }
+
+    fn non_negative(&self, key: &str, v: &Spanned<f64>) -> Result<f64, ProfileError> {
+        let x = self.finite(key, v)?;
+        if x >= 0.0 {
+            Ok(x)
+        } else {
+            Err(self.err(
+                key,
+                Some(v.span()),
+                format!("must be at least 0, found {x}"),
+            ))
+        }
+    }
+
+    fn within(&self, key: &str, v: &Spanned<f64>, lo: f64, hi: f64) -> Result<f64, ProfileError> {
+        let x = self.finite(key, v)?;
+        if (lo..=hi).contains(&x) {
+            Ok(x)
+        } else {
+            Err(self.err(
+                key,
+                Some(v.span()),
+                format!("must be in [{lo}, {hi}], found {x}"),
+            ))
+        }
+    }
+
+    fn vector(&self, key: &str, v: &Spanned<[f64; 3]>) -> Result<[f64; 3], ProfileError> {
+        let x = *v.get_ref();
+        if x.iter().all(|c| c.is_finite()) {
+            Ok(x)
+        } else {
+            Err(self.err(
+                key,
+                Some(v.span()),
+                format!("every component must be a finite number, found {x:?}"),
+            ))
+        }
+    }
+
+    fn check(&self, raw: RawProfile) -> Result<Profile, ProfileError> {
+        let name = raw.name.get_ref().trim().to_string();
+        if name.is_empty() {
+            return Err(self.err("name", Some(raw.name.span()), "must not be empty"));
+        }
+
+        let elongation_min_deg =
+            self.within("elongation_min_deg", &raw.elongation_min_deg, 0.0, 180.0)?;
+        let elongation_max_deg =
+            self.within("elongation_max_deg", &raw.elongation_max_deg, 0.0, 180.0)?;
+        if elongation_min_deg >= elongation_max_deg {
+            return Err(self.err(
+                "elongation_max_deg",
+                Some(raw.elongation_max_deg.span()),
+                format!(
+                    "must be greater than elongation_min_deg ({elongation_min_deg}), found \
+                     {elongation_max_deg}"
+                ),
+            ));
+        }
+
+        let normal = self.vector("shield_normal", &raw.shield_normal)?;
+        let length = normal.iter().map(|c| c * c).sum::<f64>().sqrt();
+        // Components up to ~1e154 square to a finite sum; beyond that the length overflows.
+        if !(length.is_finite() && length > 1e-9) {
+            return Err(self.err(
+                "shield_normal",
+                Some(raw.shield_normal.span()),
+                format!("must be a non-zero vector of moderate size, found {normal:?}"),
+            ));
+        }
+        let shield_normal = normal.map(|c| c / length);
+
+        let specular_reflectivity = self.within(
+            "specular_reflectivity",
+            &raw.specular_reflectivity,
+            0.0,
+            1.0,
+        )?;
+        let diffuse_reflectivity =
+            self.within("diffuse_reflectivity", &raw.diffuse_reflectivity, 0.0, 1.0)?;
+        if specular_reflectivity + diffuse_reflectivity > 1.0 + 1e-12 {
+            return Err(self.err(
+                "diffuse_reflectivity",
+                Some(raw.diffuse_reflectivity.span()),
+                format!(
+                    "specular_reflectivity + diffuse_reflectivity must be at most 1, found \
+                     {specular_reflectivity} + {diffuse_reflectivity}"
+                ),
+            ));
+        }
+
+        let wheel_margin = self.finite("wheel_margin", &raw.wheel_margin)?;
+        if !(wheel_margin > 0.0 && wheel_margin <= 1.0) {
+            return Err(self.err(
+                "wheel_margin",
+                Some(raw.wheel_margin.span()),
+                format!("must be in (0, 1], found {wheel_margin}"),
+            ));
+        }
+
+        let (instruments, setup_s) = self.instruments(&raw)?;
+
+        Ok(Profile {
+            name,
+            slew_rate_deg_s: self.positive("slew_rate_deg_s", &raw.slew_rate_deg_s)?,
+            slew_accel_deg_s2: self.positive("slew_accel_deg_s2", &raw.slew_accel_deg_s2)?,
+            thermal_warm_s_per_deg: self
+                .non_negative("thermal_warm_s_per_deg", &raw.thermal_warm_s_per_deg)?,
+            thermal_cool_s_per_deg: self
+                .non_negative("thermal_cool_s_per_deg", &raw.thermal_cool_s_per_deg)?,
+            instruments,
+            setup_s,
+            elongation_min_deg,
+            elongation_max_deg,
+            shield_area_m2: self.positive("shield_area_m2", &raw.shield_area_m2)?,
+            shield_normal,
+            specular_reflectivity,
+            diffuse_reflectivity,
+            pressure_offset_m: self.vector("pressure_offset_m", &raw.pressure_offset_m)?,
+            wheel_limit_nms: self.positive("wheel_limit_nms", &raw.wheel_limit_nms)?,
+            wheel_margin,
+            thruster_arm_m: self.positive("thruster_arm_m", &raw.thruster_arm_m)?,
+            thruster_isp_s: self.positive("thruster_isp_s", &raw.thruster_isp_s)?,
+            dump_s: self.non_negative("dump_s", &raw.dump_s)?,
+        })
+    }
+
+    /// The instruments and the full setup matrix.
+    #[allow(clippy::type_complexity)]
+    fn instruments(
+        &self,
+        raw: &RawProfile,
+    ) -> Result<(Vec<Instrument>, Vec<Vec<f64>>), ProfileError> {
+        if raw.instrument.is_empty() {
+            return Err(self.err(
+                "instrument",
+                None,
+                "a profile needs at least one [[instrument]] table",
+            ));
+        }
+        let mut instruments = Vec::with_capacity(raw.instrument.len());
+        let mut index: HashMap<&str, (usize, usize)> = HashMap::new();
+        for (i, inst) in raw.instrument.iter().enumerate() {
+            let name = inst.name.get_ref().as_str();
+            let line = super::line_of(self.text, inst.name.span().start);
+            if name.is_empty() || name.trim() != name {
+                return Err(self.err(
+                    "instrument.name",
+                    Some(inst.name.span()),
+                    format!("`{name}` must be non-empty without leading or trailing spaces"),
+                ));
+            }
+            if let Some(&(_, first_line)) = index.get(name) {
+                return Err(self.err(
+                    "instrument.name",
+                    Some(inst.name.span()),
+                    format!("instrument `{name}` is defined twice (lines {first_line} and {line})"),
+                ));
+            }
+            index.insert(name, (i, line));
+            instruments.push(Instrument {
+                name: name.to_string(),
+                settle_s: self.non_negative("instrument.settle_s", &inst.settle_s)?,
+            });
+        }
+
+        let known = || {
+            instruments
+                .iter()
+                .map(|i| format!("`{}`", i.name))
+                .collect::<Vec<_>>()
+                .join(", ")
+        };
+        let n = instruments.len();
+        let mut setup_s = vec![vec![0.0; n]; n];
+        let mut given: Vec<Vec<Option<usize>>> = vec![vec![None; n]; n];
+        for entry in &raw.setup {
+            let mut ends = [0; 2];
+            for (k, (key, end)) in [("setup.from", &entry.from), ("setup.to", &entry.to)]
+                .into_iter()
+                .enumerate()
+            {
+                let name = end.get_ref().as_str();
+                let Some(&(i, _)) = index.get(name) else {
+                    return Err(self.err(
+                        key,
+                        Some(end.span()),
+                        format!(
+                            "unknown instrument `{name}`; the profile defines {}",
+                            known()
+                        ),
+                    ));
+                };
+                ends[k] = i;
+            }
+            let [from, to] = ends;
+            let line = super::line_of(self.text, entry.from.span().start);
+            if from == to {
+                return Err(self.err(
+                    "setup.to",
+                    Some(entry.to.span()),
+                    format!(
+                        "from and to are both `{}`; staying with an instrument costs 0 s and is \
+                         not listed",
+                        instruments[from].name
+                    ),
+                ));
+            }
+            if let Some(first_line) = given[from][to] {
+                return Err(self.err(
+                    "setup.from",
+                    Some(entry.from.span()),
+                    format!(
+                        "the setup from `{}` to `{}` is given twice (lines {first_line} and {line})",
+                        instruments[from].name, instruments[to].name
+                    ),
+                ));
+            }
+            given[from][to] = Some(line);
+            setup_s[from][to] = self.non_negative("setup.time_s", &entry.time_s)?;
+        }
+        let mut missing = Vec::new();
+        for (i, row) in given.iter().enumerate() {
+            for (j, g) in row.iter().enumerate() {
+                if i != j && g.is_none() {
+                    missing.push(format!(
+                        "`{}` -> `{}`",
+                        instruments[i].name, instruments[j].name
+                    ));
+                }
+            }
+        }
+        if !missing.is_empty() {
+            return Err(self.err(
+                "setup",
+                None,
+                format!(
+                    "every change between two different instruments needs a [[setup]] table; \
+                     missing: {}",
+                    missing.join(", ")
+                ),
+            ));
+        }
+        Ok((instruments, setup_s))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    /// A valid profile; line numbers below are counted by hand.
+    const BASE: &str = r#"# test profile
+name = "Test bench"
+slew_rate_deg_s = 0.2
+slew_accel_deg_s2 = 0.004
+thermal_warm_s_per_deg = 9
+thermal_cool_s_per_deg = 3.5
+elongation_min_deg = 85
+elongation_max_deg = 135.5
+shield_area_m2 = 120
+shield_normal = [0, 3, 4]
+specular_reflectivity = 0.6
+diffuse_reflectivity = 0.25
+pressure_offset_m = [0.1, -0.2, 1.25]
+wheel_limit_nms = 30
+wheel_margin = 0.75
+thruster_arm_m = 1.5
+thruster_isp_s = 230
+dump_s = 500
+
+[[instrument]]
+name = "cam"
+settle_s = 60
+
+[[instrument]]
+name = "spec"
+settle_s = 240.5
+
+[[setup]]
+from = "cam"
+to = "spec"
+time_s = 100
+
+[[setup]]
+from = "spec"
+to = "cam"
+time_s = 20
+"#;
+
+    fn parse(text: &str) -> Result<Profile, ProfileError> {
+        parse_profile(text, "p.toml")
+    }
+
+    /// BASE with the line starting with `key =` (the first one) replaced by `line`.
+    fn with(key: &str, line: &str) -> String {
+        let mut done = false;
+        let out: Vec<&str> = BASE
+            .lines()
+            .map(|l| {
+                if !done && l.starts_with(&format!("{key} =")) {
+                    done = true;
+                    line
+                } else {
+                    l
+                }
+            })
+            .collect();
+        assert!(done, "no line for {key}");
+        out.join("\n") + "\n"
+    }
+
+    /// The error for `text`, checked to name the file, the key and the line.
+    fn error_at(text: &str, key: &str, line: usize) -> String {
+        let e = match parse(text) {
+            Ok(p) => panic!("expected an error, got {p:?}"),
+            Err(e) => e,
+        };
+        assert_eq!(e.source_name, "p.toml");
+        assert_eq!((e.key.as_str(), e.line), (key, line), "{e}");
+        let shown = e.to_string();
+        let place = if line == 0 {
+            String::new()
+        } else {
+            format!(":{line}")
+        };
+        let key_shown = if key.is_empty() {
+            String::new()
+        } else {
+            format!("{key}: ")
+        };
+        assert!(
+            shown.starts_with(&format!("p.toml{place}: {key_shown}")),
+            "{shown}"
+        );
+        shown
+    }
+
+    #[test]
+    fn reads_every_key() {
+        let p = parse(BASE).unwrap();
+        assert_eq!(
+            p,
+            Profile {
+                name: "Test bench".to_string(),
+                slew_rate_deg_s: 0.2,
+                slew_accel_deg_s2: 0.004,
+                thermal_warm_s_per_deg: 9.0,
+                thermal_cool_s_per_deg: 3.5,
+                instruments: vec![
+                    Instrument {
+                        name: "cam".to_string(),
+                        settle_s: 60.0
+                    },
+                    Instrument {
+                        name: "spec".to_string(),
+                        settle_s: 240.5
+                    },
+                ],
+                setup_s: vec![vec![0.0, 100.0], vec![20.0, 0.0]],
+                elongation_min_deg: 85.0,
+                elongation_max_deg: 135.5,
+                shield_area_m2: 120.0,
+                shield_normal: [0.0, 0.6, 0.8],
+                specular_reflectivity: 0.6,
+                diffuse_reflectivity: 0.25,
+                pressure_offset_m: [0.1, -0.2, 1.25],
+                wheel_limit_nms: 30.0,
+                wheel_margin: 0.75,
+                thruster_arm_m: 1.5,
+                thruster_isp_s: 230.0,
+                dump_s: 500.0,
+            }
+        );
+    }
+
+    #[test]
+    fn crlf_and_byte_order_mark_are_accepted() {
+        let text = format!("\u{feff}{}", BASE.replace('\n', "\r\n"));
+        assert_eq!(parse(&text).unwrap(), parse(BASE).unwrap());
+        // Line numbers still count each CRLF line once.
+        let text = format!(
+            "\u{feff}{}",
+            with("dump_s", "dump_s = -1").replace('\n', "\r\n")
+        );
+        error_at(&text, "dump_s", 18);
+    }
+
+    #[test]
+    fn one_instrument_needs_no_setup_table() {
+        let text = "name = \"x\"\n".to_string()
+            + &BASE.lines().skip(2).take(17).collect::<Vec<_>>().join("\n")
+            + "\n[[instrument]]\nname = \"solo\"\nsettle_s = 0\n";
+        let p = parse(&text).unwrap();
+        assert_eq!(
+            p.instruments,
+            vec![Instrument {
+                name: "solo".to_string(),
+                settle_s: 0.0
+            }]
+        );
+        assert_eq!(p.setup_s, vec![vec![0.0]]);
+    }
+
+    #[test]
+    fn rates_and_sizes_must_be_positive() {
+        for (key, line) in [
+            ("slew_rate_deg_s", 3),
+            ("slew_accel_deg_s2", 4),
+            ("shield_area_m2", 9),
+            ("wheel_limit_nms", 14),
+            ("thruster_arm_m", 16),
+            ("thruster_isp_s", 17),
+        ] {
+            for bad in ["0", "-1.5"] {
+                let shown = error_at(&with(key, &format!("{key} = {bad}")), key, line);
+                assert!(
+                    shown.contains(&format!("must be greater than 0, found {bad}")),
+                    "{shown}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn times_must_not_be_negative() {
+        for (key, line) in [
+            ("thermal_warm_s_per_deg", 5),
+            ("thermal_cool_s_per_deg", 6),
+            ("dump_s", 18),
+        ] {
+            let shown = error_at(&with(key, &format!("{key} = -2")), key, line);
+            assert!(shown.contains("must be at least 0, found -2"), "{shown}");
+        }
+        let shown = error_at(
+            &with("settle_s", "settle_s = -1"),
+            "instrument.settle_s",
+            22,
+        );
+        assert!(shown.contains("must be at least 0"), "{shown}");
+        let shown = error_at(&with("time_s", "time_s = -0.5"), "setup.time_s", 31);
+        assert!(shown.contains("must be at least 0, found -0.5"), "{shown}");
+    }
+
+    #[test]
+    fn non_finite_numbers_are_refused() {
+        for (key, line, value) in [
+            ("slew_rate_deg_s", 3, "nan"),
+            ("dump_s", 18, "inf"),
+            ("wheel_margin", 15, "nan"),
+            ("elongation_min_deg", 7, "-inf"),
+        ] {
+            let shown = error_at(&with(key, &format!("{key} = {value}")), key, line);
+            assert!(shown.contains("must be a finite number"), "{shown}");
+        }
+        let shown = error_at(
+            &with("pressure_offset_m", "pressure_offset_m = [0, nan, 1]"),
+            "pressure_offset_m",
+            13,
+        );
+        assert!(
+            shown.contains("every component must be a finite number"),
+            "{shown}"
+        );
+        let shown = error_at(
+            &with("shield_normal", "shield_normal = [inf, 0, 0]"),
+            "shield_normal",
+            10,
+        );
+        assert!(shown.contains("finite"), "{shown}");
+    }
+
+    #[test]
+    fn reflectivities_are_fractions_summing_to_at_most_one() {
+        let shown = error_at(
+            &with("specular_reflectivity", "specular_reflectivity = 1.1"),
+            "specular_reflectivity",
+            11,
+        );
+        assert!(shown.contains("must be in [0, 1], found 1.1"), "{shown}");
+        let shown = error_at(
+            &with("diffuse_reflectivity", "diffuse_reflectivity = -0.1"),
+            "diffuse_reflectivity",
+            12,
+        );
+        assert!(shown.contains("must be in [0, 1], found -0.1"), "{shown}");
+        let shown = error_at(
+            &with("diffuse_reflectivity", "diffuse_reflectivity = 0.45"),
+            "diffuse_reflectivity",
+            12,
+        );
+        assert!(
+            shown.contains(
+                "specular_reflectivity + diffuse_reflectivity must be at most 1, found 0.6 + 0.45"
+            ),
+            "{shown}"
+        );
+        // Exactly 1 is allowed.
+        let p = parse(&with("diffuse_reflectivity", "diffuse_reflectivity = 0.4")).unwrap();
+        assert_eq!(p.diffuse_reflectivity, 0.4);
+    }
+
+    #[test]
+    fn the_elongation_band_must_be_ordered_within_0_to_180() {
+        let shown = error_at(
+            &with("elongation_min_deg", "elongation_min_deg = -5"),
+            "elongation_min_deg",
+            7,
+        );
+        assert!(shown.contains("must be in [0, 180], found -5"), "{shown}");
+        let shown = error_at(
+            &with("elongation_max_deg", "elongation_max_deg = 180.5"),
+            "elongation_max_deg",
+            8,
+        );
+        assert!(
+            shown.contains("must be in [0, 180], found 180.5"),
+            "{shown}"
+        );
+        let shown = error_at(
+            &with("elongation_max_deg", "elongation_max_deg = 85"),
+            "elongation_max_deg",
+            8,
+        );
+        assert!(
+            shown.contains("must be greater than elongation_min_deg (85), found 85"),
+            "{shown}"
+        );
+    }
+
+    #[test]
+    fn wheel_margin_is_in_0_exclusive_to_1() {
+        for bad in ["0", "1.01", "-0.5"] {
+            let shown = error_at(
+                &with("wheel_margin", &format!("wheel_margin = {bad}")),
+                "wheel_margin",
+                15,
+            );
+            assert!(
+                shown.contains(&format!("must be in (0, 1], found {bad}")),
+                "{shown}"
+            );
+        }
+        assert_eq!(
+            parse(&with("wheel_margin", "wheel_margin = 1"))
+                .unwrap()
+                .wheel_margin,
+            1.0
+        );
+    }
+
+    #[test]
+    fn the_shield_normal_must_be_non_zero_and_is_scaled_to_unit_length() {
+        let shown = error_at(
+            &with("shield_normal", "shield_normal = [0, 0, 0]"),
+            "shield_normal",
+            10,
+        );
+        assert!(shown.contains("must be a non-zero vector"), "{shown}");
+        let shown = error_at(
+            &with("shield_normal", "shield_normal = [1e200, 0, 0]"),
+            "shield_normal",
+            10,
+        );
+        assert!(
+            shown.contains("must be a non-zero vector of moderate size"),
+            "{shown}"
+        );
+        let p = parse(&with("shield_normal", "shield_normal = [0, 0, -2.5]")).unwrap();
+        assert_eq!(p.shield_normal, [0.0, 0.0, -1.0]);
+        let shown = error_at(
+            &with("shield_normal", "shield_normal = [1, 0]"),
+            "shield_normal",
+            10,
+        );
+        assert!(shown.contains("length 3"), "{shown}");
+    }
+
+    #[test]
+    fn unknown_keys_are_refused_with_their_line() {
+        let text = BASE.replace("dump_s = 500\n", "dump_s = 500\nslew_rate_deg = 1\n");
+        let shown = error_at(&text, "slew_rate_deg", 19);
+        assert!(shown.contains("unknown field `slew_rate_deg`"), "{shown}");
+        let text = BASE.replace("settle_s = 60\n", "settle_s = 60\nsettle = 4\n");
+        let shown = error_at(&text, "settle", 23);
+        assert!(shown.contains("unknown field `settle`"), "{shown}");
+        let text = BASE.replace("time_s = 20\n", "time_s = 20\nnote = \"x\"\n");
+        let shown = error_at(&text, "note", 37);
+        assert!(shown.contains("unknown field `note`"), "{shown}");
+    }
+
+    #[test]
+    fn missing_keys_are_named() {
+        let text = with("thruster_isp_s", "");
+        let shown = error_at(&text, "thruster_isp_s", 0);
+        assert!(shown.contains("missing field `thruster_isp_s`"), "{shown}");
+        // Inside an [[instrument]] table, the line of the table that lacks the key.
+        let text = BASE.replace("settle_s = 240.5\n", "");
+        let shown = error_at(&text, "settle_s", 24);
+        assert!(shown.contains("missing field `settle_s`"), "{shown}");
+    }
+
+    #[test]
+    fn wrong_types_and_syntax_errors_name_the_line() {
+        let shown = error_at(
+            &with("slew_rate_deg_s", "slew_rate_deg_s = \"fast\""),
+            "slew_rate_deg_s",
+            3,
+        );
+        assert!(shown.contains("invalid type: string \"fast\""), "{shown}");
+        let shown = error_at(&with("dump_s", "dump_s = = 5"), "dump_s", 18);
+        assert!(!shown.contains('\n'), "one line: {shown}");
+        let text = BASE.replacen("[[setup]]", "[setup]", 2);
+        let shown = error_at(&text, "", 33);
+        assert!(shown.contains("duplicate key `setup`"), "{shown}");
+        let shown = error_at(&with("name", "name = \"\""), "name", 2);
+        assert!(shown.contains("must not be empty"), "{shown}");
+    }
+
+    #[test]
+    fn instruments_must_exist_and_be_named_once() {
+        let text: String = BASE.lines().take(19).collect::<Vec<_>>().join("\n") + "\n";
+        let e = parse(&text).unwrap_err();
+        assert_eq!(e.key, "instrument", "{e}");
+        let text = text + "instrument = []\n";
+        let shown = error_at(&text, "instrument", 0);
+        assert!(shown.contains("at least one [[instrument]]"), "{shown}");
+
+        let text = BASE.replace("name = \"spec\"", "name = \"cam\"");
+        let shown = error_at(&text, "instrument.name", 25);
+        assert!(
+            shown.contains("instrument `cam` is defined twice (lines 21 and 25)"),
+            "{shown}"
+        );
+        let text = BASE.replace("name = \"spec\"", "name = \" spec\"");
+        let shown = error_at(&text, "instrument.name", 25);
+        assert!(
+            shown.contains("without leading or trailing spaces"),
+            "{shown}"
+        );
+        let text = BASE.replace("name = \"spec\"", "name = \"\"");
+        error_at(&text, "instrument.name", 25);
+    }
+
+    #[test]
+    fn setup_entries_must_name_known_different_instruments_once_each() {
+        let text = BASE.replace("to = \"spec\"", "to = \"imager\"");
+        let shown = error_at(&text, "setup.to", 30);
+        assert!(
+            shown.contains("unknown instrument `imager`; the profile defines `cam`, `spec`"),
+            "{shown}"
+        );
+        let text = BASE.replace("from = \"spec\"", "from = \"Spec\"");
+        let shown = error_at(&text, "setup.from", 34);
+        assert!(shown.contains("unknown instrument `Spec`"), "{shown}");
+
+        let text = BASE.replace("to = \"spec\"", "to = \"cam\"");
+        let shown = error_at(&text, "setup.to", 30);
+        assert!(shown.contains("from and to are both `cam`"), "{shown}");
+
+        let text = BASE.to_string() + "\n[[setup]]\nfrom = \"cam\"\nto = \"spec\"\ntime_s = 5\n";
+        let shown = error_at(&text, "setup.from", 39);
+        assert!(
+            shown.contains("the setup from `cam` to `spec` is given twice (lines 29 and 39)"),
+            "{shown}"
+        );
+
+        let text: String = BASE.lines().take(32).collect::<Vec<_>>().join("\n") + "\n";
+        let shown = error_at(&text, "setup", 0);
+        assert!(shown.contains("missing: `spec` -> `cam`"), "{shown}");
+    }
+
+    #[test]
+    fn read_profile_names_the_path() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("obs.toml");
+        std::fs::write(&path, with("dump_s", "dump_s = -3")).unwrap();
+        let e = read_profile(&path).unwrap_err();
+        assert_eq!(e.source_name, path.display().to_string());
+        assert_eq!((e.key.as_str(), e.line), ("dump_s", 18));
+
+        std::fs::write(&path, b"name = \"\xff\"\n").unwrap();
+        let e = read_profile(&path).unwrap_err();
+        assert_eq!(e.line, 1);
+        assert!(e.message.contains("not UTF-8"), "{e}");
+
+        let missing = dir.path().join("absent.toml");
+        let e = read_profile(&missing).unwrap_err();
+        assert!(e
+            .to_string()
+            .starts_with(&format!("{}: cannot read the file", missing.display())));
+
+        std::fs::write(&path, BASE).unwrap();
+        assert_eq!(read_profile(&path).unwrap().name, "Test bench");
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(512))]
+
+        #[test]
+        fn random_text_never_panics(text in "[ -~\t\r\n\u{feff}é]{0,300}") {
+            let _ = parse(&text);
+        }
+
+        #[test]
+        fn random_bytes_never_panic(bytes in proptest::collection::vec(any::<u8>(), 0..300)) {
+            let _ = parse(&String::from_utf8_lossy(&bytes));
+        }
+
+        #[test]
+        fn edited_profiles_never_panic(at in 0usize..BASE.len(), cut in 0usize..8, insert in "[-\\[\\]=.,0-9eE\"#\r\n a-z]{0,8}") {
+            let mut text = BASE.to_string();
+            let mut at = at;
+            while !text.is_char_boundary(at) { at -= 1; }
+            let end = (at + cut).min(text.len());
+            text.replace_range(at..end, &insert);
+            let _ = parse(&text);
+        }
+    }
+}

@@ -1,0 +1,672 @@
+//! Reading the targets CSV.
+//!
+//! **Caution.** Plans are planning proposals to be confirmed by the operations team's
+//! validated tools.
+//!
+//! # Format
+//!
+//! Comma-separated, UTF-8 (a byte-order mark and CRLF line endings are accepted). The first
+//! line that is not a comment is the header; it names the columns, in any order:
+//!
+//! | column       | required | meaning                                                      |
+//! |--------------|----------|--------------------------------------------------------------|
+//! | `id`         | yes      | the target's identifier, unique in the file, not empty       |
+//! | `ra_deg`     | yes      | right ascension, ICRS, degrees in [0, 360)                   |
+//! | `dec_deg`    | yes      | declination, ICRS, degrees in [−90, 90]                      |
+//! | `duration_s` | yes      | dwell time, seconds, at least 0                              |
+//! | `instrument` | no       | an instrument name of the profile; absent or empty: the first |
+//!
+//! Columns not in this table are **refused** (a misspelt `instrument` column would otherwise
+//! silently send every target to the default instrument). Every row must have as many fields
+//! as the header. Fields may be quoted and are trimmed of surrounding spaces. Lines starting
+//! with `#` are comments; blank lines and rows whose fields are all empty are skipped. Numbers
+//! must be finite (`nan`, `inf` and overflowing values such as `1e999` are refused).
+//!
+//! Errors name the file, the line in the file (comments and blank lines counted) and, for
+//! data, the row (1-based, counting data rows only).
+
+use std::collections::HashMap;
+use std::path::Path;
+
+use wend::sky::{Profile, Target};
+
+/// A targets file that could not be read, with the place the trouble was found.
+///
+/// Displayed as `{source_name}:{line}: row {row}: {message}`; the line part is left out when
+/// `line == 0` and the row part when `row == 0`.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("{source_name}{}: {}{message}", line_part(*.line), row_part(*.row))]
+pub struct TargetsError {
+    /// The file name (or other label) the text came from.
+    pub source_name: String,
+    /// 1-based line in the file; 0 when the trouble is not tied to one line.
+    pub line: usize,
+    /// 1-based data row (the header and comments not counted); 0 when the trouble is not in
+    /// a data row (the header, an empty file).
+    pub row: usize,
+    /// What was expected and what was found.
+    pub message: String,
+}
+
+fn line_part(line: usize) -> String {
+    if line == 0 {
+        String::new()
+    } else {
+        format!(":{line}")
+    }
+}
+
+fn row_part(row: usize) -> String {
+    if row == 0 {
+        String::new()
+    } else {
+        format!("row {row}: ")
+    }
+}
+
+impl TargetsError {
+    fn new(source: &str, line: usize, row: usize, message: impl Into<String>) -> Self {
+        TargetsError {
+            source_name: source.to_string(),
+            line,
+            row,
+            message: message.into(),
+        }
+    }
+}
+
+/// The columns a targets file may have, in the order the documentation lists them.
+const COLUMNS: [&str; 5] = ["id", "ra_deg", "dec_deg", "duration_s", "instrument"];
+/// How many of [`COLUMNS`] (from the front) are required.
+const REQUIRED: usize = 4;
+
+/// Reads a targets CSV file; see [`parse_targets`]. The path, as displayed, names the file in
+/// errors. Bytes that are not UTF-8 are refused.
+pub fn read_targets(path: &Path, profile: &Profile) -> Result<Vec<Target>, TargetsError> {
+    let source = path.display().to_string();
+    let text =
+        super::read_utf8(path).map_err(|(line, m)| TargetsError::new(&source, line, 0, m))?;
+    parse_targets(&text, &source, profile)
+}
+
+/// Parses a targets CSV (format in the [module documentation](self)) into targets in file
+/// order, instrument names turned into indices of `profile.instruments`. `source` names the
+/// text in errors (usually the file name).
+///
+/// Refused, with the file, line and row named: an empty file or one without data rows,
+/// missing, unknown or repeated columns, rows with the wrong number of fields, empty ids,
+/// duplicate ids (both rows named), values that are not finite numbers, RA outside [0, 360),
+/// Dec outside [−90, 90], negative durations, and instruments the profile does not know (the
+/// known ones listed).
+pub fn parse_targets(
+    text: &str,
+    source: &str,
+    profile: &Profile,
+) -> Result<Vec<Target>, TargetsError> {
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    let err = |line: usize, row: usize, m: String| TargetsError::new(source, line, row, m);
+    let mut reader = csv::ReaderBuilder::new()
+        .has_headers(false)
+        .flexible(true)
+        .trim(csv::Trim::All)
+        .comment(Some(b'#'))
+        .from_reader(text.as_bytes());
+
+    let mut header: Option<(usize, [Option<usize>; 5])> = None;
+    let mut header_len = 0;
+    let mut targets = Vec::new();
+    let mut seen: HashMap<String, (usize, usize)> = HashMap::new();
+
+    for record in reader.records() {
+        let record = record.map_err(|e| {
+            let line = e.position().map_or(0, |p| record_line(text, p.byte()));
+            err(line, 0, format!("not readable as CSV: {e}"))
+        })?;
+        let line = record.position().map_or(0, |p| record_line(text, p.byte()));
+        if record.iter().all(str::is_empty) {
+            continue;
+        }
+        let Some((_, cols)) = header else {
+            header_len = record.len();
+            header = Some((line, read_header(&record).map_err(|m| err(line, 0, m))?));
+            continue;
+        };
+        let row = targets.len() + 1;
+        let target =
+            read_row(&record, &cols, header_len, profile).map_err(|m| err(line, row, m))?;
+        if let Some(&(first_row, first_line)) = seen.get(&target.id) {
+            return Err(err(
+                line,
+                row,
+                format!(
+                    "duplicate id `{}`: row {first_row} (line {first_line}) has it too",
+                    target.id
+                ),
+            ));
+        }
+        seen.insert(target.id.clone(), (row, line));
+        targets.push(target);
+    }
+
+    match header {
+        None => Err(err(
+            0,
+            0,
+            format!(
+                "the file is empty: expected a header row naming the columns {}",
+                column_list()
+            ),
+        )),
+        Some((line, _)) if targets.is_empty() => Err(err(
+            line,
+            0,
+            "no targets: the file has a header but no data rows".to_string(),
+        )),
+        Some(_) => Ok(targets),
+    }
+}
+
+/// The 1-based line a record starts on, from the byte offset the CSV reader reports (the
+/// reader's own line count skips comments and blank lines, and its offset may point at the
+/// blank or comment lines before the record, which are stepped over here).
+fn record_line(text: &str, byte: u64) -> usize {
+    let mut at = usize::try_from(byte).unwrap_or(usize::MAX).min(text.len());
+    while at < text.len() {
+        let rest = &text.as_bytes()[at..];
+        let end = rest.iter().position(|&b| b == b'\n');
+        let this = &rest[..end.unwrap_or(rest.len())];
+        let skip = this.is_empty() || this == b"\r" || this.first() == Some(&b'#');
+        match end {
+            Some(e) if skip => at += e + 1,
+            _ => break,
+        }
+    }
+    super::line_of(text, at)
+}
+
+fn column_list() -> String {
+    format!(
+        "{} (required) and `{}` (optional)",
+        COLUMNS[..REQUIRED]
+            .iter()
+            .map(|c| format!("`{c}`"))
+            .collect::<Vec<_>>()
+            .join(", "),
+        COLUMNS[REQUIRED]
+    )
+}
+
+/// The field index of each of [`COLUMNS`] (None: absent, only allowed for optional ones).
+fn read_header(record: &csv::StringRecord) -> Result<[Option<usize>; 5], String> {
+    let mut cols = [None; 5];
+    for (i, name) in record.iter().enumerate() {
+        let Some(k) = COLUMNS.iter().position(|c| *c == name) else {
+            let shown = if name.is_empty() {
+                format!("column {} has no name", i + 1)
+            } else {
+                format!("unknown column `{name}` (column {})", i + 1)
+            };
+            return Err(format!(
+                "{shown}; the header must name the columns {} and no others",
+                column_list()
+            ));
+        };
+        if let Some(first) = cols[k] {
+            return Err(format!(
+                "column `{name}` appears twice (columns {} and {})",
+                first + 1,
+                i + 1
+            ));
+        }
+        cols[k] = Some(i);
+    }
+    let missing: Vec<String> = COLUMNS[..REQUIRED]
+        .iter()
+        .zip(&cols)
+        .filter(|(_, c)| c.is_none())
+        .map(|(name, _)| format!("`{name}`"))
+        .collect();
+    if !missing.is_empty() {
+        return Err(format!(
+            "the header lacks the required column{} {}; it must name {}",
+            if missing.len() > 1 { "s" } else { "" },
+            missing.join(", "),
+            column_list()
+        ));
+    }
+    Ok(cols)
+}
+
+fn read_row(
+    record: &csv::StringRecord,
+    cols: &[Option<usize>; 5],
+    header_len: usize,
+    profile: &Profile,
+) -> Result<Target, String> {
+    if record.len() != header_len {
+        return Err(format!(
+            "{} field{}, but the header has {} columns",
+            record.len(),
+            if record.len() == 1 { "" } else { "s" },
+            header_len
+        ));
+    }
+    let cell = |k: usize| cols[k].and_then(|i| record.get(i)).unwrap_or("");
+    let id = cell(0);
+    if id.is_empty() {
+        return Err("`id` is empty".to_string());
+    }
+    let ra_deg = number(cell(1), COLUMNS[1])?;
+    if !(0.0..360.0).contains(&ra_deg) {
+        return Err(format!("`ra_deg` is {ra_deg}, outside [0, 360)"));
+    }
+    let dec_deg = number(cell(2), COLUMNS[2])?;
+    if !(-90.0..=90.0).contains(&dec_deg) {
+        return Err(format!("`dec_deg` is {dec_deg}, outside [-90, 90]"));
+    }
+    let duration_s = number(cell(3), COLUMNS[3])?;
+    if duration_s < 0.0 {
+        return Err(format!("`duration_s` is {duration_s}, negative"));
+    }
+    let instrument = instrument_index(cell(4), profile)?;
+    Ok(Target {
+        id: id.to_string(),
+        ra_deg,
+        dec_deg,
+        duration_s,
+        instrument,
+    })
+}
+
+fn number(text: &str, column: &str) -> Result<f64, String> {
+    if text.is_empty() {
+        return Err(format!("`{column}` is empty"));
+    }
+    let v: f64 = text
+        .parse()
+        .map_err(|_| format!("`{column}` value `{text}` is not a number"))?;
+    if !v.is_finite() {
+        return Err(format!("`{column}` value `{text}` is not a finite number"));
+    }
+    Ok(v)
+}
+
+fn instrument_index(name: &str, profile: &Profile) -> Result<usize, String> {
+    if profile.instruments.is_empty() {
+        return Err("the profile has no instruments to observe with".to_string());
+    }
+    if name.is_empty() {
+        return Ok(0);
+    }
+    profile
+        .instruments
+        .iter()
+        .position(|i| i.name == name)
+        .ok_or_else(|| {
+            let known: Vec<String> = profile
+                .instruments
+                .iter()
+                .map(|i| format!("`{}`", i.name))
+                .collect();
+            format!(
+                "unknown instrument `{name}`; the profile knows {}",
+                known.join(", ")
+            )
+        })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+    use wend::sky::Instrument;
+
+    /// A profile written out by hand, independent of the profile reader.
+    fn profile() -> Profile {
+        Profile {
+            name: "Test bench".to_string(),
+            slew_rate_deg_s: 0.1,
+            slew_accel_deg_s2: 0.001,
+            thermal_warm_s_per_deg: 10.0,
+            thermal_cool_s_per_deg: 2.0,
+            instruments: vec![
+                Instrument {
+                    name: "cam".to_string(),
+                    settle_s: 60.0,
+                },
+                Instrument {
+                    name: "spec".to_string(),
+                    settle_s: 200.0,
+                },
+                Instrument {
+                    name: "phot".to_string(),
+                    settle_s: 30.0,
+                },
+            ],
+            setup_s: vec![vec![0.0; 3]; 3],
+            elongation_min_deg: 80.0,
+            elongation_max_deg: 140.0,
+            shield_area_m2: 150.0,
+            shield_normal: [1.0, 0.0, 0.0],
+            specular_reflectivity: 0.5,
+            diffuse_reflectivity: 0.1,
+            pressure_offset_m: [0.0, 0.2, 1.5],
+            wheel_limit_nms: 20.0,
+            wheel_margin: 0.8,
+            thruster_arm_m: 1.0,
+            thruster_isp_s: 220.0,
+            dump_s: 600.0,
+        }
+    }
+
+    fn parse(text: &str) -> Result<Vec<Target>, TargetsError> {
+        parse_targets(text, "t.csv", &profile())
+    }
+
+    fn target(id: &str, ra: f64, dec: f64, dur: f64, inst: usize) -> Target {
+        Target {
+            id: id.to_string(),
+            ra_deg: ra,
+            dec_deg: dec,
+            duration_s: dur,
+            instrument: inst,
+        }
+    }
+
+    /// The error for `text`, checked to name the file, the line and the row.
+    fn error_at(text: &str, line: usize, row: usize) -> String {
+        let e = match parse(text) {
+            Ok(t) => panic!("expected an error, got {t:?}"),
+            Err(e) => e,
+        };
+        assert_eq!(e.source_name, "t.csv");
+        assert_eq!((e.line, e.row), (line, row), "{e}");
+        let shown = e.to_string();
+        assert!(shown.starts_with(&format!("t.csv:{line}: ")), "{shown}");
+        if row > 0 {
+            assert!(shown.contains(&format!("row {row}: ")), "{shown}");
+        }
+        shown
+    }
+
+    #[test]
+    fn reads_columns_in_any_order() {
+        let text = "instrument,duration_s,id,dec_deg,ra_deg\n\
+                    spec,600,A-1,-12.5,10.25\n\
+                    phot,7200,A-2,90,359.5\n\
+                    cam,0,\"A,3\",-90,0\n";
+        assert_eq!(
+            parse(text).unwrap(),
+            vec![
+                target("A-1", 10.25, -12.5, 600.0, 1),
+                target("A-2", 359.5, 90.0, 7200.0, 2),
+                target("A,3", 0.0, -90.0, 0.0, 0),
+            ]
+        );
+    }
+
+    #[test]
+    fn missing_instrument_column_or_cell_means_the_first_instrument() {
+        let text = "id,ra_deg,dec_deg,duration_s\nA,1,2,3\n";
+        assert_eq!(parse(text).unwrap(), vec![target("A", 1.0, 2.0, 3.0, 0)]);
+        let text = "id,ra_deg,dec_deg,duration_s,instrument\nA,1,2,3,\nB,4,5,6,  phot \n";
+        assert_eq!(
+            parse(text).unwrap(),
+            vec![target("A", 1.0, 2.0, 3.0, 0), target("B", 4.0, 5.0, 6.0, 2)]
+        );
+    }
+
+    #[test]
+    fn crlf_and_byte_order_mark_are_accepted() {
+        let text =
+            "\u{feff}id,ra_deg,dec_deg,duration_s,instrument\r\nA,1,2,3,spec\r\nB,4,5,6,cam\r\n";
+        assert_eq!(
+            parse(text).unwrap(),
+            vec![target("A", 1.0, 2.0, 3.0, 1), target("B", 4.0, 5.0, 6.0, 0)]
+        );
+        // The line numbers still count CRLF lines once each.
+        let text = "\u{feff}# c\r\nid,ra_deg,dec_deg,duration_s\r\nA,1,2,3\r\nB,400,2,3\r\n";
+        let shown = error_at(text, 4, 2);
+        assert!(
+            shown.contains("`ra_deg` is 400, outside [0, 360)"),
+            "{shown}"
+        );
+    }
+
+    #[test]
+    fn comments_and_blank_lines_count_as_lines_not_rows() {
+        let text = "# targets\n\nid,ra_deg,dec_deg,duration_s\n# first\nA,1,2,3\n\n,,,\nB,1,95,3\n";
+        let shown = error_at(text, 8, 2);
+        assert!(
+            shown.contains("`dec_deg` is 95, outside [-90, 90]"),
+            "{shown}"
+        );
+    }
+
+    #[test]
+    fn ra_outside_0_to_360_is_refused() {
+        let h = "id,ra_deg,dec_deg,duration_s\nA,0,0,1\n";
+        let shown = error_at(&format!("{h}B,360,0,1\n"), 3, 2);
+        assert!(
+            shown.contains("`ra_deg` is 360, outside [0, 360)"),
+            "{shown}"
+        );
+        let shown = error_at(&format!("{h}B,-0.5,0,1\n"), 3, 2);
+        assert!(shown.contains("`ra_deg` is -0.5, outside"), "{shown}");
+        // Just inside the range is fine.
+        assert_eq!(parse(&format!("{h}B,359.9999,0,1\n")).unwrap().len(), 2);
+    }
+
+    #[test]
+    fn dec_outside_minus_90_to_90_is_refused() {
+        let h = "id,ra_deg,dec_deg,duration_s\n";
+        let shown = error_at(&format!("{h}A,10,-90.001,1\n"), 2, 1);
+        assert!(
+            shown.contains("`dec_deg` is -90.001, outside [-90, 90]"),
+            "{shown}"
+        );
+        let shown = error_at(&format!("{h}A,10,91,1\n"), 2, 1);
+        assert!(shown.contains("`dec_deg` is 91"), "{shown}");
+    }
+
+    #[test]
+    fn negative_durations_are_refused() {
+        let shown = error_at("id,ra_deg,dec_deg,duration_s\nA,10,0,-1\n", 2, 1);
+        assert!(shown.contains("`duration_s` is -1, negative"), "{shown}");
+    }
+
+    #[test]
+    fn non_finite_values_are_refused_in_every_column() {
+        let h = "id,ra_deg,dec_deg,duration_s\n";
+        for (row, column) in [
+            ("A,NaN,0,1", "ra_deg"),
+            ("A,nan,0,1", "ra_deg"),
+            ("A,1,inf,1", "dec_deg"),
+            ("A,1,-infinity,1", "dec_deg"),
+            ("A,1,0,inf", "duration_s"),
+            ("A,1,0,1e999", "duration_s"),
+        ] {
+            let shown = error_at(&format!("{h}{row}\n"), 2, 1);
+            assert!(
+                shown.contains(&format!("`{column}` value"))
+                    && shown.contains("not a finite number"),
+                "{row}: {shown}"
+            );
+        }
+    }
+
+    #[test]
+    fn bad_and_empty_numbers_are_refused() {
+        let h = "id,ra_deg,dec_deg,duration_s\nA,1,2,3\n";
+        let shown = error_at(&format!("{h}B,1.2.3,0,1\n"), 3, 2);
+        assert!(
+            shown.contains("`ra_deg` value `1.2.3` is not a number"),
+            "{shown}"
+        );
+        let shown = error_at(&format!("{h}B,1,0,ten\n"), 3, 2);
+        assert!(
+            shown.contains("`duration_s` value `ten` is not a number"),
+            "{shown}"
+        );
+        let shown = error_at(&format!("{h}B,1,,1\n"), 3, 2);
+        assert!(shown.contains("`dec_deg` is empty"), "{shown}");
+    }
+
+    #[test]
+    fn duplicate_ids_name_both_rows() {
+        let text = "id,ra_deg,dec_deg,duration_s\nA,1,2,3\nB,1,2,3\n#\nA,4,5,6\n";
+        let shown = error_at(text, 5, 3);
+        assert!(
+            shown.contains("duplicate id `A`: row 1 (line 2) has it too"),
+            "{shown}"
+        );
+    }
+
+    #[test]
+    fn empty_ids_are_refused() {
+        let shown = error_at("id,ra_deg,dec_deg,duration_s\n  ,1,2,3\n", 2, 1);
+        assert!(shown.contains("`id` is empty"), "{shown}");
+    }
+
+    #[test]
+    fn unknown_instruments_list_the_known_ones() {
+        let text = "id,ra_deg,dec_deg,duration_s,instrument\nA,1,2,3,cam\nB,1,2,3,Cam\n";
+        let shown = error_at(text, 3, 2);
+        assert!(
+            shown.contains("unknown instrument `Cam`; the profile knows `cam`, `spec`, `phot`"),
+            "{shown}"
+        );
+    }
+
+    #[test]
+    fn a_profile_without_instruments_is_an_error_not_a_panic() {
+        let mut p = profile();
+        p.instruments.clear();
+        let e = parse_targets("id,ra_deg,dec_deg,duration_s\nA,1,2,3\n", "t.csv", &p).unwrap_err();
+        assert_eq!((e.line, e.row), (2, 1));
+        assert!(e.message.contains("no instruments"), "{e}");
+    }
+
+    #[test]
+    fn empty_files_are_refused() {
+        for text in ["", "\u{feff}", "\n\n", "# only a comment\r\n", " , \n"] {
+            let e = parse(text).unwrap_err();
+            assert_eq!((e.line, e.row), (0, 0), "{text:?}");
+            let shown = e.to_string();
+            assert!(
+                shown.starts_with("t.csv: the file is empty: expected a header row"),
+                "{shown}"
+            );
+        }
+        let shown = error_at("# c\nid,ra_deg,dec_deg,duration_s\n\n", 2, 0);
+        assert!(
+            shown.contains("no targets: the file has a header but no data rows"),
+            "{shown}"
+        );
+    }
+
+    #[test]
+    fn missing_required_columns_are_named() {
+        let shown = error_at("id,dec_deg\nA,1\n", 1, 0);
+        assert!(
+            shown.contains("lacks the required columns `ra_deg`, `duration_s`"),
+            "{shown}"
+        );
+        let shown = error_at("\n\nid,ra_deg,dec_deg\n", 3, 0);
+        assert!(
+            shown.contains("lacks the required column `duration_s`;"),
+            "{shown}"
+        );
+    }
+
+    #[test]
+    fn unknown_empty_and_repeated_columns_are_refused() {
+        let shown = error_at(
+            "id,ra_deg,dec_deg,duration_s,instrumnet\nA,1,2,3,cam\n",
+            1,
+            0,
+        );
+        assert!(
+            shown.contains("unknown column `instrumnet` (column 5)"),
+            "{shown}"
+        );
+        assert!(shown.contains("`instrument` (optional)"), "{shown}");
+        let shown = error_at("id,ra_deg,dec_deg,duration_s,\nA,1,2,3,\n", 1, 0);
+        assert!(shown.contains("column 5 has no name"), "{shown}");
+        let shown = error_at("id,ra_deg,id,dec_deg,duration_s\n", 1, 0);
+        assert!(
+            shown.contains("column `id` appears twice (columns 1 and 3)"),
+            "{shown}"
+        );
+        // A file that starts with data, without a header.
+        let shown = error_at("A,1,2,3\n", 1, 0);
+        assert!(shown.contains("unknown column `A` (column 1)"), "{shown}");
+    }
+
+    #[test]
+    fn rows_with_the_wrong_number_of_fields_are_refused() {
+        let h = "id,ra_deg,dec_deg,duration_s\n";
+        let shown = error_at(&format!("{h}A,1,2\n"), 2, 1);
+        assert!(
+            shown.contains("3 fields, but the header has 4 columns"),
+            "{shown}"
+        );
+        let shown = error_at(&format!("{h}A,1,2,3,4\n"), 2, 1);
+        assert!(
+            shown.contains("5 fields, but the header has 4 columns"),
+            "{shown}"
+        );
+    }
+
+    #[test]
+    fn read_targets_names_the_path() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("pool.csv");
+        std::fs::write(&path, "id,ra_deg,dec_deg,duration_s\nA,1,2,3\nB,1,-100,3\n").unwrap();
+        let e = read_targets(&path, &profile()).unwrap_err();
+        assert_eq!(e.source_name, path.display().to_string());
+        assert_eq!((e.line, e.row), (3, 2));
+
+        std::fs::write(&path, b"id,ra_deg,dec_deg,duration_s\nA\xff,1,2,3\n").unwrap();
+        let e = read_targets(&path, &profile()).unwrap_err();
+        assert_eq!(e.line, 2);
+        assert!(e.message.contains("not UTF-8"), "{e}");
+
+        let missing = dir.path().join("absent.csv");
+        let e = read_targets(&missing, &profile()).unwrap_err();
+        assert!(e
+            .to_string()
+            .starts_with(&format!("{}: cannot read the file", missing.display())));
+
+        std::fs::write(&path, "id,ra_deg,dec_deg,duration_s\nA,1,2,3\n").unwrap();
+        assert_eq!(
+            read_targets(&path, &profile()).unwrap(),
+            vec![target("A", 1.0, 2.0, 3.0, 0)]
+        );
+    }
+
+    const GOOD: &str = "id,ra_deg,dec_deg,duration_s,instrument\nA,1,2,3,cam\nB,4.5,-6,700,spec\n";
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(512))]
+
+        #[test]
+        fn random_text_never_panics(text in "[ -~\t\r\n\u{feff}é]{0,200}") {
+            let _ = parse(&text);
+        }
+
+        #[test]
+        fn random_bytes_never_panic(bytes in proptest::collection::vec(any::<u8>(), 0..300)) {
+            let _ = parse(&String::from_utf8_lossy(&bytes));
+        }
+
+        #[test]
+        fn edited_files_never_panic(at in 0usize..GOOD.len(), insert in "[-,0-9.eEinfa\"#\r\n ]{0,6}") {
+            let mut text = GOOD.to_string();
+            let mut at = at;
+            while !text.is_char_boundary(at) { at -= 1; }
+            text.insert_str(at, &insert);
+            let _ = parse(&text);
+        }
+    }
+}
