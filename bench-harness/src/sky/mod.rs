@@ -49,3 +49,12 @@ fn line_of(text: &str, offset: usize) -> usize {
         .filter(|&&b| b == b'\n')
         .count()
 }
+
+/// `:LINE` for an error message, or nothing for line 0 (an error not tied to one line).
+fn line_part(line: usize) -> String {
+    if line == 0 {
+        String::new()
+    } else {
+        format!(":{line}")
+    }
+}

@@ -52,7 +52,7 @@ use wend::sky::{Instrument, Profile};
 /// Displayed as `{source_name}:{line}: {key}: {message}`; the line part is left out when
 /// `line == 0` and the key part when `key` is empty.
 #[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
-#[error("{source_name}{}: {}{message}", line_part(*.line), key_part(.key))]
+#[error("{source_name}{}: {}{message}", super::line_part(*.line), key_part(.key))]
 pub struct ProfileError {
     /// The file name (or other label) the text came from.
     pub source_name: String,
@@ -63,14 +63,6 @@ pub struct ProfileError {
     pub key: String,
     /// What was expected and what was found.
     pub message: String,
-}
-
-fn line_part(line: usize) -> String {
-    if line == 0 {
-        String::new()
-    } else {
-        format!(":{line}")
-    }
 }
 
 fn key_part(key: &str) -> String {

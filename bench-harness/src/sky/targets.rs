@@ -35,7 +35,7 @@ use wend::sky::{Profile, Target};
 /// Displayed as `{source_name}:{line}: row {row}: {message}`; the line part is left out when
 /// `line == 0` and the row part when `row == 0`.
 #[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
-#[error("{source_name}{}: {}{message}", line_part(*.line), row_part(*.row))]
+#[error("{source_name}{}: {}{message}", super::line_part(*.line), row_part(*.row))]
 pub struct TargetsError {
     /// The file name (or other label) the text came from.
     pub source_name: String,
@@ -46,14 +46,6 @@ pub struct TargetsError {
     pub row: usize,
     /// What was expected and what was found.
     pub message: String,
-}
-
-fn line_part(line: usize) -> String {
-    if line == 0 {
-        String::new()
-    } else {
-        format!(":{line}")
-    }
 }
 
 fn row_part(row: usize) -> String {
