@@ -98,3 +98,4 @@ pub mod geometry;
 pub mod momentum;
 pub mod slew;
 pub mod sun;
+pub mod visibility;
