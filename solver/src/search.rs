@@ -1,6 +1,5 @@
 //! What the searches share: the stop handle, improvement reports and stop reasons, starting
-//! tours, seeds, threads, and the restarts of the `2opt` baseline ([`Restart`]: construction
-//! plus local search, one restart a run of the loop owner, [`crate::drive`]).
+//! tours, seeds and threads.
 //!
 //! Restart `r` draws its random numbers from a generator seeded by (seed, r) alone, and the
 //! answer is the best result by (length, restart index). So the answer does not depend on which
@@ -11,10 +10,6 @@
 use crate::candidates::Neighbours;
 use crate::construct;
 use crate::cost::Cost;
-use crate::drive::Iterative;
-use crate::improve::two_opt_or_opt;
-use crate::tour::closed_length;
-use crate::tour::ArrayTour;
 use rand::Rng;
 use rand_pcg::Pcg64;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -88,50 +83,6 @@ pub enum StopReason {
     IterationBudget,
     /// Runs of an iterated search ended after too many kicks in a row without improvement.
     StallLimit,
-}
-
-/// One restart: a starting tour taken to a local optimum of 2-opt and Or-opt when it starts.
-/// It has no steps: under [`crate::drive::drive`] each run is one restart, and the loop owner
-/// runs them in parallel under the limits.
-pub(crate) struct Restart {
-    order: Vec<usize>,
-    length: i64,
-}
-
-impl Restart {
-    /// Restart `r`: the starting tour of `start` from `rng`, improved unless `should_stop`
-    /// (restart 0 always yields a tour, even when the deadline comes first; it is then a
-    /// partly improved one).
-    pub(crate) fn start<C: Cost + ?Sized>(
-        cost: &C,
-        nb: &Neighbours,
-        start: Start,
-        r: usize,
-        rng: &mut Pcg64,
-        should_stop: &mut dyn FnMut() -> bool,
-    ) -> Restart {
-        let mut tour = ArrayTour::new(start_tour(cost, nb, start, r, rng));
-        two_opt_or_opt(cost, nb, &mut tour, should_stop);
-        let order = tour.into_order();
-        let length = closed_length(cost, &order).unwrap_or(i64::MAX);
-        Restart { order, length }
-    }
-}
-
-impl Iterative for Restart {
-    fn step(&mut self, _: &mut Pcg64, _: &mut dyn FnMut() -> bool) {}
-
-    fn best_length(&self) -> i64 {
-        self.length
-    }
-
-    fn best_order(&self) -> Vec<usize> {
-        self.order.clone()
-    }
-
-    fn finished(&self) -> bool {
-        true
-    }
 }
 
 /// Runs `worker` once on each of `threads` threads (on this thread alone when `threads <= 1` or

@@ -6,13 +6,15 @@ use crate::assignment::{assignment_bound, patch_cover};
 use crate::candidates::{candidates, CandidateSource, Neighbours};
 use crate::construct;
 use crate::cost::{Cost, CostError, FnCost, MatrixCost};
-use crate::drive::{drive, LoopPlan};
+use crate::drive::{drive, Iterative, LoopPlan};
 use crate::ends::{path_length, EndedCost, Ends, EndsError};
 use crate::exact;
+use crate::improve::two_opt_or_opt;
 use crate::lk::{self, LkParams, LkPlan};
-use crate::search::{self, Improvement, Restart, Start, StopHandle, StopReason};
-use crate::tour::{closed_length, Layout, Overflow, Tour};
+use crate::search::{self, start_tour, Improvement, Start, StopHandle, StopReason};
+use crate::tour::{closed_length, ArrayTour, Layout, Overflow, Tour};
 use crate::twin::{TwinCost, TwinTooLarge};
+use rand_pcg::Pcg64;
 use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
@@ -722,6 +724,50 @@ impl<C: Cost> Solver<C> {
                 other => other,
             },
         }
+    }
+}
+
+/// One restart: a starting tour taken to a local optimum of 2-opt and Or-opt when it starts.
+/// It has no steps: under [`crate::drive::drive`] each run is one restart, and the loop owner
+/// runs them in parallel under the limits.
+struct Restart {
+    order: Vec<usize>,
+    length: i64,
+}
+
+impl Restart {
+    /// Restart `r`: the starting tour of `start` from `rng`, improved unless `should_stop`
+    /// (restart 0 always yields a tour, even when the deadline comes first; it is then a
+    /// partly improved one).
+    fn start<C: Cost + ?Sized>(
+        cost: &C,
+        nb: &Neighbours,
+        start: Start,
+        r: usize,
+        rng: &mut Pcg64,
+        should_stop: &mut dyn FnMut() -> bool,
+    ) -> Restart {
+        let mut tour = ArrayTour::new(start_tour(cost, nb, start, r, rng));
+        two_opt_or_opt(cost, nb, &mut tour, should_stop);
+        let order = tour.into_order();
+        let length = closed_length(cost, &order).unwrap_or(i64::MAX);
+        Restart { order, length }
+    }
+}
+
+impl Iterative for Restart {
+    fn step(&mut self, _: &mut Pcg64, _: &mut dyn FnMut() -> bool) {}
+
+    fn best_length(&self) -> i64 {
+        self.length
+    }
+
+    fn best_order(&self) -> Vec<usize> {
+        self.order.clone()
+    }
+
+    fn finished(&self) -> bool {
+        true
     }
 }
 
