@@ -787,13 +787,8 @@ impl<C: Cost + ?Sized> Iterative for Annealer<'_, C> {
         self.best_length
     }
 
-    /// The best tour, walked from node 0.
     fn best_order(&self) -> Vec<usize> {
-        let mut order = self.best.clone();
-        if let Some(p) = order.iter().position(|&v| v == 0) {
-            order.rotate_left(p);
-        }
-        order
+        self.best.clone()
     }
 
     /// Too small for the moves (then already optimal), no candidates, or an overflowing

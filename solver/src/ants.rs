@@ -1132,13 +1132,8 @@ impl<C: Cost + ?Sized> Iterative for Colony<'_, C> {
         self.best_length
     }
 
-    /// The best tour so far, from node 0.
     fn best_order(&self) -> Vec<usize> {
-        let mut order = self.best.clone();
-        if let Some(p) = order.iter().position(|&v| v == 0) {
-            order.rotate_left(p);
-        }
-        order
+        self.best.clone()
     }
 
     /// Fewer than three nodes: there is one tour only.

@@ -188,17 +188,22 @@ mod tests {
     use crate::exact::dynamic_programme;
     use proptest::prelude::*;
 
-    // A hand-checked case: the cheapest cover of 0 -> 1 -> 0 (1 + 1) and 2 -> 3 -> 2 (1 + 1) costs
-    // 4, while every tour must leave the pair {0, 1} once at cost 10 and come back once at 10.
-    #[test]
-    fn two_cheap_pairs_give_a_cover_of_two_cycles() {
-        let rows = vec![
+    /// Two pairs of nodes 1 apart, 10 between the pairs.
+    fn two_cheap_pairs() -> MatrixCost {
+        MatrixCost::from_rows(&[
             vec![0, 1, 10, 10],
             vec![1, 0, 10, 10],
             vec![10, 10, 0, 1],
             vec![10, 10, 1, 0],
-        ];
-        let c = MatrixCost::from_rows(&rows).unwrap();
+        ])
+        .unwrap()
+    }
+
+    // A hand-checked case: the cheapest cover of 0 -> 1 -> 0 (1 + 1) and 2 -> 3 -> 2 (1 + 1) costs
+    // 4, while every tour must leave the pair {0, 1} once at cost 10 and come back once at 10.
+    #[test]
+    fn two_cheap_pairs_give_a_cover_of_two_cycles() {
+        let c = two_cheap_pairs();
         let b = assignment_bound(&c).unwrap();
         assert_eq!(b.lower_bound, 4);
         assert_eq!(b.cycles, 2);
@@ -219,13 +224,7 @@ mod tests {
     // one tour by exchanging one successor from each pair: 1 + 10 + 1 + 10 = 22, the optimum.
     #[test]
     fn two_cycles_are_patched_into_the_optimal_tour() {
-        let rows = vec![
-            vec![0, 1, 10, 10],
-            vec![1, 0, 10, 10],
-            vec![10, 10, 0, 1],
-            vec![10, 10, 1, 0],
-        ];
-        let c = MatrixCost::from_rows(&rows).unwrap();
+        let c = two_cheap_pairs();
         let order = patch_cover(&c, &[1, 0, 3, 2]);
         assert_eq!(crate::tour::closed_length(&c, &order), Ok(22));
         assert_eq!(order[0], 0);
