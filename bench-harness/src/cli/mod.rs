@@ -6,6 +6,7 @@ mod demo;
 mod generate;
 mod measure;
 mod progress;
+mod sky;
 mod solve;
 
 use clap::{Parser, Subcommand};
@@ -33,6 +34,9 @@ enum Command {
     Generate(generate::GenerateArgs),
     /// Run a seeded sweep of methods over instances and report gaps and times.
     Bench(bench::BenchArgs),
+    /// Observing plans for a sunshield space telescope: `wend sky plan` (planning proposals
+    /// to be confirmed by the operations team's validated tools).
+    Sky(sky::SkyArgs),
 }
 
 /// Runs one command.
@@ -44,6 +48,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
         Command::Bench(a) => bench::run(a),
         Command::Generate(a) => generate::run(a),
         Command::Bound(a) => bound::run(a),
+        Command::Sky(a) => sky::run(a),
     }
 }
 

@@ -18,6 +18,8 @@
 //! functions panic.
 
 pub mod demo;
+pub mod draw;
+pub mod output;
 pub mod profile;
 pub mod targets;
 

@@ -96,6 +96,8 @@ pub struct Profile {
 
 pub mod geometry;
 pub mod momentum;
+pub mod plan;
+pub mod schedule;
 pub mod slew;
 pub mod sun;
 pub mod visibility;

@@ -6,6 +6,7 @@
 //! instrument-change time (sky model, sections 5 and 6). Costs are asymmetric because of the
 //! last two. Angles are degrees, times seconds.
 
+use rayon::prelude::*;
 use thiserror::Error;
 
 use super::geometry::{eigen_axis_angle_deg, solar_pitch_deg, unit_vector, Attitude, Vec3};
@@ -136,7 +137,7 @@ impl Pointing {
 }
 
 /// Checks the profile's slew limits, time constants and setup table.
-fn check_profile(profile: &Profile) -> Result<(), CostError> {
+pub(crate) fn check_profile(profile: &Profile) -> Result<(), CostError> {
     if slew_time_s(0.0, profile.slew_rate_deg_s, profile.slew_accel_deg_s2).is_none() {
         return Err(CostError::SlewLimits {
             rate_deg_s: profile.slew_rate_deg_s,
@@ -168,7 +169,7 @@ fn check_profile(profile: &Profile) -> Result<(), CostError> {
 }
 
 /// The directed cost `c(i→j)` with a profile already checked and instruments in range.
-fn cost_checked_s(profile: &Profile, from: &Pointing, to: &Pointing) -> f64 {
+pub(crate) fn cost_checked_s(profile: &Profile, from: &Pointing, to: &Pointing) -> f64 {
     let angle = eigen_axis_angle_deg(&from.attitude, &to.attitude);
     let slew =
         slew_time_s(angle, profile.slew_rate_deg_s, profile.slew_accel_deg_s2).unwrap_or(f64::NAN);
@@ -239,24 +240,28 @@ pub fn cost_matrix_ms_with_sun(
         pointings.push(p);
     }
     let mut m = vec![vec![0i64; targets.len()]; targets.len()];
-    for (i, row) in m.iter_mut().enumerate() {
-        for (j, cell) in row.iter_mut().enumerate() {
-            if i == j {
-                continue;
+    // Rows are independent: built in parallel, the first bad cell (by row) reported.
+    m.par_iter_mut()
+        .enumerate()
+        .try_for_each(|(i, row)| -> Result<(), CostError> {
+            for (j, cell) in row.iter_mut().enumerate() {
+                if i == j {
+                    continue;
+                }
+                let cost_s = cost_checked_s(profile, &pointings[i], &pointings[j]);
+                let ms = (cost_s * 1000.0).round();
+                // i64::MAX is about 9.22e18; stay clearly inside it.
+                if !(ms.is_finite() && ms.abs() < 9.0e18) {
+                    return Err(CostError::TooLarge {
+                        from: i,
+                        to: j,
+                        cost_s,
+                    });
+                }
+                *cell = ms as i64;
             }
-            let cost_s = cost_checked_s(profile, &pointings[i], &pointings[j]);
-            let ms = (cost_s * 1000.0).round();
-            // i64::MAX is about 9.22e18; stay clearly inside it.
-            if !(ms.is_finite() && ms.abs() < 9.0e18) {
-                return Err(CostError::TooLarge {
-                    from: i,
-                    to: j,
-                    cost_s,
-                });
-            }
-            *cell = ms as i64;
-        }
-    }
+            Ok(())
+        })?;
     Ok(m)
 }
 

@@ -53,6 +53,12 @@ impl Epoch {
         })
     }
 
+    /// The Unix time (seconds since 1970-01-01T00:00:00 UTC, leap seconds not counted) of
+    /// this epoch: the inverse of [`Epoch::from_unix_seconds`].
+    pub fn to_unix_seconds(self) -> f64 {
+        (self.jd - UNIX_EPOCH_JD) * SECONDS_PER_DAY - TT_MINUS_UTC_S
+    }
+
     /// Days since J2000.0 (`n = JD(TT) − 2451545.0`).
     pub fn days_since_j2000(self) -> f64 {
         self.jd - J2000_JD

@@ -1,0 +1,472 @@
+//! From a pool of targets to a checked observing plan: the minimum-overhead order through the
+//! core's asymmetric open-path search, played out in real time with repairs
+//! ([`Context::simulate`]), beside a nearest-neighbour order played out the same way, so that
+//! every plan says how much the search saved.
+//!
+//! The order is searched on the cost matrix of the Sun at the plan start (the costs change
+//! slowly with the Sun, about a degree of solar pitch a day); the simulation then uses the
+//! Sun of each moment.
+//!
+//! **Caution.** A planning aid: plans are proposals to be confirmed by the operations team's
+//! validated tools.
+
+use std::time::{Duration, Instant};
+
+use super::schedule::{Context, PlanError, Runner, Schedule};
+use super::slew::cost_matrix_ms;
+use super::{Epoch, Profile, Target};
+use crate::{Ends, Method, SolveError, Solver, StopHandle};
+
+/// How to plan.
+#[derive(Clone, Debug)]
+pub struct PlanOptions {
+    /// Plan start.
+    pub start: Epoch,
+    /// Length of the horizon, days.
+    pub horizon_days: f64,
+    /// Time for the order search; `None` for [`default_time_limit`].
+    pub time_limit: Option<Duration>,
+    /// Seed of the search.
+    pub seed: u64,
+    /// Threads of the search; `None` for one per core.
+    pub threads: Option<usize>,
+    /// The core method that searches the order.
+    pub method: Method,
+    /// Stops the search early; the plan is then made from the best order so far.
+    pub stop: StopHandle,
+}
+
+impl PlanOptions {
+    /// Defaults: a 14-day horizon from `start`, the default time limit, seed 0, `lk`.
+    pub fn new(start: Epoch) -> PlanOptions {
+        PlanOptions {
+            start,
+            horizon_days: DEFAULT_HORIZON_DAYS,
+            time_limit: None,
+            seed: 0,
+            threads: None,
+            method: Method::Lk,
+            stop: StopHandle::new(),
+        }
+    }
+}
+
+/// Planning horizon by default, days.
+pub const DEFAULT_HORIZON_DAYS: f64 = 14.0;
+
+/// Search time by default for `n` targets: 2 s, plus a second per hundred targets past two
+/// hundred (5 s at 500 targets, 50 s at 5,000), so that large pools get time in proportion.
+pub fn default_time_limit(n: usize) -> Duration {
+    Duration::from_secs_f64(2.0 + n.saturating_sub(200) as f64 / 100.0)
+}
+
+/// Independent runs of the order search.
+pub const SEARCH_RUNS: usize = 2;
+
+/// Kicks per run of the order search for `n` targets: `max(1000, 2n)`. Small pools end long
+/// before the time limit (the order of the 72 demo targets stops changing after a few hundred
+/// kicks); large ones use the time limit.
+pub fn search_iterations(n: usize) -> u64 {
+    (2 * n as u64).max(1000)
+}
+
+/// Why planning failed.
+#[derive(Debug, thiserror::Error)]
+pub enum PlanFailure {
+    /// Inputs the model refuses.
+    #[error(transparent)]
+    Input(#[from] PlanError),
+    /// The core search failed.
+    #[error(transparent)]
+    Solve(#[from] SolveError),
+    /// The cost matrix could not be built.
+    #[error(transparent)]
+    Cost(#[from] super::slew::CostError),
+}
+
+/// A plan and what it is measured against.
+#[derive(Clone, Debug)]
+pub struct Plan {
+    /// The searched order played out with repairs.
+    pub schedule: Schedule,
+    /// The nearest neighbour in time from the same first target: each time the cheapest
+    /// target (on the costs of the plan start) among those that fit now.
+    pub baseline: Schedule,
+    /// The whole-horizon order (pool indices), before repairs.
+    pub order: Vec<usize>,
+    /// Which strategy made the plan's first order.
+    pub strategy: Strategy,
+    /// True when re-searching that order stage by stage improved it (see [`Plan::schedule`]).
+    pub polished: bool,
+    /// Its cost on the matrix of the Sun at the plan start, seconds.
+    pub order_cost_s: f64,
+    /// The cost of a nearest-neighbour path through the same targets on the same matrix,
+    /// seconds.
+    pub baseline_cost_s: f64,
+    /// Seconds spent on cost matrices, searches and simulations of both strategies.
+    pub search_seconds: f64,
+    /// Wall-clock seconds of the whole planning.
+    pub seconds: f64,
+}
+
+/// Length of a stage of the rolling planner, days: after this much plan time the remaining
+/// targets are searched again from where the telescope is.
+pub const STAGE_DAYS: f64 = 1.0;
+/// A stage's search takes the targets whose windows close first, up to this many days of
+/// dwell (twice a stage, so that the search has a choice of what to leave for later).
+pub const STAGE_FILL_DAYS: f64 = 2.0;
+
+/// How the plan's order was made.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Strategy {
+    /// One open path through every target on the costs of the plan start, played out with
+    /// repairs.
+    Whole,
+    /// Stage by stage: from where the telescope is, an open path through the targets that
+    /// fit now, those whose windows close first taken first; re-searched every stage.
+    Rolling,
+    /// The nearest neighbour in time (the baseline), when it was the best start.
+    Nearest,
+}
+
+impl Strategy {
+    /// `whole`, `rolling` or `nearest`.
+    pub fn name(self) -> &'static str {
+        match self {
+            Strategy::Whole => "whole",
+            Strategy::Rolling => "rolling",
+            Strategy::Nearest => "nearest",
+        }
+    }
+}
+
+/// An open path through `nodes` (pool indices) on the costs of the Sun at `at`, starting at
+/// `nodes[0]` when `fixed_first`, with `limit` of search; pool indices in path order and the
+/// path's cost in seconds.
+fn search_path(
+    profile: &Profile,
+    targets: &[Target],
+    nodes: &[usize],
+    at: Epoch,
+    fixed_first: bool,
+    limit: Duration,
+    options: &PlanOptions,
+) -> Result<(Vec<usize>, f64, Vec<Vec<i64>>), PlanFailure> {
+    let subset: Vec<Target> = nodes.iter().map(|&i| targets[i].clone()).collect();
+    let m = cost_matrix_ms(profile, &subset, at)?;
+    let local: Vec<usize> = match nodes.len() {
+        0 => Vec::new(),
+        1 => vec![0],
+        2 if fixed_first || m[0][1] <= m[1][0] => vec![0, 1],
+        2 => vec![1, 0],
+        n => {
+            let ends = if fixed_first {
+                Ends::Start(0)
+            } else {
+                Ends::Open
+            };
+            let mut solver = Solver::from_matrix(&m)?
+                .ends(ends)
+                .restarts(SEARCH_RUNS)
+                .iterations(search_iterations(n))
+                .method(options.method)
+                .seed(options.seed)
+                .time_limit(limit)
+                .stop_handle(options.stop.clone());
+            if let Some(t) = options.threads {
+                solver = solver.threads(t);
+            }
+            solver.solve()?.tour.order().to_vec()
+        }
+    };
+    let cost = path_cost_s(&m, &local);
+    Ok((local.iter().map(|&k| nodes[k]).collect(), cost, m))
+}
+
+/// Nearest neighbour on a full matrix from `first`: the cheapest next target each time.
+fn nearest_order(m: &[Vec<i64>], first: usize) -> Vec<usize> {
+    let n = m.len();
+    let mut used = vec![false; n];
+    let mut order = Vec::with_capacity(n);
+    let mut at = first;
+    used[at] = true;
+    order.push(at);
+    while order.len() < n {
+        let row = &m[at];
+        let next = (0..n)
+            .filter(|&j| !used[j])
+            .min_by_key(|&j| (row[j], j))
+            .unwrap_or(at);
+        used[next] = true;
+        order.push(next);
+        at = next;
+    }
+    order
+}
+
+fn path_cost_s(m: &[Vec<i64>], order: &[usize]) -> f64 {
+    order
+        .windows(2)
+        .map(|w| m[w[0]][w[1]] as f64 / 1000.0)
+        .sum()
+}
+
+/// The rolling planner (see [`Strategy::Rolling`]); `limit` is the search time of the whole
+/// horizon, shared out by stage.
+fn rolling(
+    ctx: &Context,
+    candidates: &[usize],
+    options: &PlanOptions,
+    limit: Duration,
+) -> Result<Schedule, PlanFailure> {
+    let profile = ctx.profile();
+    let targets = ctx.targets();
+    let stages = (options.horizon_days / STAGE_DAYS).ceil().max(1.0);
+    let stage_limit = Duration::from_secs_f64((limit.as_secs_f64() / stages).max(0.05));
+    let mut run = Runner::new(ctx);
+    let mut left: Vec<usize> = candidates.to_vec();
+    loop {
+        left.retain(|&j| !run.dropped(j));
+        if left.is_empty() || options.stop.is_stopped() {
+            break;
+        }
+        let now = run.now();
+        let mut fit: Vec<(f64, usize)> = left
+            .iter()
+            .filter(|&&j| run.may_fit_soon(j))
+            .map(|&j| (run.window_closes(j).map_or(f64::INFINITY, |e| e.jd), j))
+            .collect();
+        if fit.is_empty() {
+            if !run.wait_for_opening(&left) {
+                break;
+            }
+            continue;
+        }
+        fit.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+        let mut nodes: Vec<usize> = run.last().into_iter().collect();
+        let mut dwell_days = 0.0;
+        for &(_, j) in &fit {
+            if dwell_days >= STAGE_FILL_DAYS {
+                break;
+            }
+            nodes.push(j);
+            dwell_days += targets[j].duration_s / 86_400.0;
+        }
+        let fixed = run.last().is_some();
+        let (path, _, _) = search_path(profile, targets, &nodes, now, fixed, stage_limit, options)?;
+        let queue: Vec<usize> = if fixed { path[1..].to_vec() } else { path };
+        let until = now.jd + STAGE_DAYS;
+        let before = run.scheduled();
+        let mut skipped: Vec<usize> = Vec::new();
+        let mut queue = queue.into_iter();
+        while run.now().jd < until {
+            let mut step = run.first_fitting(&mut skipped, true);
+            while step.is_none() {
+                let Some(j) = queue.next() else { break };
+                step = run.try_target(j);
+                if step.is_none() && !run.dropped(j) {
+                    skipped.push(j);
+                }
+            }
+            match step {
+                Some(s) => run.commit(s),
+                None => break,
+            }
+        }
+        if run.scheduled() == before && !run.wait_for_opening(&left) {
+            break;
+        }
+    }
+    Ok(run.finish(&left))
+}
+
+/// Nearest neighbour in time: from `first`, each time the target of lowest cost (on the
+/// costs of the plan start, row of the last target) among those that fit now, waiting for the
+/// next window when none does.
+fn nearest_in_time(ctx: &Context, candidates: &[usize], m: &[Vec<i64>], first: usize) -> Schedule {
+    let mut run = Runner::new(ctx);
+    // Position of each pool index in `candidates` (the rows and columns of `m`).
+    let mut at = vec![usize::MAX; ctx.targets().len()];
+    for (k, &j) in candidates.iter().enumerate() {
+        at[j] = k;
+    }
+    let mut next: Option<usize> = Some(first);
+    loop {
+        let chosen = match next.take() {
+            Some(j) => run.try_target(j),
+            None => {
+                let mut by_cost: Vec<usize> = candidates
+                    .iter()
+                    .copied()
+                    .filter(|&j| run.may_fit_soon(j))
+                    .collect();
+                if let Some(last) = run.last() {
+                    let row = &m[at[last]];
+                    by_cost.sort_by_key(|&j| (row[at[j]], j));
+                }
+                by_cost.into_iter().find_map(|j| run.try_target(j))
+            }
+        };
+        match chosen {
+            Some(step) => run.commit(step),
+            None => {
+                if !run.wait_for_opening(candidates) {
+                    break;
+                }
+            }
+        }
+    }
+    let left: Vec<usize> = candidates
+        .iter()
+        .copied()
+        .filter(|&j| !run.dropped(j))
+        .collect();
+    run.finish(&left)
+}
+
+/// Re-searches the order of `schedule`'s observations stage by stage (the observations that
+/// start within each [`STAGE_DAYS`], from the last target of the stage before, on the costs of
+/// the Sun at the stage's first start) and plays the new order out with repairs.
+fn polish(
+    ctx: &Context,
+    schedule: &Schedule,
+    options: &PlanOptions,
+    limit: Duration,
+) -> Result<Schedule, PlanFailure> {
+    let obs = &schedule.observations;
+    let stages = (options.horizon_days / STAGE_DAYS).ceil().max(1.0);
+    let stage_limit = Duration::from_secs_f64((limit.as_secs_f64() / stages).max(0.05));
+    let mut order: Vec<usize> = Vec::with_capacity(obs.len());
+    let mut k = 0;
+    while k < obs.len() {
+        let stage_end = obs[k].start.jd + STAGE_DAYS;
+        let mut nodes: Vec<usize> = order.last().copied().into_iter().collect();
+        let fixed = !nodes.is_empty();
+        let at = obs[k].start;
+        while k < obs.len() && obs[k].start.jd < stage_end {
+            nodes.push(obs[k].target);
+            k += 1;
+        }
+        let (path, _, _) = search_path(
+            ctx.profile(),
+            ctx.targets(),
+            &nodes,
+            at,
+            fixed,
+            stage_limit,
+            options,
+        )?;
+        order.extend(if fixed { &path[1..] } else { &path[..] });
+    }
+    Ok(ctx.simulate(&order)?)
+}
+
+/// Lists every candidate that `schedule` neither observes nor lists, with its reason.
+fn complete(ctx: &Context, schedule: &mut Schedule, candidates: &[usize]) {
+    let mut listed = vec![false; ctx.targets().len()];
+    for o in &schedule.observations {
+        listed[o.target] = true;
+    }
+    for u in &schedule.unscheduled {
+        listed[u.target] = true;
+    }
+    for &j in candidates {
+        if !listed[j] {
+            schedule.unscheduled.push(ctx.left_out(j, schedule.end));
+        }
+    }
+    schedule.unscheduled.sort_by_key(|u| u.target);
+}
+
+/// True when `a` is a better plan than `b`: more observations, then less overhead without
+/// waiting (slews, settling, thermal, setups, dumps), then less waiting. Waiting comes last
+/// because it is set by when the targets enter the band more than by the order: two plans
+/// that end with the same late target have the same total overhead.
+fn better(a: &Schedule, b: &Schedule) -> bool {
+    let busy = |s: &Schedule| s.overhead_s - s.wait_s;
+    match a.observations.len().cmp(&b.observations.len()) {
+        std::cmp::Ordering::Greater => true,
+        std::cmp::Ordering::Less => false,
+        std::cmp::Ordering::Equal => (busy(a), a.wait_s) < (busy(b), b.wait_s),
+    }
+}
+
+/// Plans `targets` for the observatory `profile`: both strategies of [`Strategy`], the
+/// better plan kept (more observations, then less overhead), beside the nearest neighbour in
+/// time from the same first target.
+pub fn plan(
+    profile: &Profile,
+    targets: &[Target],
+    options: &PlanOptions,
+) -> Result<Plan, PlanFailure> {
+    let began = Instant::now();
+    let ctx = Context::new(profile, targets, options.start, options.horizon_days)?;
+    let (candidates, screened) = ctx.screen();
+    let limit = options
+        .time_limit
+        .unwrap_or_else(|| default_time_limit(candidates.len()));
+    // Two fifths of the time for the whole-horizon path, two for the stages, one to polish.
+    let share = limit / 5;
+    let searched = Instant::now();
+    let (order, order_cost_s, m) = search_path(
+        profile,
+        targets,
+        &candidates,
+        options.start,
+        false,
+        share * 2,
+        options,
+    )?;
+    let whole = ctx.simulate(&order)?;
+    let staged = rolling(&ctx, &candidates, options, share * 2)?;
+    let first = [&whole, &staged]
+        .iter()
+        .find_map(|s| s.observations.first().map(|o| o.target));
+    let (baseline, baseline_cost_s) = match first {
+        Some(f) => {
+            let k = candidates.iter().position(|&j| j == f).unwrap_or(0);
+            let local = nearest_order(&m, k);
+            (
+                nearest_in_time(&ctx, &candidates, &m, f),
+                path_cost_s(&m, &local),
+            )
+        }
+        None => (ctx.simulate(&[])?, 0.0),
+    };
+    let mut tried = vec![
+        (whole, Strategy::Whole),
+        (staged, Strategy::Rolling),
+        (baseline.clone(), Strategy::Nearest),
+    ];
+    let mut best = 0;
+    for k in 1..tried.len() {
+        if better(&tried[k].0, &tried[best].0) {
+            best = k;
+        }
+    }
+    let (mut schedule, strategy) = tried.swap_remove(best);
+    let again = polish(&ctx, &schedule, options, share)?;
+    let polished = better(&again, &schedule);
+    if polished {
+        schedule = again;
+    }
+    let search_seconds = searched.elapsed().as_secs_f64();
+    let mut baseline = baseline;
+    complete(&ctx, &mut schedule, &candidates);
+    complete(&ctx, &mut baseline, &candidates);
+    for s in [&mut schedule, &mut baseline] {
+        s.unscheduled.extend(screened.iter().cloned());
+        s.unscheduled.sort_by_key(|u| u.target);
+    }
+    Ok(Plan {
+        order_cost_s,
+        baseline_cost_s,
+        schedule,
+        baseline,
+        order,
+        strategy,
+        polished,
+        search_seconds,
+        seconds: began.elapsed().as_secs_f64(),
+    })
+}
