@@ -18,6 +18,7 @@
 //! functions panic.
 
 pub mod demo;
+pub mod draw;
 pub mod profile;
 pub mod targets;
 
