@@ -1,0 +1,1766 @@
+//! Pictures of a sky plan: the sky map and the momentum trace.
+//!
+//! - [`write_sky_map`]: the whole sky on an equal-area map (J2000 axes), shaded where the
+//!   telescope may not point during the plan, with the targets, the observing sequence and the
+//!   Sun's path.
+//! - [`write_momentum_chart`]: the stored reaction-wheel momentum over the plan, with the wheel
+//!   limit, the planning threshold and the momentum dumps.
+//!
+//! Both are SVG files. Both carry the caller's caution sentence at the bottom: the pictures
+//! illustrate a planning proposal and are no command to a spacecraft.
+//!
+//! Input is checked before anything is drawn: values that are not finite, lengths that do not
+//! match and indices out of range give a [`DrawError`] rather than a panic or a wrong picture.
+//! An empty plan (no targets, no sequence, no momentum samples) still gives a picture.
+
+use plotters::coord::Shift;
+use plotters::element::DashedPathElement;
+use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
+use std::f64::consts::{PI, SQRT_2};
+use std::path::Path;
+use wend::sky::geometry::{separation_deg, unit_vector, Vec3};
+use wend::sky::Target;
+
+/// Why a picture could not be written.
+#[derive(Debug, thiserror::Error)]
+pub enum DrawError {
+    /// The input cannot be drawn faithfully (a value that is not finite or out of its range,
+    /// lengths that do not match, an index past the end). Nothing was written.
+    #[error("cannot draw {path}: {message}")]
+    Input {
+        /// The file that was to be written.
+        path: String,
+        /// What is wrong with the input, naming the offending item.
+        message: String,
+    },
+    /// The picture could not be drawn or the file could not be written.
+    #[error("cannot write {path}: {message}")]
+    Write {
+        /// The file that was to be written.
+        path: String,
+        /// What went wrong.
+        message: String,
+    },
+}
+
+/// What the sky map shows.
+///
+/// The map is the Hammer equal-area projection of the whole sky on J2000 (ICRS) axes: right
+/// ascension 180° at the centre, increasing to the left (longitude on the map
+/// `λ = 180° − RA`, in (−180°, 180°]), so RA 0° is the right edge and RA 360° the left edge;
+/// declination up. Equal areas on the sky are equal areas on the map.
+pub struct SkyMap<'a> {
+    /// Title drawn at the top (wrapped when it is longer than the picture is wide).
+    pub title: &'a str,
+    /// The targets of the pool (right ascension and declination in degrees are drawn; the
+    /// declination must lie in [−90, 90]).
+    pub targets: &'a [Target],
+    /// Per target (same length as `targets`): true when the plan schedules it. Every target in
+    /// `sequence` must be marked true.
+    pub scheduled: &'a [bool],
+    /// The sequence, as indices into `targets`, in observing order. May be empty.
+    pub sequence: &'a [usize],
+    /// The Sun's (right ascension, declination) in degrees on J2000 axes, sampled over the
+    /// plan in time order (first = plan start, last = plan end). At least one point.
+    pub sun_path_deg: &'a [(f64, f64)],
+    /// The elongation band [min, max] in degrees, 0 ≤ min ≤ max ≤ 180: the telescope may only
+    /// point with the angle to the Sun inside it.
+    pub band_deg: (f64, f64),
+    /// A caution sentence that appears at the bottom of the picture (wrapped to its width).
+    /// Must not be blank.
+    pub caution: &'a str,
+}
+
+/// What the momentum chart shows.
+pub struct MomentumTrace<'a> {
+    /// Title drawn at the top (wrapped when it is longer than the picture is wide).
+    pub title: &'a str,
+    /// (hours since plan start, |H| in N·m·s) samples in time order (hours never decrease,
+    /// both values finite and at least 0); |H| jumps to 0 at a dump (two points at the same
+    /// hour). May be empty (an empty plan).
+    pub points: &'a [(f64, f64)],
+    /// Wheel momentum limit, N·m·s, finite and above 0 (a solid horizontal line, labelled).
+    pub limit_nms: f64,
+    /// Planning threshold (limit times the margin), N·m·s, finite and at least 0 (a dashed
+    /// horizontal line, labelled).
+    pub threshold_nms: f64,
+    /// Hours since plan start (finite, at least 0) at which momentum dumps happen: thin
+    /// vertical markers, and their count in the legend.
+    pub dumps_hours: &'a [f64],
+    /// A caution sentence that appears at the bottom of the picture (wrapped to its width).
+    /// Must not be blank.
+    pub caution: &'a str,
+}
+
+/// Draws `map` as an SVG file at `path` (about 1000×560 px; taller when the title or the
+/// caution needs more lines).
+///
+/// The sky is shaded on a 3°×3° grid of right ascension and declination, each cell judged at
+/// its centre: dark where the angle to the Sun is outside `band_deg` at every sampled Sun
+/// position, light where it is outside at some of them. Sun positions closer than 0.5° to the
+/// previous one kept are skipped, which moves a zone's edge by at most that much.
+///
+/// # Errors
+/// [`DrawError::Input`] when the map cannot be drawn faithfully (see [`SkyMap`] for what each
+/// field must hold); [`DrawError::Write`] when the file cannot be written.
+pub fn write_sky_map(path: &Path, map: &SkyMap) -> Result<(), DrawError> {
+    let name = path.display().to_string();
+    check_sky_map(map).map_err(|message| DrawError::Input {
+        path: name.clone(),
+        message,
+    })?;
+    let svg = render_sky_map(map).map_err(|e| DrawError::Write {
+        path: name.clone(),
+        message: format!("drawing failed: {e}"),
+    })?;
+    save(path, &name, svg)
+}
+
+/// Draws `trace` as an SVG file at `path` (about 900×500 px; taller when the title or the
+/// caution needs more lines). The y axis runs from 0 to 1.1 times the largest of the limit,
+/// the threshold and the samples; the x axis from 0 to the last sample or dump (1 hour when
+/// that is 0).
+///
+/// # Errors
+/// [`DrawError::Input`] when the trace cannot be drawn faithfully (see [`MomentumTrace`] for
+/// what each field must hold); [`DrawError::Write`] when the file cannot be written.
+pub fn write_momentum_chart(path: &Path, trace: &MomentumTrace) -> Result<(), DrawError> {
+    let name = path.display().to_string();
+    let ranges = check_momentum(trace).map_err(|message| DrawError::Input {
+        path: name.clone(),
+        message,
+    })?;
+    let svg = render_momentum(trace, ranges).map_err(|e| DrawError::Write {
+        path: name.clone(),
+        message: format!("drawing failed: {e}"),
+    })?;
+    save(path, &name, svg)
+}
+
+fn save(path: &Path, name: &str, svg: String) -> Result<(), DrawError> {
+    std::fs::write(path, svg).map_err(|e| DrawError::Write {
+        path: name.to_string(),
+        message: e.to_string(),
+    })
+}
+
+// ---------------------------------------------------------------------------------------------
+// Look shared by both pictures.
+
+type Area<'b> = DrawingArea<SVGBackend<'b>, Shift>;
+type DrawResult<T> = Result<T, DrawingAreaErrorKind<std::io::Error>>;
+
+/// Generic family name only: SVG viewers pick an installed face.
+const FONT: &str = "sans-serif";
+// Font sizes as the drawing library takes them; it writes them at 1/1.24 of these.
+const TITLE_PX: u32 = 26;
+const AXIS_TITLE_PX: u32 = 21;
+const TICK_PX: u32 = 18;
+const LEGEND_PX: u32 = 16;
+const CAUTION_PX: u32 = 19;
+const GRID_LABEL_PX: u32 = 15;
+const SUN_LABEL_PX: u32 = 17;
+
+// Okabe and Ito's colour-blind-safe hues, and greys.
+const BLUE: RGBColor = RGBColor(0, 114, 178);
+const VERMILLION: RGBColor = RGBColor(213, 94, 0);
+const GREEN: RGBColor = RGBColor(0, 158, 115);
+const PURPLE: RGBColor = RGBColor(204, 121, 167);
+const ORANGE: RGBColor = RGBColor(230, 159, 0);
+const INK: RGBColor = RGBColor(0, 0, 0);
+const ZONE_ALWAYS: RGBColor = RGBColor(150, 150, 150);
+const ZONE_SOMETIMES: RGBColor = RGBColor(222, 222, 222);
+const GRID: RGBColor = RGBColor(185, 185, 185);
+const OUTLINE: RGBColor = RGBColor(70, 70, 70);
+const SOFT_TEXT: RGBColor = RGBColor(90, 90, 90);
+
+/// Pixels from the edge of a picture to its text.
+const PAD: i32 = 14;
+
+/// The size in pixels at which text of library size `px` is written.
+fn em(px: u32) -> f64 {
+    f64::from(px) / 1.24
+}
+
+/// Distance between the baselines of two lines of text of library size `px`, pixels.
+fn line_step(px: u32) -> i32 {
+    (em(px) * 1.3).ceil() as i32
+}
+
+/// Greedy word wrap of `text` into lines no wider than `width_px` at library size `px`,
+/// taking about 0.6 em a character (a common sans-serif face averages less). Newlines in
+/// `text` start new lines; blank lines are dropped; a word longer than a line is cut.
+fn wrap(text: &str, px: u32, width_px: u32) -> Vec<String> {
+    let per_char = 0.6 * em(px);
+    let max = ((f64::from(width_px) / per_char).floor() as usize).max(8);
+    let mut lines = Vec::new();
+    for para in text.lines() {
+        let mut line = String::new();
+        let mut len = 0;
+        for word in para.split_whitespace() {
+            let chars: Vec<char> = word.chars().collect();
+            for chunk in chars.chunks(max) {
+                if len > 0 && len + 1 + chunk.len() > max {
+                    lines.push(std::mem::take(&mut line));
+                    len = 0;
+                }
+                if len > 0 {
+                    line.push(' ');
+                    len += 1;
+                }
+                line.extend(chunk);
+                len += chunk.len();
+            }
+        }
+        if len > 0 {
+            lines.push(line);
+        }
+    }
+    lines
+}
+
+/// Height in pixels of a block of `n` lines at library size `px`, with `PAD` above and below.
+fn block_height(n: usize, px: u32) -> u32 {
+    (n as i32 * line_step(px) + 2 * PAD) as u32
+}
+
+/// Draws `lines` centred across `area`, the first line's top `PAD` pixels below its top.
+fn draw_centred(
+    area: &Area,
+    lines: &[String],
+    px: u32,
+    bold: bool,
+    colour: RGBColor,
+) -> DrawResult<()> {
+    let (w, _) = area.dim_in_pixel();
+    let font = (FONT, px).into_font();
+    let font = if bold {
+        font.style(FontStyle::Bold)
+    } else {
+        font
+    };
+    let style = TextStyle::from(font)
+        .color(&colour)
+        .pos(Pos::new(HPos::Center, VPos::Top));
+    for (i, line) in lines.iter().enumerate() {
+        let y = PAD + i as i32 * line_step(px);
+        area.draw(&Text::new(line.clone(), (w as i32 / 2, y), style.clone()))?;
+    }
+    Ok(())
+}
+
+/// The caution block: a thin rule, then the wrapped sentence.
+fn draw_caution(area: &Area, lines: &[String]) -> DrawResult<()> {
+    let (w, _) = area.dim_in_pixel();
+    area.draw(&PathElement::new(
+        vec![(PAD, 4), (w as i32 - PAD, 4)],
+        GRID.stroke_width(1),
+    ))?;
+    draw_centred(area, lines, CAUTION_PX, false, INK)
+}
+
+/// A tick label for `v` on an axis spanning `span`: enough decimals to tell ticks apart,
+/// no trailing zeros.
+fn number_label(v: f64, span: f64) -> String {
+    let decimals = if span.is_finite() && span > 0.0 {
+        (2.0 - span.log10().floor()).clamp(0.0, 8.0) as usize
+    } else {
+        2
+    };
+    let s = format!("{v:.decimals$}");
+    let s = if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    };
+    if s == "-0" {
+        "0".into()
+    } else {
+        s
+    }
+}
+
+/// How a legend entry shows what it explains.
+#[derive(Clone, Copy)]
+enum Key {
+    /// A filled square of this colour, outlined.
+    Swatch(RGBColor),
+    /// A filled dot.
+    Dot(RGBColor),
+    /// A hollow ring.
+    Ring(RGBColor),
+    /// A solid line of this colour and width.
+    Line(RGBColor, u32),
+    /// A dashed line.
+    Dashed(RGBColor, u32),
+    /// A short vertical line.
+    Tick(RGBColor),
+    /// A filled, outlined triangle.
+    Triangle(RGBColor),
+    /// A filled, outlined square.
+    Square(RGBColor),
+    /// The Sun's path line.
+    SunPath,
+    /// The Sun marker, hollow (start) or filled (end).
+    Sun { filled: bool },
+    /// No mark: text only, from the left edge.
+    Heading,
+    /// No mark: text only, from the left edge, in a softer colour.
+    Note,
+}
+
+struct LegendEntry {
+    key: Key,
+    label: String,
+}
+
+const KEY_W: i32 = 30;
+
+/// Lines of each entry's label when the legend is `width` pixels wide.
+fn legend_lines(entries: &[LegendEntry], width: u32) -> Vec<Vec<String>> {
+    let text_w = (width as i32 - 3 * PAD - KEY_W).max(40) as u32;
+    entries
+        .iter()
+        .map(|e| {
+            let w = if matches!(e.key, Key::Heading | Key::Note) {
+                width - 2 * PAD as u32
+            } else {
+                text_w
+            };
+            wrap(&e.label, LEGEND_PX, w)
+        })
+        .collect()
+}
+
+/// Height in pixels the legend needs.
+fn legend_height(entries: &[LegendEntry], width: u32) -> u32 {
+    let step = line_step(LEGEND_PX);
+    let rows: i32 = legend_lines(entries, width)
+        .iter()
+        .map(|l| l.len().max(1) as i32 * step + step / 2)
+        .sum();
+    (rows + 2 * PAD) as u32
+}
+
+/// Draws `entries` down `area`, from `top` pixels.
+fn draw_legend(area: &Area, top: i32, entries: &[LegendEntry]) -> DrawResult<()> {
+    let (w, _) = area.dim_in_pixel();
+    let step = line_step(LEGEND_PX);
+    let plain = TextStyle::from((FONT, LEGEND_PX).into_font())
+        .color(&INK)
+        .pos(Pos::new(HPos::Left, VPos::Center));
+    let soft = plain.color(&SOFT_TEXT);
+    let mut y = top + step / 2;
+    for (e, lines) in entries.iter().zip(legend_lines(entries, w)) {
+        let (x_text, style) = if matches!(e.key, Key::Note) {
+            (PAD, &soft)
+        } else if matches!(e.key, Key::Heading) {
+            (PAD, &plain)
+        } else {
+            draw_key(area, e.key, (PAD + KEY_W / 2, y))?;
+            (2 * PAD + KEY_W, &plain)
+        };
+        for line in &lines {
+            area.draw(&Text::new(line.clone(), (x_text, y), style.clone()))?;
+            y += step;
+        }
+        y += step / 2;
+    }
+    Ok(())
+}
+
+/// Draws one legend key centred at `c` (pixels).
+fn draw_key(area: &Area, key: Key, c: (i32, i32)) -> DrawResult<()> {
+    let (x, y) = c;
+    let half = KEY_W / 2;
+    match key {
+        Key::Swatch(colour) => {
+            let r = [(x - half, y - 8), (x + half, y + 8)];
+            area.draw(&Rectangle::new(r, colour.filled()))?;
+            area.draw(&Rectangle::new(r, OUTLINE.stroke_width(1)))
+        }
+        Key::Dot(colour) => area.draw(&Circle::new(c, 4, colour.filled())),
+        Key::Ring(colour) => area.draw(&Circle::new(c, 4, colour.stroke_width(1))),
+        Key::Line(colour, width) => area.draw(&PathElement::new(
+            vec![(x - half, y), (x + half, y)],
+            colour.stroke_width(width),
+        )),
+        Key::Dashed(colour, width) => area.draw(&DashedPathElement::new(
+            vec![(x - half, y), (x + half, y)],
+            7,
+            4,
+            colour.stroke_width(width),
+        )),
+        Key::Tick(colour) => area.draw(&PathElement::new(
+            vec![(x, y - 9), (x, y + 9)],
+            colour.stroke_width(2),
+        )),
+        Key::Triangle(colour) => draw_triangle(area, c, colour),
+        Key::Square(colour) => draw_square(area, c, colour),
+        Key::SunPath => {
+            area.draw(&PathElement::new(
+                vec![(x - half, y), (x + half, y)],
+                INK.stroke_width(5),
+            ))?;
+            area.draw(&PathElement::new(
+                vec![(x - half, y), (x + half, y)],
+                ORANGE.stroke_width(3),
+            ))
+        }
+        Key::Sun { filled } => draw_sun_marker(area, c, filled),
+        Key::Heading | Key::Note => Ok(()),
+    }
+}
+
+/// A filled, outlined triangle pointing up, centred at `at` (first observation).
+fn draw_triangle<CT>(
+    area: &DrawingArea<SVGBackend<'_>, CT>,
+    at: CT::From,
+    colour: RGBColor,
+) -> DrawResult<()>
+where
+    CT: CoordTranslate,
+{
+    let pts = vec![(0, -9), (8, 6), (-8, 6)];
+    let mut closed = pts.clone();
+    closed.push(pts[0]);
+    area.draw(
+        &(EmptyElement::at(at)
+            + Polygon::new(pts, colour.filled())
+            + PathElement::new(closed, INK.stroke_width(1))),
+    )
+}
+
+/// A filled, outlined square centred at `at` (last observation).
+fn draw_square<CT>(
+    area: &DrawingArea<SVGBackend<'_>, CT>,
+    at: CT::From,
+    colour: RGBColor,
+) -> DrawResult<()>
+where
+    CT: CoordTranslate,
+{
+    let r = [(-6, -6), (6, 6)];
+    area.draw(
+        &(EmptyElement::at(at)
+            + Rectangle::new(r, colour.filled())
+            + Rectangle::new(r, INK.stroke_width(1))),
+    )
+}
+
+/// The Sun marker centred at `at`: an orange disc outlined in black, hollow (white inside)
+/// for the plan's start and filled for its end.
+fn draw_sun_marker<CT>(
+    area: &DrawingArea<SVGBackend<'_>, CT>,
+    at: CT::From,
+    filled: bool,
+) -> DrawResult<()>
+where
+    CT: CoordTranslate,
+{
+    let inside = if filled { ORANGE } else { WHITE };
+    area.draw(
+        &(EmptyElement::at(at)
+            + Circle::new((0, 0), 8, INK.filled())
+            + Circle::new((0, 0), 7, ORANGE.filled())
+            + Circle::new((0, 0), 4, inside.filled())),
+    )
+}
+
+// ---------------------------------------------------------------------------------------------
+// The sky map.
+
+/// Width of the sky map, pixels.
+const SKY_W: u32 = 1000;
+/// Width of the legend panel right of the map, pixels.
+const SKY_LEGEND_W: u32 = 240;
+/// Height of the band holding the map and its legend, pixels (more if the legend needs it).
+const SKY_MIDDLE_H: u32 = 400;
+/// Side of a sky cell for the zone shading, degrees of RA and Dec (divides 180).
+const CELL_DEG: f64 = 3.0;
+/// Cells along RA (0 to 360°) and along Dec (−90 to 90°).
+const CELLS_RA: usize = 120;
+const CELLS_DEC: usize = 60;
+/// Zone shapes reach this far past their cells (degrees) so that neighbours overlap and no
+/// hairline of white shows between them.
+const CELL_OVERLAP_DEG: f64 = 0.3;
+/// Sun positions closer than this to the previous one kept add nothing at the cell size,
+/// degrees.
+const SUN_STEP_DEG: f64 = 0.5;
+
+/// The Hammer equal-area projection of longitude `lambda` in [−π, π] and latitude `phi` in
+/// [−π/2, π/2] (radians) to the plane (dimensionless), inside the ellipse
+/// x²/8 + y²/2 ≤ 1:
+/// `z = √(1 + cos φ cos(λ/2))`, `x = 2√2 cos φ sin(λ/2) / z`, `y = √2 sin φ / z`.
+/// `z ≥ 1` on that domain, so the division is safe.
+fn hammer(lambda: f64, phi: f64) -> (f64, f64) {
+    let (sl, cl) = (lambda / 2.0).sin_cos();
+    let (sp, cp) = phi.sin_cos();
+    let z = (1.0 + cp * cl).sqrt();
+    (2.0 * SQRT_2 * cp * sl / z, SQRT_2 * sp / z)
+}
+
+/// Map longitude of right ascension `ra_deg` (any finite value, taken modulo 360):
+/// `λ = 180° − RA`, radians in (−π, π], so RA grows to the left.
+fn lambda_of(ra_deg: f64) -> f64 {
+    let ra = ra_deg.rem_euclid(360.0);
+    // rem_euclid gives 360 itself for tiny negative angles.
+    let ra = if ra >= 360.0 { 0.0 } else { ra };
+    (180.0 - ra).to_radians()
+}
+
+/// The map point of (right ascension, declination) in degrees.
+fn project(ra_deg: f64, dec_deg: f64) -> (f64, f64) {
+    hammer(lambda_of(ra_deg), dec_deg.to_radians())
+}
+
+/// The map point of a grid corner at `ra_deg` in [0, 360] without wrapping, so that RA 360
+/// is the left edge and RA 0 the right edge.
+fn grid_point(ra_deg: f64, dec_deg: f64) -> (f64, f64) {
+    hammer((180.0 - ra_deg).to_radians(), dec_deg.to_radians())
+}
+
+/// Where the telescope may point, for one sky cell over the whole plan.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Zone {
+    /// The angle to the Sun is inside the band at every sampled Sun position.
+    Allowed,
+    /// Outside the band at some sampled Sun positions, inside at others.
+    Sometimes,
+    /// Outside the band at every sampled Sun position.
+    Always,
+}
+
+/// The zone of direction `u` (unit vector) with the Sun at each of `suns` (unit vectors) and
+/// the elongation band `band` (degrees): forbidden where the angle to the Sun is below
+/// `band.0` or above `band.1`.
+fn zone_of(u: &Vec3, suns: &[Vec3], band: (f64, f64)) -> Zone {
+    let (mut any, mut all) = (false, true);
+    for s in suns {
+        let e = separation_deg(u, s);
+        let forbidden = e < band.0 || e > band.1;
+        any |= forbidden;
+        all &= forbidden;
+        if any && !all {
+            return Zone::Sometimes;
+        }
+    }
+    match (any, all) {
+        (false, _) => Zone::Allowed,
+        (true, true) => Zone::Always,
+        (true, false) => Zone::Sometimes,
+    }
+}
+
+/// The zone of every cell, judged at its centre: `grid[row][col]`, row 0 the cells from
+/// Dec −90° up, column 0 the cells from RA 0° up.
+fn zone_grid(suns: &[Vec3], band: (f64, f64)) -> Vec<Vec<Zone>> {
+    (0..CELLS_DEC)
+        .map(|row| {
+            let dec = -90.0 + (row as f64 + 0.5) * CELL_DEG;
+            (0..CELLS_RA)
+                .map(|col| {
+                    let ra = (col as f64 + 0.5) * CELL_DEG;
+                    zone_of(&unit_vector(ra, dec), suns, band)
+                })
+                .collect()
+        })
+        .collect()
+}
+
+/// One shaded shape: a run of neighbouring cells of one zone along a row, as the projected
+/// outline of its top and bottom edges.
+struct ZoneShape {
+    zone: Zone,
+    outline: Vec<(f64, f64)>,
+}
+
+/// The shaded shapes of `grid`: each row's runs of cells of one forbidden zone merged into
+/// one polygon (a run never crosses the map's edge at RA 0/360, as the grid starts there).
+fn zone_shapes(grid: &[Vec<Zone>]) -> Vec<ZoneShape> {
+    let mut shapes = Vec::new();
+    for (row, cells) in grid.iter().enumerate() {
+        let dec0 = (-90.0 + row as f64 * CELL_DEG - CELL_OVERLAP_DEG).max(-90.0);
+        let dec1 = (-90.0 + (row + 1) as f64 * CELL_DEG + CELL_OVERLAP_DEG).min(90.0);
+        let mut col = 0;
+        while col < cells.len() {
+            let zone = cells[col];
+            let start = col;
+            while col < cells.len() && cells[col] == zone {
+                col += 1;
+            }
+            if zone == Zone::Allowed {
+                continue;
+            }
+            // Dark runs are drawn over light ones, so only they reach past their ends.
+            let pad = if zone == Zone::Always {
+                CELL_OVERLAP_DEG
+            } else {
+                0.0
+            };
+            let ra0 = (start as f64 * CELL_DEG - pad).max(0.0);
+            let ra1 = (col as f64 * CELL_DEG + pad).min(360.0);
+            let steps = col - start;
+            let ra_at = |k: usize| ra0 + (ra1 - ra0) * k as f64 / steps as f64;
+            let mut outline: Vec<(f64, f64)> =
+                (0..=steps).map(|k| grid_point(ra_at(k), dec1)).collect();
+            outline.extend((0..=steps).rev().map(|k| grid_point(ra_at(k), dec0)));
+            shapes.push(ZoneShape { zone, outline });
+        }
+    }
+    shapes
+}
+
+/// `path` (degrees) without the points closer than `step_deg` to the last one kept; the first
+/// and the last point are always kept.
+fn thin_path(path: &[(f64, f64)], step_deg: f64) -> Vec<(f64, f64)> {
+    let mut kept: Vec<(f64, f64)> = Vec::new();
+    for (i, &p) in path.iter().enumerate() {
+        let far = match kept.last() {
+            None => true,
+            Some(&q) => separation_deg(&unit_vector(p.0, p.1), &unit_vector(q.0, q.1)) >= step_deg,
+        };
+        if far || i + 1 == path.len() {
+            kept.push(p);
+        }
+    }
+    kept
+}
+
+/// The map polylines of a path of (RA, Dec) in degrees: a new piece starts wherever two
+/// neighbours lie more than 180° apart in map longitude, that is where the path crosses the
+/// map's edge.
+fn map_pieces(path: impl IntoIterator<Item = (f64, f64)>) -> Vec<Vec<(f64, f64)>> {
+    let mut pieces: Vec<Vec<(f64, f64)>> = Vec::new();
+    let mut last_lambda: Option<f64> = None;
+    for (ra, dec) in path {
+        let lambda = lambda_of(ra);
+        let p = hammer(lambda, dec.to_radians());
+        match (last_lambda, pieces.last_mut()) {
+            (Some(l), Some(piece)) if (lambda - l).abs() <= PI => piece.push(p),
+            _ => pieces.push(vec![p]),
+        }
+        last_lambda = Some(lambda);
+    }
+    pieces
+}
+
+/// Why `map` cannot be drawn, or Ok.
+fn check_sky_map(map: &SkyMap) -> Result<(), String> {
+    let n = map.targets.len();
+    for (i, t) in map.targets.iter().enumerate() {
+        if !t.ra_deg.is_finite() {
+            return Err(format!(
+                "target {i} ({:?}) has right ascension {}, not a finite number of degrees",
+                t.id, t.ra_deg
+            ));
+        }
+        if !(t.dec_deg.is_finite() && (-90.0..=90.0).contains(&t.dec_deg)) {
+            return Err(format!(
+                "target {i} ({:?}) has declination {}, not in [-90, 90] degrees",
+                t.id, t.dec_deg
+            ));
+        }
+    }
+    if map.scheduled.len() != n {
+        return Err(format!(
+            "{} scheduled flags for {n} targets (one per target is needed)",
+            map.scheduled.len()
+        ));
+    }
+    for (k, &i) in map.sequence.iter().enumerate() {
+        if i >= n {
+            return Err(format!(
+                "sequence entry {k} is target index {i}, but there are only {n} targets"
+            ));
+        }
+        if !map.scheduled[i] {
+            return Err(format!(
+                "sequence entry {k} is target {i} ({:?}), which is not marked scheduled",
+                map.targets[i].id
+            ));
+        }
+    }
+    if map.sun_path_deg.is_empty() {
+        return Err("the Sun's path has no points (at least one is needed)".into());
+    }
+    for (k, &(ra, dec)) in map.sun_path_deg.iter().enumerate() {
+        if !(ra.is_finite() && dec.is_finite() && (-90.0..=90.0).contains(&dec)) {
+            return Err(format!(
+                "Sun path point {k} is ({ra}, {dec}): right ascension must be finite and \
+                 declination in [-90, 90] degrees"
+            ));
+        }
+    }
+    let (lo, hi) = map.band_deg;
+    if !(lo.is_finite() && hi.is_finite() && 0.0 <= lo && lo <= hi && hi <= 180.0) {
+        return Err(format!(
+            "the elongation band [{lo}, {hi}] degrees is not a range inside [0, 180]"
+        ));
+    }
+    if map.caution.trim().is_empty() {
+        return Err("the caution text is blank; the picture must carry it".into());
+    }
+    Ok(())
+}
+
+/// The legend of the sky map.
+fn sky_legend(map: &SkyMap) -> Vec<LegendEntry> {
+    let (lo, hi) = map.band_deg;
+    let n_sched = map.scheduled.iter().filter(|&&s| s).count();
+    let n_other = map.targets.len() - n_sched;
+    let e = |key: Key, label: String| LegendEntry { key, label };
+    let band = format!("{}°–{}°", number_label(lo, 100.0), number_label(hi, 100.0));
+    let mut entries = vec![
+        e(
+            Key::Heading,
+            format!("Pointing forbidden (Sun angle outside {band}):"),
+        ),
+        e(Key::Swatch(ZONE_ALWAYS), "for the whole plan".into()),
+        e(Key::Swatch(ZONE_SOMETIMES), "for part of the plan".into()),
+        e(Key::Swatch(WHITE), "never (allowed)".into()),
+        e(Key::Dot(BLUE), format!("scheduled target ({n_sched})")),
+        e(Key::Ring(INK), format!("not scheduled ({n_other})")),
+        e(Key::Line(BLUE, 2), "observing sequence".into()),
+        e(Key::Triangle(GREEN), "first observation".into()),
+        e(Key::Square(VERMILLION), "last observation".into()),
+        e(
+            Key::Note,
+            "Equal-area map, J2000 axes: RA 180° at the centre, growing to the left; \
+             grid every 30°."
+                .into(),
+        ),
+    ];
+    // Ahead of the closing note: how the Sun is drawn.
+    let note = entries.pop();
+    if map.sun_path_deg.len() > 1 {
+        entries.push(e(Key::SunPath, "Sun's path".into()));
+        entries.push(e(Key::Sun { filled: false }, "Sun at plan start".into()));
+        entries.push(e(Key::Sun { filled: true }, "Sun at plan end".into()));
+    } else {
+        entries.push(e(Key::Sun { filled: true }, "Sun (one position)".into()));
+    }
+    entries.extend(note);
+    entries
+}
+
+/// The sky map as SVG text.
+fn render_sky_map(map: &SkyMap) -> DrawResult<String> {
+    let title_lines = wrap(map.title, TITLE_PX, SKY_W - 2 * PAD as u32);
+    let caution_lines = wrap(map.caution, CAUTION_PX, SKY_W - 2 * PAD as u32);
+    let legend = sky_legend(map);
+    let header_h = block_height(title_lines.len(), TITLE_PX);
+    let footer_h = block_height(caution_lines.len(), CAUTION_PX);
+    let middle_h = SKY_MIDDLE_H.max(legend_height(&legend, SKY_LEGEND_W));
+    let size = (SKY_W, header_h + middle_h + footer_h);
+
+    let suns: Vec<(f64, f64)> = thin_path(map.sun_path_deg, SUN_STEP_DEG);
+    let sun_units: Vec<Vec3> = suns.iter().map(|&(a, d)| unit_vector(a, d)).collect();
+    let shapes = zone_shapes(&zone_grid(&sun_units, map.band_deg));
+
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, size).into_drawing_area();
+        root.fill(&WHITE)?;
+        let (header, rest) = root.split_vertically(header_h);
+        let (middle, footer) = rest.split_vertically(middle_h);
+        let (map_area, legend_area) = middle.split_horizontally(SKY_W - SKY_LEGEND_W);
+        draw_centred(&header, &title_lines, TITLE_PX, false, INK)?;
+        draw_sky(&map_area, map, &suns, &shapes)?;
+        draw_legend(&legend_area, PAD, &legend)?;
+        draw_caution(&footer, &caution_lines)?;
+        root.present()?;
+    }
+    Ok(svg)
+}
+
+/// Draws the map itself into `area`: zones, grid, outline, Sun, targets and sequence.
+fn draw_sky(
+    area: &Area,
+    map: &SkyMap,
+    suns: &[(f64, f64)],
+    shapes: &[ZoneShape],
+) -> DrawResult<()> {
+    const MARGIN: u32 = 6;
+    // Room left of the outline for the declination labels, right of it, above and below.
+    const LEFT_PX: f64 = 44.0;
+    const RIGHT_PX: f64 = 8.0;
+    const END_PX: f64 = 10.0;
+    let (w, h) = area.dim_in_pixel();
+    let (w, h) = (
+        f64::from(w.saturating_sub(2 * MARGIN)).max(1.0),
+        f64::from(h.saturating_sub(2 * MARGIN)).max(1.0),
+    );
+    // One scale on both axes (pixels per map unit): the outline is 4√2 wide and 2√2 tall.
+    let scale = ((w - LEFT_PX - RIGHT_PX) / (4.0 * SQRT_2))
+        .min((h - 2.0 * END_PX) / (2.0 * SQRT_2))
+        .max(1.0);
+    // The outline sits `RIGHT_PX` from the right edge, centred up and down.
+    let x1 = 2.0 * SQRT_2 + RIGHT_PX / scale;
+    let x0 = x1 - w / scale;
+    let hy = h / (2.0 * scale);
+    let chart = ChartBuilder::on(area)
+        .margin(MARGIN)
+        .build_cartesian_2d(x0..x1, -hy..hy)?;
+    let plot = chart.plotting_area();
+    let px = 1.0 / scale; // one pixel in map units
+
+    // Zones: light ones first, dark ones over them.
+    for (zone, colour) in [
+        (Zone::Sometimes, ZONE_SOMETIMES),
+        (Zone::Always, ZONE_ALWAYS),
+    ] {
+        for s in shapes.iter().filter(|s| s.zone == zone) {
+            plot.draw(&Polygon::new(s.outline.clone(), colour.filled()))?;
+        }
+    }
+
+    // Graticule every 30°, then the outline.
+    for k in 1..12 {
+        let ra = f64::from(k) * 30.0;
+        let line: Vec<(f64, f64)> = (0..=90)
+            .map(|j| grid_point(ra, -90.0 + f64::from(j) * 2.0))
+            .collect();
+        plot.draw(&PathElement::new(line, GRID.stroke_width(1)))?;
+    }
+    for k in -2..=2 {
+        let dec = f64::from(k) * 30.0;
+        let line: Vec<(f64, f64)> = (0..=180)
+            .map(|j| grid_point(f64::from(j) * 2.0, dec))
+            .collect();
+        plot.draw(&PathElement::new(line, GRID.stroke_width(1)))?;
+    }
+    let outline: Vec<(f64, f64)> = (0..=360)
+        .map(|j| {
+            let t = f64::from(j).to_radians();
+            (2.0 * SQRT_2 * t.cos(), SQRT_2 * t.sin())
+        })
+        .collect();
+    plot.draw(&PathElement::new(outline, OUTLINE.stroke_width(1)))?;
+    let label = |h: HPos, v: VPos| {
+        TextStyle::from((FONT, GRID_LABEL_PX).into_font())
+            .color(&SOFT_TEXT)
+            .pos(Pos::new(h, v))
+    };
+    for k in 1..12 {
+        let ra = k * 30;
+        let (x, y) = grid_point(f64::from(ra), 0.0);
+        plot.draw(&Text::new(
+            format!("{ra}°"),
+            (x, y - 3.0 * px),
+            label(HPos::Center, VPos::Top),
+        ))?;
+    }
+    for k in -2..=2 {
+        let dec = k * 30;
+        let (x, y) = grid_point(360.0, f64::from(dec));
+        let text = if dec > 0 {
+            format!("+{dec}°")
+        } else {
+            format!("{dec}°").replace('-', "−")
+        };
+        plot.draw(&Text::new(
+            text,
+            (x - 6.0 * px, y),
+            label(HPos::Right, VPos::Center),
+        ))?;
+    }
+
+    // The sequence, then the targets, then its first and last observations.
+    let n = map.targets.len();
+    let line_w = if map.sequence.len() > 1000 { 1 } else { 2 };
+    let seq = map
+        .sequence
+        .iter()
+        .map(|&i| (map.targets[i].ra_deg, map.targets[i].dec_deg));
+    for piece in map_pieces(seq) {
+        if piece.len() > 1 {
+            plot.draw(&PathElement::new(piece, BLUE.mix(0.8).stroke_width(line_w)))?;
+        }
+    }
+    let r = if n <= 300 {
+        4
+    } else if n <= 2000 {
+        3
+    } else {
+        2
+    };
+    for (t, _) in map.targets.iter().zip(map.scheduled).filter(|(_, &s)| !s) {
+        plot.draw(&Circle::new(
+            project(t.ra_deg, t.dec_deg),
+            r,
+            INK.stroke_width(1),
+        ))?;
+    }
+    for (t, _) in map.targets.iter().zip(map.scheduled).filter(|(_, &s)| s) {
+        plot.draw(&Circle::new(project(t.ra_deg, t.dec_deg), r, BLUE.filled()))?;
+    }
+    // The Sun's path over them (where no target can be observed), outlined so that it shows
+    // on every shade.
+    for piece in map_pieces(suns.iter().copied()) {
+        plot.draw(&PathElement::new(piece.clone(), INK.stroke_width(5)))?;
+        plot.draw(&PathElement::new(piece, ORANGE.stroke_width(3)))?;
+    }
+    if let (Some(&first), Some(&last)) = (map.sequence.first(), map.sequence.last()) {
+        let at = |i: usize| project(map.targets[i].ra_deg, map.targets[i].dec_deg);
+        draw_square(plot, at(last), VERMILLION)?;
+        draw_triangle(plot, at(first), GREEN)?;
+    }
+
+    // The Sun at the plan's start and end, labelled above and below so that the labels stay
+    // apart even when the Sun barely moves, on a pale box that keeps them legible on any
+    // shade, and kept inside the map's area.
+    let sun_text = TextStyle::from((FONT, SUN_LABEL_PX).into_font().style(FontStyle::Bold))
+        .pos(Pos::new(HPos::Center, VPos::Center));
+    let sun_label = |text: &str, at: (f64, f64), above: bool| -> DrawResult<()> {
+        let w = (text.chars().count() as f64 * 0.66 * em(SUN_LABEL_PX) + 8.0) * px;
+        let h = em(SUN_LABEL_PX) * 1.3 * px;
+        let gap = 11.0 * px;
+        let cx = at.0.clamp(x0 + w / 2.0, (x1 - w / 2.0).max(x0 + w / 2.0));
+        let (y0, y1) = if above {
+            (at.1 + gap, at.1 + gap + h)
+        } else {
+            (at.1 - gap - h, at.1 - gap)
+        };
+        plot.draw(&Rectangle::new(
+            [(cx - w / 2.0, y0), (cx + w / 2.0, y1)],
+            WHITE.mix(0.8).filled(),
+        ))?;
+        plot.draw(&Text::new(
+            text.to_string(),
+            (cx, (y0 + y1) / 2.0),
+            sun_text.clone(),
+        ))
+    };
+    let (start, end) = (suns[0], suns[suns.len() - 1]);
+    let (p_start, p_end) = (project(start.0, start.1), project(end.0, end.1));
+    if suns.len() == 1 {
+        draw_sun_marker(plot, p_start, true)?;
+        sun_label("Sun", p_start, true)?;
+    } else {
+        draw_sun_marker(plot, p_start, false)?;
+        draw_sun_marker(plot, p_end, true)?;
+        sun_label("Sun, start", p_start, true)?;
+        sun_label("Sun, end", p_end, false)?;
+    }
+    Ok(())
+}
+
+// ---------------------------------------------------------------------------------------------
+// The momentum chart.
+
+/// Width of the momentum chart, pixels.
+const MOMENTUM_W: u32 = 900;
+/// Width of its legend panel, pixels.
+const MOMENTUM_LEGEND_W: u32 = 250;
+/// Height of the band holding the chart and its legend, pixels.
+const MOMENTUM_MIDDLE_H: u32 = 390;
+
+/// The axes' upper ends: (hours, N·m·s).
+#[derive(Clone, Copy, Debug, PartialEq)]
+struct Ranges {
+    x_max: f64,
+    y_max: f64,
+}
+
+/// Why `trace` cannot be drawn, or the ranges of its axes.
+fn check_momentum(trace: &MomentumTrace) -> Result<Ranges, String> {
+    let mut last_hour = f64::NEG_INFINITY;
+    let (mut x_max, mut h_max) = (0.0_f64, 0.0_f64);
+    for (k, &(hour, h)) in trace.points.iter().enumerate() {
+        if !(hour.is_finite() && hour >= 0.0) {
+            return Err(format!(
+                "momentum sample {k} is at hour {hour}, not a finite time at or after the \
+                 plan's start"
+            ));
+        }
+        if !(h.is_finite() && h >= 0.0) {
+            return Err(format!(
+                "momentum sample {k} has |H| = {h} N·m·s, not a finite value at least 0"
+            ));
+        }
+        if hour < last_hour {
+            return Err(format!(
+                "momentum sample {k} (hour {hour}) comes before the sample preceding it \
+                 (hour {last_hour}); samples must be in time order"
+            ));
+        }
+        last_hour = hour;
+        x_max = x_max.max(hour);
+        h_max = h_max.max(h);
+    }
+    if !(trace.limit_nms.is_finite() && trace.limit_nms > 0.0) {
+        return Err(format!(
+            "the wheel limit {} N·m·s is not a finite value above 0",
+            trace.limit_nms
+        ));
+    }
+    if !(trace.threshold_nms.is_finite() && trace.threshold_nms >= 0.0) {
+        return Err(format!(
+            "the planning threshold {} N·m·s is not a finite value at least 0",
+            trace.threshold_nms
+        ));
+    }
+    for (k, &hour) in trace.dumps_hours.iter().enumerate() {
+        if !(hour.is_finite() && hour >= 0.0) {
+            return Err(format!(
+                "momentum dump {k} is at hour {hour}, not a finite time at or after the \
+                 plan's start"
+            ));
+        }
+        x_max = x_max.max(hour);
+    }
+    if trace.caution.trim().is_empty() {
+        return Err("the caution text is blank; the picture must carry it".into());
+    }
+    let y_max = h_max.max(trace.limit_nms).max(trace.threshold_nms) * 1.1;
+    if !y_max.is_finite() {
+        return Err(format!(
+            "momentum values up to {h_max} N·m·s are too large to draw"
+        ));
+    }
+    if x_max <= 0.0 {
+        x_max = 1.0;
+    }
+    Ok(Ranges { x_max, y_max })
+}
+
+/// The legend of the momentum chart.
+fn momentum_legend(trace: &MomentumTrace) -> Vec<LegendEntry> {
+    let dumps = match trace.dumps_hours.len() {
+        0 => "no momentum dumps".to_string(),
+        1 => "1 momentum dump".to_string(),
+        n => format!("{n} momentum dumps"),
+    };
+    vec![
+        LegendEntry {
+            key: Key::Line(BLUE, 2),
+            label: "stored momentum |H|".into(),
+        },
+        LegendEntry {
+            key: Key::Line(VERMILLION, 2),
+            label: "wheel limit".into(),
+        },
+        LegendEntry {
+            key: Key::Dashed(INK, 2),
+            label: "planning threshold".into(),
+        },
+        LegendEntry {
+            key: Key::Tick(PURPLE),
+            label: dumps,
+        },
+    ]
+}
+
+/// The momentum chart as SVG text.
+fn render_momentum(trace: &MomentumTrace, ranges: Ranges) -> DrawResult<String> {
+    let Ranges { x_max, y_max } = ranges;
+    let title_lines = wrap(trace.title, TITLE_PX, MOMENTUM_W - 2 * PAD as u32);
+    let caution_lines = wrap(trace.caution, CAUTION_PX, MOMENTUM_W - 2 * PAD as u32);
+    let legend = momentum_legend(trace);
+    let header_h = block_height(title_lines.len(), TITLE_PX);
+    let footer_h = block_height(caution_lines.len(), CAUTION_PX);
+    let middle_h = MOMENTUM_MIDDLE_H.max(legend_height(&legend, MOMENTUM_LEGEND_W));
+    let size = (MOMENTUM_W, header_h + middle_h + footer_h);
+
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, size).into_drawing_area();
+        root.fill(&WHITE)?;
+        let (header, rest) = root.split_vertically(header_h);
+        let (middle, footer) = rest.split_vertically(middle_h);
+        let (chart_area, legend_area) = middle.split_horizontally(MOMENTUM_W - MOMENTUM_LEGEND_W);
+        draw_centred(&header, &title_lines, TITLE_PX, false, INK)?;
+
+        let mut chart = ChartBuilder::on(&chart_area)
+            .margin_left(PAD as u32)
+            .margin_right(PAD as u32)
+            .margin_top(8)
+            .margin_bottom(4)
+            .x_label_area_size(56)
+            .y_label_area_size(84)
+            .build_cartesian_2d(0.0..x_max, 0.0..y_max)?;
+        chart
+            .configure_mesh()
+            .x_desc("hours since plan start")
+            .y_desc("stored momentum |H| (N·m·s)")
+            .axis_desc_style((FONT, AXIS_TITLE_PX))
+            .label_style((FONT, TICK_PX))
+            .x_label_formatter(&|v| number_label(*v, x_max))
+            .y_label_formatter(&|v| number_label(*v, y_max))
+            .bold_line_style(RGBColor(235, 235, 235))
+            .max_light_lines(0)
+            .draw()?;
+        let plot = chart.plotting_area();
+        let (_, plot_h) = plot.dim_in_pixel();
+        let px = y_max / f64::from(plot_h.max(1)); // one pixel in N·m·s
+
+        for &hour in trace.dumps_hours {
+            plot.draw(&PathElement::new(
+                vec![(hour, 0.0), (hour, y_max)],
+                PURPLE.stroke_width(2),
+            ))?;
+        }
+        let (limit, threshold) = (trace.limit_nms, trace.threshold_nms);
+        plot.draw(&PathElement::new(
+            vec![(0.0, limit), (x_max, limit)],
+            VERMILLION.stroke_width(2),
+        ))?;
+        plot.draw(&DashedPathElement::new(
+            vec![(0.0, threshold), (x_max, threshold)],
+            7,
+            4,
+            INK.stroke_width(2),
+        ))?;
+        if trace.points.len() > 1 {
+            plot.draw(&PathElement::new(
+                trace.points.to_vec(),
+                BLUE.stroke_width(2),
+            ))?;
+        } else if let Some(&p) = trace.points.first() {
+            plot.draw(&Circle::new(p, 3, BLUE.filled()))?;
+        }
+
+        // Names and values at the right end of the two lines: each above its line, unless
+        // the lower one's would run into the upper line, then below it.
+        let (plot_w, _) = plot.dim_in_pixel();
+        let px_x = x_max / f64::from(plot_w.max(1)); // one pixel in hours
+        let text =
+            TextStyle::from((FONT, LEGEND_PX).into_font()).pos(Pos::new(HPos::Right, VPos::Center));
+        // A name on a pale box at the right end of a line, above or below it.
+        let line_label = |label: String, at: f64, above: bool| -> DrawResult<()> {
+            let w = (label.chars().count() as f64 * 0.6 * em(LEGEND_PX) + 6.0) * px_x;
+            let h = em(LEGEND_PX) * 1.3 * px;
+            let (y0, y1) = if above {
+                (at + 2.0 * px, at + 2.0 * px + h)
+            } else {
+                (at - 2.0 * px - h, at - 2.0 * px)
+            };
+            let x1 = x_max - 2.0 * px_x;
+            plot.draw(&Rectangle::new(
+                [(x1 - w, y0), (x1, y1)],
+                WHITE.mix(0.8).filled(),
+            ))?;
+            plot.draw(&Text::new(
+                label,
+                (x1 - 3.0 * px_x, (y0 + y1) / 2.0),
+                text.clone(),
+            ))
+        };
+        let value = |v: f64| number_label(v, v.abs());
+        let limit_text = format!("limit, {} N·m·s", value(limit));
+        let threshold_text = format!("threshold, {} N·m·s", value(threshold));
+        let (upper, lower) = if limit >= threshold {
+            ((limit, limit_text), (threshold, threshold_text))
+        } else {
+            ((threshold, threshold_text), (limit, limit_text))
+        };
+        let room = (upper.0 - lower.0) / px;
+        line_label(upper.1, upper.0, true)?;
+        line_label(lower.1, lower.0, room >= 2.0 * em(LEGEND_PX))?;
+        if trace.points.is_empty() {
+            let style = TextStyle::from((FONT, AXIS_TITLE_PX).into_font())
+                .color(&SOFT_TEXT)
+                .pos(Pos::new(HPos::Center, VPos::Center));
+            plot.draw(&Text::new(
+                "no momentum samples (empty plan)",
+                (x_max / 2.0, y_max / 2.0),
+                style,
+            ))?;
+        }
+
+        draw_legend(&legend_area, PAD, &legend)?;
+        draw_caution(&footer, &caution_lines)?;
+        root.present()?;
+    }
+    Ok(svg)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const TOL: f64 = 1e-12;
+
+    fn close(a: (f64, f64), b: (f64, f64), tol: f64) -> bool {
+        (a.0 - b.0).abs() <= tol && (a.1 - b.1).abs() <= tol
+    }
+
+    /// Text as the SVG writer escapes it.
+    fn escaped(s: &str) -> String {
+        s.replace('&', "&amp;")
+            .replace('<', "&lt;")
+            .replace('>', "&gt;")
+            .replace('"', "&quot;")
+            .replace('\'', "&apos;")
+    }
+
+    fn target(id: &str, ra_deg: f64, dec_deg: f64) -> Target {
+        Target {
+            id: id.into(),
+            ra_deg,
+            dec_deg,
+            duration_s: 600.0,
+            instrument: 0,
+        }
+    }
+
+    /// The Sun on the ecliptic at longitude `l_deg` (obliquity 23.44°), as (RA, Dec) degrees.
+    fn ecliptic_sun(l_deg: f64) -> (f64, f64) {
+        let (sl, cl) = l_deg.to_radians().sin_cos();
+        let (se, ce) = 23.44_f64.to_radians().sin_cos();
+        let ra = (ce * sl).atan2(cl).to_degrees().rem_euclid(360.0);
+        let dec = (se * sl).asin().to_degrees();
+        (ra, dec)
+    }
+
+    /// A deterministic spread of `n` targets over the sphere (uniform in sin Dec), with every
+    /// third one unscheduled; the sequence visits the scheduled ones in RA order.
+    fn plan(n: usize) -> (Vec<Target>, Vec<bool>, Vec<usize>) {
+        let mut state: u64 = 0x2545_f491_4f6c_dd1d;
+        let mut next = || {
+            state = state
+                .wrapping_mul(6_364_136_223_846_793_005)
+                .wrapping_add(1_442_695_040_888_963_407);
+            (state >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let targets: Vec<Target> = (0..n)
+            .map(|i| {
+                let ra = 360.0 * next();
+                let dec = (2.0 * next() - 1.0).asin().to_degrees();
+                target(&format!("T{i:04}"), ra, dec)
+            })
+            .collect();
+        let scheduled: Vec<bool> = (0..n).map(|i| i % 3 != 2).collect();
+        let mut sequence: Vec<usize> = (0..n).filter(|&i| scheduled[i]).collect();
+        sequence.sort_by(|&a, &b| targets[a].ra_deg.total_cmp(&targets[b].ra_deg));
+        (targets, scheduled, sequence)
+    }
+
+    const CAUTION: &str = "Planning aid only: confirm with the operations team's tools.";
+
+    // Hand values. At (λ, φ) = (0, 0): z = √(1 + 1) = √2, x = 0, y = 0.
+    // At the poles φ = ±π/2: cos φ = 0, z = 1, x = 0, y = ±√2.
+    // On the equator at λ = ±π: cos(λ/2) = 0, z = 1, x = ±2√2 · sin(±π/2) = ±2√2, y = 0.
+    // At λ = π/2, φ = 0: z = √(1 + cos 45°) = √(1 + √2/2), x = 2√2 sin 45° / z = 2 / z
+    // = 1.530733729..., y = 0.
+    #[test]
+    fn hammer_matches_hand_values() {
+        assert!(close(hammer(0.0, 0.0), (0.0, 0.0), TOL));
+        assert!(close(hammer(0.7, PI / 2.0), (0.0, SQRT_2), TOL));
+        assert!(close(hammer(-2.1, -PI / 2.0), (0.0, -SQRT_2), TOL));
+        assert!(close(hammer(PI, 0.0), (2.0 * SQRT_2, 0.0), TOL));
+        assert!(close(hammer(-PI, 0.0), (-2.0 * SQRT_2, 0.0), TOL));
+        let z = (1.0 + SQRT_2 / 2.0).sqrt();
+        assert!(close(hammer(PI / 2.0, 0.0), (2.0 / z, 0.0), TOL));
+        assert!((2.0 / z - 1.530_733_729).abs() < 1e-9);
+    }
+
+    // At λ = ±π: z = 1, x = ±2√2 cos φ, y = √2 sin φ, so x²/8 + y²/2 = cos²φ + sin²φ = 1:
+    // the map's edge is the ellipse.
+    #[test]
+    fn the_edge_of_the_sky_is_the_outline_ellipse() {
+        for k in -9..=9 {
+            let phi = f64::from(k) * 10.0_f64.to_radians();
+            for lambda in [PI, -PI] {
+                let (x, y) = hammer(lambda, phi);
+                assert!((x * x / 8.0 + y * y / 2.0 - 1.0).abs() < 1e-12, "φ = {phi}");
+            }
+        }
+    }
+
+    // The convention: RA 180° at the centre, RA 0° at the right edge, RA grows to the left.
+    #[test]
+    fn right_ascension_grows_to_the_left() {
+        assert!(close(project(180.0, 0.0), (0.0, 0.0), TOL));
+        assert!(close(project(0.0, 0.0), (2.0 * SQRT_2, 0.0), TOL));
+        assert!(project(90.0, 0.0).0 > 0.0);
+        assert!(project(270.0, 0.0).0 < 0.0);
+        assert!(project(100.0, 10.0).0 < project(90.0, 10.0).0);
+        // Angles outside [0, 360) wrap.
+        assert!(close(project(-90.0, 20.0), project(270.0, 20.0), TOL));
+        assert!(close(project(450.0, 20.0), project(90.0, 20.0), TOL));
+        assert!(lambda_of(-1e-20) <= PI && lambda_of(-1e-20) > -PI);
+    }
+
+    // Equal area: the whole sky (4π on the unit sphere) fills the ellipse of semi-axes 2√2
+    // and √2, area π · 2√2 · √2 = 4π, so the constant ratio of map area to sky area is 1.
+    // The sky area of a small cell is cos φ dλ dφ; its map area is |det J| dλ dφ, J the
+    // Jacobian of (x, y) over (λ, φ). So |det J| / cos φ must be 1 everywhere.
+    #[test]
+    fn the_projection_is_equal_area() {
+        let h = 1e-6;
+        for phi_deg in [-80.0, -55.0, -20.0, 0.0, 10.0, 35.0, 60.0, 85.0] {
+            for lambda_deg in [-170.0, -90.0, -5.0, 0.0, 45.0, 120.0, 175.0] {
+                let (l, p) = (f64::to_radians(lambda_deg), f64::to_radians(phi_deg));
+                let d = |a: (f64, f64), b: (f64, f64)| {
+                    ((a.0 - b.0) / (2.0 * h), (a.1 - b.1) / (2.0 * h))
+                };
+                let (xl, yl) = d(hammer(l + h, p), hammer(l - h, p));
+                let (xp, yp) = d(hammer(l, p + h), hammer(l, p - h));
+                let ratio = (xl * yp - xp * yl).abs() / p.cos();
+                assert!(
+                    (ratio - 1.0).abs() < 1e-6,
+                    "λ {lambda_deg}, φ {phi_deg}: {ratio}"
+                );
+            }
+        }
+        // The same by the shoelace formula on a small cell's projected corners, against the
+        // cell's sky area dλ (sin φ1 − sin φ0).
+        let cell = 0.01_f64;
+        for phi_deg in [-70.0, -30.0, 0.0, 25.0, 50.0, 75.0] {
+            let (l0, p0) = (0.4, f64::to_radians(phi_deg));
+            let (l1, p1) = (l0 + cell, p0 + cell);
+            let corners = [
+                hammer(l0, p0),
+                hammer(l1, p0),
+                hammer(l1, p1),
+                hammer(l0, p1),
+            ];
+            let twice: f64 = (0..4)
+                .map(|i| {
+                    let (a, b) = (corners[i], corners[(i + 1) % 4]);
+                    a.0 * b.1 - b.0 * a.1
+                })
+                .sum();
+            let sky = cell * (p1.sin() - p0.sin());
+            let ratio = twice.abs() / 2.0 / sky;
+            assert!((ratio - 1.0).abs() < 1e-4, "φ {phi_deg}: {ratio}");
+        }
+    }
+
+    /// The zone of the cell holding (ra, dec) in a grid.
+    fn zone_at(grid: &[Vec<Zone>], ra: f64, dec: f64) -> Zone {
+        let row = ((dec + 90.0) / CELL_DEG) as usize;
+        let col = (ra / CELL_DEG) as usize;
+        grid[row][col]
+    }
+
+    #[test]
+    fn cells_are_forbidden_outside_the_band() {
+        let band = (80.0, 140.0);
+        let grid = zone_grid(&[unit_vector(0.0, 0.0)], band);
+        // Beside the Sun: elongation about 2° < 80.
+        assert_eq!(zone_at(&grid, 1.0, 1.0), Zone::Always);
+        // A quarter turn away: about 91.5°, inside the band.
+        assert_eq!(zone_at(&grid, 90.5, 0.5), Zone::Allowed);
+        assert_eq!(zone_at(&grid, 270.5, 0.5), Zone::Allowed);
+        // Opposite the Sun: about 178.5° > 140.
+        assert_eq!(zone_at(&grid, 178.5, 0.5), Zone::Always);
+        // Near the pole: about 88.5° from the Sun.
+        assert_eq!(zone_at(&grid, 200.0, 89.0), Zone::Allowed);
+
+        // The Sun moves from RA 0° to RA 90° on the equator.
+        let suns = [unit_vector(0.0, 0.0), unit_vector(90.0, 0.0)];
+        let grid = zone_grid(&suns, band);
+        // 45° from both Suns: forbidden throughout.
+        assert_eq!(zone_at(&grid, 45.5, 0.5), Zone::Always);
+        // 91.5° from the first, 1.5° from the second.
+        assert_eq!(zone_at(&grid, 90.5, 0.5), Zone::Sometimes);
+        // 178.5° from the first, 88.5° from the second.
+        assert_eq!(zone_at(&grid, 178.5, 0.5), Zone::Sometimes);
+        // Near the pole both are about 90° away.
+        assert_eq!(zone_at(&grid, 300.0, 89.0), Zone::Allowed);
+    }
+
+    #[test]
+    fn zone_shapes_cover_their_runs_and_skip_allowed_cells() {
+        let mut grid = vec![vec![Zone::Allowed; CELLS_RA]; CELLS_DEC];
+        for cell in &mut grid[30][10..20] {
+            *cell = Zone::Sometimes;
+        }
+        grid[30][20] = Zone::Always;
+        let shapes = zone_shapes(&grid);
+        assert_eq!(shapes.len(), 2);
+        assert_eq!(shapes[0].zone, Zone::Sometimes);
+        // 10 cells: 11 corners along the top edge and 11 along the bottom.
+        assert_eq!(shapes[0].outline.len(), 22);
+        // Its first corner is RA 30°, just above Dec 3°.
+        assert!(close(
+            shapes[0].outline[0],
+            grid_point(30.0, 3.0 + CELL_OVERLAP_DEG),
+            1e-12
+        ));
+        assert_eq!(shapes[1].zone, Zone::Always);
+    }
+
+    #[test]
+    fn paths_break_where_they_cross_the_edge() {
+        // RA 350° → 10° crosses the edge at RA 0°; 10° → 40° does not.
+        let pieces = map_pieces([(340.0, 0.0), (350.0, 1.0), (10.0, 2.0), (40.0, 3.0)]);
+        assert_eq!(pieces.len(), 2);
+        assert_eq!(pieces[0].len(), 2);
+        assert_eq!(pieces[1].len(), 2);
+        // 170° → 190° crosses the centre, not the edge.
+        assert_eq!(map_pieces([(170.0, 0.0), (190.0, 0.0)]).len(), 1);
+    }
+
+    #[test]
+    fn thinning_keeps_the_ends_and_drops_near_repeats() {
+        let path: Vec<(f64, f64)> = (0..=100).map(|k| (f64::from(k) * 0.1, 0.0)).collect();
+        let thin = thin_path(&path, 0.5);
+        assert_eq!(thin.first(), Some(&(0.0, 0.0)));
+        assert_eq!(thin.last(), Some(&(10.0, 0.0)));
+        // Kept points are 0.5° or 0.6° apart (0.1° steps, rounding), but the last.
+        for pair in thin[..thin.len() - 1].windows(2) {
+            let d = pair[1].0 - pair[0].0;
+            assert!(d > 0.45 && d < 0.65, "{pair:?}");
+        }
+        assert!(thin.len() >= 17 && thin.len() <= 22, "{}", thin.len());
+        assert_eq!(thin_path(&[(5.0, 5.0)], 0.5), vec![(5.0, 5.0)]);
+    }
+
+    #[test]
+    fn wrapping_keeps_every_word_and_the_width() {
+        let text = "one two three four five six seven eight nine ten eleven twelve";
+        let lines = wrap(text, 19, 120);
+        assert!(lines.len() > 1);
+        assert_eq!(lines.join(" "), text);
+        let max = (120.0 / (0.6 * em(19))).floor() as usize;
+        assert!(lines.iter().all(|l| l.chars().count() <= max));
+        assert_eq!(wrap("a\n\nb", 19, 1000), vec!["a", "b"]);
+        assert!(wrap("", 19, 1000).is_empty());
+        // A word longer than a line is cut rather than overflowing.
+        let long = "x".repeat(100);
+        assert!(wrap(&long, 19, 120)
+            .iter()
+            .all(|l| l.chars().count() <= max));
+    }
+
+    fn sky_map<'a>(
+        title: &'a str,
+        targets: &'a [Target],
+        scheduled: &'a [bool],
+        sequence: &'a [usize],
+        sun: &'a [(f64, f64)],
+        caution: &'a str,
+    ) -> SkyMap<'a> {
+        SkyMap {
+            title,
+            targets,
+            scheduled,
+            sequence,
+            sun_path_deg: sun,
+            band_deg: (85.0, 135.0),
+            caution,
+        }
+    }
+
+    /// Every text's baseline lies inside the picture's height, with room for descenders.
+    fn text_fits(svg: &str) {
+        let height: f64 = svg
+            .split("height=\"")
+            .nth(1)
+            .and_then(|s| s.split('"').next())
+            .and_then(|s| s.parse().ok())
+            .expect("the SVG has a height");
+        for part in svg.split("<text").skip(1) {
+            let y: f64 = part
+                .split("y=\"")
+                .nth(1)
+                .and_then(|s| s.split('"').next())
+                .and_then(|s| s.parse().ok())
+                .expect("text has a y");
+            assert!(y >= 0.0 && y + 22.0 <= height, "text at y {y} of {height}");
+        }
+    }
+
+    #[test]
+    fn sky_map_is_written_with_title_caution_and_sun() {
+        let dir = tempfile::tempdir().unwrap();
+        let (targets, scheduled, sequence) = plan(80);
+        let sun: Vec<(f64, f64)> = (0..30)
+            .map(|d| ecliptic_sun(100.0 + f64::from(d)))
+            .collect();
+        let title = "Sky plan <test> & check";
+        let map = sky_map(title, &targets, &scheduled, &sequence, &sun, CAUTION);
+        let path = dir.path().join("sky.svg");
+        write_sky_map(&path, &map).unwrap();
+        let svg = std::fs::read_to_string(&path).unwrap();
+        assert!(svg.starts_with("<svg"));
+        assert!(svg.contains(&escaped(title)));
+        assert!(svg.contains(&escaped(CAUTION)));
+        assert!(svg.contains("Sun, start") && svg.contains("Sun, end"));
+        // Both zone tones and the start and end markers are there.
+        assert!(svg.contains("#969696") && svg.contains("#DEDEDE"));
+        assert!(svg.contains("#009E73") && svg.contains("#D55E00"));
+        text_fits(&svg);
+    }
+
+    #[test]
+    fn a_long_caution_wraps_and_stays_inside() {
+        let dir = tempfile::tempdir().unwrap();
+        let caution = "Caution: plans are planning proposals to be confirmed by the \
+                       operations team's validated flight-dynamics and constraint-checking \
+                       tools. Spacecraft operations can damage hardware; nothing here is a \
+                       command to a spacecraft.";
+        let sun = [(10.0, 4.0)];
+        let map = sky_map("t", &[], &[], &[], &sun, caution);
+        let path = dir.path().join("sky.svg");
+        write_sky_map(&path, &map).unwrap();
+        let svg = std::fs::read_to_string(&path).unwrap();
+        let lines = wrap(caution, CAUTION_PX, SKY_W - 2 * PAD as u32);
+        assert!(lines.len() >= 2);
+        for line in &lines {
+            assert!(svg.contains(&escaped(line)), "missing {line}");
+        }
+        // One Sun position: one marker, labelled "Sun".
+        assert!(svg.contains(">\nSun\n<"), "no plain Sun label");
+        text_fits(&svg);
+
+        let trace = MomentumTrace {
+            title: "t",
+            points: &[],
+            limit_nms: 10.0,
+            threshold_nms: 9.0,
+            dumps_hours: &[],
+            caution,
+        };
+        let path = dir.path().join("h.svg");
+        write_momentum_chart(&path, &trace).unwrap();
+        let svg = std::fs::read_to_string(&path).unwrap();
+        let lines = wrap(caution, CAUTION_PX, MOMENTUM_W - 2 * PAD as u32);
+        for line in &lines {
+            assert!(svg.contains(&escaped(line)), "missing {line}");
+        }
+        assert!(svg.contains("no momentum samples"));
+        text_fits(&svg);
+    }
+
+    #[test]
+    fn a_large_plan_stays_small() {
+        let dir = tempfile::tempdir().unwrap();
+        let (targets, scheduled, sequence) = plan(5000);
+        let sun: Vec<(f64, f64)> = (0..=3650)
+            .map(|k| ecliptic_sun(f64::from(k) * 0.1))
+            .collect();
+        let map = sky_map("A year", &targets, &scheduled, &sequence, &sun, CAUTION);
+        let path = dir.path().join("sky.svg");
+        write_sky_map(&path, &map).unwrap();
+        let bytes = std::fs::metadata(&path).unwrap().len();
+        assert!(bytes < 1_500_000, "{bytes} bytes");
+    }
+
+    #[test]
+    fn momentum_chart_is_written_with_its_lines_and_dumps() {
+        let dir = tempfile::tempdir().unwrap();
+        let points = [
+            (0.0, 0.0),
+            (10.0, 150.0),
+            (20.0, 240.0),
+            (20.0, 0.0),
+            (35.0, 200.0),
+            (48.0, 240.0),
+            (48.0, 0.0),
+            (60.0, 90.0),
+        ];
+        let title = "Momentum over the plan";
+        let trace = MomentumTrace {
+            title,
+            points: &points,
+            limit_nms: 300.0,
+            threshold_nms: 240.0,
+            dumps_hours: &[20.0, 48.0],
+            caution: CAUTION,
+        };
+        let path = dir.path().join("h.svg");
+        write_momentum_chart(&path, &trace).unwrap();
+        let svg = std::fs::read_to_string(&path).unwrap();
+        assert!(svg.contains(title));
+        assert!(svg.contains(&escaped(CAUTION)));
+        assert!(svg.contains("hours since plan start"));
+        assert!(svg.contains("stored momentum |H| (N·m·s)"));
+        assert!(svg.contains("wheel limit") && svg.contains("limit, 300 N·m·s"));
+        assert!(svg.contains("planning threshold") && svg.contains("threshold, 240 N·m·s"));
+        assert!(svg.contains("2 momentum dumps"));
+        text_fits(&svg);
+    }
+
+    #[test]
+    fn momentum_ranges_cover_limit_samples_and_dumps() {
+        let trace = |points: &'static [(f64, f64)], dumps: &'static [f64]| MomentumTrace {
+            title: "",
+            points,
+            limit_nms: 100.0,
+            threshold_nms: 80.0,
+            dumps_hours: dumps,
+            caution: CAUTION,
+        };
+        let r = check_momentum(&trace(&[(0.0, 10.0), (5.0, 50.0)], &[])).unwrap();
+        assert!((r.x_max - 5.0).abs() < TOL && (r.y_max - 110.0).abs() < 1e-9);
+        let r = check_momentum(&trace(&[(0.0, 10.0), (5.0, 150.0)], &[7.0])).unwrap();
+        assert!((r.x_max - 7.0).abs() < TOL && (r.y_max - 165.0).abs() < 1e-9);
+        // A single sample at the start still gets a span.
+        let r = check_momentum(&trace(&[(0.0, 10.0)], &[])).unwrap();
+        assert!(r.x_max > 0.0);
+        let r = check_momentum(&trace(&[], &[])).unwrap();
+        assert!(r.x_max > 0.0 && r.y_max > 0.0);
+    }
+
+    /// `result` is an input error, and nothing was written at `path`.
+    fn refused(result: Result<(), DrawError>, path: &Path, needle: &str) {
+        match result {
+            Err(DrawError::Input { message, .. }) => {
+                assert!(message.contains(needle), "{message:?} lacks {needle:?}")
+            }
+            other => panic!("expected an input error, got {other:?}"),
+        }
+        assert!(!path.exists());
+    }
+
+    #[test]
+    fn bad_sky_input_is_refused() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("sky.svg");
+        let good = vec![target("a", 10.0, 20.0), target("b", 200.0, -40.0)];
+        let sun = [(0.0, 0.0)];
+        let sched = [true, false];
+        let go = |m: &SkyMap| write_sky_map(&path, m);
+
+        let mut bad = good.clone();
+        bad[1].ra_deg = f64::NAN;
+        refused(
+            go(&sky_map("", &bad, &sched, &[0], &sun, CAUTION)),
+            &path,
+            "\"b\"",
+        );
+        bad[1].ra_deg = 3.0;
+        bad[1].dec_deg = 91.0;
+        refused(
+            go(&sky_map("", &bad, &sched, &[0], &sun, CAUTION)),
+            &path,
+            "declination",
+        );
+        bad[1].dec_deg = f64::INFINITY;
+        refused(
+            go(&sky_map("", &bad, &sched, &[0], &sun, CAUTION)),
+            &path,
+            "declination",
+        );
+
+        refused(
+            go(&sky_map("", &good, &[true], &[0], &sun, CAUTION)),
+            &path,
+            "flags",
+        );
+        refused(
+            go(&sky_map("", &good, &sched, &[0, 2], &sun, CAUTION)),
+            &path,
+            "index 2",
+        );
+        refused(
+            go(&sky_map("", &good, &sched, &[0, 1], &sun, CAUTION)),
+            &path,
+            "scheduled",
+        );
+        refused(
+            go(&sky_map("", &good, &sched, &[0], &[], CAUTION)),
+            &path,
+            "Sun",
+        );
+        refused(
+            go(&sky_map(
+                "",
+                &good,
+                &sched,
+                &[0],
+                &[(f64::NAN, 0.0)],
+                CAUTION,
+            )),
+            &path,
+            "Sun path point 0",
+        );
+        refused(
+            go(&sky_map("", &good, &sched, &[0], &sun, "  ")),
+            &path,
+            "caution",
+        );
+        for band in [(140.0, 80.0), (-1.0, 90.0), (80.0, 181.0), (f64::NAN, 90.0)] {
+            let mut m = sky_map("", &good, &sched, &[0], &sun, CAUTION);
+            m.band_deg = band;
+            refused(go(&m), &path, "band");
+        }
+
+        // An empty plan is drawn.
+        write_sky_map(&path, &sky_map("empty", &[], &[], &[], &sun, CAUTION)).unwrap();
+        assert!(path.exists());
+        // A file that cannot be written is a write error.
+        let nowhere = dir.path().join("missing").join("sky.svg");
+        let m = sky_map("", &good, &sched, &[0], &sun, CAUTION);
+        assert!(matches!(
+            write_sky_map(&nowhere, &m),
+            Err(DrawError::Write { .. })
+        ));
+    }
+
+    #[test]
+    fn bad_momentum_input_is_refused() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("h.svg");
+        let ok = MomentumTrace {
+            title: "",
+            points: &[(0.0, 1.0), (2.0, 3.0)],
+            limit_nms: 10.0,
+            threshold_nms: 9.0,
+            dumps_hours: &[1.0],
+            caution: CAUTION,
+        };
+        let go = |t: &MomentumTrace| write_momentum_chart(&path, t);
+        let with_points = |points| MomentumTrace { points, ..ok };
+        refused(go(&with_points(&[(f64::NAN, 1.0)])), &path, "sample 0");
+        refused(
+            go(&with_points(&[(0.0, 1.0), (1.0, f64::INFINITY)])),
+            &path,
+            "sample 1",
+        );
+        refused(go(&with_points(&[(0.0, -1.0)])), &path, "sample 0");
+        refused(go(&with_points(&[(-1.0, 1.0)])), &path, "sample 0");
+        refused(
+            go(&with_points(&[(2.0, 1.0), (1.0, 1.0)])),
+            &path,
+            "time order",
+        );
+        refused(
+            go(&MomentumTrace {
+                limit_nms: 0.0,
+                ..ok
+            }),
+            &path,
+            "limit",
+        );
+        refused(
+            go(&MomentumTrace {
+                limit_nms: f64::NAN,
+                ..ok
+            }),
+            &path,
+            "limit",
+        );
+        refused(
+            go(&MomentumTrace {
+                threshold_nms: -1.0,
+                ..ok
+            }),
+            &path,
+            "threshold",
+        );
+        refused(
+            go(&MomentumTrace {
+                dumps_hours: &[f64::NAN],
+                ..ok
+            }),
+            &path,
+            "dump 0",
+        );
+        refused(go(&MomentumTrace { caution: "", ..ok }), &path, "caution");
+        refused(go(&with_points(&[(0.0, f64::MAX)])), &path, "too large");
+
+        go(&ok).unwrap();
+        let nowhere = dir.path().join("missing").join("h.svg");
+        assert!(matches!(
+            write_momentum_chart(&nowhere, &ok),
+            Err(DrawError::Write { .. })
+        ));
+    }
+}
