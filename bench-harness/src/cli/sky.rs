@@ -212,12 +212,13 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
         b.propellant_kg
     );
     if let Some(r) = overhead_ratio(&made) {
-        println!("overhead per observation, plan / nearest neighbour: {r:.3}");
+        println!("overhead without waiting per observation, plan / nearest neighbour: {r:.3}");
     }
     println!(
-        "{:.2} s ({} strategy; searches and simulations {:.2} s)",
+        "{:.2} s ({} strategy{}; searches and simulations {:.2} s)",
         made.seconds,
-        format!("{}{}", made.strategy.name(), if made.polished { ", polished" } else { "" }),
+        made.strategy.name(),
+        if made.polished { ", polished" } else { "" },
         made.search_seconds
     );
     if let Some(dir) = &a.out {
@@ -264,7 +265,11 @@ fn write_outputs(
     let summary = plan_json(profile, targets, made, start, horizon_days);
     write_file(&dir.join("summary.json"), |w| {
         use std::io::Write;
-        writeln!(w, "{}", serde_json::to_string_pretty(&summary).unwrap_or_default())
+        writeln!(
+            w,
+            "{}",
+            serde_json::to_string_pretty(&summary).unwrap_or_default()
+        )
     })?;
     let mut scheduled = vec![false; targets.len()];
     for o in &s.observations {

@@ -51,7 +51,9 @@ pub fn parse_utc(text: &str) -> Result<Epoch, String> {
         t.to_string()
     };
     let when = OffsetDateTime::parse(&full, &Iso8601::DEFAULT).map_err(|e| {
-        format!("'{text}' is not an ISO 8601 time with a UTC offset (like 2027-03-01T00:00:00Z): {e}")
+        format!(
+            "'{text}' is not an ISO 8601 time with a UTC offset (like 2027-03-01T00:00:00Z): {e}"
+        )
     })?;
     let unix = when.unix_timestamp_nanos() as f64 / 1e9;
     Epoch::from_unix_seconds(unix).ok_or_else(|| format!("'{text}' is out of range"))

@@ -140,6 +140,10 @@ impl Strategy {
     }
 }
 
+/// A searched path: pool indices in path order, its cost (seconds) and the cost matrix over
+/// the nodes in the order given (milliseconds).
+type SearchedPath = (Vec<usize>, f64, Vec<Vec<i64>>);
+
 /// An open path through `nodes` (pool indices) on the costs of the Sun at `at`, starting at
 /// `nodes[0]` when `fixed_first`, with `limit` of search; pool indices in path order and the
 /// path's cost in seconds.
@@ -151,7 +155,7 @@ fn search_path(
     fixed_first: bool,
     limit: Duration,
     options: &PlanOptions,
-) -> Result<(Vec<usize>, f64, Vec<Vec<i64>>), PlanFailure> {
+) -> Result<SearchedPath, PlanFailure> {
     let subset: Vec<Target> = nodes.iter().map(|&i| targets[i].clone()).collect();
     let m = cost_matrix_ms(profile, &subset, at)?;
     let local: Vec<usize> = match nodes.len() {

@@ -30,7 +30,7 @@ use std::fmt;
 
 use serde::Serialize;
 
-use super::geometry::{eigen_axis_angle_deg, elongation_deg, norm, unit_vector, Vec3};
+use super::geometry::{dot, eigen_axis_angle_deg, elongation_deg, norm, unit_vector, Vec3};
 use super::momentum::{dump_propellant_kg, solar_torque_nm};
 use super::slew::{check_profile, cost_checked_s, slew_time_s, CostError, Pointing};
 use super::sun::sun_j2000;
@@ -38,6 +38,8 @@ use super::visibility::{visibility, Visibility};
 use super::{Epoch, Profile, Target};
 
 const SECONDS_PER_DAY: f64 = 86_400.0;
+/// Most dumps one wait may need before the model calls the torque too large to wait under.
+pub const MAX_WAIT_DUMPS: usize = 10_000;
 /// How far ahead of a window's start a target is worth a full check, days (an hour covers
 /// the longest transitions of any plausible profile; a target farther off is skipped cheaply).
 const LOOKAHEAD_DAYS: f64 = 1.0 / 24.0;
@@ -240,6 +242,10 @@ pub struct Step {
     observation: Observation,
     /// Momentum dumped before it (zero vector when no dump), N·m·s.
     dumped: Vec3,
+    /// True when a dump comes right before the transition.
+    dump_before: bool,
+    /// Dumps while waiting: (seconds after the previous observation's end, momentum dumped).
+    wait_dumps: Vec<(f64, Vec3)>,
     /// `H` at the dump time, before the dump (or at the transition start), N·m·s.
     before_transition: Vec3,
     /// `H` after the transition, N·m·s.
@@ -484,6 +490,40 @@ impl<'a> Context<'a> {
             .find(|s| s.jd > now.jd)
     }
 
+    /// Momentum after waiting `wait_s` seconds under the torque `torque` from `h`, dumping
+    /// whenever `|H|` reaches the threshold (the dumps are taken to fit in the waiting), with
+    /// the dumps as (seconds into the wait, momentum dumped). `None` when that would take more
+    /// than [`MAX_WAIT_DUMPS`] dumps.
+    fn wait_momentum(
+        &self,
+        h: Vec3,
+        torque: &Vec3,
+        wait_s: f64,
+    ) -> Option<(Vec3, Vec<(f64, Vec3)>)> {
+        let limit = self.threshold_nms;
+        let end = add(&h, torque, wait_s);
+        if norm(&end) <= limit {
+            return Some((end, Vec::new()));
+        }
+        // First crossing of |h + τ t| = limit: a t² + b t + c = 0 with c ≤ 0 (|h| ≤ limit).
+        let a = dot(torque, torque);
+        let b = 2.0 * dot(&h, torque);
+        let c = dot(&h, &h) - limit * limit;
+        let first = (-b + (b * b - 4.0 * a * c).max(0.0).sqrt()) / (2.0 * a);
+        // From zero, |τ| t reaches the limit every `period` seconds.
+        let period = limit / a.sqrt();
+        let more = ((wait_s - first) / period).floor().max(0.0);
+        if !(first.is_finite() && period.is_finite()) || more >= MAX_WAIT_DUMPS as f64 {
+            return None;
+        }
+        let mut dumps = vec![(first, add(&h, torque, first))];
+        for k in 1..=more as usize {
+            dumps.push((first + k as f64 * period, add(&[0.0; 3], torque, period)));
+        }
+        let last = first + more * period;
+        Some((add(&[0.0; 3], torque, wait_s - last), dumps))
+    }
+
     /// Target `j` as the next observation, its transition starting at `now`.
     fn try_next(&self, state: &State, j: usize, now: Epoch) -> Result<Step, Block> {
         let p = self.profile;
@@ -509,7 +549,9 @@ impl<'a> Context<'a> {
             0.5 * (torque_from[2] + torque_to[2]),
         ];
         // While waiting the telescope stays at the previous target.
-        let before_transition = add(&state.h, &torque_from, wait_s);
+        let (before_transition, wait_dumps) = self
+            .wait_momentum(state.h, &torque_from, wait_s)
+            .ok_or(Block::Momentum(f64::INFINITY))?;
         // What this target's transition and dwell add, whatever came before.
         let own = add(
             &add(&[0.0; 3], &mean_torque, transition_s),
@@ -521,6 +563,7 @@ impl<'a> Context<'a> {
         }
         let carried = add(&before_transition, &own, 1.0);
         let dump = norm(&carried) > self.threshold_nms;
+        let wait_dumps_empty = wait_dumps.is_empty();
         let (start_h, dump_s) = if dump {
             ([0.0; 3], p.dump_s)
         } else {
@@ -553,10 +596,12 @@ impl<'a> Context<'a> {
                 overhead_s: seconds_between(state.prev_end, start),
                 wait_s,
                 momentum_nms: norm(&after),
-                dump,
+                dump: dump || !wait_dumps_empty,
                 moved: false,
             },
             dumped: if dump { before_transition } else { [0.0; 3] },
+            dump_before: dump,
+            wait_dumps,
             before_transition,
             after_transition,
             after,
@@ -741,17 +786,27 @@ impl<'c, 'a> Runner<'c, 'a> {
         let ctx = self.ctx;
         let sched = &mut self.sched;
         let o = &step.observation;
+        let p = ctx.profile;
+        let waited_from = seconds_between(ctx.start, self.state.prev_end);
+        for (at, dumped) in &step.wait_dumps {
+            let t = waited_from + at;
+            sched.momentum_trace.push((t, norm(dumped)));
+            sched.momentum_trace.push((t, 0.0));
+            sched.dump_times_s.push(t);
+            sched.dumps += 1;
+            sched.dumped_nms += norm(dumped);
+            sched.propellant_kg +=
+                dump_propellant_kg(dumped, p.thruster_arm_m, p.thruster_isp_s).unwrap_or(0.0);
+        }
         let t0 = seconds_between(ctx.start, step.transition_from);
         sched
             .momentum_trace
             .push((t0, norm(&step.before_transition)));
-        if o.dump {
-            let p = ctx.profile;
+        if step.dump_before {
             sched.dumps += 1;
             sched.dumped_nms += norm(&step.dumped);
             sched.propellant_kg +=
-                dump_propellant_kg(&step.dumped, p.thruster_arm_m, p.thruster_isp_s)
-                    .unwrap_or(0.0);
+                dump_propellant_kg(&step.dumped, p.thruster_arm_m, p.thruster_isp_s).unwrap_or(0.0);
             sched.momentum_trace.push((t0, 0.0));
             sched.dump_times_s.push(t0);
         }
