@@ -474,3 +474,80 @@ pub fn plan(
         seconds: began.elapsed().as_secs_f64(),
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::testing::{sky_profile, sky_targets};
+
+    const START: Epoch = Epoch { jd: 2_461_465.5 };
+
+    fn options() -> PlanOptions {
+        let mut o = PlanOptions::new(START);
+        o.horizon_days = 3.0;
+        o.time_limit = Some(Duration::from_millis(500));
+        o.threads = Some(1);
+        o.seed = 3;
+        o
+    }
+
+    #[test]
+    fn a_plan_lists_every_target_once_and_is_no_worse_than_the_nearest_neighbour() {
+        let p = sky_profile();
+        let targets = sky_targets(150, 11);
+        let made = plan(&p, &targets, &options()).unwrap();
+        for s in [&made.schedule, &made.baseline] {
+            let mut seen = vec![0; targets.len()];
+            for o in &s.observations {
+                seen[o.target] += 1;
+            }
+            for u in &s.unscheduled {
+                seen[u.target] += 1;
+            }
+            assert!(seen.iter().all(|&c| c == 1));
+        }
+        assert!(!better(&made.baseline, &made.schedule));
+        assert!(made.schedule.observations.len() > 20);
+        // The whole-horizon order is a permutation of the candidates.
+        let ctx = Context::new(&p, &targets, START, 3.0).unwrap();
+        let (mut candidates, _) = ctx.screen();
+        let mut order = made.order.clone();
+        order.sort_unstable();
+        candidates.sort_unstable();
+        assert_eq!(order, candidates);
+    }
+
+    #[test]
+    fn the_same_seed_on_one_thread_gives_the_same_plan() {
+        let p = sky_profile();
+        let targets = sky_targets(90, 2);
+        let mut o = options();
+        // A kick budget rather than the clock decides where the searches end.
+        o.time_limit = Some(Duration::from_secs(60));
+        let a = plan(&p, &targets, &o).unwrap();
+        let b = plan(&p, &targets, &o).unwrap();
+        assert_eq!(a.schedule, b.schedule);
+        assert_eq!(a.order, b.order);
+    }
+
+    #[test]
+    fn tiny_pools_are_planned_without_a_search() {
+        let p = sky_profile();
+        let pool = sky_targets(40, 5);
+        let ctx = Context::new(&p, &pool, START, 3.0).unwrap();
+        let (candidates, _) = ctx.screen();
+        for n in 0..=3 {
+            let targets: Vec<Target> = candidates
+                .iter()
+                .take(n)
+                .map(|&i| pool[i].clone())
+                .collect();
+            let made = plan(&p, &targets, &options()).unwrap();
+            assert_eq!(
+                made.schedule.observations.len() + made.schedule.unscheduled.len(),
+                n
+            );
+            assert_eq!(made.schedule.observations.len(), n, "n = {n}");
+        }
+    }
+}

@@ -871,3 +871,242 @@ impl<'c, 'a> Runner<'c, 'a> {
         sched
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::sky::momentum::STANDARD_GRAVITY_M_S2;
+    use crate::sky::visibility::elongation_at;
+    use crate::testing::{sky_profile, sky_targets};
+
+    /// 2027-03-01 0h (JD 2461465.5).
+    const START: Epoch = Epoch { jd: 2_461_465.5 };
+
+    fn close(a: f64, b: f64, tol: f64) -> bool {
+        (a - b).abs() <= tol
+    }
+
+    #[test]
+    fn waiting_dumps_whenever_the_threshold_is_reached_by_hand() {
+        // Threshold 20 × 0.8 = 16 N·m·s. A constant 1 mN·m torque from zero reaches it after
+        // 16,000 s; in a 40,000 s wait that happens at 16,000 and 32,000 s, leaving
+        // 8,000 s × 1 mN·m = 8 N·m·s. From 10 N·m·s along the torque, the first dump comes at
+        // (16 − 10) / 0.001 = 6,000 s. Arithmetic.
+        let p = sky_profile();
+        let ctx = Context::new(&p, &[], START, 1.0).unwrap();
+        let tau = [1e-3, 0.0, 0.0];
+        let (h, dumps) = ctx.wait_momentum([0.0; 3], &tau, 40_000.0).unwrap();
+        assert_eq!(dumps.len(), 2);
+        assert!(close(dumps[0].0, 16_000.0, 1e-6) && close(dumps[1].0, 32_000.0, 1e-6));
+        assert!(dumps.iter().all(|(_, d)| close(norm(d), 16.0, 1e-9)));
+        assert!(close(h[0], 8.0, 1e-9) && h[1] == 0.0 && h[2] == 0.0);
+        let (_, dumps) = ctx.wait_momentum([10.0, 0.0, 0.0], &tau, 7_000.0).unwrap();
+        assert_eq!(dumps.len(), 1);
+        assert!(close(dumps[0].0, 6_000.0, 1e-6));
+        // Under the threshold nothing is dumped.
+        let (h, dumps) = ctx.wait_momentum([1.0, 0.0, 0.0], &tau, 1_000.0).unwrap();
+        assert!(dumps.is_empty() && close(h[0], 2.0, 1e-12));
+    }
+
+    /// A seeded pool's schedule for a shuffled order, with the checks every schedule must pass.
+    fn check_schedule(p: &Profile, targets: &[Target], horizon_days: f64, seed: u64) {
+        let ctx = Context::new(p, targets, START, horizon_days).unwrap();
+        let (candidates, screened) = ctx.screen();
+        let order: Vec<usize> = crate::testing::shuffled(candidates.len(), seed)
+            .into_iter()
+            .map(|k| candidates[k])
+            .collect();
+        let s = ctx.simulate(&order).unwrap();
+        // Every target is scheduled or listed, once.
+        let mut seen = vec![0; targets.len()];
+        for o in &s.observations {
+            seen[o.target] += 1;
+        }
+        for u in s.unscheduled.iter().chain(&screened) {
+            seen[u.target] += 1;
+        }
+        assert!(seen.iter().all(|&c| c == 1), "{seen:?}");
+        // Inside the band at start and end, within the horizon, in time order, and the
+        // time adds up: the plan's span is its dwells plus its overheads.
+        let mut prev_end = START;
+        for o in &s.observations {
+            let u = unit_vector(targets[o.target].ra_deg, targets[o.target].dec_deg);
+            for at in [o.start, o.end] {
+                let e = elongation_at(&u, at);
+                assert!((80.0..=140.0).contains(&e), "{e}");
+            }
+            assert!(o.start.jd >= prev_end.jd && o.end.jd <= ctx.end().jd);
+            assert!(close(
+                seconds_between(prev_end, o.start),
+                o.overhead_s,
+                1e-3
+            ));
+            let dwell = seconds_between(o.start, o.end);
+            assert!(close(dwell, targets[o.target].duration_s, 1e-3));
+            prev_end = o.end;
+        }
+        let dwell: f64 = s
+            .observations
+            .iter()
+            .map(|o| targets[o.target].duration_s)
+            .sum();
+        assert!(close(
+            seconds_between(START, s.end),
+            dwell + s.overhead_s,
+            1e-2
+        ));
+        // The wheels never hold more than the threshold, and the propellant is the model
+        // page's m = |H| / (L Isp g0) over everything dumped plus what is left.
+        let threshold = p.wheel_limit_nms * p.wheel_margin;
+        assert!(s.momentum_trace.iter().all(|&(_, h)| h <= threshold + 1e-9));
+        assert_eq!(s.dump_times_s.len(), s.dumps);
+        let kg = (s.dumped_nms + s.final_momentum_nms)
+            / (p.thruster_arm_m * p.thruster_isp_s * STANDARD_GRAVITY_M_S2);
+        assert!(
+            close(s.propellant_kg, kg, 1e-12),
+            "{} {kg}",
+            s.propellant_kg
+        );
+    }
+
+    #[test]
+    fn schedules_stay_in_the_band_and_their_time_and_propellant_add_up() {
+        let p = sky_profile();
+        for seed in 0..4 {
+            check_schedule(&p, &sky_targets(120, seed), 3.0, seed);
+        }
+        // A short horizon that fills up.
+        check_schedule(&p, &sky_targets(60, 9), 0.5, 9);
+    }
+
+    #[test]
+    fn a_target_that_enters_the_band_later_is_moved_later() {
+        let p = sky_profile();
+        // A target whose first window opens between half a day and three days in, found on
+        // a grid, and two targets in the band all the time.
+        let mut late = None;
+        let mut steady = Vec::new();
+        'grid: for ra in (0..360).step_by(5) {
+            for dec in (-60..=60).step_by(10) {
+                let t = Target {
+                    id: format!("{ra}/{dec}"),
+                    ra_deg: ra as f64,
+                    dec_deg: dec as f64,
+                    duration_s: 1800.0,
+                    instrument: 0,
+                };
+                let v = visibility(&unit_vector(t.ra_deg, t.dec_deg), START, 5.0, (80.0, 140.0));
+                match v.windows.first() {
+                    Some(w) if w.start.jd > START.jd + 0.5 && w.start.jd < START.jd + 3.0 => {
+                        late.get_or_insert(t);
+                    }
+                    Some(w) if w.start == START && w.end.jd >= START.jd + 5.0 => {
+                        if steady.len() < 2 {
+                            steady.push(t);
+                        }
+                    }
+                    _ => {}
+                }
+                if late.is_some() && steady.len() == 2 {
+                    break 'grid;
+                }
+            }
+        }
+        let late = late.expect("the grid has a target entering the band later");
+        let targets = vec![late, steady[0].clone(), steady[1].clone()];
+        let ctx = Context::new(&p, &targets, START, 5.0).unwrap();
+        let s = ctx.simulate(&[0, 1, 2]).unwrap();
+        let order: Vec<usize> = s.observations.iter().map(|o| o.target).collect();
+        assert_eq!(order, vec![1, 2, 0], "{s:?}");
+        assert!(s.observations[2].moved && s.repairs == 1);
+        assert!(s.observations[2].wait_s > 0.0 && s.wait_s > 0.0);
+        assert!(s.unscheduled.is_empty());
+    }
+
+    #[test]
+    fn targets_that_cannot_fit_are_listed_with_their_reason_and_range() {
+        let p = sky_profile();
+        let sun = sun_j2000(START);
+        let mut near_sun = sky_targets(1, 0).remove(0);
+        near_sun.ra_deg = sun.ra_deg + 5.0;
+        near_sun.dec_deg = sun.dec_deg;
+        // 90° from the Sun along the ecliptic-ish direction, in the band for days.
+        let mut long = near_sun.clone();
+        long.ra_deg = (sun.ra_deg + 110.0) % 360.0;
+        long.dec_deg = 0.0;
+        long.duration_s = 3.0 * 86_400.0;
+        let targets = vec![near_sun, long];
+        let ctx = Context::new(&p, &targets, START, 2.0).unwrap();
+        let (candidates, out) = ctx.screen();
+        assert!(candidates.is_empty());
+        assert_eq!(out[0].reason, Reason::NeverInBand);
+        assert!(out[0].max_elongation_deg < 80.0, "{:?}", out[0]);
+        assert!(
+            matches!(out[1].reason, Reason::WindowsTooShort { longest_window_s }
+            if longest_window_s <= 2.0 * 86_400.0 + 1.0)
+        );
+    }
+
+    #[test]
+    fn a_full_horizon_and_oversized_momentum_are_reasons_too() {
+        let p = sky_profile();
+        let targets = sky_targets(80, 4);
+        // A three-hour horizon holds a few of the 10–60 minute dwells at most.
+        let ctx = Context::new(&p, &targets, START, 0.125).unwrap();
+        let (candidates, _) = ctx.screen();
+        let s = ctx.simulate(&candidates).unwrap();
+        assert!(!s.observations.is_empty() && s.observations.len() < 12);
+        assert!(s
+            .unscheduled
+            .iter()
+            .any(|u| u.reason == Reason::HorizonFull));
+        // Wheels that hold next to nothing: no observation fits under the threshold.
+        let mut small = p.clone();
+        small.wheel_limit_nms = 1e-3;
+        let ctx = Context::new(&small, &targets, START, 1.0).unwrap();
+        let (candidates, _) = ctx.screen();
+        let s = ctx.simulate(&candidates).unwrap();
+        assert!(s.observations.is_empty());
+        assert_eq!(s.unscheduled.len(), candidates.len());
+        assert!(s.unscheduled.iter().all(
+            |u| matches!(u.reason, Reason::MomentumTooLarge { momentum_nms } if momentum_nms > 8e-4)
+        ));
+    }
+
+    #[test]
+    fn bad_inputs_are_refused_not_planned() {
+        let p = sky_profile();
+        let mut t = sky_targets(3, 1);
+        assert!(matches!(
+            Context::new(&p, &t, START, 0.0),
+            Err(PlanError::Horizon { .. })
+        ));
+        assert!(matches!(
+            Context::new(&p, &t, Epoch { jd: f64::NAN }, 1.0),
+            Err(PlanError::Horizon { .. })
+        ));
+        let ctx = Context::new(&p, &t, START, 1.0).unwrap();
+        assert_eq!(ctx.simulate(&[0, 0]), Err(PlanError::Order { index: 0 }));
+        assert_eq!(ctx.simulate(&[7]), Err(PlanError::Order { index: 7 }));
+        t[1].dec_deg = f64::NAN;
+        assert!(matches!(
+            Context::new(&p, &t, START, 1.0),
+            Err(PlanError::Target { index: 1, .. })
+        ));
+        t[1].dec_deg = 0.0;
+        t[2].duration_s = -1.0;
+        assert!(matches!(
+            Context::new(&p, &t, START, 1.0),
+            Err(PlanError::Target { index: 2, .. })
+        ));
+        t[2].duration_s = 1.0;
+        t[0].instrument = 5;
+        assert!(Context::new(&p, &t, START, 1.0).is_err());
+        let mut bad = p.clone();
+        bad.wheel_margin = 1.5;
+        assert!(Context::new(&bad, &[], START, 1.0).is_err());
+        bad.wheel_margin = 0.8;
+        bad.dump_s = f64::NAN;
+        assert!(Context::new(&bad, &[], START, 1.0).is_err());
+    }
+}
