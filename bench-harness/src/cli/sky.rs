@@ -45,14 +45,14 @@ pub struct PlanArgs {
     #[arg(long, value_name = "ISO8601")]
     start: Option<String>,
     /// Length of the planning horizon, days.
-    #[arg(long, default_value_t = DEFAULT_HORIZON_DAYS, value_name = "DAYS")]
+    #[arg(long, default_value_t = DEFAULT_HORIZON_DAYS, value_name = "DAYS", allow_negative_numbers = true)]
     horizon_days: f64,
     /// Directory for plan.csv, unscheduled.csv, sky-map.svg, momentum.svg and summary.json
     /// (created if missing). Without it nothing is written but the summary.
     #[arg(long, value_name = "DIR")]
     out: Option<PathBuf>,
     /// Seconds for the order search (default: 2 s, plus 1 s per 100 targets past 200).
-    #[arg(long, value_name = "SECONDS")]
+    #[arg(long, value_name = "SECONDS", allow_negative_numbers = true)]
     time_limit: Option<f64>,
     /// Seed of the order search.
     #[arg(long, default_value_t = 0)]

@@ -70,6 +70,13 @@ pub fn search_iterations(n: usize) -> u64 {
     (2 * n as u64).max(1000)
 }
 
+/// The whole-horizon path runs only for pools of at most this many targets that fit …
+pub const WHOLE_MAX_TARGETS: usize = 3_000;
+/// … and whose dwells add up to at most this share of the horizon: a path through a pool
+/// much larger than the horizon holds is mostly never played, and only the rolling search
+/// chooses what to leave out.
+pub const WHOLE_MAX_DWELL_SHARE: f64 = 1.5;
+
 /// Why planning failed.
 #[derive(Debug, thiserror::Error)]
 pub enum PlanFailure {
@@ -92,13 +99,14 @@ pub struct Plan {
     /// The nearest neighbour in time from the same first target: each time the cheapest
     /// target (on the costs of the plan start) among those that fit now.
     pub baseline: Schedule,
-    /// The whole-horizon order (pool indices), before repairs.
+    /// The whole-horizon order (pool indices), before repairs; empty when that strategy did
+    /// not run (see [`WHOLE_MAX_DWELL_SHARE`]).
     pub order: Vec<usize>,
     /// Which strategy made the plan's first order.
     pub strategy: Strategy,
     /// True when re-searching that order stage by stage improved it (see [`Plan::schedule`]).
     pub polished: bool,
-    /// Its cost on the matrix of the Sun at the plan start, seconds.
+    /// Its cost on the matrix of the Sun at the plan start, seconds (0 when it did not run).
     pub order_cost_s: f64,
     /// The cost of a nearest-neighbour path through the same targets on the same matrix,
     /// seconds.
@@ -140,25 +148,15 @@ impl Strategy {
     }
 }
 
-/// A searched path: pool indices in path order, its cost (seconds) and the cost matrix over
-/// the nodes in the order given (milliseconds).
-type SearchedPath = (Vec<usize>, f64, Vec<Vec<i64>>);
-
-/// An open path through `nodes` (pool indices) on the costs of the Sun at `at`, starting at
-/// `nodes[0]` when `fixed_first`, with `limit` of search; pool indices in path order and the
-/// path's cost in seconds.
-fn search_path(
-    profile: &Profile,
-    targets: &[Target],
-    nodes: &[usize],
-    at: Epoch,
+/// An open path over the matrix `m` (`m[i][j]`: cost from node `i` to node `j`), starting at
+/// node 0 when `fixed_first`, with `limit` of search: node indices in path order.
+fn search_matrix(
+    m: &[Vec<i64>],
     fixed_first: bool,
     limit: Duration,
     options: &PlanOptions,
-) -> Result<SearchedPath, PlanFailure> {
-    let subset: Vec<Target> = nodes.iter().map(|&i| targets[i].clone()).collect();
-    let m = cost_matrix_ms(profile, &subset, at)?;
-    let local: Vec<usize> = match nodes.len() {
+) -> Result<Vec<usize>, PlanFailure> {
+    Ok(match m.len() {
         0 => Vec::new(),
         1 => vec![0],
         2 if fixed_first || m[0][1] <= m[1][0] => vec![0, 1],
@@ -169,7 +167,7 @@ fn search_path(
             } else {
                 Ends::Open
             };
-            let mut solver = Solver::from_matrix(&m)?
+            let mut solver = Solver::from_matrix(m)?
                 .ends(ends)
                 .restarts(SEARCH_RUNS)
                 .iterations(search_iterations(n))
@@ -182,9 +180,23 @@ fn search_path(
             }
             solver.solve()?.tour.order().to_vec()
         }
-    };
-    let cost = path_cost_s(&m, &local);
-    Ok((local.iter().map(|&k| nodes[k]).collect(), cost, m))
+    })
+}
+
+/// [`search_matrix`] through `nodes` (pool indices) on the costs of the Sun at `at`: pool
+/// indices in path order.
+fn search_path(
+    ctx: &Context,
+    nodes: &[usize],
+    at: Epoch,
+    fixed_first: bool,
+    limit: Duration,
+    options: &PlanOptions,
+) -> Result<Vec<usize>, PlanFailure> {
+    let subset: Vec<Target> = nodes.iter().map(|&i| ctx.targets()[i].clone()).collect();
+    let m = cost_matrix_ms(ctx.profile(), &subset, at)?;
+    let local = search_matrix(&m, fixed_first, limit, options)?;
+    Ok(local.iter().map(|&k| nodes[k]).collect())
 }
 
 /// Nearest neighbour on a full matrix from `first`: the cheapest next target each time.
@@ -223,7 +235,6 @@ fn rolling(
     options: &PlanOptions,
     limit: Duration,
 ) -> Result<Schedule, PlanFailure> {
-    let profile = ctx.profile();
     let targets = ctx.targets();
     let stages = (options.horizon_days / STAGE_DAYS).ceil().max(1.0);
     let stage_limit = Duration::from_secs_f64((limit.as_secs_f64() / stages).max(0.05));
@@ -257,7 +268,7 @@ fn rolling(
             dwell_days += targets[j].duration_s / 86_400.0;
         }
         let fixed = run.last().is_some();
-        let (path, _, _) = search_path(profile, targets, &nodes, now, fixed, stage_limit, options)?;
+        let path = search_path(ctx, &nodes, now, fixed, stage_limit, options)?;
         let queue: Vec<usize> = if fixed { path[1..].to_vec() } else { path };
         let until = now.jd + STAGE_DAYS;
         let before = run.scheduled();
@@ -351,15 +362,7 @@ fn polish(
             nodes.push(obs[k].target);
             k += 1;
         }
-        let (path, _, _) = search_path(
-            ctx.profile(),
-            ctx.targets(),
-            &nodes,
-            at,
-            fixed,
-            stage_limit,
-            options,
-        )?;
+        let path = search_path(ctx, &nodes, at, fixed, stage_limit, options)?;
         order.extend(if fixed { &path[1..] } else { &path[..] });
     }
     Ok(ctx.simulate(&order)?)
@@ -409,22 +412,31 @@ pub fn plan(
     let limit = options
         .time_limit
         .unwrap_or_else(|| default_time_limit(candidates.len()));
-    // Two fifths of the time for the whole-horizon path, two for the stages, one to polish.
-    let share = limit / 5;
     let searched = Instant::now();
-    let (order, order_cost_s, m) = search_path(
-        profile,
-        targets,
-        &candidates,
-        options.start,
-        false,
-        share * 2,
-        options,
-    )?;
-    let whole = ctx.simulate(&order)?;
-    let staged = rolling(&ctx, &candidates, options, share * 2)?;
-    let first = [&whole, &staged]
+    // The costs of the plan start over every candidate: for the whole-horizon path, the
+    // nearest neighbour in time and the comparison of their path costs.
+    let pool: Vec<Target> = candidates.iter().map(|&i| targets[i].clone()).collect();
+    let m = cost_matrix_ms(profile, &pool, options.start)?;
+    let dwell_s: f64 = pool.iter().map(|t| t.duration_s).sum();
+    let whole_fits = candidates.len() <= WHOLE_MAX_TARGETS
+        && dwell_s <= WHOLE_MAX_DWELL_SHARE * options.horizon_days * 86_400.0;
+    // Time: two fifths for the whole-horizon path (when it runs), the rest of four fifths for
+    // the stages, one fifth to polish.
+    let share = limit / 5;
+    let (whole, order) = if whole_fits {
+        let local = search_matrix(&m, false, share * 2, options)?;
+        let order: Vec<usize> = local.iter().map(|&k| candidates[k]).collect();
+        (Some(ctx.simulate(&order)?), local)
+    } else {
+        (None, Vec::new())
+    };
+    let order_cost_s = path_cost_s(&m, &order);
+    let order: Vec<usize> = order.iter().map(|&k| candidates[k]).collect();
+    let rolling_limit = if whole_fits { share * 2 } else { share * 4 };
+    let staged = rolling(&ctx, &candidates, options, rolling_limit)?;
+    let first = whole
         .iter()
+        .chain(std::iter::once(&staged))
         .find_map(|s| s.observations.first().map(|o| o.target));
     let (baseline, baseline_cost_s) = match first {
         Some(f) => {
@@ -437,11 +449,12 @@ pub fn plan(
         }
         None => (ctx.simulate(&[])?, 0.0),
     };
-    let mut tried = vec![
-        (whole, Strategy::Whole),
-        (staged, Strategy::Rolling),
-        (baseline.clone(), Strategy::Nearest),
-    ];
+    let mut tried: Vec<(Schedule, Strategy)> = whole
+        .into_iter()
+        .map(|s| (s, Strategy::Whole))
+        .collect();
+    tried.push((staged, Strategy::Rolling));
+    tried.push((baseline.clone(), Strategy::Nearest));
     let mut best = 0;
     for k in 1..tried.len() {
         if better(&tried[k].0, &tried[best].0) {

@@ -21,6 +21,8 @@
 //!   zero and takes [`Profile::dump_s`]. The momentum left at the end of the plan is charged
 //!   as propellant as if dumped (it takes no time and is not counted as a dump).
 //! - Times are TT Julian dates; a second is 1/86400 day.
+//! - Observations keep [`BAND_MARGIN_DEG`] inside the band (windows and checks both), for the
+//!   accuracy of the solar coordinates; reported elongation ranges are the plain ones.
 //!
 //! **Caution.** A planning aid: plans are proposals to be confirmed by the operations team's
 //! validated tools.
@@ -38,6 +40,10 @@ use super::visibility::{visibility, Visibility};
 use super::{Epoch, Profile, Target};
 
 const SECONDS_PER_DAY: f64 = 86_400.0;
+/// Plans keep this far inside the elongation band, degrees: the low-precision Sun agrees with
+/// astropy's to better than 0.01° (the fixture tests), times are written to the second
+/// (0.00001°), so an observation planned inside the narrowed band is inside the real one.
+pub const BAND_MARGIN_DEG: f64 = 0.02;
 /// Most dumps one wait may need before the model calls the torque too large to wait under.
 pub const MAX_WAIT_DUMPS: usize = 10_000;
 /// How far ahead of a window's start a target is worth a full check, days (an hour covers
@@ -336,11 +342,15 @@ impl<'a> Context<'a> {
             });
         }
         let band = (profile.elongation_min_deg, profile.elongation_max_deg);
-        if !(band.0.is_finite() && band.1.is_finite() && 0.0 <= band.0 && band.0 < band.1) {
+        if !(band.0.is_finite()
+            && band.1.is_finite()
+            && 0.0 <= band.0
+            && band.0 + 2.0 * BAND_MARGIN_DEG < band.1)
+        {
             return Err(PlanError::Profile {
                 what: "elongation_min_deg",
                 value: band.0,
-                expected: "finite, >= 0 and below elongation_max_deg",
+                expected: "finite, >= 0 and more than twice the planning margin below elongation_max_deg",
             });
         }
         let instruments = profile.instruments.len();
@@ -362,10 +372,11 @@ impl<'a> Context<'a> {
             }
             units.push(unit_vector(t.ra_deg, t.dec_deg));
         }
-        let horizon = horizon_days;
+        // Plans keep a margin inside the band for the model's accuracy.
+        let band = (band.0 + BAND_MARGIN_DEG, band.1 - BAND_MARGIN_DEG);
         let visibility = units
             .iter()
-            .map(|u| visibility(u, start, horizon, band))
+            .map(|u| visibility(u, start, horizon_days, band))
             .collect();
         Ok(Context {
             profile,
@@ -739,7 +750,12 @@ impl<'c, 'a> Runner<'c, 'a> {
                 self.drop_target(j, Reason::MomentumTooLarge { momentum_nms: m });
                 None
             }
-            Err(_) => None,
+            // Time only moves on: a dwell that would end after the horizon never fits again.
+            Err(Block::Horizon) => {
+                self.drop_target(j, Reason::HorizonFull);
+                None
+            }
+            Err(Block::Band) => None,
         }
     }
 
@@ -933,7 +949,7 @@ mod tests {
             let u = unit_vector(targets[o.target].ra_deg, targets[o.target].dec_deg);
             for at in [o.start, o.end] {
                 let e = elongation_at(&u, at);
-                assert!((80.0..=140.0).contains(&e), "{e}");
+                assert!((80.0 + BAND_MARGIN_DEG..=140.0 - BAND_MARGIN_DEG).contains(&e), "{e}");
             }
             assert!(o.start.jd >= prev_end.jd && o.end.jd <= ctx.end().jd);
             assert!(close(
