@@ -133,6 +133,9 @@ pub enum Strategy {
     /// Stage by stage: from where the telescope is, an open path through the targets that
     /// fit now, those whose windows close first taken first; re-searched every stage.
     Rolling,
+    /// Stage by stage like [`Strategy::Rolling`], a stage taking the targets cheapest to
+    /// reach from where the telescope is.
+    RollingNear,
     /// The nearest neighbour in time (the baseline), when it was the best start.
     Nearest,
 }
@@ -143,6 +146,7 @@ impl Strategy {
         match self {
             Strategy::Whole => "whole",
             Strategy::Rolling => "rolling",
+            Strategy::RollingNear => "rolling-near",
             Strategy::Nearest => "nearest",
         }
     }
@@ -227,6 +231,15 @@ fn path_cost_s(m: &[Vec<i64>], order: &[usize]) -> f64 {
         .sum()
 }
 
+/// Which targets a stage of the rolling planner takes.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Selection {
+    /// Those whose windows close first.
+    Closing,
+    /// Those cheapest to reach from where the telescope is.
+    Near,
+}
+
 /// The rolling planner (see [`Strategy::Rolling`]); `limit` is the search time of the whole
 /// horizon, shared out by stage.
 fn rolling(
@@ -234,6 +247,7 @@ fn rolling(
     candidates: &[usize],
     options: &PlanOptions,
     limit: Duration,
+    selection: Selection,
 ) -> Result<Schedule, PlanFailure> {
     let targets = ctx.targets();
     let stages = (options.horizon_days / STAGE_DAYS).ceil().max(1.0);
@@ -246,10 +260,14 @@ fn rolling(
             break;
         }
         let now = run.now();
+        let key = |j: usize| match selection {
+            Selection::Closing => run.window_closes(j).map_or(f64::INFINITY, |e| e.jd),
+            Selection::Near => run.transition_s(j),
+        };
         let mut fit: Vec<(f64, usize)> = left
             .iter()
             .filter(|&&j| run.may_fit_soon(j))
-            .map(|&j| (run.window_closes(j).map_or(f64::INFINITY, |e| e.jd), j))
+            .map(|&j| (key(j), j))
             .collect();
         if fit.is_empty() {
             if !run.wait_for_opening(&left) {
@@ -420,8 +438,8 @@ pub fn plan(
     let dwell_s: f64 = pool.iter().map(|t| t.duration_s).sum();
     let whole_fits = candidates.len() <= WHOLE_MAX_TARGETS
         && dwell_s <= WHOLE_MAX_DWELL_SHARE * options.horizon_days * 86_400.0;
-    // Time: two fifths for the whole-horizon path (when it runs), the rest of four fifths for
-    // the stages, one fifth to polish.
+    // Time: two fifths for the whole-horizon path (when it runs), the rest of four fifths
+    // shared by the two rolling searches, one fifth to polish.
     let share = limit / 5;
     let (whole, order) = if whole_fits {
         let local = search_matrix(&m, false, share * 2, options)?;
@@ -432,8 +450,15 @@ pub fn plan(
     };
     let order_cost_s = path_cost_s(&m, &order);
     let order: Vec<usize> = order.iter().map(|&k| candidates[k]).collect();
-    let rolling_limit = if whole_fits { share * 2 } else { share * 4 };
-    let staged = rolling(&ctx, &candidates, options, rolling_limit)?;
+    let rolling_limit = if whole_fits { share } else { share * 2 };
+    let staged = rolling(
+        &ctx,
+        &candidates,
+        options,
+        rolling_limit,
+        Selection::Closing,
+    )?;
+    let near = rolling(&ctx, &candidates, options, rolling_limit, Selection::Near)?;
     let first = whole
         .iter()
         .chain(std::iter::once(&staged))
@@ -449,11 +474,10 @@ pub fn plan(
         }
         None => (ctx.simulate(&[])?, 0.0),
     };
-    let mut tried: Vec<(Schedule, Strategy)> = whole
-        .into_iter()
-        .map(|s| (s, Strategy::Whole))
-        .collect();
+    let mut tried: Vec<(Schedule, Strategy)> =
+        whole.into_iter().map(|s| (s, Strategy::Whole)).collect();
     tried.push((staged, Strategy::Rolling));
+    tried.push((near, Strategy::RollingNear));
     tried.push((baseline.clone(), Strategy::Nearest));
     let mut best = 0;
     for k in 1..tried.len() {

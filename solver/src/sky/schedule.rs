@@ -350,7 +350,8 @@ impl<'a> Context<'a> {
             return Err(PlanError::Profile {
                 what: "elongation_min_deg",
                 value: band.0,
-                expected: "finite, >= 0 and more than twice the planning margin below elongation_max_deg",
+                expected:
+                    "finite, >= 0 and more than twice the planning margin below elongation_max_deg",
             });
         }
         let instruments = profile.instruments.len();
@@ -728,6 +729,23 @@ impl<'c, 'a> Runner<'c, 'a> {
             })
     }
 
+    /// The directed cost from the last target to target `j` with the Sun of now, seconds
+    /// (`j`'s settling when nothing is observed yet; infinite when an attitude is undefined).
+    pub fn transition_s(&self, j: usize) -> f64 {
+        let sun = sun_j2000(self.now).direction;
+        let p = self.ctx.profile;
+        let Some(to) = Pointing::new(&self.ctx.targets[j], &sun) else {
+            return f64::INFINITY;
+        };
+        match self.state.prev {
+            None => p.instruments[to.instrument].settle_s,
+            Some(i) => match Pointing::new(&self.ctx.targets[i], &sun) {
+                Some(from) => cost_checked_s(p, &from, &to),
+                None => f64::INFINITY,
+            },
+        }
+    }
+
     /// When the window of target `j` that is open now (or opens within the hour) closes.
     pub fn window_closes(&self, j: usize) -> Option<Epoch> {
         self.ctx.visibility[j]
@@ -949,7 +967,10 @@ mod tests {
             let u = unit_vector(targets[o.target].ra_deg, targets[o.target].dec_deg);
             for at in [o.start, o.end] {
                 let e = elongation_at(&u, at);
-                assert!((80.0 + BAND_MARGIN_DEG..=140.0 - BAND_MARGIN_DEG).contains(&e), "{e}");
+                assert!(
+                    (80.0 + BAND_MARGIN_DEG..=140.0 - BAND_MARGIN_DEG).contains(&e),
+                    "{e}"
+                );
             }
             assert!(o.start.jd >= prev_end.jd && o.end.jd <= ctx.end().jd);
             assert!(close(
@@ -1016,10 +1037,10 @@ mod tests {
                     Some(w) if w.start.jd > START.jd + 0.5 && w.start.jd < START.jd + 3.0 => {
                         late.get_or_insert(t);
                     }
-                    Some(w) if w.start == START && w.end.jd >= START.jd + 5.0 => {
-                        if steady.len() < 2 {
-                            steady.push(t);
-                        }
+                    Some(w)
+                        if w.start == START && w.end.jd >= START.jd + 5.0 && steady.len() < 2 =>
+                    {
+                        steady.push(t);
                     }
                     _ => {}
                 }
