@@ -94,6 +94,7 @@ pub struct Profile {
     pub dump_s: f64,
 }
 
+pub mod front;
 pub mod geometry;
 pub mod momentum;
 pub mod plan;

@@ -12,8 +12,11 @@
 
 use std::time::{Duration, Instant};
 
+use super::geometry::{norm, Vec3};
+use super::momentum::solar_torque_nm;
 use super::schedule::{Context, PlanError, Runner, Schedule};
-use super::slew::cost_matrix_ms;
+use super::slew::{cost_matrix_ms, Pointing};
+use super::sun::sun_j2000;
 use super::{Epoch, Profile, Target};
 use crate::{Ends, Method, SolveError, Solver, StopHandle};
 
@@ -34,6 +37,9 @@ pub struct PlanOptions {
     pub method: Method,
     /// Stops the search early; the plan is then made from the best order so far.
     pub stop: StopHandle,
+    /// Weight of the momentum surrogate in the searched costs, seconds per N·m·s (0: time
+    /// only). See [`weighted_matrix`].
+    pub momentum_weight_s_per_nms: f64,
 }
 
 impl PlanOptions {
@@ -47,6 +53,7 @@ impl PlanOptions {
             threads: None,
             method: Method::Lk,
             stop: StopHandle::new(),
+            momentum_weight_s_per_nms: 0.0,
         }
     }
 }
@@ -106,6 +113,9 @@ pub struct Plan {
     pub strategy: Strategy,
     /// True when re-searching that order stage by stage improved it (see [`Plan::schedule`]).
     pub polished: bool,
+    /// Every schedule the strategies made (whole, rolling, rolling-near, nearest, polished),
+    /// unscheduled lists not completed: the plans a front search starts from.
+    pub alternatives: Vec<Schedule>,
     /// Its cost on the matrix of the Sun at the plan start, seconds (0 when it did not run).
     pub order_cost_s: f64,
     /// The cost of a nearest-neighbour path through the same targets on the same matrix,
@@ -150,6 +160,57 @@ impl Strategy {
             Strategy::Nearest => "nearest",
         }
     }
+}
+
+/// The solar-pressure momentum impulse of each target's dwell at `at` (its torque at its
+/// nominal attitude times its dwell), N·m·s; zero where the attitude is undefined.
+pub fn impulses_nms(profile: &Profile, targets: &[Target], at: Epoch) -> Vec<Vec3> {
+    let sun = sun_j2000(at);
+    targets
+        .iter()
+        .map(|t| match Pointing::new(t, &sun.direction) {
+            Some(p) => {
+                let tau = solar_torque_nm(profile, &p.attitude, &sun.direction, sun.distance_au);
+                [
+                    tau[0] * t.duration_s,
+                    tau[1] * t.duration_s,
+                    tau[2] * t.duration_s,
+                ]
+            }
+            None => [0.0; 3],
+        })
+        .collect()
+}
+
+/// The cost matrix the searches use, milliseconds: [`cost_matrix_ms`] plus, with a positive
+/// `weight_s_per_nms`, the pairwise momentum surrogate `weight · |I_i + I_j|` on each step
+/// `i → j` (`I` from [`impulses_nms`]): neighbours whose impulses cancel are cheap together,
+/// so the searched order keeps the stored momentum small and dumps rare. The surrogate only
+/// steers the search; plans are always measured by the simulation.
+pub fn weighted_matrix(
+    profile: &Profile,
+    targets: &[Target],
+    at: Epoch,
+    weight_s_per_nms: f64,
+) -> Result<Vec<Vec<i64>>, super::slew::CostError> {
+    let mut m = cost_matrix_ms(profile, targets, at)?;
+    if weight_s_per_nms > 0.0 && weight_s_per_nms.is_finite() {
+        let imp = impulses_nms(profile, targets, at);
+        for (i, row) in m.iter_mut().enumerate() {
+            for (j, cell) in row.iter_mut().enumerate() {
+                if i != j {
+                    let sum = [
+                        imp[i][0] + imp[j][0],
+                        imp[i][1] + imp[j][1],
+                        imp[i][2] + imp[j][2],
+                    ];
+                    let extra = (weight_s_per_nms * norm(&sum) * 1000.0).round();
+                    *cell = cell.saturating_add(extra.min(1e15) as i64);
+                }
+            }
+        }
+    }
+    Ok(m)
 }
 
 /// An open path over the matrix `m` (`m[i][j]`: cost from node `i` to node `j`), starting at
@@ -198,7 +259,12 @@ fn search_path(
     options: &PlanOptions,
 ) -> Result<Vec<usize>, PlanFailure> {
     let subset: Vec<Target> = nodes.iter().map(|&i| ctx.targets()[i].clone()).collect();
-    let m = cost_matrix_ms(ctx.profile(), &subset, at)?;
+    let m = weighted_matrix(
+        ctx.profile(),
+        &subset,
+        at,
+        options.momentum_weight_s_per_nms,
+    )?;
     let local = search_matrix(&m, fixed_first, limit, options)?;
     Ok(local.iter().map(|&k| nodes[k]).collect())
 }
@@ -434,7 +500,12 @@ pub fn plan(
     // The costs of the plan start over every candidate: for the whole-horizon path, the
     // nearest neighbour in time and the comparison of their path costs.
     let pool: Vec<Target> = candidates.iter().map(|&i| targets[i].clone()).collect();
-    let m = cost_matrix_ms(profile, &pool, options.start)?;
+    let m = weighted_matrix(
+        profile,
+        &pool,
+        options.start,
+        options.momentum_weight_s_per_nms,
+    )?;
     let dwell_s: f64 = pool.iter().map(|t| t.duration_s).sum();
     let whole_fits = candidates.len() <= WHOLE_MAX_TARGETS
         && dwell_s <= WHOLE_MAX_DWELL_SHARE * options.horizon_days * 86_400.0;
@@ -485,12 +556,14 @@ pub fn plan(
             best = k;
         }
     }
-    let (mut schedule, strategy) = tried.swap_remove(best);
+    let (mut schedule, strategy) = tried[best].clone();
     let again = polish(&ctx, &schedule, options, share)?;
     let polished = better(&again, &schedule);
+    tried.push((again.clone(), strategy));
     if polished {
         schedule = again;
     }
+    let alternatives: Vec<Schedule> = tried.into_iter().map(|(s, _)| s).collect();
     let search_seconds = searched.elapsed().as_secs_f64();
     let mut baseline = baseline;
     complete(&ctx, &mut schedule, &candidates);
@@ -507,6 +580,7 @@ pub fn plan(
         order,
         strategy,
         polished,
+        alternatives,
         search_seconds,
         seconds: began.elapsed().as_secs_f64(),
     })

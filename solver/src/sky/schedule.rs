@@ -27,7 +27,6 @@
 //! **Caution.** A planning aid: plans are proposals to be confirmed by the operations team's
 //! validated tools.
 
-use std::collections::VecDeque;
 use std::fmt;
 
 use serde::Serialize;
@@ -263,6 +262,7 @@ pub struct Step {
 }
 
 /// Where the plan stands between observations.
+#[derive(Clone)]
 struct State {
     prev: Option<usize>,
     prev_end: Epoch,
@@ -625,6 +625,11 @@ impl<'a> Context<'a> {
     /// it where a target is outside the band at its turn (see the module notes). Targets of
     /// the pool not in `order` are not scheduled and not listed.
     pub fn simulate(&self, order: &[usize]) -> Result<Schedule, PlanError> {
+        self.check_order(order)?;
+        Ok(self.play(order, Runner::new(self), Vec::new(), 0, None))
+    }
+
+    fn check_order(&self, order: &[usize]) -> Result<(), PlanError> {
         let mut seen = vec![false; self.targets.len()];
         for &j in order {
             match seen.get_mut(j) {
@@ -632,13 +637,70 @@ impl<'a> Context<'a> {
                 _ => return Err(PlanError::Order { index: j }),
             }
         }
-        let mut run = Runner::new(self);
-        let mut queue: VecDeque<usize> = order.iter().copied().collect();
-        let mut deferred: Vec<usize> = Vec::new();
+        Ok(())
+    }
+
+    /// [`Context::simulate`], keeping a [`Snapshot`] of the play every `every` positions of
+    /// the order (at least 1), so that orders sharing a prefix with this one can be played
+    /// from the last snapshot inside the prefix ([`Context::resume`]).
+    pub fn simulate_recording(
+        &self,
+        order: &[usize],
+        every: usize,
+    ) -> Result<(Schedule, Vec<Snapshot<'_, 'a>>), PlanError> {
+        self.check_order(order)?;
+        let mut snaps = Vec::new();
+        let s = self.play(
+            order,
+            Runner::new(self),
+            Vec::new(),
+            0,
+            Some((every.max(1), &mut snaps)),
+        );
+        Ok((s, snaps))
+    }
+
+    /// Plays `order` from `snapshot`, which must come from [`Context::simulate_recording`] of
+    /// an order with the same first `snapshot.position()` targets: the result is the same as
+    /// [`Context::simulate`] of `order`, without replaying the common prefix.
+    pub fn resume(
+        &self,
+        snapshot: &Snapshot<'_, 'a>,
+        order: &[usize],
+    ) -> Result<Schedule, PlanError> {
+        self.check_order(order)?;
+        Ok(self.play(
+            order,
+            snapshot.runner.clone(),
+            snapshot.deferred.clone(),
+            snapshot.position,
+            None,
+        ))
+    }
+
+    fn play<'c>(
+        &'c self,
+        order: &[usize],
+        mut run: Runner<'c, 'a>,
+        mut deferred: Vec<usize>,
+        mut pos: usize,
+        mut record: Option<(usize, &mut Vec<Snapshot<'c, 'a>>)>,
+    ) -> Schedule {
         loop {
             let mut chosen = run.first_fitting(&mut deferred, true);
-            while chosen.is_none() {
-                let Some(j) = queue.pop_front() else { break };
+            while chosen.is_none() && pos < order.len() {
+                if let Some((every, snaps)) = record.as_mut() {
+                    let due = pos % *every == 0 && snaps.last().is_none_or(|s| s.position < pos);
+                    if due || (pos == 0 && snaps.is_empty()) {
+                        snaps.push(Snapshot {
+                            position: pos,
+                            runner: run.clone(),
+                            deferred: deferred.clone(),
+                        });
+                    }
+                }
+                let j = order[pos];
+                pos += 1;
                 match run.try_target(j) {
                     Some(step) => chosen = Some(step),
                     None if !run.dropped(j) => deferred.push(j),
@@ -654,12 +716,28 @@ impl<'a> Context<'a> {
                 break;
             }
         }
-        Ok(run.finish(&deferred))
+        run.finish(&deferred)
+    }
+}
+
+/// The state of a play just before it takes the target at [`Snapshot::position`] of its order.
+#[derive(Clone)]
+pub struct Snapshot<'c, 'a> {
+    position: usize,
+    runner: Runner<'c, 'a>,
+    deferred: Vec<usize>,
+}
+
+impl Snapshot<'_, '_> {
+    /// How many targets of the order were taken before it.
+    pub fn position(&self) -> usize {
+        self.position
     }
 }
 
 /// A plan being played out in time, observation by observation: the building block of
 /// [`Context::simulate`] and of planners that choose the next targets as time goes on.
+#[derive(Clone)]
 pub struct Runner<'c, 'a> {
     ctx: &'c Context<'a>,
     state: State,
