@@ -321,9 +321,51 @@ fn check_band(
     horizon_days: f64,
     band: (f64, f64),
 ) -> f64 {
+    let worst = check_plan_rows(&dir.join("plan.csv"), targets, start, horizon_days, band);
+    let start_jd = parse_utc_jd(start);
+    let end_jd = start_jd + horizon_days;
+    // Targets left out: their stated elongation range covers ours, and a target said never to
+    // be in the band is not well inside it at any hour of the horizon.
+    let left = Table::read(&dir.join("unscheduled.csv"));
+    let hours = (horizon_days * 24.0).ceil() as usize;
+    for row in &left.rows {
+        let id = field(row, "id");
+        let &(ra, dec, _) = targets.get(id).unwrap_or_else(|| panic!("unknown id {id}"));
+        let (min, max) = (
+            num(row, "min_elongation_deg"),
+            num(row, "max_elongation_deg"),
+        );
+        let never = field(row, "reason") == "never_in_band";
+        for k in 0..=hours {
+            let jd = (start_jd + k as f64 / 24.0).min(end_jd);
+            let e = elongation_at(ra, dec, jd);
+            assert!(
+                e >= min - TOLERANCE_DEG && e <= max + TOLERANCE_DEG,
+                "{id}: elongation {e:.4}° at hour {k} outside its stated range [{min}, {max}]"
+            );
+            if never {
+                assert!(
+                    e < band.0 + TOLERANCE_DEG || e > band.1 - TOLERANCE_DEG,
+                    "{id} said never in the band, but its elongation is {e:.4}° at hour {k}"
+                );
+            }
+        }
+    }
+    worst
+}
+
+/// Checks every observation of the plan table at `path` against the band with this file's
+/// Sun, and its elongation columns against that Sun; returns the largest difference.
+fn check_plan_rows(
+    path: &Path,
+    targets: &HashMap<String, (f64, f64, f64)>,
+    start: &str,
+    horizon_days: f64,
+    band: (f64, f64),
+) -> f64 {
     let (lo, hi) = (band.0 - TOLERANCE_DEG, band.1 + TOLERANCE_DEG);
-    let plan = Table::read(&dir.join("plan.csv"));
-    assert!(!plan.rows.is_empty(), "{}: empty plan", dir.display());
+    let plan = Table::read(path);
+    assert!(!plan.rows.is_empty(), "{}: empty plan", path.display());
     let start_jd = parse_utc_jd(start);
     let end_jd = start_jd + horizon_days;
     let mut worst: f64 = 0.0;
@@ -354,33 +396,6 @@ fn check_band(
                 diff <= TOLERANCE_DEG,
                 "{id} at {when}: {elong_col} = {theirs}, reference {mine:.4}"
             );
-        }
-    }
-    // Targets left out: their stated elongation range covers ours, and a target said never to
-    // be in the band is not well inside it at any hour of the horizon.
-    let left = Table::read(&dir.join("unscheduled.csv"));
-    let hours = (horizon_days * 24.0).ceil() as usize;
-    for row in &left.rows {
-        let id = field(row, "id");
-        let &(ra, dec, _) = targets.get(id).unwrap_or_else(|| panic!("unknown id {id}"));
-        let (min, max) = (
-            num(row, "min_elongation_deg"),
-            num(row, "max_elongation_deg"),
-        );
-        let never = field(row, "reason") == "never_in_band";
-        for k in 0..=hours {
-            let jd = (start_jd + k as f64 / 24.0).min(end_jd);
-            let e = elongation_at(ra, dec, jd);
-            assert!(
-                e >= min - TOLERANCE_DEG && e <= max + TOLERANCE_DEG,
-                "{id}: elongation {e:.4}° at hour {k} outside its stated range [{min}, {max}]"
-            );
-            if never {
-                assert!(
-                    e < band.0 + TOLERANCE_DEG || e > band.1 - TOLERANCE_DEG,
-                    "{id} said never in the band, but its elongation is {e:.4}° at hour {k}"
-                );
-            }
         }
     }
     worst
@@ -852,4 +867,46 @@ fn negative_numbers_as_separate_arguments_are_refused_in_one_line() {
         &["sky", "plan", "--horizon-days", "-1", "--time-limit", "1"],
         &["--horizon-days"],
     );
+}
+
+#[test]
+fn every_front_plan_passes_the_band_check_and_the_front_is_non_dominated() {
+    let root = tempfile::tempdir().unwrap();
+    let dir = root.path().join("front");
+    let o = run_demo(&dir, &["--front", "--time-limit", "4", "--seed", "2", "--json"]);
+    let j: serde_json::Value = serde_json::from_slice(&o.stdout).expect("one JSON object");
+    let rows = j["front"].as_array().expect("front rows");
+    assert!(rows.len() >= 2, "{} plans", rows.len());
+    assert!(j["hypervolume"].as_f64().unwrap() > 0.0);
+    // front.csv holds the same rows; no plan dominates another (minimising both columns).
+    let table = Table::read(&dir.join("front.csv"));
+    assert_eq!(table.rows.len(), rows.len());
+    let pts: Vec<(f64, f64)> = table
+        .rows
+        .iter()
+        .map(|r| (num(r, "overhead_s"), num(r, "propellant_kg")))
+        .collect();
+    for (i, a) in pts.iter().enumerate() {
+        for (k, b) in pts.iter().enumerate() {
+            let dominates = b.0 <= a.0 && b.1 <= a.1 && (b.0 < a.0 || b.1 < a.1);
+            assert!(i == k || !dominates, "plan {} dominates plan {}", k + 1, i + 1);
+        }
+    }
+    // The fastest end is no slower than the single-objective plan (overhead without waiting,
+    // the front's time objective; front.csv rounds to 0.1 s).
+    let single = j["overhead_s"].as_f64().unwrap() - j["wait_s"].as_f64().unwrap();
+    assert!(pts[0].0 <= single + 0.05, "{} > {single}", pts[0].0);
+    // Every plan passes the same independent check as single plans, and schedules as many
+    // observations as front.csv says.
+    let targets = read_targets(&demo_targets_path());
+    for (k, row) in table.rows.iter().enumerate() {
+        let path = dir.join(format!("plan-{}.csv", k + 1));
+        check_plan_rows(&path, &targets, DEMO_START, 14.0, demo_band());
+        assert_eq!(
+            Table::read(&path).rows.len(),
+            num(row, "scheduled") as usize
+        );
+    }
+    let html = std::fs::read_to_string(dir.join("report.html")).unwrap();
+    assert!(html.contains("operations team") && html.contains("front.svg"));
 }

@@ -5,13 +5,17 @@
 
 use super::{write_file, CliError};
 use clap::{Args, Subcommand};
+use serde_json::json;
 use std::path::{Path, PathBuf};
 use std::time::Duration;
+use wend::sky::front::{search_front, Front, FrontOptions, FrontProgress};
 use wend::sky::plan::{plan, PlanOptions, DEFAULT_HORIZON_DAYS};
+use wend::sky::schedule::Schedule;
 use wend::sky::sun::sun_j2000;
 use wend::sky::{Epoch, Profile, Target};
 use wend::Method;
 use wend_bench::sky::draw::{write_momentum_chart, write_sky_map, MomentumTrace, SkyMap};
+use wend_bench::sky::front_report::{write_front_svg, write_report_html, FrontReport, FrontRow};
 use wend_bench::sky::output::{
     self, format_utc, overhead_ratio, parse_utc, plan_json, CAUTION, DEMO_START_UTC,
 };
@@ -63,6 +67,10 @@ pub struct PlanArgs {
     /// Print one JSON object on stdout instead of the text summary.
     #[arg(long)]
     json: bool,
+    /// Search the Pareto front of plans over overhead time and propellant (for --time-limit
+    /// seconds, default 30) and write front.csv, plan-K.csv, front.svg and report.html.
+    #[arg(long)]
+    front: bool,
 }
 
 #[derive(Args, Debug)]
@@ -170,11 +178,41 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
             a.horizon_days
         );
     }
-    let made = plan(&profile, &targets, &options).map_err(input_error)?;
-    if let Some(dir) = &a.out {
-        write_outputs(dir, &profile, &targets, &made, start, a.horizon_days)?;
+    let (made, front) = if a.front {
+        let mut fo = FrontOptions::new(options);
+        if let Some(t) = time_limit {
+            fo.time_limit = t;
+        }
+        let quiet = a.json;
+        let progress = move |p: FrontProgress| {
+            if !quiet {
+                eprintln!(
+                    "front: {} plans, hypervolume {:.3} h·g, {} plans played, {:.0} s",
+                    p.plans,
+                    p.hypervolume / 3600.0 * 1000.0,
+                    p.evaluations,
+                    p.seconds
+                );
+            }
+        };
+        let front = search_front(&profile, &targets, &fo, &progress).map_err(input_error)?;
+        (front.single.clone(), Some(front))
+    } else {
+        (
+            plan(&profile, &targets, &options).map_err(input_error)?,
+            None,
+        )
+    };
+    let mut summary = plan_json(&profile, &targets, &made, start, a.horizon_days);
+    if let Some(front) = &front {
+        add_front_to_summary(&mut summary, front);
     }
-    let summary = plan_json(&profile, &targets, &made, start, a.horizon_days);
+    if let Some(dir) = &a.out {
+        write_outputs(dir, &profile, &targets, &made, &summary, start)?;
+        if let Some(front) = &front {
+            write_front_files(dir, &profile, &targets, front, start)?;
+        }
+    }
     if a.json {
         println!("{summary}");
         return Ok(());
@@ -221,10 +259,43 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
         if made.polished { ", polished" } else { "" },
         made.search_seconds
     );
+    if let Some(front) = &front {
+        println!(
+            "front: {} plans reported of {} non-dominated found ({} plans played in {:.1} s){}",
+            front.plans.len(),
+            front.archive_plans,
+            front.evaluations,
+            front.seconds,
+            front.knee.map_or(String::new(), |k| format!(", knee plan {}", k + 1))
+        );
+        if let (Some(f), Some(l)) = (front.plans.first(), front.plans.last()) {
+            println!(
+                "  fastest (plan 1): {:.2} h overhead without waiting, {:.1} g; most sparing (plan {}): {:.2} h, {:.1} g",
+                f.overhead_s / 3600.0,
+                f.propellant_kg * 1000.0,
+                front.plans.len(),
+                l.overhead_s / 3600.0,
+                l.propellant_kg * 1000.0
+            );
+        }
+        if front.scalarised_hypervolume > 0.0 {
+            println!(
+                "  hypervolume {:.1} h·g; scalarised runs alone {:.1} h·g (ratio {:.3})",
+                front.archive_hypervolume / 3.6,
+                front.scalarised_hypervolume / 3.6,
+                front.archive_hypervolume / front.scalarised_hypervolume
+            );
+        }
+    }
     if let Some(dir) = &a.out {
         println!(
-            "wrote {}: plan.csv, unscheduled.csv, sky-map.svg, momentum.svg, summary.json",
-            dir.display()
+            "wrote {}: plan.csv, unscheduled.csv, sky-map.svg, momentum.svg, summary.json{}",
+            dir.display(),
+            if front.is_some() {
+                ", front.csv, plan-K.csv, front.svg, report.html"
+            } else {
+                ""
+            }
         );
     }
     Ok(())
@@ -250,26 +321,46 @@ fn write_outputs(
     profile: &Profile,
     targets: &[Target],
     made: &wend::sky::plan::Plan,
+    summary: &serde_json::Value,
     start: Epoch,
-    horizon_days: f64,
 ) -> Result<(), CliError> {
     std::fs::create_dir_all(dir)
         .map_err(|e| CliError::Failure(format!("{}: cannot create: {e}", dir.display())))?;
     let s = &made.schedule;
-    write_file(&dir.join("plan.csv"), |w| {
-        output::write_plan_csv(w, targets, s)
-    })?;
     write_file(&dir.join("unscheduled.csv"), |w| {
         output::write_unscheduled_csv(w, targets, &s.unscheduled)
     })?;
-    let summary = plan_json(profile, targets, made, start, horizon_days);
     write_file(&dir.join("summary.json"), |w| {
         use std::io::Write;
         writeln!(
             w,
             "{}",
-            serde_json::to_string_pretty(&summary).unwrap_or_default()
+            serde_json::to_string_pretty(summary).unwrap_or_default()
         )
+    })?;
+    write_plan_files(
+        dir,
+        ["plan.csv", "sky-map.svg", "momentum.svg"],
+        profile,
+        targets,
+        s,
+        start,
+        "",
+    )
+}
+
+/// Writes one plan's table, sky map and momentum chart under the three `names`.
+fn write_plan_files(
+    dir: &Path,
+    names: [&str; 3],
+    profile: &Profile,
+    targets: &[Target],
+    s: &Schedule,
+    start: Epoch,
+    label: &str,
+) -> Result<(), CliError> {
+    write_file(&dir.join(names[0]), |w| {
+        output::write_plan_csv(w, targets, s)
     })?;
     let mut scheduled = vec![false; targets.len()];
     for o in &s.observations {
@@ -288,7 +379,7 @@ fn write_outputs(
         })
         .collect();
     let title = format!(
-        "{}: {} of {} targets, {} to {}",
+        "{}{label}: {} of {} targets, {} to {}",
         profile.name,
         s.observations.len(),
         targets.len(),
@@ -297,7 +388,7 @@ fn write_outputs(
     );
     let draw_error = |e: wend_bench::sky::draw::DrawError| CliError::Failure(e.to_string());
     write_sky_map(
-        &dir.join("sky-map.svg"),
+        &dir.join(names[1]),
         &SkyMap {
             title: &title,
             targets,
@@ -316,11 +407,11 @@ fn write_outputs(
         .collect();
     let dumps_hours: Vec<f64> = s.dump_times_s.iter().map(|t| t / 3600.0).collect();
     let momentum_title = format!(
-        "{}: stored momentum, {} dumps, {:.4} kg propellant",
+        "{}{label}: stored momentum, {} dumps, {:.4} kg propellant",
         profile.name, s.dumps, s.propellant_kg
     );
     write_momentum_chart(
-        &dir.join("momentum.svg"),
+        &dir.join(names[2]),
         &MomentumTrace {
             title: &momentum_title,
             points: &points,
@@ -330,6 +421,188 @@ fn write_outputs(
             caution: CAUTION,
         },
     )
-    .map_err(draw_error)?;
+    .map_err(draw_error)
+}
+
+/// One row of front.csv and of the JSON `front` array for each plan of the front.
+fn front_rows(front: &Front) -> Vec<FrontRow> {
+    front
+        .plans
+        .iter()
+        .enumerate()
+        .map(|(k, p)| FrontRow {
+            plan: k + 1,
+            overhead_s: p.overhead_s,
+            wait_s: p.schedule.wait_s,
+            propellant_kg: p.propellant_kg,
+            dumps: p.schedule.dumps,
+            scheduled: p.schedule.observations.len(),
+        })
+        .collect()
+}
+
+/// Adds the front to the JSON summary: `front` (the rows of front.csv), `hypervolume` and its
+/// reference point, the scalarised runs' hypervolume and their ratio, the knee, the extremes.
+fn add_front_to_summary(summary: &mut serde_json::Value, front: &Front) {
+    let rows: Vec<serde_json::Value> = front_rows(front)
+        .iter()
+        .map(|r| {
+            json!({
+                "plan": r.plan,
+                "overhead_s": r.overhead_s,
+                "propellant_kg": r.propellant_kg,
+                "dumps": r.dumps,
+                "scheduled": r.scheduled,
+                "wait_s": r.wait_s,
+            })
+        })
+        .collect();
+    let ratio = (front.scalarised_hypervolume > 0.0)
+        .then(|| front.archive_hypervolume / front.scalarised_hypervolume);
+    let extremes = (!front.plans.is_empty()).then(|| {
+        let last = front.plans.len() - 1;
+        json!({
+            "fastest_plan": 1,
+            "most_sparing_plan": last + 1,
+            "propellant_ratio_sparing_to_fastest": if front.plans[0].propellant_kg > 0.0 {
+                Some(front.plans[last].propellant_kg / front.plans[0].propellant_kg)
+            } else {
+                None
+            },
+        })
+    });
+    if let Some(obj) = summary.as_object_mut() {
+        obj.insert("front".into(), json!(rows));
+        obj.insert(
+            "front_objectives".into(),
+            json!("overhead_s without waiting (seconds), propellant_kg"),
+        );
+        obj.insert("hypervolume".into(), json!(front.hypervolume));
+        obj.insert(
+            "hypervolume_reference".into(),
+            json!([front.reference.0, front.reference.1]),
+        );
+        obj.insert(
+            "scalarised_hypervolume".into(),
+            json!(front.scalarised_hypervolume),
+        );
+        obj.insert("scalarised_plans".into(), json!(front.scalarised_plans));
+        obj.insert("archive_plans".into(), json!(front.archive_plans));
+        obj.insert(
+            "archive_hypervolume".into(),
+            json!(front.archive_hypervolume),
+        );
+        obj.insert("hypervolume_ratio".into(), json!(ratio));
+        obj.insert("knee_plan".into(), json!(front.knee.map(|k| k + 1)));
+        obj.insert("extremes".into(), json!(extremes));
+        obj.insert("front_evaluations".into(), json!(front.evaluations));
+        obj.insert("front_seconds".into(), json!(front.seconds));
+    }
+}
+
+/// front.csv, plan-K.csv (with plan-K-sky-map.svg and plan-K-momentum.svg), front.svg and
+/// report.html.
+fn write_front_files(
+    dir: &Path,
+    profile: &Profile,
+    targets: &[Target],
+    front: &Front,
+    start: Epoch,
+) -> Result<(), CliError> {
+    remove_old_plan_files(dir)?;
+    let rows = front_rows(front);
+    write_file(&dir.join("front.csv"), |w| {
+        use std::io::Write;
+        writeln!(w, "# CAUTION: {CAUTION}")?;
+        writeln!(w, "plan,overhead_s,propellant_kg,dumps,scheduled,wait_s")?;
+        for r in &rows {
+            writeln!(
+                w,
+                "{},{:.1},{:.6},{},{},{:.1}",
+                r.plan, r.overhead_s, r.propellant_kg, r.dumps, r.scheduled, r.wait_s
+            )?;
+        }
+        Ok(())
+    })?;
+    for (k, p) in front.plans.iter().enumerate() {
+        let names = [
+            format!("plan-{}.csv", k + 1),
+            format!("plan-{}-sky-map.svg", k + 1),
+            format!("plan-{}-momentum.svg", k + 1),
+        ];
+        write_plan_files(
+            dir,
+            [&names[0], &names[1], &names[2]],
+            profile,
+            targets,
+            &p.schedule,
+            start,
+            &format!(" (plan {})", k + 1),
+        )?;
+    }
+    let title = format!(
+        "{}: {} targets from {}, the front of overhead against propellant",
+        profile.name,
+        targets.len(),
+        format_utc(start)
+    );
+    let single = &front.single.schedule;
+    let notes = vec![
+        format!(
+            "Time objective: overhead without waiting (slews, settling, thermal, setups, dumps); waiting is reported apart. Every plan schedules at least {} observations, as many as the single-objective plan.",
+            front.min_scheduled
+        ),
+        format!(
+            "Single-objective plan (wend sky plan without --front): overhead without waiting {:.2} h, propellant {:.1} g.",
+            (single.overhead_s - single.wait_s) / 3600.0,
+            single.propellant_kg * 1000.0
+        ),
+        format!(
+            "Hypervolume against the same reference: scalarised runs alone {:.1} h·g ({} plans); with the Pareto local search {:.1} h·g ({} non-dominated plans, of which this report shows {} spread along the front, {:.1} h·g).",
+            front.scalarised_hypervolume / 3.6,
+            front.scalarised_plans,
+            front.archive_hypervolume / 3.6,
+            front.archive_plans,
+            front.plans.len(),
+            front.hypervolume / 3.6
+        ),
+        format!(
+            "{} plans played out in {:.1} s.",
+            front.evaluations, front.seconds
+        ),
+    ];
+    let report = FrontReport {
+        title: &title,
+        caution: CAUTION,
+        front: &rows,
+        knee: front.knee,
+        dominated: &front.dominated,
+        hypervolume: front.hypervolume,
+        reference: front.reference,
+        notes: &notes,
+    };
+    let draw_error = |e: wend_bench::sky::draw::DrawError| CliError::Failure(e.to_string());
+    write_front_svg(&dir.join("front.svg"), &report).map_err(draw_error)?;
+    write_report_html(&dir.join("report.html"), &report).map_err(draw_error)
+}
+
+/// Removes `plan-K.csv`, `plan-K-sky-map.svg` and `plan-K-momentum.svg` of an earlier front
+/// in `dir`, so that a smaller front does not leave plans of another run beside it.
+fn remove_old_plan_files(dir: &Path) -> Result<(), CliError> {
+    let fail = |e: std::io::Error| CliError::Failure(format!("{}: {e}", dir.display()));
+    for entry in std::fs::read_dir(dir).map_err(fail)? {
+        let path = entry.map_err(fail)?.path();
+        let Some(name) = path.file_name().and_then(|n| n.to_str()) else {
+            continue;
+        };
+        let Some(rest) = name.strip_prefix("plan-") else {
+            continue;
+        };
+        let digits = rest.bytes().take_while(u8::is_ascii_digit).count();
+        let tail = &rest[digits..];
+        if digits > 0 && [".csv", "-sky-map.svg", "-momentum.svg"].contains(&tail) {
+            std::fs::remove_file(&path).map_err(fail)?;
+        }
+    }
     Ok(())
 }

@@ -241,7 +241,12 @@ pub struct Front {
     pub plans: Vec<FrontPlan>,
     /// Index into [`Front::plans`] of the knee.
     pub knee: Option<usize>,
-    /// Hypervolume of the front against [`Front::reference`], s·kg.
+    /// Non-dominated plans the search found; [`Front::plans`] reports at most
+    /// [`MAX_FRONT_PLANS`] of them, spread along the front.
+    pub archive_plans: usize,
+    /// Hypervolume of every non-dominated plan found, against [`Front::reference`], s·kg.
+    pub archive_hypervolume: f64,
+    /// Hypervolume of the reported plans against [`Front::reference`], s·kg.
     pub hypervolume: f64,
     /// Hypervolume of the front of the scalarised runs alone, same reference, s·kg.
     pub scalarised_hypervolume: f64,
@@ -260,6 +265,59 @@ pub struct Front {
     pub evaluations: usize,
     /// Wall-clock seconds.
     pub seconds: f64,
+}
+
+/// Most plans a front reports: the two extremes, the knee and plans spread evenly between
+/// them (a committee reads a table of them; the archive may hold hundreds a few seconds apart).
+pub const MAX_FRONT_PLANS: usize = 25;
+
+/// At most `keep` plans of a front sorted by time: both extremes, the knee, then each time the
+/// plan farthest (in objectives scaled by the extremes) from those already taken; sorted by
+/// time.
+pub fn spread(front: Vec<FrontPlan>, keep: usize) -> Vec<FrontPlan> {
+    if front.len() <= keep.max(2) {
+        return front;
+    }
+    let pts: Vec<Point> = front.iter().map(FrontPlan::point).collect();
+    let (x0, x1) = (pts[0].0, pts[pts.len() - 1].0);
+    let (y0, y1) = (pts[pts.len() - 1].1, pts[0].1);
+    let sx = (x1 - x0).max(f64::MIN_POSITIVE);
+    let sy = (y1 - y0).max(f64::MIN_POSITIVE);
+    let scaled: Vec<Point> = pts
+        .iter()
+        .map(|p| ((p.0 - x0) / sx, (p.1 - y0) / sy))
+        .collect();
+    let mut taken = vec![0, pts.len() - 1];
+    if let Some(k) = knee(&pts) {
+        taken.push(k);
+    }
+    let dist = |a: Point, b: Point| ((a.0 - b.0).powi(2) + (a.1 - b.1).powi(2)).sqrt();
+    while taken.len() < keep.max(2) {
+        let next = (0..pts.len())
+            .filter(|k| !taken.contains(k))
+            .map(|k| {
+                let d = taken
+                    .iter()
+                    .map(|&t| dist(scaled[k], scaled[t]))
+                    .fold(f64::INFINITY, f64::min);
+                (k, d)
+            })
+            .max_by(|a, b| a.1.total_cmp(&b.1).then(b.0.cmp(&a.0)));
+        match next {
+            Some((k, _)) => taken.push(k),
+            None => break,
+        }
+    }
+    taken.sort_unstable();
+    taken.dedup();
+    let mut front = front;
+    let mut k = 0;
+    front.retain(|_| {
+        let keep_it = taken.binary_search(&k).is_ok();
+        k += 1;
+        keep_it
+    });
+    front
 }
 
 /// Most dominated points kept for pictures.
@@ -414,11 +472,19 @@ pub fn search_front(
             last_report = Instant::now();
         }
     }
-    let plans = archive.sorted();
-    let points: Vec<Point> = plans.iter().map(FrontPlan::point).collect();
-    let both: Vec<Point> = points.iter().chain(&scalarised).copied().collect();
+    let all = archive.sorted();
+    let all_points: Vec<Point> = all.iter().map(FrontPlan::point).collect();
+    let both: Vec<Point> = all_points.iter().chain(&scalarised).copied().collect();
     let reference = nadir(&both);
+    let archive_plans = all.len();
+    let plans = spread(all, MAX_FRONT_PLANS);
+    let points: Vec<Point> = plans.iter().map(FrontPlan::point).collect();
     let on_front = |p: &Point| points.iter().any(|q| same(*q, *p));
+    // Archive plans left out of the reported front are drawn with the dominated ones.
+    let dominated: Vec<Point> = dominated
+        .into_iter()
+        .chain(all_points.iter().copied())
+        .collect();
     let mut dominated: Vec<Point> = dominated.into_iter().filter(|p| !on_front(p)).collect();
     if dominated.len() > MAX_DOMINATED_KEPT {
         let step = dominated.len() as f64 / MAX_DOMINATED_KEPT as f64;
@@ -428,6 +494,8 @@ pub fn search_front(
     }
     Ok(Front {
         knee: knee(&points),
+        archive_hypervolume: hypervolume(&all_points, reference),
+        archive_plans,
         hypervolume: hypervolume(&points, reference),
         scalarised_hypervolume: hypervolume(&scalarised, reference),
         scalarised_plans: scalarised.len(),
@@ -596,6 +664,38 @@ mod tests {
     }
 
     #[test]
+    fn spreading_keeps_the_extremes_the_knee_and_the_most_distant_plans() {
+        // Eleven points on a convex front with a knee at (1, 1): keeping 4 takes both
+        // extremes (0, 10) and (10, 0), the knee (1, 1), then the point farthest from those
+        // three in scaled objectives (x/10, y/10): (5, 0.5), whose nearest taken point is the
+        // knee at √(0.4² + 0.05²) ≈ 0.4031, just beyond (0.2, 6), 0.4005 from (0, 10).
+        let pts = [
+            (0.0, 10.0),
+            (0.2, 6.0),
+            (0.5, 3.0),
+            (1.0, 1.0),
+            (2.0, 0.9),
+            (3.0, 0.8),
+            (4.0, 0.7),
+            (5.0, 0.5),
+            (7.0, 0.3),
+            (9.0, 0.1),
+            (10.0, 0.0),
+        ];
+        let front: Vec<FrontPlan> = pts
+            .iter()
+            .enumerate()
+            .map(|(k, &p)| plan_at(p, k))
+            .collect();
+        let kept: Vec<Point> = spread(front.clone(), 4)
+            .iter()
+            .map(FrontPlan::point)
+            .collect();
+        assert_eq!(kept, vec![(0.0, 10.0), (1.0, 1.0), (5.0, 0.5), (10.0, 0.0)]);
+        assert_eq!(spread(front, 20).len(), 11);
+    }
+
+    #[test]
     fn resuming_from_a_snapshot_plays_exactly_like_a_full_play() {
         let p = sky_profile();
         let targets = sky_targets(90, 6);
@@ -651,7 +751,9 @@ mod tests {
             assert_eq!(again.observations, fp.schedule.observations);
             assert!(fp.schedule.observations.len() >= front.min_scheduled);
         }
-        assert!(front.hypervolume >= front.scalarised_hypervolume);
+        assert!(front.archive_hypervolume >= front.scalarised_hypervolume);
+        assert!(front.archive_hypervolume >= front.hypervolume);
+        assert!(front.plans.len() <= MAX_FRONT_PLANS && front.archive_plans >= front.plans.len());
         assert!(front.reference.0 > pts.last().unwrap().0 && front.reference.1 > pts[0].1);
     }
 }
