@@ -19,6 +19,7 @@
 
 pub mod demo;
 pub mod draw;
+pub mod front_report;
 pub mod output;
 pub mod profile;
 pub mod targets;

@@ -1,0 +1,1 @@
+//! The front's picture and the decision report.
