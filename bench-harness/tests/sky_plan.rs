@@ -873,7 +873,10 @@ fn negative_numbers_as_separate_arguments_are_refused_in_one_line() {
 fn every_front_plan_passes_the_band_check_and_the_front_is_non_dominated() {
     let root = tempfile::tempdir().unwrap();
     let dir = root.path().join("front");
-    let o = run_demo(&dir, &["--front", "--time-limit", "4", "--seed", "2", "--json"]);
+    let o = run_demo(
+        &dir,
+        &["--front", "--time-limit", "4", "--seed", "2", "--json"],
+    );
     let j: serde_json::Value = serde_json::from_slice(&o.stdout).expect("one JSON object");
     let rows = j["front"].as_array().expect("front rows");
     assert!(rows.len() >= 2, "{} plans", rows.len());
@@ -889,7 +892,12 @@ fn every_front_plan_passes_the_band_check_and_the_front_is_non_dominated() {
     for (i, a) in pts.iter().enumerate() {
         for (k, b) in pts.iter().enumerate() {
             let dominates = b.0 <= a.0 && b.1 <= a.1 && (b.0 < a.0 || b.1 < a.1);
-            assert!(i == k || !dominates, "plan {} dominates plan {}", k + 1, i + 1);
+            assert!(
+                i == k || !dominates,
+                "plan {} dominates plan {}",
+                k + 1,
+                i + 1
+            );
         }
     }
     // The fastest end is no slower than the single-objective plan (overhead without waiting,

@@ -266,7 +266,9 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
             front.archive_plans,
             front.evaluations,
             front.seconds,
-            front.knee.map_or(String::new(), |k| format!(", knee plan {}", k + 1))
+            front
+                .knee
+                .map_or(String::new(), |k| format!(", knee plan {}", k + 1))
         );
         if let (Some(f), Some(l)) = (front.plans.first(), front.plans.last()) {
             println!(

@@ -690,7 +690,8 @@ impl<'a> Context<'a> {
             let mut chosen = run.first_fitting(&mut deferred, true);
             while chosen.is_none() && pos < order.len() {
                 if let Some((every, snaps)) = record.as_mut() {
-                    let due = pos % *every == 0 && snaps.last().is_none_or(|s| s.position < pos);
+                    let due =
+                        pos.is_multiple_of(*every) && snaps.last().is_none_or(|s| s.position < pos);
                     if due || (pos == 0 && snaps.is_empty()) {
                         snaps.push(Snapshot {
                             position: pos,
