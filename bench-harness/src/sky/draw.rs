@@ -148,50 +148,50 @@ fn save(path: &Path, name: &str, svg: String) -> Result<(), DrawError> {
 // ---------------------------------------------------------------------------------------------
 // Look shared by both pictures.
 
-type Area<'b> = DrawingArea<SVGBackend<'b>, Shift>;
-type DrawResult<T> = Result<T, DrawingAreaErrorKind<std::io::Error>>;
+pub(super) type Area<'b> = DrawingArea<SVGBackend<'b>, Shift>;
+pub(super) type DrawResult<T> = Result<T, DrawingAreaErrorKind<std::io::Error>>;
 
 /// Generic family name only: SVG viewers pick an installed face.
-const FONT: &str = "sans-serif";
+pub(super) const FONT: &str = "sans-serif";
 // Font sizes as the drawing library takes them; it writes them at 1/1.24 of these.
-const TITLE_PX: u32 = 26;
-const AXIS_TITLE_PX: u32 = 21;
-const TICK_PX: u32 = 18;
-const LEGEND_PX: u32 = 16;
-const CAUTION_PX: u32 = 19;
+pub(super) const TITLE_PX: u32 = 26;
+pub(super) const AXIS_TITLE_PX: u32 = 21;
+pub(super) const TICK_PX: u32 = 18;
+pub(super) const LEGEND_PX: u32 = 16;
+pub(super) const CAUTION_PX: u32 = 19;
 const GRID_LABEL_PX: u32 = 15;
 const SUN_LABEL_PX: u32 = 17;
 
 // Okabe and Ito's colour-blind-safe hues, and greys.
-const BLUE: RGBColor = RGBColor(0, 114, 178);
-const VERMILLION: RGBColor = RGBColor(213, 94, 0);
+pub(super) const BLUE: RGBColor = RGBColor(0, 114, 178);
+pub(super) const VERMILLION: RGBColor = RGBColor(213, 94, 0);
 const GREEN: RGBColor = RGBColor(0, 158, 115);
 const PURPLE: RGBColor = RGBColor(204, 121, 167);
 const ORANGE: RGBColor = RGBColor(230, 159, 0);
-const INK: RGBColor = RGBColor(0, 0, 0);
+pub(super) const INK: RGBColor = RGBColor(0, 0, 0);
 const ZONE_ALWAYS: RGBColor = RGBColor(150, 150, 150);
 const ZONE_SOMETIMES: RGBColor = RGBColor(222, 222, 222);
-const GRID: RGBColor = RGBColor(185, 185, 185);
-const OUTLINE: RGBColor = RGBColor(70, 70, 70);
-const SOFT_TEXT: RGBColor = RGBColor(90, 90, 90);
+pub(super) const GRID: RGBColor = RGBColor(185, 185, 185);
+pub(super) const OUTLINE: RGBColor = RGBColor(70, 70, 70);
+pub(super) const SOFT_TEXT: RGBColor = RGBColor(90, 90, 90);
 
 /// Pixels from the edge of a picture to its text.
-const PAD: i32 = 14;
+pub(super) const PAD: i32 = 14;
 
 /// The size in pixels at which text of library size `px` is written.
-fn em(px: u32) -> f64 {
+pub(super) fn em(px: u32) -> f64 {
     f64::from(px) / 1.24
 }
 
 /// Distance between the baselines of two lines of text of library size `px`, pixels.
-fn line_step(px: u32) -> i32 {
+pub(super) fn line_step(px: u32) -> i32 {
     (em(px) * 1.3).ceil() as i32
 }
 
 /// Greedy word wrap of `text` into lines no wider than `width_px` at library size `px`,
 /// taking about 0.6 em a character (a common sans-serif face averages less). Newlines in
 /// `text` start new lines; blank lines are dropped; a word longer than a line is cut.
-fn wrap(text: &str, px: u32, width_px: u32) -> Vec<String> {
+pub(super) fn wrap(text: &str, px: u32, width_px: u32) -> Vec<String> {
     let per_char = 0.6 * em(px);
     let max = ((f64::from(width_px) / per_char).floor() as usize).max(8);
     let mut lines = Vec::new();
@@ -221,7 +221,7 @@ fn wrap(text: &str, px: u32, width_px: u32) -> Vec<String> {
 }
 
 /// Height in pixels of a block of `n` lines at library size `px`, with `PAD` above and below.
-fn block_height(n: usize, px: u32) -> u32 {
+pub(super) fn block_height(n: usize, px: u32) -> u32 {
     (n as i32 * line_step(px) + 2 * PAD) as u32
 }
 
@@ -262,7 +262,7 @@ fn draw_caution(area: &Area, lines: &[String]) -> DrawResult<()> {
 
 /// A tick label for `v` on an axis spanning `span`: enough decimals to tell ticks apart,
 /// no trailing zeros.
-fn number_label(v: f64, span: f64) -> String {
+pub(super) fn number_label(v: f64, span: f64) -> String {
     let decimals = if span.is_finite() && span > 0.0 {
         (2.0 - span.log10().floor()).clamp(0.0, 8.0) as usize
     } else {
@@ -310,20 +310,49 @@ enum Key {
     Note,
 }
 
-struct LegendEntry {
-    key: Key,
-    label: String,
+/// What a legend needs of a key: whether it is text only (and in the softer colour), and how
+/// to draw its mark.
+pub(super) trait LegendKey: Copy {
+    /// `None` for a key with a mark; `Some(soft)` for text only from the left edge, in the
+    /// softer colour when `soft`.
+    fn text_only(&self) -> Option<bool>;
+    /// Draws the mark centred at `c` (pixels).
+    fn draw(&self, area: &Area, c: (i32, i32)) -> DrawResult<()>;
 }
 
-const KEY_W: i32 = 30;
+impl LegendKey for Key {
+    fn text_only(&self) -> Option<bool> {
+        match self {
+            Key::Heading => Some(false),
+            Key::Note => Some(true),
+            _ => None,
+        }
+    }
+
+    fn draw(&self, area: &Area, c: (i32, i32)) -> DrawResult<()> {
+        draw_key(area, *self, c)
+    }
+}
+
+/// One line of a legend: a key and its label.
+pub(super) struct LegendEntry<K> {
+    pub(super) key: K,
+    pub(super) label: String,
+}
+
+/// Width of a legend key, pixels.
+pub(super) const KEY_W: i32 = 30;
 
 /// Lines of each entry's label when the legend is `width` pixels wide.
-fn legend_lines(entries: &[LegendEntry], width: u32) -> Vec<Vec<String>> {
+pub(super) fn legend_lines<K: LegendKey>(
+    entries: &[LegendEntry<K>],
+    width: u32,
+) -> Vec<Vec<String>> {
     let text_w = (width as i32 - 3 * PAD - KEY_W).max(40) as u32;
     entries
         .iter()
         .map(|e| {
-            let w = if matches!(e.key, Key::Heading | Key::Note) {
+            let w = if e.key.text_only().is_some() {
                 width - 2 * PAD as u32
             } else {
                 text_w
@@ -334,7 +363,7 @@ fn legend_lines(entries: &[LegendEntry], width: u32) -> Vec<Vec<String>> {
 }
 
 /// Height in pixels the legend needs.
-fn legend_height(entries: &[LegendEntry], width: u32) -> u32 {
+pub(super) fn legend_height<K: LegendKey>(entries: &[LegendEntry<K>], width: u32) -> u32 {
     let step = line_step(LEGEND_PX);
     let rows: i32 = legend_lines(entries, width)
         .iter()
@@ -344,7 +373,11 @@ fn legend_height(entries: &[LegendEntry], width: u32) -> u32 {
 }
 
 /// Draws `entries` down `area`, from `top` pixels.
-fn draw_legend(area: &Area, top: i32, entries: &[LegendEntry]) -> DrawResult<()> {
+pub(super) fn draw_legend<K: LegendKey>(
+    area: &Area,
+    top: i32,
+    entries: &[LegendEntry<K>],
+) -> DrawResult<()> {
     let (w, _) = area.dim_in_pixel();
     let step = line_step(LEGEND_PX);
     let plain = TextStyle::from((FONT, LEGEND_PX).into_font())
@@ -353,13 +386,13 @@ fn draw_legend(area: &Area, top: i32, entries: &[LegendEntry]) -> DrawResult<()>
     let soft = plain.color(&SOFT_TEXT);
     let mut y = top + step / 2;
     for (e, lines) in entries.iter().zip(legend_lines(entries, w)) {
-        let (x_text, style) = if matches!(e.key, Key::Note) {
-            (PAD, &soft)
-        } else if matches!(e.key, Key::Heading) {
-            (PAD, &plain)
-        } else {
-            draw_key(area, e.key, (PAD + KEY_W / 2, y))?;
-            (2 * PAD + KEY_W, &plain)
+        let (x_text, style) = match e.key.text_only() {
+            Some(true) => (PAD, &soft),
+            Some(false) => (PAD, &plain),
+            None => {
+                e.key.draw(area, (PAD + KEY_W / 2, y))?;
+                (2 * PAD + KEY_W, &plain)
+            }
         };
         for line in &lines {
             area.draw(&Text::new(line.clone(), (x_text, y), style.clone()))?;
@@ -706,7 +739,7 @@ fn check_sky_map(map: &SkyMap) -> Result<(), String> {
 }
 
 /// The legend of the sky map.
-fn sky_legend(map: &SkyMap) -> Vec<LegendEntry> {
+fn sky_legend(map: &SkyMap) -> Vec<LegendEntry<Key>> {
     let (lo, hi) = map.band_deg;
     let n_sched = map.scheduled.iter().filter(|&&s| s).count();
     let n_other = map.targets.len() - n_sched;
@@ -1027,7 +1060,7 @@ fn check_momentum(trace: &MomentumTrace) -> Result<Ranges, String> {
 }
 
 /// The legend of the momentum chart.
-fn momentum_legend(trace: &MomentumTrace) -> Vec<LegendEntry> {
+fn momentum_legend(trace: &MomentumTrace) -> Vec<LegendEntry<Key>> {
     let dumps = match trace.dumps_hours.len() {
         0 => "no momentum dumps".to_string(),
         1 => "1 momentum dump".to_string(),

@@ -22,14 +22,17 @@
 //! [`DrawError::Input`] and leaves no file behind. An empty front still gives both files,
 //! saying that no plan is on the front.
 
-use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 use std::collections::HashSet;
 use std::fmt::Write as _;
 use std::path::Path;
 
-use super::draw::DrawError;
+use super::draw::{
+    block_height, draw_legend, em, legend_height, line_step, number_label, wrap, Area, DrawError,
+    DrawResult, LegendEntry, LegendKey, AXIS_TITLE_PX, BLUE, CAUTION_PX, FONT, GRID, INK, KEY_W,
+    LEGEND_PX, OUTLINE, PAD, SOFT_TEXT, TICK_PX, TITLE_PX, VERMILLION,
+};
 
 /// One plan of the front.
 #[derive(Clone, Debug, PartialEq)]
@@ -299,33 +302,15 @@ fn check(r: &FrontReport) -> Result<Ranges, String> {
 // The picture. Same look as the sky map and the momentum chart (draw.rs): fonts, colours,
 // padding, wrapped title and caution, legend panel on the right.
 
-type Area<'b> = DrawingArea<SVGBackend<'b>, Shift>;
-type DrawResult<T> = Result<T, DrawingAreaErrorKind<std::io::Error>>;
-
-/// Generic family name only: SVG viewers pick an installed face.
-const FONT: &str = "sans-serif";
 // Font sizes as the drawing library takes them; it writes them at 1/1.24 of these.
-const TITLE_PX: u32 = 26;
-const AXIS_TITLE_PX: u32 = 21;
-const TICK_PX: u32 = 18;
-const LEGEND_PX: u32 = 16;
-const CAUTION_PX: u32 = 19;
 const POINT_LABEL_PX: u32 = 18;
 
 // Okabe and Ito's colour-blind-safe hues, and greys.
-const BLUE: RGBColor = RGBColor(0, 114, 178);
-const VERMILLION: RGBColor = RGBColor(213, 94, 0);
-const INK: RGBColor = RGBColor(0, 0, 0);
-const GRID: RGBColor = RGBColor(185, 185, 185);
-const OUTLINE: RGBColor = RGBColor(70, 70, 70);
-const SOFT_TEXT: RGBColor = RGBColor(90, 90, 90);
 /// The other plans evaluated.
 const FAINT: RGBColor = RGBColor(165, 165, 165);
 /// Opacity of the blue shading of the region the hypervolume measures.
 const SHADE_OPACITY: f64 = 0.13;
 
-/// Pixels from the edge of a picture to its text.
-const PAD: i32 = 14;
 /// Width of the picture, of its legend panel, and height of the band holding the chart and
 /// the legend (more if the legend needs it), pixels.
 const FRONT_W: u32 = 900;
@@ -336,53 +321,6 @@ const FRONT_R: i32 = 5;
 const DOMINATED_R: i32 = 2;
 const KNEE_RING_R: i32 = 10;
 const CROSS_R: i32 = 6;
-
-/// The size in pixels at which text of library size `px` is written.
-fn em(px: u32) -> f64 {
-    f64::from(px) / 1.24
-}
-
-/// Distance between the baselines of two lines of text of library size `px`, pixels.
-fn line_step(px: u32) -> i32 {
-    (em(px) * 1.3).ceil() as i32
-}
-
-/// Greedy word wrap of `text` into lines no wider than `width_px` at library size `px`,
-/// taking about 0.6 em a character. Newlines start new lines; blank lines are dropped; a word
-/// longer than a line is cut.
-fn wrap(text: &str, px: u32, width_px: u32) -> Vec<String> {
-    let per_char = 0.6 * em(px);
-    let max = ((f64::from(width_px) / per_char).floor() as usize).max(8);
-    let mut lines = Vec::new();
-    for para in text.lines() {
-        let mut line = String::new();
-        let mut len = 0;
-        for word in para.split_whitespace() {
-            let chars: Vec<char> = word.chars().collect();
-            for chunk in chars.chunks(max) {
-                if len > 0 && len + 1 + chunk.len() > max {
-                    lines.push(std::mem::take(&mut line));
-                    len = 0;
-                }
-                if len > 0 {
-                    line.push(' ');
-                    len += 1;
-                }
-                line.extend(chunk);
-                len += chunk.len();
-            }
-        }
-        if len > 0 {
-            lines.push(line);
-        }
-    }
-    lines
-}
-
-/// Height in pixels of a block of `n` lines at library size `px`, with `PAD` above and below.
-fn block_height(n: usize, px: u32) -> u32 {
-    (n as i32 * line_step(px) + 2 * PAD) as u32
-}
 
 /// Draws `lines` centred across `area`, the first line's top `PAD` pixels below its top.
 fn draw_centred(area: &Area, lines: &[String], px: u32, colour: RGBColor) -> DrawResult<()> {
@@ -407,27 +345,6 @@ fn draw_caution(area: &Area, lines: &[String]) -> DrawResult<()> {
     draw_centred(area, lines, CAUTION_PX, INK)
 }
 
-/// A tick label for `v` on an axis spanning `span`: enough decimals to tell ticks apart,
-/// no trailing zeros.
-fn number_label(v: f64, span: f64) -> String {
-    let decimals = if span.is_finite() && span > 0.0 {
-        (2.0 - span.log10().floor()).clamp(0.0, 8.0) as usize
-    } else {
-        2
-    };
-    let s = format!("{v:.decimals$}");
-    let s = if s.contains('.') {
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        s
-    };
-    if s == "-0" {
-        "0".into()
-    } else {
-        s
-    }
-}
-
 /// How a legend entry shows what it explains.
 #[derive(Clone, Copy)]
 enum Key {
@@ -447,62 +364,14 @@ enum Key {
     Note,
 }
 
-struct LegendEntry {
-    key: Key,
-    label: String,
-}
-
-const KEY_W: i32 = 30;
-
-/// Lines of each entry's label when the legend is `width` pixels wide.
-fn legend_lines(entries: &[LegendEntry], width: u32) -> Vec<Vec<String>> {
-    let text_w = (width as i32 - 3 * PAD - KEY_W).max(40) as u32;
-    entries
-        .iter()
-        .map(|e| {
-            let w = if matches!(e.key, Key::Note) {
-                width - 2 * PAD as u32
-            } else {
-                text_w
-            };
-            wrap(&e.label, LEGEND_PX, w)
-        })
-        .collect()
-}
-
-/// Height in pixels the legend needs.
-fn legend_height(entries: &[LegendEntry], width: u32) -> u32 {
-    let step = line_step(LEGEND_PX);
-    let rows: i32 = legend_lines(entries, width)
-        .iter()
-        .map(|l| l.len().max(1) as i32 * step + step / 2)
-        .sum();
-    (rows + 2 * PAD) as u32
-}
-
-/// Draws `entries` down `area`, from `top` pixels.
-fn draw_legend(area: &Area, top: i32, entries: &[LegendEntry]) -> DrawResult<()> {
-    let (w, _) = area.dim_in_pixel();
-    let step = line_step(LEGEND_PX);
-    let plain = TextStyle::from((FONT, LEGEND_PX).into_font())
-        .color(&INK)
-        .pos(Pos::new(HPos::Left, VPos::Center));
-    let soft = plain.color(&SOFT_TEXT);
-    let mut y = top + step / 2;
-    for (e, lines) in entries.iter().zip(legend_lines(entries, w)) {
-        let (x_text, style) = if matches!(e.key, Key::Note) {
-            (PAD, &soft)
-        } else {
-            draw_key(area, e.key, (PAD + KEY_W / 2, y))?;
-            (2 * PAD + KEY_W, &plain)
-        };
-        for line in &lines {
-            area.draw(&Text::new(line.clone(), (x_text, y), style.clone()))?;
-            y += step;
-        }
-        y += step / 2;
+impl LegendKey for Key {
+    fn text_only(&self) -> Option<bool> {
+        matches!(self, Key::Note).then_some(true)
     }
-    Ok(())
+
+    fn draw(&self, area: &Area, c: (i32, i32)) -> DrawResult<()> {
+        draw_key(area, *self, c)
+    }
 }
 
 /// Draws one legend key centred at `c` (pixels).
@@ -564,7 +433,7 @@ fn draw_cross<CT: CoordTranslate>(
 }
 
 /// The legend of the picture.
-fn front_legend(r: &FrontReport) -> Vec<LegendEntry> {
+fn front_legend(r: &FrontReport) -> Vec<LegendEntry<Key>> {
     let e = |key: Key, label: String| LegendEntry { key, label };
     let n = r.front.len();
     let (ro, rp) = r.reference;
@@ -1214,6 +1083,7 @@ fn render_html(r: &FrontReport) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::sky::draw::legend_lines;
 
     const CAUTION: &str = "Plans are planning proposals to be confirmed by the operations \
                            team's validated tools. Spacecraft operations can damage hardware.";
