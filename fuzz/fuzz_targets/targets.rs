@@ -1,0 +1,27 @@
+//! The sky targets CSV reader on arbitrary UTF-8 text, against the built-in demo profile;
+//! every target that parses must have finite, in-range values.
+#![no_main]
+
+use libfuzzer_sys::fuzz_target;
+use std::sync::OnceLock;
+use wend::sky::Profile;
+
+fn profile() -> &'static Profile {
+    static PROFILE: OnceLock<Profile> = OnceLock::new();
+    PROFILE.get_or_init(wend_bench::sky::demo_profile)
+}
+
+fuzz_target!(|data: &[u8]| {
+    let Ok(text) = std::str::from_utf8(data) else {
+        return;
+    };
+    let Ok(targets) = wend_bench::sky::parse_targets(text, "fuzz.csv", profile()) else {
+        return;
+    };
+    for t in &targets {
+        assert!(t.ra_deg.is_finite() && (0.0..360.0).contains(&t.ra_deg));
+        assert!(t.dec_deg.is_finite() && (-90.0..=90.0).contains(&t.dec_deg));
+        assert!(t.duration_s.is_finite() && t.duration_s >= 0.0);
+        assert!(t.instrument < profile().instruments.len());
+    }
+});
