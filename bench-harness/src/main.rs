@@ -1,5 +1,8 @@
 //! `wend`: solve TSPLIB instances, measure tours, run the demo.
 
+// User files reach almost every path here: failures are errors, never `unwrap`/`expect` panics.
+#![cfg_attr(not(test), deny(clippy::unwrap_used, clippy::expect_used))]
+
 mod cli;
 
 use clap::Parser;
@@ -7,7 +10,10 @@ use std::process::ExitCode;
 
 fn main() -> ExitCode {
     let args = cli::Args::parse();
+    cli::interrupt::install();
     match cli::run(args) {
+        // The command finished with what it had when Ctrl-C came: say so in the exit code.
+        Ok(()) if cli::interrupt::interrupted() => ExitCode::from(cli::interrupt::EXIT_CODE),
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {
             eprintln!("wend: {e}");

@@ -13,7 +13,7 @@ use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
 use std::time::Duration;
-use wend::{CandidateSource, Ends, Method, Solver};
+use wend::{CandidateSource, Ends, Method, Solver, StopHandle};
 
 /// A method with optional candidate-list settings and parameters: `lk`, `lk:alpha`,
 /// `lk:nearest:5`, `mmas+local-search=2opt+evaporation=0.1`. Runs of different variants of one
@@ -219,6 +219,9 @@ pub struct SweepPlan {
     pub stop_at_optimum: bool,
     /// Output folder.
     pub out: PathBuf,
+    /// Ends the sweep early: the run under way is dropped (not recorded, so a resumed sweep
+    /// does it again) and no new run starts.
+    pub stop: StopHandle,
 }
 
 /// One run to do.
@@ -272,6 +275,8 @@ pub struct SweepOutcome {
     pub skipped: usize,
     /// Runs done now.
     pub ran: usize,
+    /// Whether the stop handle ended the sweep before every run was done.
+    pub stopped: bool,
 }
 
 /// Name of an instance: its file stem.
@@ -377,10 +382,11 @@ pub fn run_sweep(
         ends: s.ends.name().to_string(),
     };
     let todo: Vec<&RunSpec> = specs.iter().filter(|s| !done.contains(&key(s))).collect();
-    let outcome = SweepOutcome {
+    let mut outcome = SweepOutcome {
         planned: specs.len(),
         skipped: specs.len() - todo.len(),
-        ran: todo.len(),
+        ran: 0,
+        stopped: false,
     };
     let file = std::fs::OpenOptions::new()
         .create(true)
@@ -403,10 +409,16 @@ pub fn run_sweep(
         let failed: Mutex<Option<SweepError>> = Mutex::new(None);
         let worker = || loop {
             let i = next.fetch_add(1, Ordering::Relaxed);
-            if i >= runs.len() || failed.lock().map_or(true, |f| f.is_some()) {
+            if i >= runs.len()
+                || plan.stop.is_stopped()
+                || failed.lock().map_or(true, |f| f.is_some())
+            {
                 break;
             }
             let outcome = run_one(plan, &inst, runs[i], &machine).and_then(|rec| {
+                let Some(rec) = rec else {
+                    return Ok(false);
+                };
                 let line = serde_json::to_string(&rec).map_err(|e| SweepError::Io {
                     path: runs_path.display().to_string(),
                     source: std::io::Error::other(e),
@@ -415,9 +427,11 @@ pub fn run_sweep(
                 writeln!(f, "{line}")
                     .and_then(|_| f.flush())
                     .map_err(io(&runs_path))
+                    .map(|()| true)
             });
             match outcome {
-                Ok(()) => {
+                Ok(false) => {}
+                Ok(true) => {
                     let mut c = count.lock().unwrap_or_else(|e| e.into_inner());
                     *c += 1;
                     progress(*c, todo.len());
@@ -436,16 +450,22 @@ pub fn run_sweep(
         if let Some(e) = failed.into_inner().unwrap_or_else(|e| e.into_inner()) {
             return Err(e);
         }
+        if plan.stop.is_stopped() {
+            break;
+        }
     }
+    outcome.ran = count.into_inner().unwrap_or_else(|e| e.into_inner());
+    outcome.stopped = outcome.skipped + outcome.ran < outcome.planned;
     Ok(outcome)
 }
 
+/// One run, or `None` when the stop handle cut it short (such a run is not recorded).
 fn run_one(
     plan: &SweepPlan,
     inst: &Instance,
     spec: &RunSpec,
     machine: &str,
-) -> Result<RunRecord, SweepError> {
+) -> Result<Option<RunRecord>, SweepError> {
     let mut solver = Solver::new(inst.cost()).method(spec.method.method);
     for (k, v) in &spec.method.settings {
         solver = solver.set(k, v).map_err(|e| SweepError::Solve {
@@ -457,7 +477,8 @@ fn run_one(
         .seed(spec.seed)
         .threads(plan.threads_per_run)
         .time_limit(Duration::from_secs_f64(plan.time_limit))
-        .ends(spec.ends.ends(inst.dimension));
+        .ends(spec.ends.ends(inst.dimension))
+        .stop_handle(plan.stop.clone());
     if let Some(c) = spec.method.candidates {
         solver = solver.candidates(c);
     }
@@ -482,6 +503,9 @@ fn run_one(
         file: spec.file.display().to_string(),
         message: e.to_string(),
     })?;
+    if plan.stop.is_stopped() {
+        return Ok(None);
+    }
     let tour_name = format!(
         "{}{}.{}.s{}.t{}.tour",
         spec.instance,
@@ -517,7 +541,7 @@ fn run_one(
             path: tour_path.display().to_string(),
             source,
         })?;
-    Ok(RunRecord {
+    Ok(Some(RunRecord {
         instance: spec.instance.clone(),
         file: spec.file.display().to_string(),
         problem_type: inst.kind.keyword().to_string(),
@@ -546,7 +570,7 @@ fn run_one(
         version: env!("CARGO_PKG_VERSION").to_string(),
         git_commit: env!("WEND_GIT_COMMIT").to_string(),
         machine: machine.to_string(),
-    })
+    }))
 }
 
 #[cfg(test)]
@@ -567,6 +591,7 @@ mod tests {
             shard,
             optima: BTreeMap::new(),
             stop_at_optimum: false,
+            stop: StopHandle::new(),
             out: "out".into(),
         }
     }

@@ -39,6 +39,9 @@ pub enum AlphaError {
     /// The penalties could not be computed.
     #[error("{0}")]
     Bound(String),
+    /// The lists came out malformed: a bug, reported instead of a panic.
+    #[error("internal error building alpha-nearness lists: {0}; please report it")]
+    Internal(String),
     /// `pi` does not have one entry per node.
     #[error("{got} penalties for {n} nodes")]
     Penalties {
@@ -123,8 +126,8 @@ pub fn alpha_nearness<C: Cost + ?Sized>(
         let out: Vec<u32> = (0..n)
             .flat_map(|i| (0..n).filter(move |&j| j != i).take(k).map(|j| j as u32))
             .collect();
-        return Ok(Neighbours::from_lists(n, k, out, Vec::new())
-            .unwrap_or_else(|_| unreachable!("lists of every other node are valid")));
+        return Neighbours::from_lists(n, k, out, Vec::new())
+            .map_err(|e| AlphaError::Internal(e.to_string()));
     }
     let tree = spanning_tree(n, &c);
     // The special node's two cheapest edges.
@@ -188,8 +191,8 @@ pub fn alpha_nearness<C: Cost + ?Sized>(
             },
         )
         .collect();
-    Ok(Neighbours::from_lists(n, k, rows.concat(), Vec::new())
-        .unwrap_or_else(|e| unreachable!("alpha lists are built valid: {e}")))
+    Neighbours::from_lists(n, k, rows.concat(), Vec::new())
+        .map_err(|e| AlphaError::Internal(e.to_string()))
 }
 
 /// One-trees the ascent of [`from_ascent`] may compute: enough for good penalties on small

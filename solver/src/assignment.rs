@@ -41,6 +41,12 @@ pub enum AssignmentError {
     /// Costs so large that sums of them could overflow.
     #[error("costs are so large that an assignment's cost could overflow a 64-bit integer")]
     Overflow,
+    /// The matrix would pass the memory ceiling.
+    #[error(transparent)]
+    Memory(#[from] crate::memory::MemoryError),
+    /// The matrix came out malformed: a bug, reported instead of a panic.
+    #[error("internal error in the assignment bound: {0}; please report it")]
+    Internal(String),
 }
 
 /// The assignment lower bound on every closed tour of `cost` (symmetric or not). For fewer than
@@ -60,6 +66,9 @@ pub fn assignment_bound<C: Cost + ?Sized>(cost: &C) -> Result<AssignmentBound, A
             cycles: n,
         });
     }
+    crate::memory::check(crate::memory::square(n, 8), || {
+        format!("the assignment bound's cost matrix of {n} nodes")
+    })?;
     let mut values = Vec::with_capacity(n * n);
     let mut max_abs: i64 = 0;
     for i in 0..n {
@@ -84,7 +93,7 @@ pub fn assignment_bound<C: Cost + ?Sized>(cost: &C) -> Result<AssignmentBound, A
     for i in 0..n {
         values[i * n + i] = big;
     }
-    let m = Matrix::from_vec(n, n, values).expect("n * n values");
+    let m = Matrix::from_vec(n, n, values).map_err(|e| AssignmentError::Internal(e.to_string()))?;
     let (total, successor): (i64, Vec<usize>) = kuhn_munkres_min(&m);
     debug_assert!(successor.iter().enumerate().all(|(i, &j)| i != j));
     let mut seen = vec![false; n];

@@ -118,6 +118,12 @@ pub enum BoundError {
     /// The starting tour given to the branch and bound is not a permutation of the nodes.
     #[error("the starting tour is not a tour of the instance: {0}")]
     InvalidTour(#[from] crate::tour::TourError),
+    /// The deadline passed or the stop handle fired before the first 1-tree was computed.
+    #[error("stopped before the first 1-tree was computed, so there is no bound yet")]
+    Stopped,
+    /// A table would pass the memory ceiling.
+    #[error(transparent)]
+    Memory(#[from] crate::memory::MemoryError),
 }
 
 /// What a 1-tree may do with one edge.
@@ -874,9 +880,8 @@ pub fn held_karp_bound<C: Cost + ?Sized>(
         }
     };
     let run = scaled.ascend(None, &vec![0.0; n], upper, &plan, stop);
-    let best = run
-        .best
-        .expect("without rules every complete graph has a 1-tree");
+    // Without rules every complete graph has a 1-tree: none means the search never began.
+    let best = run.best.ok_or(BoundError::Stopped)?;
     let tour = best.tree.tour();
     Ok(Ascent {
         lower_bound: scaled.bound(best.value),

@@ -205,19 +205,27 @@ pub fn branch_and_bound<C: Cost + ?Sized>(
     let mut plan = root_plan(n, &AscentOptions::default(), began);
     plan.deadline = deadline;
     let run = scaled.ascend(None, &vec![0.0; n], best_len, &plan, stop);
-    let root = run
-        .best
-        .expect("without rules every complete graph has a 1-tree");
+    // Without rules every complete graph has a 1-tree: none means the search never began.
+    let Some(root) = run.best else {
+        // Every tour leaves each node by one edge: the cheapest ones add up to a bound
+        // (saturating, which only lowers it).
+        let floor = (0..n)
+            .map(|i| (0..n).filter(|&j| j != i).map(|j| cost.cost(i, j)).min())
+            .fold(0i64, |a, c| a.saturating_add(c.unwrap_or(0)));
+        return Ok(finish(best_tour, best_len, floor.min(best_len), false, 1));
+    };
     let mut nodes: u64 = 1;
     let root_bound = scaled.bound(root.value);
-    if root.tree.is_tour() {
-        let tour = root.tree.tour().expect("a tour");
+    if let Some(tour) = root.tree.tour() {
         let length = closed_length(cost, &tour)?;
         return Ok(finish(tour, length, length, true, nodes));
     }
     if root_bound >= best_len {
         return Ok(finish(best_tour, best_len, best_len, true, nodes));
     }
+    crate::memory::check(crate::memory::square(n, 1), || {
+        format!("the edge table of branch and bound over {n} nodes")
+    })?;
     let mut global = EdgeRules::new(n);
     let reduction = reduce(&scaled, &root, None, best_len);
     for &(a, b) in &reduction.gone {
@@ -284,8 +292,7 @@ pub fn branch_and_bound<C: Cost + ?Sized>(
             continue;
         };
         let bound = scaled.bound(b.value).max(open.bound);
-        if b.tree.is_tour() {
-            let tour = b.tree.tour().expect("a tour");
+        if let Some(tour) = b.tree.tour() {
             let length = closed_length(cost, &tour)?;
             if length < best_len {
                 best_len = length;

@@ -64,11 +64,34 @@ impl CandidateSource {
 
 /// Candidate lists of width `k` from `source`.
 pub fn candidates<C: Cost + ?Sized>(cost: &C, k: usize, source: CandidateSource) -> Neighbours {
+    build(cost, k, source, &|| false)
+}
+
+/// [`candidates`], given up when `stop` turns true (polled once per node, from every thread
+/// building lists): `None` then. On a million points the lists take seconds, so a stop request
+/// or a deadline must not wait for them.
+pub fn candidates_until<C: Cost + ?Sized>(
+    cost: &C,
+    k: usize,
+    source: CandidateSource,
+    stop: &(dyn Fn() -> bool + Sync),
+) -> Option<Neighbours> {
+    let lists = build(cost, k, source, stop);
+    (!stop()).then_some(lists)
+}
+
+/// The lists, incomplete (and to be thrown away) if `stop` turned true meanwhile.
+fn build<C: Cost + ?Sized>(
+    cost: &C,
+    k: usize,
+    source: CandidateSource,
+    stop: &(dyn Fn() -> bool + Sync),
+) -> Neighbours {
     match source {
-        CandidateSource::Nearest => k_nearest(cost, k),
-        CandidateSource::Quadrant => quadrant(cost, k),
+        CandidateSource::Nearest => nearest_until(cost, k, stop),
+        CandidateSource::Quadrant => quadrant_until(cost, k, stop),
         CandidateSource::Alpha => {
-            crate::alpha::from_ascent(cost, k).unwrap_or_else(|_| quadrant(cost, k))
+            crate::alpha::from_ascent(cost, k).unwrap_or_else(|_| quadrant_until(cost, k, stop))
         }
     }
 }
@@ -161,6 +184,14 @@ impl Neighbours {
 
 /// The `k` nearest neighbours of every node (fewer when there are fewer other nodes).
 pub fn k_nearest<C: Cost + ?Sized>(cost: &C, k: usize) -> Neighbours {
+    nearest_until(cost, k, &|| false)
+}
+
+fn nearest_until<C: Cost + ?Sized>(
+    cost: &C,
+    k: usize,
+    stop: &(dyn Fn() -> bool + Sync),
+) -> Neighbours {
     let n = cost.len();
     let k = k.min(n.saturating_sub(1));
     if k == 0 {
@@ -173,21 +204,21 @@ pub fn k_nearest<C: Cost + ?Sized>(cost: &C, k: usize) -> Neighbours {
     let symmetric = cost.is_symmetric();
     let (out, inc) = match cost.geometry() {
         Some(g) => {
-            let pre = geometric_prefilter(g, k);
-            let out = rerank(cost, &pre, k, |i, j| cost.cost(i, j));
+            let pre = geometric_prefilter(g, k, stop);
+            let out = rerank(cost, &pre, k, stop, |i, j| cost.cost(i, j));
             let inc = if symmetric {
                 Vec::new()
             } else {
-                rerank(cost, &pre, k, |i, j| cost.cost(j, i))
+                rerank(cost, &pre, k, stop, |i, j| cost.cost(j, i))
             };
             (out, inc)
         }
         None => {
-            let out = scan(n, k, |i, j| cost.cost(i, j));
+            let out = scan(n, k, stop, |i, j| cost.cost(i, j));
             let inc = if symmetric {
                 Vec::new()
             } else {
-                scan(n, k, |i, j| cost.cost(j, i))
+                scan(n, k, stop, |i, j| cost.cost(j, i))
             };
             (out, inc)
         }
@@ -197,7 +228,11 @@ pub fn k_nearest<C: Cost + ?Sized>(cost: &C, k: usize) -> Neighbours {
 
 /// Euclidean nearest points, a few more than `k`, so that reranking by the true cost (rounded,
 /// or a different norm) still finds the best `k` in nearly all cases.
-fn geometric_prefilter(g: Geometry<'_>, k: usize) -> Vec<Vec<u32>> {
+fn geometric_prefilter(
+    g: Geometry<'_>,
+    k: usize,
+    stop: &(dyn Fn() -> bool + Sync),
+) -> Vec<Vec<u32>> {
     let n = g.points.len();
     let want = (k + k / 2 + 2).min(n);
     let want_nz = std::num::NonZeroUsize::new(want.max(1)).unwrap_or(std::num::NonZeroUsize::MIN);
@@ -205,6 +240,9 @@ fn geometric_prefilter(g: Geometry<'_>, k: usize) -> Vec<Vec<u32>> {
     (0..n)
         .into_par_iter()
         .map(|i| {
+            if stop() {
+                return Vec::new();
+            }
             tree.nearest_n::<SquaredEuclidean>(&g.points[i], want_nz)
                 .into_iter()
                 .map(|nb| nb.item)
@@ -220,13 +258,21 @@ fn geometric_prefilter(g: Geometry<'_>, k: usize) -> Vec<Vec<u32>> {
 /// that is empty nearby stays short and the list is topped up instead. Falls back to
 /// [`k_nearest`] without geometry.
 pub fn quadrant<C: Cost + ?Sized>(cost: &C, k: usize) -> Neighbours {
+    quadrant_until(cost, k, &|| false)
+}
+
+fn quadrant_until<C: Cost + ?Sized>(
+    cost: &C,
+    k: usize,
+    stop: &(dyn Fn() -> bool + Sync),
+) -> Neighbours {
     let n = cost.len();
     let k = k.min(n.saturating_sub(1));
     let Some(g) = cost.geometry() else {
-        return k_nearest(cost, k);
+        return nearest_until(cost, k, stop);
     };
     if k == 0 {
-        return k_nearest(cost, k);
+        return nearest_until(cost, k, stop);
     }
     let dims = g.dims.clamp(2, 3);
     let regions = 1usize << dims;
@@ -241,6 +287,9 @@ pub fn quadrant<C: Cost + ?Sized>(cost: &C, k: usize) -> Neighbours {
         let rows: Vec<Vec<u32>> = (0..n)
             .into_par_iter()
             .map(|i| {
+                if stop() {
+                    return Vec::new();
+                }
                 let p = g.points[i];
                 let region = |j: usize| -> usize {
                     let q = g.points[j];
@@ -313,12 +362,16 @@ fn rerank<C: Cost + ?Sized>(
     cost: &C,
     pre: &[Vec<u32>],
     k: usize,
+    stop: &(dyn Fn() -> bool + Sync),
     c: impl Fn(usize, usize) -> i64 + Sync,
 ) -> Vec<u32> {
     let n = cost.len();
     let rows: Vec<Vec<u32>> = (0..n)
         .into_par_iter()
         .map(|i| {
+            if stop() {
+                return Vec::new();
+            }
             let mut row: Vec<(i64, u32)> = pre[i].iter().map(|&j| (c(i, j as usize), j)).collect();
             if row.len() < k {
                 // Fewer Euclidean hits than asked (tiny instances): fall back to a scan.
@@ -335,10 +388,18 @@ fn rerank<C: Cost + ?Sized>(
     rows.concat()
 }
 
-fn scan(n: usize, k: usize, c: impl Fn(usize, usize) -> i64 + Sync) -> Vec<u32> {
+fn scan(
+    n: usize,
+    k: usize,
+    stop: &(dyn Fn() -> bool + Sync),
+    c: impl Fn(usize, usize) -> i64 + Sync,
+) -> Vec<u32> {
     let rows: Vec<Vec<u32>> = (0..n)
         .into_par_iter()
         .map(|i| {
+            if stop() {
+                return Vec::new();
+            }
             let mut row: Vec<(i64, u32)> = (0..n)
                 .filter(|&j| j != i)
                 .map(|j| (c(i, j), j as u32))

@@ -6,6 +6,7 @@
 use crate::candidates::Neighbours;
 use crate::cost::Cost;
 use rand::Rng;
+use rayon::slice::ParallelSliceMut;
 
 /// Nearest neighbour from `start`: always step to the cheapest unvisited node.
 ///
@@ -101,13 +102,31 @@ pub fn greedy_edge<C: Cost + ?Sized, R: Rng>(
     noise: f64,
     rng: &mut R,
 ) -> Vec<usize> {
+    match greedy_edge_until(cost, nb, noise, rng, &mut || false) {
+        Some(order) => order,
+        None => (0..cost.len()).collect(),
+    }
+}
+
+/// [`greedy_edge`], given up when `stop` turns true (polled every few thousand nodes or
+/// edges): `None` then. On a million nodes the construction takes seconds.
+pub fn greedy_edge_until<C: Cost + ?Sized, R: Rng>(
+    cost: &C,
+    nb: &Neighbours,
+    noise: f64,
+    rng: &mut R,
+    stop: &mut dyn FnMut() -> bool,
+) -> Option<Vec<usize>> {
     let n = cost.len();
     if n < 3 {
-        return (0..n).collect();
+        return Some((0..n).collect());
     }
     let symmetric = cost.is_symmetric();
     let mut edges: Vec<(f64, usize, usize)> = Vec::with_capacity(n * nb.k());
     for i in 0..n {
+        if i.is_multiple_of(4096) && stop() {
+            return None;
+        }
         for &j in nb.out(i) {
             let j = j as usize;
             if symmetric && j < i && nb.out(j).contains(&(i as u32)) {
@@ -125,8 +144,12 @@ pub fn greedy_edge<C: Cost + ?Sized, R: Rng>(
             edges.push((key, a, b));
         }
     }
-    edges.sort_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)).then(x.2.cmp(&y.2)));
+    // (key, a, b) orders every edge apart, so the unstable sort gives the one order there is.
+    edges.par_sort_unstable_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)).then(x.2.cmp(&y.2)));
     edges.dedup_by(|x, y| x.1 == y.1 && x.2 == y.2);
+    if stop() {
+        return None;
+    }
 
     // succ/pred links of the fragments; for symmetric costs the two links of a node are
     // unordered ends.
@@ -134,9 +157,12 @@ pub fn greedy_edge<C: Cost + ?Sized, R: Rng>(
     let mut link = vec![[NONE, NONE]; n];
     let mut dsu = Dsu::new(n);
     let mut added = 0;
-    for &(_, a, b) in &edges {
+    for (e, &(_, a, b)) in edges.iter().enumerate() {
         if added == n - 1 {
             break;
+        }
+        if e.is_multiple_of(65536) && stop() {
+            return None;
         }
         let ok = if symmetric {
             link[a][1] == NONE && link[b][1] == NONE
@@ -156,7 +182,7 @@ pub fn greedy_edge<C: Cost + ?Sized, R: Rng>(
             added += 1;
         }
     }
-    join_fragments(cost, nb, &link, symmetric)
+    join_fragments(cost, nb, &link, symmetric, stop)
 }
 
 /// Walks the fragments given by `link` and concatenates them, each time entering the fragment
@@ -166,7 +192,8 @@ fn join_fragments<C: Cost + ?Sized>(
     nb: &Neighbours,
     link: &[[usize; 2]],
     symmetric: bool,
-) -> Vec<usize> {
+    stop: &mut dyn FnMut() -> bool,
+) -> Option<Vec<usize>> {
     const NONE: usize = usize::MAX;
     let n = link.len();
     // Fragment starts: for symmetric costs any node of degree < 2, for asymmetric costs nodes
@@ -208,11 +235,16 @@ fn join_fragments<C: Cost + ?Sized>(
     let starts: Vec<usize> = (0..n).filter(|&v| is_start(v)).collect();
     if starts.is_empty() {
         // Only possible if the links closed a cycle, which the union-find forbids.
-        return (0..n).collect();
+        return Some((0..n).collect());
     }
     let mut end = walk(starts[0], &mut used, &mut order);
     let mut remaining: Vec<usize> = starts[1..].to_vec();
+    let mut joins = 0usize;
     while order.len() < n {
+        joins += 1;
+        if joins.is_multiple_of(1024) && stop() {
+            return None;
+        }
         remaining.retain(|&v| !used[v]);
         // A neighbour that is a free fragment end, else the cheapest remaining end by scan.
         let next = nb
@@ -231,7 +263,7 @@ fn join_fragments<C: Cost + ?Sized>(
             None => break,
         }
     }
-    order
+    Some(order)
 }
 
 /// Order along a Hilbert curve through the nodes' geometry (the two coordinates with the

@@ -122,6 +122,9 @@ pub enum DpError {
     /// `should_stop` returned true.
     #[error("the dynamic programme was stopped")]
     Stopped,
+    /// The table does not hold what it should: a bug, reported instead of a panic.
+    #[error("internal error in the dynamic programme: {0}; please report it")]
+    Internal(&'static str),
     /// The ends asked of [`optimal_path`] are out of range, or their penalty could overflow.
     #[error(transparent)]
     Ends(#[from] crate::ends::EndsError),
@@ -420,7 +423,9 @@ fn solve_table<E: Entry>(
         .enumerate()
         .map(|(j, &v)| (v.to_i64() + full[(j + 1) * n], j))
         .min()
-        .expect("m >= 1");
+        .ok_or(DpError::Internal(
+            "no last node for a table of at least two nodes",
+        ))?;
     let mut set = all;
     let mut rev = Vec::with_capacity(n);
     loop {
@@ -446,7 +451,7 @@ fn solve_table<E: Entry>(
                 break;
             }
         }
-        j = found.expect("every entry is achieved by some predecessor");
+        j = found.ok_or(DpError::Internal("an entry achieved by no predecessor"))?;
         set = rest;
     }
     rev.push(0);

@@ -36,6 +36,8 @@
 //! live in the `wend-bench` crate.
 
 #![warn(missing_docs)]
+// Input reaches almost every path here: failures are errors, never `unwrap`/`expect` panics.
+#![cfg_attr(not(test), deny(clippy::unwrap_used, clippy::expect_used))]
 
 pub mod alpha;
 pub mod anneal;
@@ -51,6 +53,7 @@ pub mod ends;
 pub mod exact;
 pub mod improve;
 pub mod lk;
+pub mod memory;
 pub mod prove;
 pub mod search;
 #[cfg(feature = "sky")]

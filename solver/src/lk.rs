@@ -656,7 +656,7 @@ pub(crate) fn iterated<C: Cost + ?Sized>(
         drive(&plan.limits, began, observer, |r, rng, should_stop| {
             let order = match &plan.start {
                 Some(order) if r == 0 => order.clone(),
-                _ => search::start_tour(cost, nb, Start::GreedyEdge, r, rng),
+                _ => search::start_tour(cost, nb, Start::GreedyEdge, r, rng, should_stop),
             };
             LkRun::<C, T>::start(cost, nb, plan, order, should_stop)
         })

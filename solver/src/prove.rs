@@ -52,7 +52,7 @@ impl Default for ProveOptions {
             time_limit: None,
             seed: 0,
             threads: None,
-            dp_memory_bytes: DEFAULT_DP_MEMORY,
+            dp_memory_bytes: DEFAULT_DP_MEMORY.min(crate::memory::ceiling()),
             node_limit: None,
             method: None,
             ends: Ends::Closed,

@@ -116,6 +116,7 @@ pub(crate) fn start_tour<C: Cost + ?Sized>(
     start: Start,
     r: usize,
     rng: &mut Pcg64,
+    should_stop: &mut dyn FnMut() -> bool,
 ) -> Vec<usize> {
     let n = cost.len();
     let nn = |rng: &mut Pcg64| {
@@ -135,14 +136,21 @@ pub(crate) fn start_tour<C: Cost + ?Sized>(
         construct::space_filling_curve(cost, shift)
     };
     let noise = if r == 0 { 0.0 } else { 0.3 };
+    // A greedy start given up at a stop request or the deadline: the curve, which takes a
+    // fraction of the time (or the nodes in order, without geometry), so a tour is at hand.
+    let mut greedy = |noise: f64, rng: &mut Pcg64| {
+        construct::greedy_edge_until(cost, nb, noise, rng, should_stop)
+            .or_else(|| construct::space_filling_curve(cost, [0.0, 0.0]))
+            .unwrap_or_else(|| (0..n).collect())
+    };
     match start {
         Start::NearestNeighbour => nn(rng),
-        Start::GreedyEdge => construct::greedy_edge(cost, nb, noise, rng),
+        Start::GreedyEdge => greedy(noise, rng),
         Start::SpaceFillingCurve => curve(rng).unwrap_or_else(|| nn(rng)),
         Start::Mixed => match r {
-            0 => construct::greedy_edge(cost, nb, 0.0, rng),
+            0 => greedy(0.0, rng),
             1 => curve(rng).unwrap_or_else(|| nn(rng)),
-            r if r % 2 == 0 => construct::greedy_edge(cost, nb, 0.3, rng),
+            r if r % 2 == 0 => greedy(0.3, rng),
             _ => nn(rng),
         },
     }

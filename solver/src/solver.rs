@@ -3,7 +3,7 @@
 use crate::anneal::{AnnealParams, Annealer};
 use crate::ants::{AntParams, AntVariant, Colony};
 use crate::assignment::{assignment_bound, patch_cover};
-use crate::candidates::{candidates, CandidateSource, Neighbours};
+use crate::candidates::{candidates_until, CandidateSource, Neighbours};
 use crate::construct;
 use crate::cost::{Cost, CostError, FnCost, MatrixCost};
 use crate::drive::{drive, Iterative, LoopPlan};
@@ -147,6 +147,9 @@ pub enum SolveError {
     /// The symmetric transformation of asymmetric costs could overflow.
     #[error(transparent)]
     Twin(#[from] TwinTooLarge),
+    /// The search's buffers would pass the memory ceiling ([`crate::memory`]).
+    #[error(transparent)]
+    Memory(#[from] crate::memory::MemoryError),
     /// A method parameter set by name was unknown or out of range.
     #[error("method {method}: {message}")]
     Parameter {
@@ -227,6 +230,7 @@ pub struct Solver<C> {
     annealing: AnnealParams,
     stop: StopHandle,
     observer: Option<Observer>,
+    memory_limit: Option<usize>,
 }
 
 /// Asymmetric instances from `PATCH_FROM` to `PATCH_LIMIT` nodes start their first `lk` run
@@ -293,6 +297,7 @@ impl<C: Cost> Solver<C> {
             annealing: AnnealParams::default(),
             stop: StopHandle::new(),
             observer: None,
+            memory_limit: None,
         }
     }
 
@@ -441,12 +446,61 @@ impl<C: Cost> Solver<C> {
         &self.cost
     }
 
+    /// Refuse to start when [`Solver::memory_estimate`] passes this many bytes (default: the
+    /// process-wide ceiling of [`crate::memory`]).
+    pub fn memory_limit(mut self, bytes: usize) -> Self {
+        self.memory_limit = Some(bytes);
+        self
+    }
+
+    /// Bytes the search's large buffers will take, estimated before anything is allocated:
+    /// neighbour lists, the tours and work arrays of the runs going at once, the trails of the
+    /// ant colonies (full tables up to [`crate::ants::DENSE_TRAILS_UP_TO`] nodes), and twice
+    /// the nodes when `lk` transforms asymmetric costs. A lower estimate of the process's use.
+    pub fn memory_estimate(&self) -> usize {
+        let n = self.cost.len();
+        let asymmetric = !self.cost.is_symmetric();
+        let nodes = if asymmetric && self.method == Method::Lk {
+            n.saturating_mul(2)
+        } else {
+            n
+        };
+        let k = self.neighbours.max(1);
+        let lists = if asymmetric { 2 } else { 1 };
+        // Lists of u32 plus their positions; a point and a tree slot for the k-d tree.
+        let shared = nodes.saturating_mul(k.saturating_mul(8).saturating_mul(lists) + 48);
+        let threads = self
+            .threads
+            .unwrap_or_else(rayon::current_num_threads)
+            .max(1);
+        // Order, positions, don't-look bits, queue and segment lists of one run.
+        let per_run = nodes.saturating_mul(128);
+        let trails = match self.method {
+            Method::Acs | Method::MaxMin if n <= crate::ants::DENSE_TRAILS_UP_TO => {
+                crate::memory::square(n, 8)
+            }
+            Method::Acs | Method::MaxMin => crate::memory::bytes_of(n, k * 8),
+            _ => 0,
+        };
+        shared
+            .saturating_add(per_run.saturating_mul(threads))
+            .saturating_add(trails)
+    }
+
     /// Runs the search.
     pub fn solve(&self) -> Result<Solution, SolveError> {
         let began = Instant::now();
         let cost = &self.cost;
         let n = cost.len();
         self.ends.check(n)?;
+        let ceiling = self.memory_limit.unwrap_or_else(crate::memory::ceiling);
+        crate::memory::check_against(self.memory_estimate(), ceiling, || {
+            format!("a {} search over {n} nodes", self.method.name())
+        })?;
+        // Preparation (neighbour lists) gives up at a stop request or the deadline, so that
+        // neither waits for seconds of list building on large instances.
+        let deadline = search::deadline(began, self.time_limit);
+        let over = || self.stop.is_stopped() || deadline.is_some_and(|d| Instant::now() >= d);
         if let Some(max_cost) = cost.max_cost_hint() {
             // Moves add and subtract a handful of costs on top of a tour length.
             if max_cost.checked_mul(n as i64 + 8).is_none() {
@@ -501,7 +555,7 @@ impl<C: Cost> Solver<C> {
                     stop_reason: StopReason::Exhaustive,
                 }
             } else {
-                let nb = || candidates(cost, self.neighbours, self.candidates);
+                let nb = || candidates_until(cost, self.neighbours, self.candidates, &over);
                 self.search_maybe_twinned(cost, nb, twin, self.target_length, began, &observe)?
             };
             return finish(raw.order.clone(), raw, &trace);
@@ -514,10 +568,8 @@ impl<C: Cost> Solver<C> {
         };
         let target = self.target_length.and_then(|t| ended.tour_length_of(t));
         let nb = || {
-            ended.neighbours(
-                &candidates(cost, self.neighbours, self.candidates),
-                self.candidates,
-            )
+            candidates_until(cost, self.neighbours, self.candidates, &over)
+                .map(|lists| ended.neighbours(&lists, self.candidates))
         };
         let raw = self.search_maybe_twinned(&ended, nb, twin, target, began, &observe_ended)?;
         finish(ended.path_from_tour(&raw.order), raw, &trace)
@@ -529,7 +581,7 @@ impl<C: Cost> Solver<C> {
     fn search_maybe_twinned<D: Cost>(
         &self,
         cost: &D,
-        nb: impl FnOnce() -> Neighbours,
+        nb: impl FnOnce() -> Option<Neighbours>,
         twin: bool,
         target: Option<i64>,
         began: Instant,
@@ -539,6 +591,9 @@ impl<C: Cost> Solver<C> {
             return Ok(self.search(cost, nb, None, target, began, observe));
         }
         let twinned = TwinCost::new(cost)?;
+        let Some(lists) = nb() else {
+            return Ok(self.unprepared(cost, began, observe));
+        };
         // Run 0 starts from the patched assignment cover, as a tour of the 2m nodes: each in
         // copy followed by its out copy.
         let start = (PATCH_FROM..=PATCH_LIMIT)
@@ -558,10 +613,40 @@ impl<C: Cost> Solver<C> {
             }
         };
         let target = target.and_then(|t| twinned.transformed_length(t));
-        let nb = || twinned.neighbours(&nb(), self.candidates);
+        let nb = || Some(twinned.neighbours(&lists, self.candidates));
         let raw = self.search(&twinned, nb, start, target, began, &observe_twinned);
         let (order, _repaired) = twinned.tour_back(&raw.order);
         Ok(Raw { order, ..raw })
+    }
+
+    /// The answer when a stop request or the deadline came before the neighbour lists were
+    /// built: the space-filling curve through the points (a fraction of a second on a million
+    /// points), or the nodes in order when the costs have no geometry.
+    fn unprepared<D: Cost>(
+        &self,
+        cost: &D,
+        began: Instant,
+        observe: &(dyn Fn(Improvement) + Sync),
+    ) -> Raw {
+        let n = cost.len();
+        let order =
+            construct::space_filling_curve(cost, [0.0, 0.0]).unwrap_or_else(|| (0..n).collect());
+        let length = closed_length(cost, &order).unwrap_or(i64::MAX);
+        observe(Improvement {
+            seconds: began.elapsed().as_secs_f64(),
+            length,
+            restart: 0,
+        });
+        Raw {
+            order,
+            restarts: 0,
+            iterations: 0,
+            stop_reason: if self.stop.is_stopped() {
+                StopReason::Cancelled
+            } else {
+                StopReason::TimeLimit
+            },
+        }
     }
 
     /// The configured method on `cost` (any number of nodes); the order found, from node 0.
@@ -569,7 +654,7 @@ impl<C: Cost> Solver<C> {
     fn search<D: Cost>(
         &self,
         cost: &D,
-        nb: impl FnOnce() -> Neighbours,
+        nb: impl FnOnce() -> Option<Neighbours>,
         start: Option<Vec<usize>>,
         target: Option<i64>,
         began: Instant,
@@ -593,7 +678,9 @@ impl<C: Cost> Solver<C> {
             };
         }
 
-        let nb = nb();
+        let Some(nb) = nb() else {
+            return self.unprepared(cost, began, observe);
+        };
         let threads = self.threads.unwrap_or_else(|| {
             std::thread::available_parallelism()
                 .map(|t| t.get())
@@ -673,8 +760,9 @@ impl<C: Cost> Solver<C> {
                         Err(_) => run(),
                     }
                 }
-                Method::Anneal => drive(&limits, began, observe, |r, rng, _| {
-                    let order = search::start_tour(cost, &nb, Start::NearestNeighbour, r, rng);
+                Method::Anneal => drive(&limits, began, observe, |r, rng, should_stop| {
+                    let order =
+                        search::start_tour(cost, &nb, Start::NearestNeighbour, r, rng, should_stop);
                     Annealer::start(cost, &nb, &self.annealing, order, rng)
                 }),
                 _ => {
@@ -747,7 +835,7 @@ impl Restart {
         rng: &mut Pcg64,
         should_stop: &mut dyn FnMut() -> bool,
     ) -> Restart {
-        let mut tour = ArrayTour::new(start_tour(cost, nb, start, r, rng));
+        let mut tour = ArrayTour::new(start_tour(cost, nb, start, r, rng, should_stop));
         two_opt_or_opt(cost, nb, &mut tour, should_stop);
         let order = tour.into_order();
         let length = closed_length(cost, &order).unwrap_or(i64::MAX);

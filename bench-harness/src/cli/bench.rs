@@ -243,12 +243,20 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
         optima,
         stop_at_optimum: a.stop_at_optimum || suite.stop_at_optimum.unwrap_or(false),
         out: out.clone(),
+        stop: super::interrupt::handle(),
     };
     let bar = ProgressBar::new(0);
     bar.set_style(
         ProgressStyle::with_template("{elapsed:>4} [{bar:30}] {pos}/{len} runs, about {eta} left")
             .unwrap_or_else(|_| ProgressStyle::default_bar())
             .progress_chars("=> "),
+    );
+    eprintln!(
+        "sweeping {} instance file(s), {} method(s), {} seed(s) into {}",
+        plan.instances.len(),
+        plan.methods.len(),
+        plan.seeds.len(),
+        out.display()
     );
     let outcome = run_sweep(&plan, &|done, total| {
         bar.set_length(total as u64);
@@ -264,6 +272,16 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
         outcome.skipped,
         out.join("runs.jsonl").display()
     );
+    if outcome.stopped {
+        eprintln!(
+            "wend: the sweep was interrupted; the run under way was dropped. The same command \
+             continues it (runs already in runs.jsonl are skipped)."
+        );
+        if outcome.ran + outcome.skipped == 0 {
+            // Nothing recorded yet: no report to write.
+            return Ok(());
+        }
+    }
     report(std::slice::from_ref(&out), &out)
 }
 

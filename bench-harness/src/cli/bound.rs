@@ -7,7 +7,6 @@ use std::path::PathBuf;
 use std::time::Duration;
 use wend::assignment::assignment_bound;
 use wend::bound::{held_karp_bound, AscentOptions};
-use wend::StopHandle;
 
 #[derive(Args, Debug)]
 pub struct BoundArgs {
@@ -41,7 +40,7 @@ pub fn run(a: BoundArgs) -> Result<(), CliError> {
         max_iterations: None,
         upper_bound: a.upper_bound,
     };
-    let asc = held_karp_bound(inst.cost(), &opts, &StopHandle::new())
+    let asc = held_karp_bound(inst.cost(), &opts, &super::interrupt::handle())
         .map_err(|e| CliError::Input(format!("{}: {e}", a.path.display())))?;
     if a.json {
         println!(

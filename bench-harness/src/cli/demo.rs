@@ -56,11 +56,15 @@ pub fn run(a: DemoArgs) -> Result<(), CliError> {
     );
     let mut gaps = Vec::new();
     for (file, text) in DEMO {
+        if super::interrupt::interrupted() {
+            break;
+        }
         let inst = wend_bench::tsplib::parse_instance(text, file)?;
         let opt = optima.get(&inst.name).copied();
         let mut solver = Solver::new(inst.cost())
             .seed(a.seed)
-            .time_limit(Duration::from_secs_f64(a.time_limit));
+            .time_limit(Duration::from_secs_f64(a.time_limit))
+            .stop_handle(super::interrupt::handle());
         if let Some(o) = opt {
             // Stop at the published optimum: the time column then shows how long it took.
             solver = solver.target_length(o);

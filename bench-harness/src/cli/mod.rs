@@ -4,6 +4,7 @@ mod bench;
 mod bound;
 mod demo;
 mod generate;
+pub(crate) mod interrupt;
 mod measure;
 mod progress;
 mod sky;
@@ -18,6 +19,10 @@ use std::fmt;
 pub struct Args {
     #[command(subcommand)]
     command: Command,
+    /// Refuse work whose large tables would pass this much memory: bytes, or a number with
+    /// K, M, G or T (e.g. 6G). Default: three quarters of the physical memory.
+    #[arg(long, global = true, value_name = "SIZE", env = "WEND_MEMORY_LIMIT")]
+    memory_limit: Option<String>,
 }
 
 #[derive(Subcommand, Debug)]
@@ -41,6 +46,11 @@ enum Command {
 
 /// Runs one command.
 pub fn run(args: Args) -> Result<(), CliError> {
+    if let Some(size) = &args.memory_limit {
+        let bytes = wend::memory::parse_size(size)
+            .map_err(|e| CliError::Input(format!("--memory-limit: {e}")))?;
+        wend::memory::set_ceiling(bytes);
+    }
     match args.command {
         Command::Solve(a) => solve::run(a),
         Command::Measure(a) => measure::run(a),

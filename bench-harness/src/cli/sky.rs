@@ -168,6 +168,7 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
     options.seed = a.seed;
     options.threads = a.threads;
     options.method = Method::Lk;
+    options.stop = super::interrupt::handle();
     if !a.json {
         eprintln!("CAUTION: {CAUTION}");
         eprintln!(

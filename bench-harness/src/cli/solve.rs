@@ -10,7 +10,7 @@ use wend::assignment::assignment_bound;
 use wend::bound::{held_karp_bound, AscentOptions};
 use wend::ends::EndedCost;
 use wend::prove::{prove_optimal, ExactMethod, ProveOptions};
-use wend::{CandidateSource, Cost, Ends, Layout, Method, Solver, StopHandle};
+use wend::{CandidateSource, Cost, Ends, Layout, Method, Solver};
 
 #[derive(Args, Debug)]
 pub struct SolveArgs {
@@ -190,7 +190,9 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
         solver = solver.target_length(t);
     }
     let observer = progress.observer();
-    let solver = solver.on_improvement(observer);
+    let solver = solver
+        .on_improvement(observer)
+        .stop_handle(super::interrupt::handle());
     let result = solver.solve();
     progress.finish();
     let sol = result.map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
@@ -365,7 +367,7 @@ fn write_tour_file(
 /// The Held–Karp bound of symmetric costs, the assignment bound of asymmetric ones.
 fn lower_bound_of<C: Cost + ?Sized>(cost: &C, opts: AscentOptions) -> Result<i64, String> {
     if cost.is_symmetric() {
-        held_karp_bound(cost, &opts, &StopHandle::new())
+        held_karp_bound(cost, &opts, &super::interrupt::handle())
             .map(|b| b.lower_bound)
             .map_err(|e| e.to_string())
     } else {
@@ -399,7 +401,7 @@ fn run_exact(
         ..Default::default()
     };
     let progress = Progress::start(limit, !a.json || std::io::stderr().is_terminal());
-    let result = prove_optimal(inst.cost(), &opts, &StopHandle::new());
+    let result = prove_optimal(inst.cost(), &opts, &super::interrupt::handle());
     progress.finish();
     let c = result.map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
     let proven_gap = c

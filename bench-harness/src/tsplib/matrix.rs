@@ -173,6 +173,12 @@ pub(crate) fn read_weights(
     // the section is then certain to end short.
     let plausible = expected <= lines.remaining_bytes() / 2 + 1;
     let square = n.checked_mul(n).ok_or_else(too_big)?;
+    if plausible {
+        wend::memory::check(wend::memory::square(n, 8), || {
+            format!("the full cost matrix of DIMENSION {n}")
+        })
+        .map_err(|e| ctx.err(header, e.to_string()))?;
+    }
     let mut full = if plausible {
         vec![0i64; square]
     } else {

@@ -16,6 +16,9 @@ use super::{Epoch, Profile, Target};
 /// Why a cost could not be computed.
 #[derive(Debug, Error, Clone, PartialEq)]
 pub enum CostError {
+    /// The matrix would pass the memory ceiling ([`crate::memory`]).
+    #[error(transparent)]
+    Memory(#[from] crate::memory::MemoryError),
     /// The slew limits are not positive and finite.
     #[error("slew limits must be positive and finite: rate {rate_deg_s} deg/s, acceleration {accel_deg_s2} deg/s^2")]
     SlewLimits {
@@ -67,7 +70,7 @@ pub enum CostError {
     },
     /// A cost does not fit in `i64` milliseconds.
     #[error(
-        "the cost from target {from} to target {to} ({cost_s} s) does not fit in i64 milliseconds"
+        "the cost from target {from} to target {to} ({cost_s:e} s) does not fit in i64 milliseconds"
     )]
     TooLarge {
         /// Index of the origin target.
@@ -239,7 +242,11 @@ pub fn cost_matrix_ms_with_sun(
         })?;
         pointings.push(p);
     }
-    let mut m = vec![vec![0i64; targets.len()]; targets.len()];
+    let n = targets.len();
+    crate::memory::check(crate::memory::square(n, 8), || {
+        format!("the slew cost matrix of {n} targets")
+    })?;
+    let mut m = vec![vec![0i64; n]; n];
     // Rows are independent: built in parallel, the first bad cell (by row) reported.
     m.par_iter_mut()
         .enumerate()
