@@ -23,9 +23,20 @@ fn main() {
         commit
     };
     println!("cargo:rustc-env=WEND_GIT_COMMIT={commit}");
-    println!("cargo:rerun-if-changed=../.git/index");
     println!("cargo:rerun-if-changed=src");
     println!("cargo:rerun-if-changed=../solver/src");
-    println!("cargo:rerun-if-changed=../.git/HEAD");
-    println!("cargo:rerun-if-changed=../.git/refs/heads");
+    // Where git keeps these differs in a linked work tree (`.git` is then a file); a path
+    // that does not exist would make cargo run this script, and rebuild, every time.
+    for what in ["index", "HEAD", "refs/heads", "packed-refs"] {
+        let path = Command::new("git")
+            .args(["rev-parse", "--git-path", what])
+            .output()
+            .ok()
+            .filter(|o| o.status.success())
+            .and_then(|o| String::from_utf8(o.stdout).ok())
+            .map(|s| std::path::PathBuf::from(s.trim()));
+        if let Some(p) = path.filter(|p| p.exists()) {
+            println!("cargo:rerun-if-changed={}", p.display());
+        }
+    }
 }

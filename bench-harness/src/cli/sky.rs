@@ -122,6 +122,20 @@ fn input_error(e: impl std::fmt::Display) -> CliError {
     CliError::Input(e.to_string())
 }
 
+/// A failure of the planner, which has no file of its own: the targets and the profile it was
+/// given are named.
+fn planning_error(a: &PlanArgs, e: impl std::fmt::Display) -> CliError {
+    let shown = |p: &Option<PathBuf>, demo: &str| {
+        p.as_ref()
+            .map_or_else(|| demo.to_string(), |p| p.display().to_string())
+    };
+    CliError::Input(format!(
+        "{} (profile {}): {e}",
+        shown(&a.targets, "demo targets (built in)"),
+        shown(&a.profile, "demo profile (built in)")
+    ))
+}
+
 fn run_plan(a: PlanArgs) -> Result<(), CliError> {
     let profile = load_profile(&a.profile)?;
     let (targets, start_text): (Vec<Target>, String) = match &a.targets {
@@ -196,11 +210,12 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
                 );
             }
         };
-        let front = search_front(&profile, &targets, &fo, &progress).map_err(input_error)?;
+        let front =
+            search_front(&profile, &targets, &fo, &progress).map_err(|e| planning_error(&a, e))?;
         (front.single.clone(), Some(front))
     } else {
         (
-            plan(&profile, &targets, &options).map_err(input_error)?,
+            plan(&profile, &targets, &options).map_err(|e| planning_error(&a, e))?,
             None,
         )
     };
