@@ -301,6 +301,12 @@ fn cases() -> Vec<(&'static str, Args, Expect)> {
             MEASURE_TRI5,
             refused("tour-count.tour", 9),
         ),
+        // A byte-order mark and CRLF endings do not shift the line numbers.
+        (
+            "tour-bom-crlf.tour",
+            MEASURE_TRI5,
+            refused("tour-bom-crlf.tour", 7),
+        ),
         // No DIMENSION, so only the instance shows that node 9 (line 5) does not exist.
         (
             "tour-nodim-range.tour",
@@ -404,6 +410,11 @@ fn cases() -> Vec<(&'static str, Args, Expect)> {
                 scheduled: 1,
             },
         ),
+        (
+            "targets-crlf-bad.csv",
+            PLAN_TARGETS,
+            refused("targets-crlf-bad.csv", 4),
+        ),
         // A blank line 4; the second T-1 is on line 5.
         (
             "targets-dup.csv",
@@ -493,6 +504,11 @@ fn cases() -> Vec<(&'static str, Args, Expect)> {
             "profile-nan.toml",
             PLAN_PROFILE,
             refused("profile-nan.toml", 3),
+        ),
+        (
+            "profile-crlf-bad.toml",
+            PLAN_PROFILE,
+            refused("profile-crlf-bad.toml", 3),
         ),
         (
             "profile-inf.toml",
@@ -691,8 +707,11 @@ fn the_table_rests_on_correct_arithmetic() {
         "crlf-n3.tsp",
         "crlf-bad.tsp",
         "tour-crlf.tour",
+        "tour-bom-crlf.tour",
         "targets-crlf.csv",
+        "targets-crlf-bad.csv",
         "profile-crlf.toml",
+        "profile-crlf-bad.toml",
     ] {
         let text = std::fs::read(fixture(name)).unwrap();
         let lf = text.iter().filter(|&&b| b == b'\n').count();
@@ -702,8 +721,11 @@ fn the_table_rests_on_correct_arithmetic() {
     for name in [
         "bom-n3.tsp",
         "bom-bad.tsp",
+        "tour-bom-crlf.tour",
         "targets-bom.csv",
+        "targets-crlf-bad.csv",
         "profile-bom.toml",
+        "profile-crlf-bad.toml",
     ] {
         let text = std::fs::read(fixture(name)).unwrap();
         assert!(
