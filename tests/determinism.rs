@@ -161,8 +161,8 @@ fn sky_plan_repeats_across_processes() {
 }
 
 /// `wend bench` with restart and iteration budgets, two runs at a time on two threads each:
-/// the records of runs.jsonl (less times, the machine and the commit) and every tour file are
-/// the same in two processes.
+/// the records of runs.jsonl (less times, the machine and the commit), runs.csv (less the same
+/// columns) and every tour file are the same in two processes.
 ///
 /// Left out as timing: `seconds`, `time_to_best` and `trace` (the times, and with several
 /// threads per run also the intermediate lengths, which are whichever thread reported first;
@@ -229,4 +229,49 @@ fn bench_repeats_across_processes() {
         let tour = r["tour_file"].as_str().expect("tour_file");
         same_file(&dirs[0].join("out"), &dirs[1].join("out"), tour);
     }
+    // runs.csv is the table in run order: the same lines, timing and machine columns aside.
+    let table = |d: &Path| {
+        let text = String::from_utf8(read(&d.join("out/runs.csv"))).expect("UTF-8");
+        let mut lines = text.lines().map(csv_fields);
+        let header = lines.next().expect("a header");
+        let skip = [
+            "seconds",
+            "time_to_best",
+            "trace_points",
+            "machine",
+            "git_commit",
+        ];
+        let keep: Vec<usize> = (0..header.len())
+            .filter(|&k| !skip.contains(&header[k].as_str()))
+            .collect();
+        assert!(
+            keep.len() + skip.len() == header.len(),
+            "columns: {header:?}"
+        );
+        lines
+            .map(|f| keep.iter().map(|&k| f[k].clone()).collect::<Vec<_>>())
+            .collect::<Vec<_>>()
+    };
+    let (a, b) = (table(&dirs[0]), table(&dirs[1]));
+    assert_eq!(a.len(), 2 * 3 * 2);
+    assert_eq!(a, b, "runs.csv differs between two runs");
+}
+
+/// The fields of one CSV line (RFC 4180 quoting; no line breaks inside fields here).
+fn csv_fields(line: &str) -> Vec<String> {
+    let mut fields = vec![String::new()];
+    let mut quoted = false;
+    let mut chars = line.chars().peekable();
+    while let Some(c) = chars.next() {
+        match c {
+            '"' if quoted && chars.peek() == Some(&'"') => {
+                chars.next();
+                fields.last_mut().expect("a field").push('"');
+            }
+            '"' => quoted = !quoted,
+            ',' if !quoted => fields.push(String::new()),
+            c => fields.last_mut().expect("a field").push(c),
+        }
+    }
+    fields
 }
