@@ -3,7 +3,8 @@
 use super::{load, CliError};
 use clap::Args;
 use serde_json::json;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
+use wend_bench::tsplib::{TourFile, TsplibError};
 
 #[derive(Args, Debug)]
 pub struct MeasureArgs {
@@ -19,16 +20,7 @@ pub struct MeasureArgs {
 pub fn run(a: MeasureArgs) -> Result<(), CliError> {
     let inst = load(&a.instance)?;
     let tf = wend_bench::tsplib::read_tour(&a.tour)?;
-    if let Some(d) = tf.dimension {
-        if d != inst.dimension {
-            return Err(CliError::Input(format!(
-                "{}: tour has DIMENSION {d}, instance {} has {} nodes",
-                a.tour.display(),
-                inst.name,
-                inst.dimension
-            )));
-        }
-    }
+    check_fit(&tf, &a.tour, &inst.name, inst.dimension)?;
     let tour = wend::Tour::new(tf.nodes, inst.dimension).map_err(|e| {
         CliError::Input(format!(
             "{}: not a tour of {}: {e}",
@@ -36,9 +28,15 @@ pub fn run(a: MeasureArgs) -> Result<(), CliError> {
             inst.name
         ))
     })?;
-    let length = tour
-        .length(inst.cost())
-        .map_err(|e| CliError::Input(format!("{}: {e}", a.tour.display())))?;
+    // The sum can only overflow because the instance's weights are that large.
+    let length = tour.length(inst.cost()).map_err(|_| {
+        CliError::Input(format!(
+            "{}: the length of the tour in {} overflows a 64-bit integer; scale the weights \
+             down",
+            a.instance.display(),
+            a.tour.display()
+        ))
+    })?;
     if a.json {
         println!(
             "{}",
@@ -48,4 +46,64 @@ pub fn run(a: MeasureArgs) -> Result<(), CliError> {
         println!("{length}");
     }
     Ok(())
+}
+
+/// Checks a tour file against the size of the instance it is measured on, pointing at the line
+/// at fault: its `DIMENSION`, or the first node the instance does not have. (A tour without
+/// `DIMENSION` is only checked against the instance here; a wrong node count is left to
+/// [`wend::Tour::new`], as no single line is at fault.)
+fn check_fit(tf: &TourFile, tour: &Path, instance: &str, n: usize) -> Result<(), CliError> {
+    let at = |line: usize, message: String| {
+        CliError::Input(TsplibError::new(&tour.display().to_string(), line, message).to_string())
+    };
+    if let Some(d) = tf.dimension {
+        if d != n {
+            return Err(at(
+                tf.dimension_line.unwrap_or(0),
+                format!("tour has DIMENSION {d}, instance {instance} has {n} nodes"),
+            ));
+        }
+    }
+    if let Some((k, &node)) = tf.nodes.iter().enumerate().find(|(_, &v)| v >= n) {
+        return Err(at(
+            tf.node_lines.get(k).copied().unwrap_or(0),
+            format!(
+                "node id {} is outside 1..={n} (instance {instance} has {n} nodes)",
+                node + 1
+            ),
+        ));
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use wend_bench::tsplib::parse_tour;
+
+    fn fit(text: &str, n: usize) -> Result<(), String> {
+        let tf = parse_tour(text, "t.tour").unwrap();
+        check_fit(&tf, Path::new("t.tour"), "five", n).map_err(|e| e.to_string())
+    }
+
+    #[test]
+    fn a_dimension_that_does_not_fit_names_its_line() {
+        let text = "NAME : t\nTYPE : TOUR\nDIMENSION : 4\nTOUR_SECTION\n1 2 3 4 -1\nEOF\n";
+        assert_eq!(
+            fit(text, 5).unwrap_err(),
+            "t.tour:3: tour has DIMENSION 4, instance five has 5 nodes"
+        );
+        assert!(fit(text, 4).is_ok());
+    }
+
+    #[test]
+    fn a_node_the_instance_lacks_names_its_line_and_file_number() {
+        // No DIMENSION: the reader cannot know that node 9 is too large.
+        let text = "NAME : t\nTYPE : TOUR\nTOUR_SECTION\n1 2\n3 9 5\n-1\n";
+        assert_eq!(
+            fit(text, 5).unwrap_err(),
+            "t.tour:5: node id 9 is outside 1..=5 (instance five has 5 nodes)"
+        );
+        assert!(fit(text, 9).is_ok());
+    }
 }

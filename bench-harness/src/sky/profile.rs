@@ -37,7 +37,13 @@
 //! (seconds, ≥ 0). Every ordered pair of two different instruments appears exactly once;
 //! changing to the same instrument costs 0 s and is not listed.
 //!
-//! Errors name the file, the key and, where the TOML reader tells it, the line.
+//! No single step of a plan may take longer than [`MAX_STEP_S`] (10⁹ s, about 32 years):
+//! `settle_s`, `time_s` and `dump_s` are at most that, the thermal rates at most a 180th of it
+//! per degree, and the slew limits at least what a 180° slew needs to fit in it
+//! (`slew_rate_deg_s` ≥ 3.6·10⁻⁷, `slew_accel_deg_s2` ≥ 7.2·10⁻¹⁶).
+//!
+//! Errors name the file, the key and, where the TOML reader tells it, the line. Values quoted
+//! in them have control characters escaped, so that every error is one line.
 
 use std::collections::HashMap;
 use std::ops::Range;
@@ -46,6 +52,15 @@ use std::path::Path;
 use serde::Deserialize;
 use toml::Spanned;
 use wend::sky::{Instrument, Profile};
+
+use super::targets::{escape_controls, shown};
+
+/// The longest time any one step of a plan may take, seconds (about 32 years, far beyond the
+/// longest horizon of ten years): settling, a setup change, a momentum dump, the thermal
+/// settling after the largest change of solar pitch (180°) and the slowest slew (180°) must
+/// each fit in it. Longer values can only be typing errors, and would make transition costs
+/// overflow the planner's integer milliseconds (common practice: refuse what no plan can use).
+pub const MAX_STEP_S: f64 = 1.0e9;
 
 /// A profile that could not be read, with the place the trouble was found.
 ///
@@ -152,8 +167,9 @@ impl Ctx<'_> {
         ProfileError {
             source_name: self.source.to_string(),
             line: span.map_or(0, |s| super::line_of(self.text, s.start)),
-            key: key.to_string(),
-            message: message.into(),
+            key: escape_controls(key),
+            // Names may hold line breaks (`"a\nb"`); an error stays one line.
+            message: escape_controls(&message.into()),
         }
     }
 
@@ -242,6 +258,29 @@ impl Ctx<'_> {
                 key,
                 Some(v.span()),
                 format!("must be at least 0, found {x}"),
+            ))
+        }
+    }
+
+    /// A time of one step: at least 0 and at most `MAX_STEP_S / per` (`per` degrees of a
+    /// rate in seconds per degree, 1 for a plain time).
+    fn step_time(&self, key: &str, v: &Spanned<f64>, per: f64) -> Result<f64, ProfileError> {
+        let x = self.non_negative(key, v)?;
+        if x * per <= MAX_STEP_S {
+            Ok(x)
+        } else {
+            let what = if per == 1.0 {
+                String::new()
+            } else {
+                format!(" per degree ({per}° of change may take at most {MAX_STEP_S:e} s)")
+            };
+            Err(self.err(
+                key,
+                Some(v.span()),
+                format!(
+                    "must be at most {:e} s{what}, found {x:e}",
+                    MAX_STEP_S / per
+                ),
             ))
         }
     }
@@ -335,14 +374,47 @@ impl Ctx<'_> {
 
         let (instruments, setup_s) = self.instruments(&raw)?;
 
+        // A 180° slew takes 2 √(180 / a) when the rate limit is not reached, and less than
+        // 2 · 180 / ω when it is: bounding both bounds the slowest slew.
+        let slew_rate_deg_s = self.positive("slew_rate_deg_s", &raw.slew_rate_deg_s)?;
+        if 2.0 * 180.0 / slew_rate_deg_s > MAX_STEP_S {
+            return Err(self.err(
+                "slew_rate_deg_s",
+                Some(raw.slew_rate_deg_s.span()),
+                format!(
+                    "must be at least {:e} so that a 180° slew takes at most {MAX_STEP_S:e} s, \
+                     found {slew_rate_deg_s:e}",
+                    2.0 * 180.0 / MAX_STEP_S
+                ),
+            ));
+        }
+        let slew_accel_deg_s2 = self.positive("slew_accel_deg_s2", &raw.slew_accel_deg_s2)?;
+        if 2.0 * (180.0 / slew_accel_deg_s2).sqrt() > MAX_STEP_S {
+            return Err(self.err(
+                "slew_accel_deg_s2",
+                Some(raw.slew_accel_deg_s2.span()),
+                format!(
+                    "must be at least {:e} so that a 180° slew takes at most {MAX_STEP_S:e} s, \
+                     found {slew_accel_deg_s2:e}",
+                    4.0 * 180.0 / (MAX_STEP_S * MAX_STEP_S)
+                ),
+            ));
+        }
+
         Ok(Profile {
             name,
-            slew_rate_deg_s: self.positive("slew_rate_deg_s", &raw.slew_rate_deg_s)?,
-            slew_accel_deg_s2: self.positive("slew_accel_deg_s2", &raw.slew_accel_deg_s2)?,
-            thermal_warm_s_per_deg: self
-                .non_negative("thermal_warm_s_per_deg", &raw.thermal_warm_s_per_deg)?,
-            thermal_cool_s_per_deg: self
-                .non_negative("thermal_cool_s_per_deg", &raw.thermal_cool_s_per_deg)?,
+            slew_rate_deg_s,
+            slew_accel_deg_s2,
+            thermal_warm_s_per_deg: self.step_time(
+                "thermal_warm_s_per_deg",
+                &raw.thermal_warm_s_per_deg,
+                180.0,
+            )?,
+            thermal_cool_s_per_deg: self.step_time(
+                "thermal_cool_s_per_deg",
+                &raw.thermal_cool_s_per_deg,
+                180.0,
+            )?,
             instruments,
             setup_s,
             elongation_min_deg,
@@ -356,7 +428,7 @@ impl Ctx<'_> {
             wheel_margin,
             thruster_arm_m: self.positive("thruster_arm_m", &raw.thruster_arm_m)?,
             thruster_isp_s: self.positive("thruster_isp_s", &raw.thruster_isp_s)?,
-            dump_s: self.non_negative("dump_s", &raw.dump_s)?,
+            dump_s: self.step_time("dump_s", &raw.dump_s, 1.0)?,
         })
     }
 
@@ -382,27 +454,33 @@ impl Ctx<'_> {
                 return Err(self.err(
                     "instrument.name",
                     Some(inst.name.span()),
-                    format!("`{name}` must be non-empty without leading or trailing spaces"),
+                    format!(
+                        "`{}` must be non-empty without leading or trailing spaces",
+                        shown(name)
+                    ),
                 ));
             }
             if let Some(&(_, first_line)) = index.get(name) {
                 return Err(self.err(
                     "instrument.name",
                     Some(inst.name.span()),
-                    format!("instrument `{name}` is defined twice (lines {first_line} and {line})"),
+                    format!(
+                        "instrument `{}` is defined twice (lines {first_line} and {line})",
+                        shown(name)
+                    ),
                 ));
             }
             index.insert(name, (i, line));
             instruments.push(Instrument {
                 name: name.to_string(),
-                settle_s: self.non_negative("instrument.settle_s", &inst.settle_s)?,
+                settle_s: self.step_time("instrument.settle_s", &inst.settle_s, 1.0)?,
             });
         }
 
         let known = || {
             instruments
                 .iter()
-                .map(|i| format!("`{}`", i.name))
+                .map(|i| format!("`{}`", shown(&i.name)))
                 .collect::<Vec<_>>()
                 .join(", ")
         };
@@ -421,7 +499,8 @@ impl Ctx<'_> {
                         key,
                         Some(end.span()),
                         format!(
-                            "unknown instrument `{name}`; the profile defines {}",
+                            "unknown instrument `{}`; the profile defines {}",
+                            shown(name),
                             known()
                         ),
                     ));
@@ -437,7 +516,7 @@ impl Ctx<'_> {
                     format!(
                         "from and to are both `{}`; staying with an instrument costs 0 s and is \
                          not listed",
-                        instruments[from].name
+                        shown(&instruments[from].name)
                     ),
                 ));
             }
@@ -447,12 +526,13 @@ impl Ctx<'_> {
                     Some(entry.from.span()),
                     format!(
                         "the setup from `{}` to `{}` is given twice (lines {first_line} and {line})",
-                        instruments[from].name, instruments[to].name
+                        shown(&instruments[from].name),
+                        shown(&instruments[to].name)
                     ),
                 ));
             }
             given[from][to] = Some(line);
-            setup_s[from][to] = self.non_negative("setup.time_s", &entry.time_s)?;
+            setup_s[from][to] = self.step_time("setup.time_s", &entry.time_s, 1.0)?;
         }
         let mut missing = Vec::new();
         for (i, row) in given.iter().enumerate() {
@@ -460,7 +540,8 @@ impl Ctx<'_> {
                 if i != j && g.is_none() {
                     missing.push(format!(
                         "`{}` -> `{}`",
-                        instruments[i].name, instruments[j].name
+                        shown(&instruments[i].name),
+                        shown(&instruments[j].name)
                     ));
                 }
             }
@@ -676,6 +757,66 @@ time_s = 20
         assert!(shown.contains("must be at least 0"), "{shown}");
         let shown = error_at(&with("time_s", "time_s = -0.5"), "setup.time_s", 31);
         assert!(shown.contains("must be at least 0, found -0.5"), "{shown}");
+    }
+
+    #[test]
+    fn times_no_plan_can_use_are_refused() {
+        // Each at its limit is accepted; beyond it, refused at its line.
+        for (key, line, ok, bad) in [
+            ("dump_s", 18, "1e9", "1.5e9"),
+            ("thermal_warm_s_per_deg", 5, "5e6", "1e300"),
+            ("thermal_cool_s_per_deg", 6, "5e6", "6e6"),
+        ] {
+            assert!(parse(&with(key, &format!("{key} = {ok}"))).is_ok(), "{key}");
+            let shown = error_at(&with(key, &format!("{key} = {bad}")), key, line);
+            assert!(shown.contains("must be at most"), "{shown}");
+        }
+        let shown = error_at(
+            &with("settle_s", "settle_s = 1e300"),
+            "instrument.settle_s",
+            22,
+        );
+        assert!(
+            shown.contains("must be at most 1e9 s, found 1e300"),
+            "{shown}"
+        );
+        let shown = error_at(&with("time_s", "time_s = 2e9"), "setup.time_s", 31);
+        assert!(shown.contains("must be at most 1e9 s"), "{shown}");
+    }
+
+    #[test]
+    fn slews_no_plan_can_use_are_refused() {
+        // 2 · 180 / rate ≤ 1e9 s: rate ≥ 3.6e-7 °/s; 2 √(180 / a) ≤ 1e9 s: a ≥ 7.2e-16 °/s².
+        assert!(parse(&with("slew_rate_deg_s", "slew_rate_deg_s = 4e-7")).is_ok());
+        let shown = error_at(
+            &with("slew_rate_deg_s", "slew_rate_deg_s = 3e-7"),
+            "slew_rate_deg_s",
+            3,
+        );
+        assert!(shown.contains("180° slew takes at most 1e9 s"), "{shown}");
+        assert!(parse(&with("slew_accel_deg_s2", "slew_accel_deg_s2 = 7.3e-16")).is_ok());
+        let shown = error_at(
+            &with("slew_accel_deg_s2", "slew_accel_deg_s2 = 1e-300"),
+            "slew_accel_deg_s2",
+            4,
+        );
+        assert!(shown.contains("found 1e-300"), "{shown}");
+        // A huge rate is harmless: the acceleration limit then sets the slew time.
+        assert!(parse(&with("slew_rate_deg_s", "slew_rate_deg_s = 1e300")).is_ok());
+    }
+
+    #[test]
+    fn errors_stay_one_line_whatever_the_names() {
+        // An instrument named with a line break, without the setup tables it needs.
+        let text = BASE.replace("name = \"spec\"", "name = \"sp\\nec\"");
+        let e = parse(&text).unwrap_err();
+        let shown = e.to_string();
+        assert!(!shown.contains('\n'), "{shown}");
+        assert!(shown.contains("`sp\\nec`"), "{shown}");
+        // A quoted key with control characters.
+        let text = BASE.to_string() + "\"a\\r\\nb\" = 1\n";
+        let shown = parse(&text).unwrap_err().to_string();
+        assert!(!shown.contains('\n') && !shown.contains('\r'), "{shown}");
     }
 
     #[test]

@@ -62,9 +62,35 @@ impl TargetsError {
             source_name: source.to_string(),
             line,
             row,
-            message: message.into(),
+            // Quoted fields may hold line breaks; an error stays one line.
+            message: escape_controls(&message.into()),
         }
     }
+}
+
+/// A value from the file for an error message: control characters (line breaks, NUL, ...)
+/// escaped so that the message stays one line, and cut short so that a megabyte field does
+/// not end up in it.
+pub(crate) fn shown(value: &str) -> String {
+    const MAX: usize = 40;
+    let (head, cut) = match value.char_indices().nth(MAX) {
+        Some((at, _)) => (&value[..at], "..."),
+        None => (value, ""),
+    };
+    format!("{}{cut}", escape_controls(head))
+}
+
+/// `text` with every control character written as its Rust escape (`\n`, `\u{0}`).
+pub(crate) fn escape_controls(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        if c.is_control() {
+            out.extend(c.escape_default());
+        } else {
+            out.push(c);
+        }
+    }
+    out
 }
 
 /// The columns a targets file may have, in the order the documentation lists them.
@@ -132,7 +158,7 @@ pub fn parse_targets(
                 row,
                 format!(
                     "duplicate id `{}`: row {first_row} (line {first_line}) has it too",
-                    target.id
+                    shown(&target.id)
                 ),
             ));
         }
@@ -196,7 +222,7 @@ fn read_header(record: &csv::StringRecord) -> Result<[Option<usize>; 5], String>
             let shown = if name.is_empty() {
                 format!("column {} has no name", i + 1)
             } else {
-                format!("unknown column `{name}` (column {})", i + 1)
+                format!("unknown column `{}` (column {})", shown(name), i + 1)
             };
             return Err(format!(
                 "{shown}; the header must name the columns {} and no others",
@@ -205,7 +231,8 @@ fn read_header(record: &csv::StringRecord) -> Result<[Option<usize>; 5], String>
         };
         if let Some(first) = cols[k] {
             return Err(format!(
-                "column `{name}` appears twice (columns {} and {})",
+                "column `{}` appears twice (columns {} and {})",
+                shown(name),
                 first + 1,
                 i + 1
             ));
@@ -248,17 +275,21 @@ fn read_row(
     if id.is_empty() {
         return Err("`id` is empty".to_string());
     }
+    // Values out of range are quoted as written: `Display` would spell 1e300 in 301 digits.
     let ra_deg = number(cell(1), COLUMNS[1])?;
     if !(0.0..360.0).contains(&ra_deg) {
-        return Err(format!("`ra_deg` is {ra_deg}, outside [0, 360)"));
+        return Err(format!("`ra_deg` is {}, outside [0, 360)", shown(cell(1))));
     }
     let dec_deg = number(cell(2), COLUMNS[2])?;
     if !(-90.0..=90.0).contains(&dec_deg) {
-        return Err(format!("`dec_deg` is {dec_deg}, outside [-90, 90]"));
+        return Err(format!(
+            "`dec_deg` is {}, outside [-90, 90]",
+            shown(cell(2))
+        ));
     }
     let duration_s = number(cell(3), COLUMNS[3])?;
     if duration_s < 0.0 {
-        return Err(format!("`duration_s` is {duration_s}, negative"));
+        return Err(format!("`duration_s` is {}, negative", shown(cell(3))));
     }
     let instrument = instrument_index(cell(4), profile)?;
     Ok(Target {
@@ -276,9 +307,12 @@ fn number(text: &str, column: &str) -> Result<f64, String> {
     }
     let v: f64 = text
         .parse()
-        .map_err(|_| format!("`{column}` value `{text}` is not a number"))?;
+        .map_err(|_| format!("`{column}` value `{}` is not a number", shown(text)))?;
     if !v.is_finite() {
-        return Err(format!("`{column}` value `{text}` is not a finite number"));
+        return Err(format!(
+            "`{column}` value `{}` is not a finite number",
+            shown(text)
+        ));
     }
     Ok(v)
 }
@@ -298,10 +332,11 @@ fn instrument_index(name: &str, profile: &Profile) -> Result<usize, String> {
             let known: Vec<String> = profile
                 .instruments
                 .iter()
-                .map(|i| format!("`{}`", i.name))
+                .map(|i| format!("`{}`", shown(&i.name)))
                 .collect();
             format!(
-                "unknown instrument `{name}`; the profile knows {}",
+                "unknown instrument `{}`; the profile knows {}",
+                shown(name),
                 known.join(", ")
             )
         })
@@ -512,6 +547,42 @@ mod tests {
             shown.contains("duplicate id `A`: row 1 (line 2) has it too"),
             "{shown}"
         );
+    }
+
+    #[test]
+    fn errors_stay_one_short_line_whatever_the_values() {
+        // A quoted id with a line break, repeated.
+        let text = "id,ra_deg,dec_deg,duration_s\nA,1,2,3\n\"B\nX\",1,2,3\n\"B\nX\",4,5,6\n";
+        let shown = error_at(text, 5, 3);
+        assert!(
+            shown.contains("duplicate id `B\\nX`: row 2 (line 3)"),
+            "{shown}"
+        );
+        assert!(!shown.contains('\n'), "{shown}");
+        // Huge values are quoted as written, not spelt out in 301 digits.
+        let shown = error_at("id,ra_deg,dec_deg,duration_s\nA,1e300,2,3\n", 2, 1);
+        assert!(
+            shown.contains("`ra_deg` is 1e300, outside [0, 360)"),
+            "{shown}"
+        );
+        let shown = error_at("id,ra_deg,dec_deg,duration_s\nA,1,-1e300,3\n", 2, 1);
+        assert!(shown.contains("`dec_deg` is -1e300, outside"), "{shown}");
+        // NUL bytes and carriage returns in a column name, a number, an instrument.
+        let shown = error_at("id,ra_deg,dec_deg,duration_s,\"x\u{0}\ry\"\n", 1, 0);
+        assert!(shown.contains("unknown column `x\\u{0}\\ry`"), "{shown}");
+        let shown = error_at("id,ra_deg,dec_deg,duration_s\nA,\"1\n2\",2,3\n", 2, 1);
+        assert!(
+            shown.contains("`ra_deg` value `1\\n2` is not a number"),
+            "{shown}"
+        );
+        let text = "id,ra_deg,dec_deg,duration_s,instrument\nA,1,2,3,\"c\nam\"\n";
+        let shown = error_at(text, 2, 1);
+        assert!(shown.contains("unknown instrument `c\\nam`"), "{shown}");
+        // A long id is cut short.
+        let long = "L".repeat(5000);
+        let text = format!("id,ra_deg,dec_deg,duration_s\n{long},1,2,3\n{long},1,2,3\n");
+        let shown = error_at(&text, 3, 2);
+        assert!(shown.len() < 200, "{shown}");
     }
 
     #[test]

@@ -101,8 +101,12 @@ pub struct TourFile {
     pub comments: Vec<String>,
     /// `DIMENSION`, when given; the tour then visits exactly that many nodes.
     pub dimension: Option<usize>,
+    /// The line `DIMENSION` was given on, to point at it when it does not fit an instance.
+    pub dimension_line: Option<usize>,
     /// The nodes in visiting order, zero-based.
     pub nodes: Vec<usize>,
+    /// The line of each of `nodes`, to point at a node that does not fit an instance.
+    pub node_lines: Vec<usize>,
 }
 
 /// Reads a whole file as text; bytes that are not UTF-8 become U+FFFD, which can only matter

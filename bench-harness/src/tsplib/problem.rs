@@ -510,19 +510,31 @@ fn coord_error(ctx: Ctx<'_>, e: CostError, coords: &NodeData) -> TsplibError {
         CostError::TooLarge { node, value } => ctx.err(
             line_of(node),
             format!(
-                "node {}: coordinate {value} is too large for integer distances",
-                node + 1
+                "node {}: coordinate {} is too large for integer distances",
+                node + 1,
+                shown_f64(value)
             ),
         ),
         CostError::GeoRange { node, value } => ctx.err(
             line_of(node),
             format!(
-                "node {}: GEO coordinate {value} is outside the latitude/longitude range \
+                "node {}: GEO coordinate {} is outside the latitude/longitude range \
                  (DDD.MM, at most 1000 in magnitude)",
-                node + 1
+                node + 1,
+                shown_f64(value)
             ),
         ),
         other @ CostError::MatrixShape { .. } => ctx.err(coords.header, other.to_string()),
+    }
+}
+
+/// A number for an error message: as usual while short, in exponent form when `Display` would
+/// spell out hundreds of digits (`1e300`).
+fn shown_f64(v: f64) -> String {
+    if v.abs() < 1e16 {
+        v.to_string()
+    } else {
+        format!("{v:e}")
     }
 }
 

@@ -670,6 +670,11 @@ fn bad_coordinates() {
     let geo =
         format!("{BERLIN_HEAD}1 0 0\n2 1 1\n3 0 2\n4 2000.5 1\n5 1 0\n").replace("EUC_2D", "GEO");
     assert_err(&err(&geo), 10, "node 4: GEO coordinate");
+    // Huge but finite: the message shows the number short, not as 300 digits.
+    let t = format!("{BERLIN_HEAD}1 0 0\n2 1e300 1\n3 0 2\n4 0 1\n5 1 0\n");
+    let e = err(&t);
+    assert_err(&e, 8, "node 2: coordinate 1e300 is too large");
+    assert!(e.to_string().len() < 120, "{e}");
 }
 
 #[test]
@@ -951,10 +956,18 @@ fn tour_section_layouts() {
     )
     .unwrap();
     assert_eq!(t.nodes, [0, 2, 1, 3]);
+    // The DIMENSION line is kept, for errors against an instance of another size.
+    assert_eq!((t.dimension, t.dimension_line), (Some(4), Some(3)));
+    assert_eq!(t.node_lines, [5, 5, 6, 6]);
     let t = parse_tour("TOUR_SECTION\n2\n1\n-1\n", "dir/y.tour").unwrap();
     assert_eq!(
-        (t.name.as_str(), t.dimension, t.nodes.clone()),
-        ("y", None, vec![1, 0])
+        (
+            t.name.as_str(),
+            t.dimension,
+            t.dimension_line,
+            t.nodes.clone()
+        ),
+        ("y", None, None, vec![1, 0])
     );
     // DIMENSION after the section still counts.
     let e = tour_err("TYPE: TOUR\nTOUR_SECTION\n1 2 3\n-1\nDIMENSION: 2\n");

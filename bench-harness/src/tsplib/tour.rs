@@ -143,7 +143,9 @@ pub fn parse_tour(text: &str, source: &str) -> Result<TourFile, TsplibError> {
             .unwrap_or_else(|| default_name(source)),
         comments,
         dimension: dimension.map(|d| d.value),
+        dimension_line: dimension.map(|d| d.line),
         nodes: tour.nodes,
+        node_lines: tour.lines,
     })
 }
 
