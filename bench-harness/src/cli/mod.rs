@@ -21,7 +21,13 @@ pub struct Args {
     command: Command,
     /// Refuse work whose large tables would pass this much memory: bytes, or a number with
     /// K, M, G or T (e.g. 6G). Default: three quarters of the physical memory.
-    #[arg(long, global = true, value_name = "SIZE", env = "WEND_MEMORY_LIMIT")]
+    #[arg(
+        long,
+        global = true,
+        value_name = "SIZE",
+        env = "WEND_MEMORY_LIMIT",
+        allow_hyphen_values = true
+    )]
     memory_limit: Option<String>,
 }
 
