@@ -17,7 +17,12 @@ fn main() -> ExitCode {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {
             eprintln!("wend: {e}");
-            ExitCode::from(e.exit_code())
+            if cli::interrupt::interrupted() {
+                // Stopped before there was anything to show (a bound before its first 1-tree).
+                ExitCode::from(cli::interrupt::EXIT_CODE)
+            } else {
+                ExitCode::from(e.exit_code())
+            }
         }
     }
 }

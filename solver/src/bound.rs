@@ -283,7 +283,7 @@ pub fn one_tree<F: Fn(usize, usize) -> i64>(
         });
     }
     let edges = match rules {
-        None => prim(n, special, &weight),
+        None => prim(n, special, &weight, &|| false)?,
         Some(r) => {
             let key = |i: usize, j: usize| -> i128 {
                 let class: i128 = match r.state(i, j) {
@@ -293,7 +293,7 @@ pub fn one_tree<F: Fn(usize, usize) -> i64>(
                 };
                 (class << 64) + weight(i, j) as i128
             };
-            prim(n, special, &key)
+            prim(n, special, &key, &|| false)?
         }
     };
     let mut degree = vec![0usize; n];
@@ -331,18 +331,20 @@ pub fn one_tree<F: Fn(usize, usize) -> i64>(
 }
 
 /// Prim's algorithm on the nodes other than `special`, then the two cheapest edges at
-/// `special` (by `key`), for `n >= 2`.
+/// `special` (by `key`), for `n >= 2`; `None` if `halt` (polled every 256 nodes added) turns
+/// true first.
 fn prim<K: Ord + Copy, F: Fn(usize, usize) -> K>(
     n: usize,
     special: usize,
     key: &F,
-) -> Vec<(usize, usize)> {
+    halt: &dyn Fn() -> bool,
+) -> Option<Vec<(usize, usize)>> {
     let mut edges = Vec::with_capacity(n);
     let root = if special == 0 { 1 } else { 0 };
     if n == 2 {
         edges.push((special, root));
         edges.push((special, root));
-        return edges;
+        return Some(edges);
     }
     // The nodes not yet in the tree, with their cheapest known link to it, kept compact.
     let mut rest: Vec<usize> = (0..n).filter(|&v| v != special && v != root).collect();
@@ -355,6 +357,9 @@ fn prim<K: Ord + Copy, F: Fn(usize, usize) -> K>(
         }
     }
     while !rest.is_empty() {
+        if rest.len().is_multiple_of(256) && halt() {
+            return None;
+        }
         let v = rest.swap_remove(at);
         link.swap_remove(at);
         edges.push((from.swap_remove(at), v));
@@ -386,7 +391,7 @@ fn prim<K: Ord + Copy, F: Fn(usize, usize) -> K>(
     for (_, v) in [first, second].into_iter().flatten() {
         edges.push((special, v));
     }
-    edges
+    Some(edges)
 }
 
 /// Ceiling of `a / b` for `b > 0`.
@@ -402,6 +407,9 @@ pub(crate) struct Scaled<'a, C: ?Sized> {
     /// Largest absolute penalty, in scaled units.
     pi_cap: i64,
     dense: Dense,
+    /// Ends a 1-tree or the quick tour midway (each is O(n^2): seconds on 100,000 nodes).
+    stop: StopHandle,
+    deadline: Option<Instant>,
 }
 
 enum Dense {
@@ -506,7 +514,20 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
             scale,
             pi_cap: 2 * scale * max_abs.max(1),
             dense,
+            stop: StopHandle::new(),
+            deadline: None,
         })
+    }
+
+    /// Lets `stop` and `deadline` end a 1-tree or the quick tour midway.
+    pub fn interruptible(mut self, stop: &StopHandle, deadline: Option<Instant>) -> Self {
+        self.stop = stop.clone();
+        self.deadline = deadline;
+        self
+    }
+
+    fn halted(&self) -> bool {
+        self.stop.is_stopped() || self.deadline.is_some_and(|d| Instant::now() >= d)
     }
 
     /// The scale factor of costs and penalties.
@@ -531,14 +552,21 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
 
     /// The cheapest 1-tree under scaled costs plus the penalties `pi` (scaled units), without
     /// rules.
-    pub fn tree(&self, pi: &[i64]) -> OneTree {
+    /// `None` when the stop handle or the deadline ended it midway.
+    pub fn tree(&self, pi: &[i64]) -> Option<OneTree> {
         let (n, s) = (self.n, self.scale);
+        let halt = || self.halted();
         let edges = match &self.dense {
-            Dense::None => prim(n, 0, &|i, j| s * self.cost.cost(i, j) + pi[i] + pi[j]),
-            Dense::Narrow(m) => prim(n, 0, &|i, j| s * m[i * n + j] as i64 + pi[i] + pi[j]),
-            Dense::Wide(m) => prim(n, 0, &|i, j| s * m[i * n + j] + pi[i] + pi[j]),
-        };
-        self.finish_tree(edges, pi)
+            Dense::None => prim(n, 0, &|i, j| s * self.cost.cost(i, j) + pi[i] + pi[j], &halt),
+            Dense::Narrow(m) => prim(
+                n,
+                0,
+                &|i, j| s * m[i * n + j] as i64 + pi[i] + pi[j],
+                &halt,
+            ),
+            Dense::Wide(m) => prim(n, 0, &|i, j| s * m[i * n + j] + pi[i] + pi[j], &halt),
+        }?;
+        Some(self.finish_tree(edges, pi))
     }
 
     /// Degrees and exact cost of a 1-tree given by its edges.
@@ -721,7 +749,11 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
             }
             iterations += 1;
             let tree = match &ruled {
-                None => Some(self.tree(&pi)),
+                None => match self.tree(&pi) {
+                    Some(t) => Some(t),
+                    // Stopped midway: the best 1-tree so far stands.
+                    None => break,
+                },
                 Some((costs, r)) => self.ruled_tree(costs, r, &pi),
             };
             let Some(tree) = tree else {
@@ -787,7 +819,12 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
         let mut v = 0;
         used[0] = true;
         order.push(0);
-        for _ in 1..n {
+        for step in 1..n {
+            if step.is_multiple_of(64) && self.halted() {
+                // Stopped: the rest in index order, still a tour.
+                order.extend((0..n).filter(|&u| !used[u]));
+                return order;
+            }
             let mut next = usize::MAX;
             let mut best = i64::MAX;
             for (u, &taken) in used.iter().enumerate() {
@@ -870,8 +907,8 @@ pub fn held_karp_bound<C: Cost + ?Sized>(
             seconds: began.elapsed().as_secs_f64(),
         });
     }
-    let scaled = Scaled::new(cost)?;
     let plan = root_plan(n, opts, began);
+    let scaled = Scaled::new(cost)?.interruptible(stop, plan.deadline);
     let upper = match opts.upper_bound {
         Some(u) => u,
         None => {

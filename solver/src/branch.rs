@@ -193,7 +193,7 @@ pub fn branch_and_bound<C: Cost + ?Sized>(
         let length = closed_length(cost, &tour)?;
         return Ok(finish(tour, length, length, true, 0));
     }
-    let scaled = Scaled::new(cost)?;
+    let scaled = Scaled::new(cost)?.interruptible(stop, deadline);
     let mut best_tour = if initial_tour.is_empty() {
         scaled.quick_tour(deadline)
     } else {
