@@ -25,10 +25,10 @@ ROOT = Path(__file__).resolve().parents[1]
 INSTANCES = ROOT / "instances"
 OUT = Path(sys.argv[1]) if len(sys.argv) > 1 else Path("gap_vs_time.png")
 
-NAMES = ["kroA100", "ch150", "a280", "att532"]
+NAMES = ["ch150", "a280", "att532", "gr666"]
 METHODS = {"lk": "tab:blue", "2opt": "tab:orange"}
 SEEDS = [0, 1, 2]
-SECONDS = 2.0
+SECONDS = 1.5
 
 # %% The published optima (TSPLIB 95), as listed in instances/optima.txt.
 optima = {}
