@@ -7,7 +7,7 @@
 # published optimum against time.
 #
 #     pip install ./python matplotlib
-#     python examples/python_gap_vs_time.py [OUT.png]
+#     python examples/python_gap_vs_time.py [OUT.png [SECONDS]]
 
 # %%
 import sys
@@ -28,7 +28,7 @@ OUT = Path(sys.argv[1]) if len(sys.argv) > 1 else Path("gap_vs_time.png")
 NAMES = ["ch150", "a280", "att532", "gr666"]
 METHODS = {"lk": "tab:blue", "2opt": "tab:orange"}
 SEEDS = [0, 1, 2]
-SECONDS = 1.5
+SECONDS = float(sys.argv[2]) if len(sys.argv) > 2 else 1.5  # per run
 
 # %% The published optima (TSPLIB 95), as listed in instances/optima.txt.
 optima = {}
