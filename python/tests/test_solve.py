@@ -259,3 +259,16 @@ def test_missing_file_raises_os_error(tmp_path):
         wend.solve_file(tmp_path / "nothing.tsp")
     with pytest.raises(OSError):
         wend.read_tour(tmp_path / "nothing.tour")
+
+
+def test_same_tour_as_the_command_line_on_10000_nodes(wend_cli, tmp_path):
+    # Reference: the command line on the same generated file (10,000 nodes: the two-level
+    # tour layout), same seed, threads and kick budget.
+    path = tmp_path / "u10k.tsp"
+    run_cli(wend_cli, "generate", "--nodes", "10000", "--seed", "1", "--out", str(path))
+    args = dict(seed=0, threads=2, iterations=300, restarts=2)
+    r = wend.solve_file(path, **args)
+    summary, cli_order = cli_solve(wend_cli, tmp_path, path, "--seed", "0", "--threads", "2",
+                                   "--iterations", "300", "--restarts", "2")
+    assert r.order.tolist() == cli_order
+    assert r.length == summary["length"]

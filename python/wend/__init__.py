@@ -99,7 +99,7 @@ class TourResult:
             anytime curve of the run.
     """
 
-    order: np.ndarray
+    order: np.ndarray = field(repr=False)
     length: int
     lower_bound: Optional[int]
     stop_reason: str
@@ -150,7 +150,7 @@ class TourData:
     name: str
     comments: List[str]
     dimension: Optional[int]
-    order: np.ndarray
+    order: np.ndarray = field(repr=False)
 
 
 @dataclass(frozen=True)
