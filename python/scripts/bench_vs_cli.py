@@ -2,7 +2,8 @@
 
     python python/scripts/bench_vs_cli.py INSTANCE.tsp --iterations K [--repeats 5]
 
-Runs `wend solve INSTANCE --seed 0 --threads 2 --iterations K --restarts 2 --tour-out F` and
+Runs `wend solve INSTANCE --seed 0 --threads 2 --iterations K --restarts 2 --tour-out F`
+(with `--json` when asked) and
 `wend.solve_file(INSTANCE, seed=0, threads=2, iterations=K, restarts=2)` alternately, checks
 that every run gives the same tour, and prints the median wall times and their ratio. The
 command's time is the whole process (reading the file included); the Python time is the call
@@ -35,9 +36,11 @@ def main() -> int:
     ap.add_argument("--repeats", type=int, default=5)
     ap.add_argument("--threads", type=int, default=2)
     ap.add_argument("--cli", default=str(ROOT / "target" / "release" / "wend"))
+    ap.add_argument("--json", action="store_true",
+                    help="run the command with --json (no progress lines on stderr)")
     a = ap.parse_args()
     common = ["--seed", "0", "--threads", str(a.threads), "--iterations", str(a.iterations),
-              "--restarts", "2"]
+              "--restarts", "2"] + (["--json"] if a.json else [])
     cli_times, py_times = [], []
     reference = None
     with tempfile.TemporaryDirectory() as tmp:
