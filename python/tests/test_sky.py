@@ -78,6 +78,19 @@ def test_a_dict_of_arrays_plans_like_the_data_frame():
     assert a.plan["id"].tolist() == b.plan["id"].tolist()
 
 
+def test_empty_instrument_cells_mean_the_first_instrument(wend_cli, tmp_path):
+    # Reference: the command line on a targets file whose instrument cells are empty.
+    df = pd.read_csv(DEMO, comment="#").head(20)
+    df["instrument"] = None
+    path = tmp_path / "t.csv"
+    df.to_csv(path, index=False)
+    out = tmp_path / "out"
+    run_cli(wend_cli, "sky", "plan", str(path), "--start", START, "--seed", "0",
+            "--threads", "2", "--out", str(out))
+    p = wend.plan_sky(pd.read_csv(path), start=START, seed=0, threads=2)
+    assert p.plan["id"].tolist() == [r["id"] for r in read_cli_csv(out / "plan.csv")]
+
+
 def test_front_is_non_dominated():
     p = wend.plan_sky(seed=0, threads=2, front=True, time_limit=4.0)
     f = p.front

@@ -511,8 +511,18 @@ def _targets_csv(targets: Any) -> str:
     w = csv.writer(out, lineterminator="\n")
     w.writerow(columns)
     n = lengths.pop() if lengths else 0
+    text_columns = {"id", "instrument"}
     for i in range(n):
-        w.writerow([_cell(data[c][i]) for c in columns])
+        row = []
+        for c in columns:
+            v = data[c][i]
+            # An empty cell of a text column (NaN or None in pandas) stays empty: for the
+            # instrument, the profile's first.
+            if c in text_columns and (v is None or (isinstance(v, float) and math.isnan(v))):
+                row.append("")
+            else:
+                row.append(_cell(v))
+        w.writerow(row)
     return out.getvalue()
 
 
