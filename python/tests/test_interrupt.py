@@ -8,8 +8,18 @@ import threading
 import time
 
 import numpy as np
+import pytest
 
 import wend
+
+
+@pytest.fixture(autouse=True)
+def python_handles_sigint():
+    """SIGINT raises KeyboardInterrupt, as in a notebook or a terminal, even when the test run
+    was started with SIGINT ignored (as background jobs of a shell are)."""
+    old = signal.signal(signal.SIGINT, signal.default_int_handler)
+    yield
+    signal.signal(signal.SIGINT, old)
 
 
 def test_ctrl_c_returns_the_best_tour_quickly():
