@@ -557,13 +557,13 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
         let (n, s) = (self.n, self.scale);
         let halt = || self.halted();
         let edges = match &self.dense {
-            Dense::None => prim(n, 0, &|i, j| s * self.cost.cost(i, j) + pi[i] + pi[j], &halt),
-            Dense::Narrow(m) => prim(
+            Dense::None => prim(
                 n,
                 0,
-                &|i, j| s * m[i * n + j] as i64 + pi[i] + pi[j],
+                &|i, j| s * self.cost.cost(i, j) + pi[i] + pi[j],
                 &halt,
             ),
+            Dense::Narrow(m) => prim(n, 0, &|i, j| s * m[i * n + j] as i64 + pi[i] + pi[j], &halt),
             Dense::Wide(m) => prim(n, 0, &|i, j| s * m[i * n + j] + pi[i] + pi[j], &halt),
         }?;
         Some(self.finish_tree(edges, pi))

@@ -1,0 +1,841 @@
+//! `wend._native`: the wend core as a Python extension module.
+//!
+//! The Python package `wend` (python/wend/__init__.py) wraps these functions: it checks and
+//! converts arguments (NumPy arrays, pandas tables) and turns the dictionaries returned here
+//! into result objects and DataFrames. Everything here takes plain arguments and returns plain
+//! dictionaries so that the wrapper stays the single documented surface.
+//!
+//! Long calls run the core on a worker thread with the GIL released; the calling thread wakes
+//! every [`WATCH_SLICE`] to let Python handle signals. On Ctrl-C (KeyboardInterrupt) the core is
+//! stopped through its [`StopHandle`] and the best result so far is returned, with the stop
+//! reason `cancelled`.
+//!
+//! Errors: bad input raises `ValueError` with the core's message; a file that cannot be read or
+//! written raises `OSError` (or its subclass, e.g. `FileNotFoundError`); a fault inside the core
+//! raises `RuntimeError` and never aborts the interpreter.
+
+use std::path::{Path, PathBuf};
+use std::time::Duration;
+
+use numpy::ndarray::Array2;
+use numpy::{PyArray1, PyArray2, PyReadonlyArray2, PyUntypedArrayMethods};
+use pyo3::exceptions::{PyOSError, PyRuntimeError, PyValueError};
+use pyo3::prelude::*;
+use pyo3::types::{PyDict, PyList};
+
+use wend::assignment::assignment_bound;
+use wend::bound::{held_karp_bound, AscentOptions};
+use wend::ends::EndedCost;
+use wend::sky::front::{search_front, Front, FrontOptions, FrontProgress};
+use wend::sky::plan::{plan, Plan, PlanOptions};
+use wend::sky::schedule::Schedule;
+use wend::sky::{Profile, Target};
+use wend::{CoordCost, Cost, Ends, MatrixCost, Method, Metric, Solution, Solver, StopHandle};
+use wend_bench::sky::output::{format_utc, parse_utc, plan_json, CAUTION, DEMO_START_UTC};
+use wend_bench::sky::{demo_profile, demo_targets, parse_profile, parse_targets};
+use wend_bench::tsplib::{self, Instance, ProblemKind, Weights};
+
+/// How long the calling thread waits, with the GIL released, between two looks for a signal.
+const WATCH_SLICE: Duration = Duration::from_millis(50);
+
+/// What went wrong, and which Python exception says so.
+enum Fail {
+    /// The caller's input is wrong: `ValueError`.
+    Input(String),
+    /// A file could not be read or written: `OSError` (the subclass of the I/O error's kind).
+    Io(std::io::Error, String),
+    /// A fault of the core (a panic caught): `RuntimeError`.
+    Internal(String),
+}
+
+impl From<Fail> for PyErr {
+    fn from(f: Fail) -> PyErr {
+        match f {
+            Fail::Input(m) => PyValueError::new_err(m),
+            Fail::Io(e, m) => {
+                // The subclass (FileNotFoundError, PermissionError, ...) from the error's kind,
+                // the message naming the file.
+                let typed = PyErr::from(e);
+                Python::attach(|py| {
+                    let kind = typed.get_type(py);
+                    let made = kind.call1((m.clone(),));
+                    match made {
+                        Ok(obj) => PyErr::from_value(obj),
+                        Err(_) => PyOSError::new_err(m),
+                    }
+                })
+            }
+            Fail::Internal(m) => PyRuntimeError::new_err(m),
+        }
+    }
+}
+
+fn input(e: impl std::fmt::Display) -> Fail {
+    Fail::Input(e.to_string())
+}
+
+/// The text of a file, read so that an unreadable file is an `OSError` naming it.
+fn read_file_bytes(path: &Path) -> Result<Vec<u8>, Fail> {
+    std::fs::read(path).map_err(|e| {
+        let m = format!("{}: cannot read the file: {e}", path.display());
+        Fail::Io(e, m)
+    })
+}
+
+/// Writes `bytes` to `path`, an `OSError` naming the file when that fails.
+fn write_file_bytes(path: &Path, bytes: &[u8]) -> Result<(), Fail> {
+    std::fs::write(path, bytes).map_err(|e| {
+        let m = format!("{}: cannot write: {e}", path.display());
+        Fail::Io(e, m)
+    })
+}
+
+fn panic_text(p: &(dyn std::any::Any + Send)) -> String {
+    if let Some(s) = p.downcast_ref::<&str>() {
+        (*s).to_string()
+    } else if let Some(s) = p.downcast_ref::<String>() {
+        s.clone()
+    } else {
+        "unknown panic".into()
+    }
+}
+
+/// Runs `work` on a worker thread with the GIL released. The calling thread waits in slices of
+/// [`WATCH_SLICE`], taking the GIL back between them to let Python run its signal handlers; when
+/// one raises (Ctrl-C: KeyboardInterrupt), `stop` is triggered, the exception is dropped and the
+/// worker's result (the best so far) is awaited and returned. A panic in the core becomes
+/// [`Fail::Internal`].
+fn run_watched<T: Send>(
+    py: Python<'_>,
+    stop: &StopHandle,
+    work: impl FnOnce() -> T + Send,
+) -> Result<T, Fail> {
+    std::thread::scope(|scope| {
+        let (tx, rx) = std::sync::mpsc::channel::<()>();
+        let worker = scope.spawn(move || {
+            let out = std::panic::catch_unwind(std::panic::AssertUnwindSafe(work));
+            let _ = tx.send(());
+            out
+        });
+        let mut rx = rx;
+        loop {
+            let (done, back) = py.detach(move || {
+                let r = rx.recv_timeout(WATCH_SLICE);
+                (
+                    !matches!(r, Err(std::sync::mpsc::RecvTimeoutError::Timeout)),
+                    rx,
+                )
+            });
+            rx = back;
+            if done {
+                break;
+            }
+            if py.check_signals().is_err() {
+                stop.stop();
+                break;
+            }
+        }
+        let joined = py.detach(move || worker.join());
+        match joined {
+            Ok(Ok(value)) => Ok(value),
+            Ok(Err(p)) | Err(p) => Err(Fail::Internal(format!(
+                "internal error in the wend core: {}",
+                panic_text(&*p)
+            ))),
+        }
+    })
+}
+
+/// The options of a solve, from the dictionary the Python wrapper passes.
+#[derive(FromPyObject)]
+#[pyo3(from_item_all)]
+struct SolveOptions {
+    method: String,
+    time_limit: Option<f64>,
+    seed: u64,
+    threads: Option<usize>,
+    iterations: Option<u64>,
+    restarts: Option<usize>,
+    open: bool,
+    start: Option<usize>,
+    end: Option<usize>,
+    lower_bound: bool,
+    bound_time: f64,
+    settings: Vec<(String, String)>,
+}
+
+impl SolveOptions {
+    fn method(&self) -> Result<Method, Fail> {
+        Method::from_name(&self.method).ok_or_else(|| {
+            let names: Vec<&str> = Method::ALL.iter().map(|m| m.name()).collect();
+            Fail::Input(format!(
+                "unknown method {:?}; choose one of: {}",
+                self.method,
+                names.join(", ")
+            ))
+        })
+    }
+
+    /// The ends asked for: 0-based node indices, checked against the instance by the solver.
+    fn ends(&self) -> Ends {
+        match (self.start, self.end) {
+            (Some(s), Some(e)) => Ends::StartEnd(s, e),
+            (Some(s), None) => Ends::Start(s),
+            (None, Some(e)) => Ends::End(e),
+            (None, None) if self.open => Ends::Open,
+            (None, None) => Ends::Closed,
+        }
+    }
+
+    fn limit(&self) -> Result<Option<Duration>, Fail> {
+        match self.time_limit {
+            Some(t) if !(t.is_finite() && t >= 0.0) => Err(Fail::Input(format!(
+                "time_limit must be a non-negative number of seconds, got {t}"
+            ))),
+            Some(t) => Ok(Some(Duration::from_secs_f64(t.min(1.0e9)))),
+            None => Ok(None),
+        }
+    }
+}
+
+/// The Held–Karp bound of symmetric costs, the assignment bound of asymmetric ones.
+fn lower_bound_of<C: Cost + ?Sized>(
+    cost: &C,
+    opts: AscentOptions,
+    stop: &StopHandle,
+) -> Result<i64, String> {
+    if cost.is_symmetric() {
+        held_karp_bound(cost, &opts, stop)
+            .map(|b| b.lower_bound)
+            .map_err(|e| e.to_string())
+    } else {
+        assignment_bound(cost)
+            .map(|b| b.lower_bound)
+            .map_err(|e| e.to_string())
+    }
+}
+
+/// A bound on every tour (or path with the requested ends) no longer than `length`, as
+/// `wend solve --bound` computes it.
+fn bound_for(
+    cost: &dyn Cost,
+    ends: Ends,
+    length: i64,
+    bound_time: f64,
+    stop: &StopHandle,
+) -> Result<i64, String> {
+    if !(bound_time.is_finite() && bound_time >= 0.0) {
+        return Err(format!(
+            "bound_time must be a non-negative number of seconds, got {bound_time}"
+        ));
+    }
+    let opts = AscentOptions {
+        time_limit: Some(Duration::from_secs_f64(bound_time.min(1.0e9))),
+        max_iterations: None,
+        upper_bound: Some(length),
+    };
+    let bound = if ends.is_path() {
+        // The bound of the closed tours through the dummy node that fixes the ends, less what
+        // such a tour pays at that node on top of its path: every path with the requested
+        // ends is one of those tours.
+        let ended = EndedCost::new(cost, ends).map_err(|e| e.to_string())?;
+        let tour_bound = lower_bound_of(
+            &ended,
+            AscentOptions {
+                upper_bound: ended.tour_length_of(length),
+                ..opts
+            },
+            stop,
+        )?;
+        tour_bound.saturating_sub(ended.offset())
+    } else {
+        lower_bound_of(cost, opts, stop)?
+    };
+    Ok(bound.min(length))
+}
+
+/// Solves over `cost` as `wend solve` does with the same options, watching for Ctrl-C.
+fn solve_cost<'py>(
+    py: Python<'py>,
+    cost: &dyn Cost,
+    o: &SolveOptions,
+) -> Result<Bound<'py, PyDict>, Fail> {
+    let method = o.method()?;
+    let limit = o.limit()?;
+    if o.threads == Some(0) {
+        return Err(Fail::Input("threads must be at least 1".into()));
+    }
+    let ends = o.ends();
+    let stop = StopHandle::new();
+    let mut solver = Solver::new(cost)
+        .seed(o.seed)
+        .method(method)
+        .ends(ends)
+        .stop_handle(stop.clone());
+    if let Some(l) = limit {
+        solver = solver.time_limit(l);
+    }
+    if let Some(t) = o.threads {
+        solver = solver.threads(t);
+    }
+    if let Some(r) = o.restarts {
+        solver = solver.restarts(r);
+    }
+    if let Some(k) = o.iterations {
+        solver = solver.iterations(k);
+    }
+    for (key, value) in &o.settings {
+        solver = solver.set(key.trim(), value.trim()).map_err(input)?;
+    }
+    let want_bound = o.lower_bound;
+    let bound_time = o.bound_time;
+    let stop_in = stop.clone();
+    let (sol, bound) = run_watched(py, &stop, move || {
+        let sol = solver.solve()?;
+        let bound = if want_bound && !stop_in.is_stopped() {
+            Some(bound_for(cost, sol.ends, sol.length, bound_time, &stop_in))
+        } else {
+            None
+        };
+        Ok::<_, wend::SolveError>((sol, bound))
+    })?
+    .map_err(input)?;
+    let bound = bound.transpose().map_err(Fail::Input)?;
+    solution_dict(py, &sol, bound)
+}
+
+fn solution_dict<'py>(
+    py: Python<'py>,
+    sol: &Solution,
+    bound: Option<i64>,
+) -> Result<Bound<'py, PyDict>, Fail> {
+    let d = PyDict::new(py);
+    let fail = |e: PyErr| Fail::Internal(e.to_string());
+    let order: Vec<i64> = sol.tour.order().iter().map(|&v| v as i64).collect();
+    d.set_item("order", PyArray1::from_vec(py, order))
+        .map_err(fail)?;
+    d.set_item("length", sol.length).map_err(fail)?;
+    d.set_item("lower_bound", bound).map_err(fail)?;
+    let reason = serde_json::to_value(sol.stop_reason)
+        .ok()
+        .and_then(|v| v.as_str().map(str::to_string))
+        .unwrap_or_default();
+    d.set_item("stop_reason", reason).map_err(fail)?;
+    d.set_item("seconds", sol.seconds).map_err(fail)?;
+    d.set_item("restarts", sol.restarts).map_err(fail)?;
+    d.set_item("iterations", sol.iterations).map_err(fail)?;
+    d.set_item("method", sol.method.name()).map_err(fail)?;
+    d.set_item("ends", sol.ends.name()).map_err(fail)?;
+    let mut trace = Vec::with_capacity(sol.trace.len() * 2);
+    for t in &sol.trace {
+        trace.push(t.seconds);
+        trace.push(t.length as f64);
+    }
+    let trace = Array2::from_shape_vec((sol.trace.len(), 2), trace)
+        .map_err(|e| Fail::Internal(e.to_string()))?;
+    d.set_item("trace", PyArray2::from_owned_array(py, trace))
+        .map_err(fail)?;
+    Ok(d)
+}
+
+/// Points from an `n x 2` or `n x 3` float array, as the core's 3-coordinate points.
+fn points_of(points: &PyReadonlyArray2<'_, f64>) -> Result<Vec<[f64; 3]>, Fail> {
+    let shape = points.shape();
+    let (n, dims) = (shape[0], shape[1]);
+    if !(dims == 2 || dims == 3) {
+        return Err(Fail::Input(format!(
+            "points must be an n x 2 or n x 3 array, got shape ({n}, {dims})"
+        )));
+    }
+    let view = points.as_array();
+    let mut out = Vec::with_capacity(n);
+    for (i, row) in view.rows().into_iter().enumerate() {
+        let mut p = [0.0; 3];
+        for (k, v) in row.iter().enumerate() {
+            if !v.is_finite() {
+                return Err(Fail::Input(format!(
+                    "node {i}: coordinate is not a finite number ({v})"
+                )));
+            }
+            p[k] = *v;
+        }
+        out.push(p);
+    }
+    Ok(out)
+}
+
+fn coord_cost(points: &PyReadonlyArray2<'_, f64>, metric: &str) -> Result<CoordCost, Fail> {
+    let m = Metric::from_keyword(metric).ok_or_else(|| {
+        Fail::Input(format!(
+            "unknown distance {metric:?}; choose one of: EUC_2D, EUC_3D, CEIL_2D, ATT, GEO, MAN_2D, MAN_3D, MAX_2D, MAX_3D"
+        ))
+    })?;
+    let dims = points.shape()[1];
+    let pts = points_of(points)?;
+    if m.dims() == 3 && dims != 3 {
+        return Err(Fail::Input(format!(
+            "distance {metric} needs an n x 3 array of points, got n x {dims}"
+        )));
+    }
+    CoordCost::new(m, pts).map_err(input)
+}
+
+fn matrix_cost(matrix: &PyReadonlyArray2<'_, i64>) -> Result<MatrixCost, Fail> {
+    let shape = matrix.shape();
+    if shape[0] != shape[1] {
+        return Err(Fail::Input(format!(
+            "the cost matrix must be square, got shape ({}, {})",
+            shape[0], shape[1]
+        )));
+    }
+    let n = shape[0];
+    let weights: Vec<i64> = matrix.as_array().iter().copied().collect();
+    MatrixCost::from_row_major(n, weights).map_err(input)
+}
+
+/// Solves over points under a TSPLIB distance.
+#[pyfunction]
+fn solve_points<'py>(
+    py: Python<'py>,
+    points: PyReadonlyArray2<'py, f64>,
+    metric: &str,
+    options: SolveOptions,
+) -> PyResult<Bound<'py, PyDict>> {
+    let cost = coord_cost(&points, metric)?;
+    Ok(solve_cost(py, &cost, &options)?)
+}
+
+/// Solves over a square integer cost matrix (symmetric or not).
+#[pyfunction]
+fn solve_matrix<'py>(
+    py: Python<'py>,
+    matrix: PyReadonlyArray2<'py, i64>,
+    options: SolveOptions,
+) -> PyResult<Bound<'py, PyDict>> {
+    let cost = matrix_cost(&matrix)?;
+    Ok(solve_cost(py, &cost, &options)?)
+}
+
+fn load_instance(path: &Path) -> Result<Instance, Fail> {
+    let bytes = read_file_bytes(path)?;
+    let text = String::from_utf8_lossy(&bytes);
+    tsplib::parse_instance(&text, &path.display().to_string()).map_err(input)
+}
+
+/// Solves a TSPLIB file.
+#[pyfunction]
+fn solve_file<'py>(
+    py: Python<'py>,
+    path: PathBuf,
+    options: SolveOptions,
+) -> PyResult<Bound<'py, PyDict>> {
+    let inst = load_instance(&path)?;
+    let named = |e: PyErr| -> PyErr {
+        if e.is_instance_of::<PyValueError>(py) {
+            PyValueError::new_err(format!("{}: {}", path.display(), e.value(py)))
+        } else {
+            e
+        }
+    };
+    solve_cost(py, inst.cost(), &options)
+        .map_err(PyErr::from)
+        .map_err(named)
+}
+
+/// A TSPLIB problem file as a dictionary.
+#[pyfunction]
+fn read_tsplib<'py>(py: Python<'py>, path: PathBuf) -> PyResult<Bound<'py, PyDict>> {
+    let inst = load_instance(&path)?;
+    let d = PyDict::new(py);
+    d.set_item("name", &inst.name)?;
+    d.set_item("comments", &inst.comments)?;
+    d.set_item("kind", inst.kind.keyword())?;
+    d.set_item("dimension", inst.dimension)?;
+    d.set_item("edge_weight_type", &inst.edge_weight_type)?;
+    d.set_item("edge_weight_format", &inst.edge_weight_format)?;
+    match &inst.weights {
+        Weights::Coords(c) => {
+            let dims = c.metric().dims();
+            let flat: Vec<f64> = c
+                .points()
+                .iter()
+                .flat_map(|p| p[..dims].iter().copied())
+                .collect();
+            let arr = Array2::from_shape_vec((inst.dimension, dims), flat)
+                .map_err(|e| PyRuntimeError::new_err(e.to_string()))?;
+            d.set_item("points", PyArray2::from_owned_array(py, arr))?;
+            d.set_item("metric", c.metric().keyword())?;
+            d.set_item("matrix", py.None())?;
+        }
+        Weights::Matrix(m) => {
+            let arr =
+                Array2::from_shape_vec((inst.dimension, inst.dimension), m.weights().to_vec())
+                    .map_err(|e| PyRuntimeError::new_err(e.to_string()))?;
+            d.set_item("points", py.None())?;
+            d.set_item("metric", py.None())?;
+            d.set_item("matrix", PyArray2::from_owned_array(py, arr))?;
+        }
+    }
+    match &inst.display {
+        Some(pts) => {
+            let flat: Vec<f64> = pts.iter().flat_map(|p| p.iter().copied()).collect();
+            let arr = Array2::from_shape_vec((pts.len(), 2), flat)
+                .map_err(|e| PyRuntimeError::new_err(e.to_string()))?;
+            d.set_item("display", PyArray2::from_owned_array(py, arr))?;
+        }
+        None => d.set_item("display", py.None())?,
+    }
+    Ok(d)
+}
+
+fn write_instance_file(path: &Path, inst: &Instance) -> Result<(), Fail> {
+    let mut bytes = Vec::new();
+    tsplib::write_instance(inst, &mut bytes).map_err(|e| {
+        if e.kind() == std::io::ErrorKind::InvalidInput {
+            Fail::Input(e.to_string())
+        } else {
+            Fail::Internal(e.to_string())
+        }
+    })?;
+    write_file_bytes(path, &bytes)
+}
+
+/// Writes points under a TSPLIB distance as a TSP file.
+#[pyfunction]
+fn write_points(
+    path: PathBuf,
+    points: PyReadonlyArray2<'_, f64>,
+    metric: &str,
+    name: String,
+    comments: Vec<String>,
+) -> PyResult<()> {
+    let cost = coord_cost(&points, metric)?;
+    let inst = Instance {
+        name,
+        comments,
+        kind: ProblemKind::Tsp,
+        dimension: cost.len(),
+        weights: Weights::Coords(cost),
+        display: None,
+        source: path.display().to_string(),
+        edge_weight_type: metric.to_string(),
+        edge_weight_format: None,
+    };
+    Ok(write_instance_file(&path, &inst)?)
+}
+
+/// Writes a square cost matrix as a TSP file (symmetric) or an ATSP file.
+#[pyfunction]
+fn write_matrix(
+    path: PathBuf,
+    matrix: PyReadonlyArray2<'_, i64>,
+    name: String,
+    comments: Vec<String>,
+) -> PyResult<()> {
+    let cost = matrix_cost(&matrix)?;
+    let kind = if cost.is_symmetric() {
+        ProblemKind::Tsp
+    } else {
+        ProblemKind::Atsp
+    };
+    let inst = Instance {
+        name,
+        comments,
+        kind,
+        dimension: cost.len(),
+        weights: Weights::Matrix(cost),
+        display: None,
+        source: path.display().to_string(),
+        edge_weight_type: "EXPLICIT".into(),
+        edge_weight_format: Some("FULL_MATRIX".into()),
+    };
+    Ok(write_instance_file(&path, &inst)?)
+}
+
+/// A TOUR file: name, comments, dimension and the 0-based order.
+#[pyfunction]
+fn read_tour<'py>(py: Python<'py>, path: PathBuf) -> PyResult<Bound<'py, PyDict>> {
+    let bytes = read_file_bytes(&path)?;
+    let text = String::from_utf8_lossy(&bytes);
+    let t = tsplib::parse_tour(&text, &path.display().to_string()).map_err(input)?;
+    let d = PyDict::new(py);
+    d.set_item("name", &t.name)?;
+    d.set_item("comments", &t.comments)?;
+    d.set_item("dimension", t.dimension)?;
+    let order: Vec<i64> = t.nodes.iter().map(|&v| v as i64).collect();
+    d.set_item("order", PyArray1::from_vec(py, order))?;
+    Ok(d)
+}
+
+/// Writes a 0-based order as a TOUR file (1-based ids in the file).
+#[pyfunction]
+fn write_tour(path: PathBuf, order: Vec<i64>, name: String, comment: String) -> PyResult<()> {
+    let mut nodes = Vec::with_capacity(order.len());
+    let mut seen = vec![false; order.len()];
+    for (k, &v) in order.iter().enumerate() {
+        let ok = usize::try_from(v).ok().filter(|&u| u < order.len());
+        let Some(u) = ok else {
+            return Err(Fail::Input(format!(
+                "order[{k}] = {v} is not a node index in 0..{}",
+                order.len()
+            ))
+            .into());
+        };
+        if seen[u] {
+            return Err(Fail::Input(format!("order[{k}]: node {v} appears twice")).into());
+        }
+        seen[u] = true;
+        nodes.push(u);
+    }
+    let mut bytes = Vec::new();
+    tsplib::write_tour(&name, &comment, &nodes, &mut bytes)
+        .map_err(|e| Fail::Input(e.to_string()))?;
+    Ok(write_file_bytes(&path, &bytes)?)
+}
+
+fn schedule_columns<'py>(
+    py: Python<'py>,
+    targets: &[Target],
+    s: &Schedule,
+) -> PyResult<Bound<'py, PyDict>> {
+    let d = PyDict::new(py);
+    let obs = &s.observations;
+    d.set_item("position", (1..=obs.len()).collect::<Vec<usize>>())?;
+    d.set_item(
+        "id",
+        obs.iter()
+            .map(|o| targets[o.target].id.clone())
+            .collect::<Vec<_>>(),
+    )?;
+    d.set_item(
+        "start_utc",
+        obs.iter().map(|o| format_utc(o.start)).collect::<Vec<_>>(),
+    )?;
+    d.set_item(
+        "end_utc",
+        obs.iter().map(|o| format_utc(o.end)).collect::<Vec<_>>(),
+    )?;
+    let col = |f: &dyn Fn(&wend::sky::schedule::Observation) -> f64| -> Vec<f64> {
+        obs.iter().map(f).collect()
+    };
+    d.set_item("elongation_start_deg", col(&|o| o.elongation_start_deg))?;
+    d.set_item("elongation_end_deg", col(&|o| o.elongation_end_deg))?;
+    d.set_item("slew_deg", col(&|o| o.slew_deg))?;
+    d.set_item("slew_s", col(&|o| o.slew_s))?;
+    d.set_item("overhead_s", col(&|o| o.overhead_s))?;
+    d.set_item("momentum_nms", col(&|o| o.momentum_nms))?;
+    d.set_item(
+        "dump",
+        obs.iter().map(|o| i64::from(o.dump)).collect::<Vec<_>>(),
+    )?;
+    Ok(d)
+}
+
+fn unscheduled_columns<'py>(
+    py: Python<'py>,
+    targets: &[Target],
+    s: &Schedule,
+) -> PyResult<Bound<'py, PyDict>> {
+    let d = PyDict::new(py);
+    let u = &s.unscheduled;
+    d.set_item(
+        "id",
+        u.iter()
+            .map(|x| targets[x.target].id.clone())
+            .collect::<Vec<_>>(),
+    )?;
+    d.set_item(
+        "reason",
+        u.iter().map(|x| x.reason.code()).collect::<Vec<_>>(),
+    )?;
+    d.set_item(
+        "explanation",
+        u.iter().map(|x| x.reason.to_string()).collect::<Vec<_>>(),
+    )?;
+    d.set_item(
+        "min_elongation_deg",
+        u.iter().map(|x| x.min_elongation_deg).collect::<Vec<_>>(),
+    )?;
+    d.set_item(
+        "max_elongation_deg",
+        u.iter().map(|x| x.max_elongation_deg).collect::<Vec<_>>(),
+    )?;
+    Ok(d)
+}
+
+fn front_dict<'py>(
+    py: Python<'py>,
+    targets: &[Target],
+    front: &Front,
+) -> PyResult<Bound<'py, PyDict>> {
+    let d = PyDict::new(py);
+    let rows = PyDict::new(py);
+    let p = &front.plans;
+    rows.set_item("plan", (1..=p.len()).collect::<Vec<usize>>())?;
+    rows.set_item(
+        "overhead_s",
+        p.iter().map(|x| x.overhead_s).collect::<Vec<_>>(),
+    )?;
+    rows.set_item(
+        "propellant_kg",
+        p.iter().map(|x| x.propellant_kg).collect::<Vec<_>>(),
+    )?;
+    rows.set_item(
+        "dumps",
+        p.iter().map(|x| x.schedule.dumps).collect::<Vec<_>>(),
+    )?;
+    rows.set_item(
+        "scheduled",
+        p.iter()
+            .map(|x| x.schedule.observations.len())
+            .collect::<Vec<_>>(),
+    )?;
+    rows.set_item(
+        "wait_s",
+        p.iter().map(|x| x.schedule.wait_s).collect::<Vec<_>>(),
+    )?;
+    d.set_item("rows", rows)?;
+    let plans = PyList::empty(py);
+    for x in p {
+        plans.append(schedule_columns(py, targets, &x.schedule)?)?;
+    }
+    d.set_item("plans", plans)?;
+    d.set_item("knee", front.knee.map(|k| k + 1))?;
+    d.set_item("hypervolume", front.hypervolume)?;
+    Ok(d)
+}
+
+/// Plans an observing sequence, as `wend sky plan` does (planning proposals to be confirmed by
+/// the operations team's validated tools).
+#[pyfunction]
+#[pyo3(signature = (targets_csv, source, profile_path, start, horizon_days, time_limit, seed, threads, front))]
+#[allow(clippy::too_many_arguments)]
+fn plan_sky<'py>(
+    py: Python<'py>,
+    targets_csv: Option<String>,
+    source: String,
+    profile_path: Option<PathBuf>,
+    start: Option<String>,
+    horizon_days: f64,
+    time_limit: Option<f64>,
+    seed: u64,
+    threads: Option<usize>,
+    front: bool,
+) -> PyResult<Bound<'py, PyDict>> {
+    let profile: Profile = match &profile_path {
+        Some(p) => {
+            let bytes = read_file_bytes(p)?;
+            let text = String::from_utf8(bytes)
+                .map_err(|_| Fail::Input(format!("{}: the file is not UTF-8 text", p.display())))?;
+            parse_profile(&text, &p.display().to_string()).map_err(input)?
+        }
+        None => demo_profile(),
+    };
+    let (targets, start_text) = match &targets_csv {
+        Some(text) => {
+            let t = parse_targets(text, &source, &profile).map_err(input)?;
+            let s = start.clone().ok_or_else(|| {
+                Fail::Input(format!(
+                    "give the plan start (ISO 8601 UTC, e.g. {DEMO_START_UTC})"
+                ))
+            })?;
+            (t, s)
+        }
+        None => (
+            demo_targets(&profile),
+            start.clone().unwrap_or_else(|| DEMO_START_UTC.into()),
+        ),
+    };
+    let epoch = parse_utc(&start_text).map_err(|e| Fail::Input(format!("start: {e}")))?;
+    if !(horizon_days.is_finite() && horizon_days > 0.0 && horizon_days <= 3660.0) {
+        return Err(Fail::Input(format!(
+            "horizon_days must be in (0, 3660], got {horizon_days}"
+        ))
+        .into());
+    }
+    let limit = match time_limit {
+        None => None,
+        Some(s) if s.is_finite() && s > 0.0 && s < 1e9 => Some(Duration::from_secs_f64(s)),
+        Some(s) => {
+            return Err(Fail::Input(format!(
+                "time_limit must be a positive number of seconds, got {s}"
+            ))
+            .into())
+        }
+    };
+    if threads == Some(0) {
+        return Err(Fail::Input("threads must be at least 1".into()).into());
+    }
+    let stop = StopHandle::new();
+    let mut options = PlanOptions::new(epoch);
+    options.horizon_days = horizon_days;
+    options.time_limit = limit;
+    options.seed = seed;
+    options.threads = threads;
+    options.method = Method::Lk;
+    options.stop = stop.clone();
+    let (made, found): (Plan, Option<Front>) = {
+        let profile = &profile;
+        let targets = &targets;
+        run_watched(py, &stop, move || {
+            if front {
+                let mut fo = FrontOptions::new(options);
+                if let Some(t) = limit {
+                    fo.time_limit = t;
+                }
+                let quiet = |_: FrontProgress| {};
+                search_front(profile, targets, &fo, &quiet)
+                    .map(|f| (f.single.clone(), Some(f)))
+                    .map_err(|e| e.to_string())
+            } else {
+                plan(profile, targets, &options)
+                    .map(|p| (p, None))
+                    .map_err(|e| e.to_string())
+            }
+        })?
+        .map_err(Fail::Input)?
+    };
+    let summary = plan_json(&profile, &targets, &made, epoch, horizon_days);
+    let d = PyDict::new(py);
+    d.set_item("caution", CAUTION)?;
+    d.set_item("summary_json", summary.to_string())?;
+    d.set_item("plan", schedule_columns(py, &targets, &made.schedule)?)?;
+    d.set_item(
+        "unscheduled",
+        unscheduled_columns(py, &targets, &made.schedule)?,
+    )?;
+    match &found {
+        Some(f) => d.set_item("front", front_dict(py, &targets, f)?)?,
+        None => d.set_item("front", py.None())?,
+    }
+    d.set_item("cancelled", stop.is_stopped())?;
+    Ok(d)
+}
+
+/// The names of the methods and a line on each.
+#[pyfunction]
+fn methods() -> Vec<(String, String)> {
+    Method::ALL
+        .iter()
+        .map(|m| (m.name().to_string(), m.describe().to_string()))
+        .collect()
+}
+
+/// The wend core as a Python extension module; use it through the `wend` package.
+#[pymodule]
+#[pyo3(name = "_native")]
+fn native(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add_function(wrap_pyfunction!(solve_points, m)?)?;
+    m.add_function(wrap_pyfunction!(solve_matrix, m)?)?;
+    m.add_function(wrap_pyfunction!(solve_file, m)?)?;
+    m.add_function(wrap_pyfunction!(read_tsplib, m)?)?;
+    m.add_function(wrap_pyfunction!(write_points, m)?)?;
+    m.add_function(wrap_pyfunction!(write_matrix, m)?)?;
+    m.add_function(wrap_pyfunction!(read_tour, m)?)?;
+    m.add_function(wrap_pyfunction!(write_tour, m)?)?;
+    m.add_function(wrap_pyfunction!(plan_sky, m)?)?;
+    m.add_function(wrap_pyfunction!(methods, m)?)?;
+    m.add("CAUTION", CAUTION)?;
+    m.add("VERSION", env!("CARGO_PKG_VERSION"))?;
+    Ok(())
+}
