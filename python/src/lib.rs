@@ -14,6 +14,9 @@
 //! written raises `OSError` (or its subclass, e.g. `FileNotFoundError`); a fault inside the core
 //! raises `RuntimeError` and never aborts the interpreter.
 
+// Bad input from Python is an exception, never a panic.
+#![cfg_attr(not(test), deny(clippy::unwrap_used, clippy::expect_used))]
+
 use std::path::{Path, PathBuf};
 use std::time::Duration;
 
@@ -23,9 +26,7 @@ use pyo3::exceptions::{PyOSError, PyRuntimeError, PyValueError};
 use pyo3::prelude::*;
 use pyo3::types::{PyDict, PyList};
 
-use wend::assignment::assignment_bound;
-use wend::bound::{held_karp_bound, AscentOptions};
-use wend::ends::EndedCost;
+use wend::prove::lower_bound;
 use wend::sky::front::{search_front, Front, FrontOptions, FrontProgress};
 use wend::sky::plan::{plan, Plan, PlanOptions};
 use wend::sky::schedule::Schedule;
@@ -198,23 +199,6 @@ impl SolveOptions {
     }
 }
 
-/// The Held–Karp bound of symmetric costs, the assignment bound of asymmetric ones.
-fn lower_bound_of<C: Cost + ?Sized>(
-    cost: &C,
-    opts: AscentOptions,
-    stop: &StopHandle,
-) -> Result<i64, String> {
-    if cost.is_symmetric() {
-        held_karp_bound(cost, &opts, stop)
-            .map(|b| b.lower_bound)
-            .map_err(|e| e.to_string())
-    } else {
-        assignment_bound(cost)
-            .map(|b| b.lower_bound)
-            .map_err(|e| e.to_string())
-    }
-}
-
 /// A bound on every tour (or path with the requested ends) no longer than `length`, as
 /// `wend solve --bound` computes it.
 fn bound_for(
@@ -229,29 +213,8 @@ fn bound_for(
             "bound_time must be a non-negative number of seconds, got {bound_time}"
         ));
     }
-    let opts = AscentOptions {
-        time_limit: Some(Duration::from_secs_f64(bound_time.min(1.0e9))),
-        max_iterations: None,
-        upper_bound: Some(length),
-    };
-    let bound = if ends.is_path() {
-        // The bound of the closed tours through the dummy node that fixes the ends, less what
-        // such a tour pays at that node on top of its path: every path with the requested
-        // ends is one of those tours.
-        let ended = EndedCost::new(cost, ends).map_err(|e| e.to_string())?;
-        let tour_bound = lower_bound_of(
-            &ended,
-            AscentOptions {
-                upper_bound: ended.tour_length_of(length),
-                ..opts
-            },
-            stop,
-        )?;
-        tour_bound.saturating_sub(ended.offset())
-    } else {
-        lower_bound_of(cost, opts, stop)?
-    };
-    Ok(bound.min(length))
+    let time = Duration::from_secs_f64(bound_time.min(1.0e9));
+    lower_bound(cost, ends, length, time, stop).map_err(|e| e.to_string())
 }
 
 /// Solves over `cost` as `wend solve` does with the same options, watching for Ctrl-C.

@@ -11,7 +11,7 @@
 //! With a time limit the answer may come back unproven: the best tour found, the best lower
 //! bound known (none when the dynamic programme was stopped) and `proven_optimal == false`.
 
-use crate::bound::BoundError;
+use crate::bound::{held_karp_bound, AscentOptions, BoundError};
 use crate::branch::{branch_and_bound, BranchOptions};
 use crate::cost::Cost;
 use crate::ends::Ends;
@@ -276,6 +276,62 @@ pub fn prove_optimal<C: Cost + ?Sized>(
         first_tour_length: Some(first.length),
         seconds: began.elapsed().as_secs_f64(),
     })
+}
+
+/// Why [`lower_bound`] gave no bound.
+#[derive(Debug, thiserror::Error)]
+pub enum LowerBoundError {
+    /// The Held–Karp ascent refused (overflowing costs, memory) or was stopped first.
+    #[error(transparent)]
+    HeldKarp(#[from] BoundError),
+    /// The assignment bound refused (too many nodes, overflowing costs, memory).
+    #[error(transparent)]
+    Assignment(#[from] crate::assignment::AssignmentError),
+    /// The ends are out of range, or their penalty could overflow.
+    #[error(transparent)]
+    Ends(#[from] crate::ends::EndsError),
+}
+
+/// A lower bound on every tour of `cost` with the given `ends` (a closed tour or a path), for
+/// a tour or path of `length` already found (which caps it): the Held–Karp bound for symmetric
+/// costs, within `time_limit` and until `stop`, the assignment bound for asymmetric ones. For
+/// a path, the bound of the closed tours through the dummy node that fixes its ends, less what
+/// such a tour pays at that node on top of its path: every path with those ends is one of
+/// these tours.
+pub fn lower_bound<C: Cost + ?Sized>(
+    cost: &C,
+    ends: Ends,
+    length: i64,
+    time_limit: Duration,
+    stop: &StopHandle,
+) -> Result<i64, LowerBoundError> {
+    fn closed<D: Cost + ?Sized>(
+        cost: &D,
+        opts: &AscentOptions,
+        stop: &StopHandle,
+    ) -> Result<i64, LowerBoundError> {
+        Ok(if cost.is_symmetric() {
+            held_karp_bound(cost, opts, stop)?.lower_bound
+        } else {
+            crate::assignment::assignment_bound(cost)?.lower_bound
+        })
+    }
+    let opts = AscentOptions {
+        time_limit: Some(time_limit),
+        max_iterations: None,
+        upper_bound: Some(length),
+    };
+    let bound = if ends.is_path() {
+        let ended = crate::ends::EndedCost::new(cost, ends)?;
+        let opts = AscentOptions {
+            upper_bound: ended.tour_length_of(length),
+            ..opts
+        };
+        closed(&ended, &opts, stop)?.saturating_sub(ended.offset())
+    } else {
+        closed(cost, &opts, stop)?
+    };
+    Ok(bound.min(length))
 }
 
 #[cfg(test)]

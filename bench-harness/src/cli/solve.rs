@@ -6,11 +6,8 @@ use serde_json::json;
 use std::io::IsTerminal;
 use std::path::PathBuf;
 use std::time::Duration;
-use wend::assignment::assignment_bound;
-use wend::bound::{held_karp_bound, AscentOptions};
-use wend::ends::EndedCost;
-use wend::prove::{prove_optimal, ExactMethod, ProveOptions};
-use wend::{CandidateSource, Cost, Ends, Layout, Method, Solver};
+use wend::prove::{lower_bound, prove_optimal, ExactMethod, ProveOptions};
+use wend::{CandidateSource, Ends, Layout, Method, Solver};
 
 #[derive(Args, Debug)]
 pub struct SolveArgs {
@@ -203,30 +200,19 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
                 a.bound_time
             )));
         }
-        let opts = AscentOptions {
-            time_limit: Some(Duration::from_secs_f64(a.bound_time.min(1.0e9))),
-            max_iterations: None,
-            upper_bound: Some(sol.length),
-        };
-        let bad = |e: &dyn std::fmt::Display| CliError::Input(format!("{}: {e}", path.display()));
-        let bound = if ends.is_path() {
-            // The bound of the closed tours through the dummy node that fixes the ends, less
-            // what such a tour pays at that node on top of its path: every path with the
-            // requested ends is one of those tours, so this is a bound on every such path.
-            let ended = EndedCost::new(inst.cost(), ends).map_err(|e| bad(&e))?;
-            let tour_bound = lower_bound_of(
-                &ended,
-                AscentOptions {
-                    upper_bound: ended.tour_length_of(sol.length),
-                    ..opts
-                },
-            )
-            .map_err(|e| bad(&e))?;
-            tour_bound.saturating_sub(ended.offset())
-        } else {
-            lower_bound_of(inst.cost(), opts).map_err(|e| bad(&e))?
-        };
-        Some(bound.min(sol.length))
+        let time = Duration::from_secs_f64(a.bound_time.min(1.0e9));
+        match lower_bound(
+            inst.cost(),
+            ends,
+            sol.length,
+            time,
+            &super::interrupt::handle(),
+        ) {
+            Ok(b) => Some(b),
+            // Ctrl-C during the solve or the bound: the tour is still written, without a bound.
+            Err(_) if super::interrupt::interrupted() => None,
+            Err(e) => return Err(CliError::Input(format!("{}: {e}", path.display()))),
+        }
     } else {
         None
     };
@@ -364,19 +350,6 @@ fn write_tour_file(
 }
 
 /// `wend solve --exact`.
-/// The Held–Karp bound of symmetric costs, the assignment bound of asymmetric ones.
-fn lower_bound_of<C: Cost + ?Sized>(cost: &C, opts: AscentOptions) -> Result<i64, String> {
-    if cost.is_symmetric() {
-        held_karp_bound(cost, &opts, &super::interrupt::handle())
-            .map(|b| b.lower_bound)
-            .map_err(|e| e.to_string())
-    } else {
-        assignment_bound(cost)
-            .map(|b| b.lower_bound)
-            .map_err(|e| e.to_string())
-    }
-}
-
 fn run_exact(
     a: &SolveArgs,
     inst: &wend_bench::tsplib::Instance,
