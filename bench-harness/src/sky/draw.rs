@@ -1210,6 +1210,27 @@ fn render_momentum(trace: &MomentumTrace, ranges: Ranges) -> DrawResult<String> 
     Ok(svg)
 }
 
+/// Test check: every text's baseline lies inside the picture's height, with room for
+/// descenders.
+#[cfg(test)]
+pub(super) fn text_fits(svg: &str) {
+    let height: f64 = svg
+        .split("height=\"")
+        .nth(1)
+        .and_then(|s| s.split('"').next())
+        .and_then(|s| s.parse().ok())
+        .expect("the SVG has a height");
+    for part in svg.split("<text").skip(1) {
+        let y: f64 = part
+            .split("y=\"")
+            .nth(1)
+            .and_then(|s| s.split('"').next())
+            .and_then(|s| s.parse().ok())
+            .expect("text has a y");
+        assert!(y >= 0.0 && y + 22.0 <= height, "text at y {y} of {height}");
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -1477,25 +1498,6 @@ mod tests {
             sun_path_deg: sun,
             band_deg: (85.0, 135.0),
             caution,
-        }
-    }
-
-    /// Every text's baseline lies inside the picture's height, with room for descenders.
-    fn text_fits(svg: &str) {
-        let height: f64 = svg
-            .split("height=\"")
-            .nth(1)
-            .and_then(|s| s.split('"').next())
-            .and_then(|s| s.parse().ok())
-            .expect("the SVG has a height");
-        for part in svg.split("<text").skip(1) {
-            let y: f64 = part
-                .split("y=\"")
-                .nth(1)
-                .and_then(|s| s.split('"').next())
-                .and_then(|s| s.parse().ok())
-                .expect("text has a y");
-            assert!(y >= 0.0 && y + 22.0 <= height, "text at y {y} of {height}");
         }
     }
 
