@@ -244,7 +244,8 @@ impl OneTree {
 }
 
 /// Largest node count for which the ascent keeps a dense cost matrix (32-bit entries when the
-/// costs fit, so 64 MB at this size); above it costs are asked of the oracle on the fly.
+/// costs fit, so 64 MB at this size, 128 MB while it is filled), and only within the memory
+/// ceiling ([`crate::memory`]); otherwise costs are asked of the oracle on the fly.
 pub const DENSE_LIMIT: usize = 4000;
 
 /// Largest node count for which [`held_karp_bound`] improves its own starting tour by 2-opt
@@ -466,7 +467,10 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
     pub fn new(cost: &'a C) -> Result<Self, BoundError> {
         let n = cost.len();
         let mut max_abs: i64 = 0;
-        let dense = if n <= DENSE_LIMIT {
+        // The table (8 bytes an entry while it is filled) only when it fits the memory
+        // ceiling; otherwise costs are read from the oracle each time, which is slower only.
+        let table_fits = crate::memory::square(n, 8) <= crate::memory::ceiling();
+        let dense = if n <= DENSE_LIMIT && table_fits {
             let mut wide = vec![0i64; n * n];
             for i in 0..n {
                 for j in 0..n {
