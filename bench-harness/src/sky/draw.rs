@@ -105,16 +105,7 @@ pub struct MomentumTrace<'a> {
 /// [`DrawError::Input`] when the map cannot be drawn faithfully (see [`SkyMap`] for what each
 /// field must hold); [`DrawError::Write`] when the file cannot be written.
 pub fn write_sky_map(path: &Path, map: &SkyMap) -> Result<(), DrawError> {
-    let name = path.display().to_string();
-    check_sky_map(map).map_err(|message| DrawError::Input {
-        path: name.clone(),
-        message,
-    })?;
-    let svg = render_sky_map(map).map_err(|e| DrawError::Write {
-        path: name.clone(),
-        message: format!("drawing failed: {e}"),
-    })?;
-    save(path, &name, svg)
+    write_checked(path, || check_sky_map(map), |()| render_sky_map(map))
 }
 
 /// Draws `trace` as an SVG file at `path` (about 900×500 px; taller when the title or the
@@ -126,21 +117,31 @@ pub fn write_sky_map(path: &Path, map: &SkyMap) -> Result<(), DrawError> {
 /// [`DrawError::Input`] when the trace cannot be drawn faithfully (see [`MomentumTrace`] for
 /// what each field must hold); [`DrawError::Write`] when the file cannot be written.
 pub fn write_momentum_chart(path: &Path, trace: &MomentumTrace) -> Result<(), DrawError> {
+    write_checked(
+        path,
+        || check_momentum(trace),
+        |ranges| render_momentum(trace, ranges),
+    )
+}
+
+/// Checks what is to be drawn (`check`: a message when it cannot be drawn faithfully), draws
+/// it and writes the text to `path`, naming the file in every error.
+pub(super) fn write_checked<T, E: std::fmt::Display>(
+    path: &Path,
+    check: impl FnOnce() -> Result<T, String>,
+    draw: impl FnOnce(T) -> Result<String, E>,
+) -> Result<(), DrawError> {
     let name = path.display().to_string();
-    let ranges = check_momentum(trace).map_err(|message| DrawError::Input {
+    let checked = check().map_err(|message| DrawError::Input {
         path: name.clone(),
         message,
     })?;
-    let svg = render_momentum(trace, ranges).map_err(|e| DrawError::Write {
+    let text = draw(checked).map_err(|e| DrawError::Write {
         path: name.clone(),
         message: format!("drawing failed: {e}"),
     })?;
-    save(path, &name, svg)
-}
-
-fn save(path: &Path, name: &str, svg: String) -> Result<(), DrawError> {
-    std::fs::write(path, svg).map_err(|e| DrawError::Write {
-        path: name.to_string(),
+    std::fs::write(path, text).map_err(|e| DrawError::Write {
+        path: name,
         message: e.to_string(),
     })
 }

@@ -29,9 +29,9 @@ use std::fmt::Write as _;
 use std::path::Path;
 
 use super::draw::{
-    block_height, draw_legend, em, legend_height, line_step, number_label, wrap, Area, DrawError,
-    DrawResult, LegendEntry, LegendKey, AXIS_TITLE_PX, BLUE, CAUTION_PX, FONT, GRID, INK, KEY_W,
-    LEGEND_PX, OUTLINE, PAD, SOFT_TEXT, TICK_PX, TITLE_PX, VERMILLION,
+    block_height, draw_legend, em, legend_height, line_step, number_label, wrap, write_checked,
+    Area, DrawError, DrawResult, LegendEntry, LegendKey, AXIS_TITLE_PX, BLUE, CAUTION_PX, FONT,
+    GRID, INK, KEY_W, LEGEND_PX, OUTLINE, PAD, SOFT_TEXT, TICK_PX, TITLE_PX, VERMILLION,
 };
 
 /// One plan of the front.
@@ -90,16 +90,11 @@ pub struct FrontReport<'a> {
 /// [`DrawError::Input`] when the report is inconsistent (see [`FrontReport`]; nothing is
 /// written); [`DrawError::Write`] when the file cannot be written.
 pub fn write_front_svg(path: &Path, report: &FrontReport) -> Result<(), DrawError> {
-    let name = path.display().to_string();
-    let ranges = check(report).map_err(|message| DrawError::Input {
-        path: name.clone(),
-        message,
-    })?;
-    let svg = render_front(report, ranges).map_err(|e| DrawError::Write {
-        path: name.clone(),
-        message: format!("drawing failed: {e}"),
-    })?;
-    save(path, &name, svg)
+    write_checked(
+        path,
+        || check(report),
+        |ranges| render_front(report, ranges),
+    )
 }
 
 /// Writes `report.html` at `path`: a self-contained page (inline style, no script, no
@@ -112,19 +107,11 @@ pub fn write_front_svg(path: &Path, report: &FrontReport) -> Result<(), DrawErro
 /// # Errors
 /// As [`write_front_svg`].
 pub fn write_report_html(path: &Path, report: &FrontReport) -> Result<(), DrawError> {
-    let name = path.display().to_string();
-    check(report).map_err(|message| DrawError::Input {
-        path: name.clone(),
-        message,
-    })?;
-    save(path, &name, render_html(report))
-}
-
-fn save(path: &Path, name: &str, text: String) -> Result<(), DrawError> {
-    std::fs::write(path, text).map_err(|e| DrawError::Write {
-        path: name.to_string(),
-        message: e.to_string(),
-    })
+    write_checked(
+        path,
+        || check(report),
+        |_| Ok::<_, std::convert::Infallible>(render_html(report)),
+    )
 }
 
 // ---------------------------------------------------------------------------------------------
