@@ -7,8 +7,8 @@ use wend::exact::{optimal_path, DEFAULT_DP_MEMORY};
 use wend::prove::{prove_optimal, ProveOptions};
 use wend::tour::closed_length;
 use wend::{AsymmetricMode, Cost, Ends, MatrixCost, Solution, SolveError, Solver, StopHandle};
-use wend_bench::tsplib::read_instance;
 use wend_tests::instance;
+use wend_tsplib::read_instance;
 
 /// `lk` with a fixed kick budget (deterministic for any number of threads) on `name`.
 fn lk_length(name: &str, mode: AsymmetricMode) -> i64 {

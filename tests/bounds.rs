@@ -9,8 +9,8 @@ use std::time::{Duration, Instant};
 use wend::bound::{held_karp_bound, AscentOptions};
 use wend::branch::{branch_and_bound, BranchOptions};
 use wend::{StopHandle, Tour};
-use wend_bench::tsplib::{parse_optima, read_instance};
 use wend_tests::{all_instances, instance, instances_dir};
+use wend_tsplib::{parse_optima, read_instance};
 
 /// Optimal tour lengths from TSPLIB 95's published list (via instances/optima.txt).
 fn optima() -> BTreeMap<String, i64> {

@@ -2,8 +2,8 @@
 
 use wend::exact::{dynamic_programme, DpError, DEFAULT_DP_MEMORY};
 use wend::Tour;
-use wend_bench::tsplib::read_instance;
 use wend_tests::instance;
+use wend_tsplib::read_instance;
 
 /// Runs the dynamic programme on `name` from `instances/` and checks that the order is a tour
 /// of the instance whose length is the one reported.

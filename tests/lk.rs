@@ -5,8 +5,8 @@
 
 use std::collections::BTreeMap;
 use wend::{Method, Solver, StopReason, Tour};
-use wend_bench::tsplib::{parse_optima, read_instance};
 use wend_tests::{all_instances, instance, instances_dir};
+use wend_tsplib::{parse_optima, read_instance};
 
 fn optima() -> BTreeMap<String, i64> {
     let path = instances_dir().join("optima.txt");

@@ -3,8 +3,8 @@
 //! and the nature-inspired methods against published TSPLIB optima.
 
 use wend::{Cost, Ends, Method, Solver};
-use wend_bench::tsplib::read_instance;
 use wend_tests::instance;
+use wend_tsplib::read_instance;
 
 /// Published optimal tour lengths from the TSPLIB list of optimal solutions (also in
 /// `instances/optima.txt`; the ATSP ones from memory of the same list).

@@ -3,8 +3,8 @@
 use std::collections::BTreeMap;
 use std::time::Duration;
 use wend::{Cost, Method, Solver, Tour};
-use wend_bench::tsplib::{parse_optima, read_instance, read_tour};
 use wend_tests::{all_instances, instance, instances_dir};
+use wend_tsplib::{parse_optima, read_instance, read_tour};
 
 fn optima() -> BTreeMap<String, i64> {
     let path = instances_dir().join("optima.txt");

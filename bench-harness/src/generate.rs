@@ -129,7 +129,7 @@ mod tests {
         let mut buf = Vec::new();
         write_points("u50", "test", &pts, &mut buf).unwrap();
         let inst =
-            crate::tsplib::parse_instance(std::str::from_utf8(&buf).unwrap(), "u50.tsp").unwrap();
+            wend_tsplib::parse_instance(std::str::from_utf8(&buf).unwrap(), "u50.tsp").unwrap();
         assert_eq!(inst.dimension, 50);
         assert_eq!(inst.cost().cost(0, 1), {
             let d = ((pts[0][0] - pts[1][0]).powi(2) + (pts[0][1] - pts[1][1]).powi(2)).sqrt();

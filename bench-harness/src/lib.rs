@@ -1,4 +1,4 @@
-//! Benchmark harness for `wend`: TSPLIB 95 files in and out, sweeps and reports.
+//! Benchmark harness for `wend`: sweeps over TSPLIB instances, run records and reports.
 
 // User files reach almost every path here: failures are errors, never `unwrap`/`expect` panics.
 #![cfg_attr(not(test), deny(clippy::unwrap_used, clippy::expect_used))]
@@ -7,5 +7,3 @@ pub mod generate;
 pub mod record;
 pub mod report;
 pub mod runner;
-pub mod sky;
-pub mod tsplib;

@@ -5,7 +5,7 @@
 //! shards is concatenating their `runs.jsonl` files.
 
 use crate::record::{read_runs, RunKey, RunRecord};
-use crate::tsplib::{read_instance, write_tour, Instance, TsplibError};
+use wend_tsplib::{read_instance, write_tour, Instance, TsplibError};
 
 use std::collections::{BTreeMap, HashSet};
 use std::io::Write;

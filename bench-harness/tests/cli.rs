@@ -347,13 +347,13 @@ fn solve_path(inst: &Path, extra: &[&str], dir: &Path) -> (serde_json::Value, Ve
     let o = wend(&args);
     assert!(o.status.success(), "{extra:?}: {}", stderr(&o));
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
-    let file = wend_bench::tsplib::read_tour(&tour).unwrap();
+    let file = wend_tsplib::read_tour(&tour).unwrap();
     assert!(
         file.comments.iter().any(|c| c.contains("open path")),
         "{:?}",
         file.comments
     );
-    let instance = wend_bench::tsplib::read_instance(inst).unwrap();
+    let instance = wend_tsplib::read_instance(inst).unwrap();
     let mut sorted = file.nodes.clone();
     sorted.sort_unstable();
     assert_eq!(sorted, (0..instance.dimension).collect::<Vec<_>>());

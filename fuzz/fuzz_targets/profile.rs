@@ -4,14 +4,14 @@
 #![no_main]
 
 use libfuzzer_sys::fuzz_target;
-use wend::sky::schedule::Context;
-use wend::sky::{Epoch, Target};
+use wend_sky::schedule::Context;
+use wend_sky::{Epoch, Target};
 
 fuzz_target!(|data: &[u8]| {
     let Ok(text) = std::str::from_utf8(data) else {
         return;
     };
-    let Ok(profile) = wend_bench::sky::parse_profile(text, "fuzz.toml") else {
+    let Ok(profile) = wend_sky::parse_profile(text, "fuzz.toml") else {
         return;
     };
     if profile.instruments.is_empty() {

@@ -4,18 +4,18 @@
 
 use libfuzzer_sys::fuzz_target;
 use std::sync::OnceLock;
-use wend::sky::Profile;
+use wend_sky::Profile;
 
 fn profile() -> &'static Profile {
     static PROFILE: OnceLock<Profile> = OnceLock::new();
-    PROFILE.get_or_init(wend_bench::sky::demo_profile)
+    PROFILE.get_or_init(wend_sky::demo_profile)
 }
 
 fuzz_target!(|data: &[u8]| {
     let Ok(text) = std::str::from_utf8(data) else {
         return;
     };
-    let Ok(targets) = wend_bench::sky::parse_targets(text, "fuzz.csv", profile()) else {
+    let Ok(targets) = wend_sky::parse_targets(text, "fuzz.csv", profile()) else {
         return;
     };
     for t in &targets {

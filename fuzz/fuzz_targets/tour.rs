@@ -6,7 +6,7 @@ use libfuzzer_sys::fuzz_target;
 
 fuzz_target!(|data: &[u8]| {
     let text = String::from_utf8_lossy(data);
-    let Ok(tour) = wend_bench::tsplib::parse_tour(&text, "fuzz.tour") else {
+    let Ok(tour) = wend_tsplib::parse_tour(&text, "fuzz.tour") else {
         return;
     };
     if let Some(d) = tour.dimension {

@@ -8,7 +8,7 @@ use wend::{Method, Solver};
 
 fuzz_target!(|data: &[u8]| {
     let text = String::from_utf8_lossy(data);
-    let Ok(inst) = wend_bench::tsplib::parse_instance(&text, "fuzz.tsp") else {
+    let Ok(inst) = wend_tsplib::parse_instance(&text, "fuzz.tsp") else {
         return;
     };
     let cost = inst.cost();

@@ -27,14 +27,15 @@ use pyo3::prelude::*;
 use pyo3::types::{PyDict, PyList};
 
 use wend::prove::lower_bound;
-use wend::sky::front::{search_front, Front, FrontOptions, FrontProgress};
-use wend::sky::plan::{plan, Plan, PlanOptions};
-use wend::sky::schedule::Schedule;
-use wend::sky::{Profile, Target};
 use wend::{CoordCost, Cost, Ends, MatrixCost, Method, Metric, Solution, Solver, StopHandle};
-use wend_bench::sky::output::{format_utc, parse_utc, plan_json, CAUTION, DEMO_START_UTC};
-use wend_bench::sky::{demo_profile, demo_targets, parse_profile, parse_targets};
-use wend_bench::tsplib::{self, Instance, ProblemKind, Weights};
+use wend_sky::front::{search_front, Front, FrontOptions, FrontProgress};
+use wend_sky::output::{format_utc, parse_utc, plan_json, CAUTION, DEMO_START_UTC};
+use wend_sky::plan::{plan, Plan, PlanOptions};
+use wend_sky::schedule::Schedule;
+use wend_sky::{demo_profile, demo_targets, parse_profile, parse_targets};
+use wend_sky::{Profile, Target};
+use wend_tsplib as tsplib;
+use wend_tsplib::{Instance, ProblemKind, Weights};
 
 /// How long the calling thread waits, with the GIL released, between two looks for a signal.
 const WATCH_SLICE: Duration = Duration::from_millis(50);
@@ -578,7 +579,7 @@ fn schedule_columns<'py>(
         "end_utc",
         obs.iter().map(|o| format_utc(o.end)).collect::<Vec<_>>(),
     )?;
-    let col = |f: &dyn Fn(&wend::sky::schedule::Observation) -> f64| -> Vec<f64> {
+    let col = |f: &dyn Fn(&wend_sky::schedule::Observation) -> f64| -> Vec<f64> {
         obs.iter().map(f).collect()
     };
     d.set_item("elongation_start_deg", col(&|o| o.elongation_start_deg))?;

@@ -16,7 +16,7 @@ from conftest import INSTANCES, run_cli
 DEMO = INSTANCES / "sky" / "demo-targets.csv"
 START = "2027-03-01T00:00:00Z"
 
-# Decimals plan.csv prints each column with (bench-harness/src/sky/output.rs).
+# Decimals plan.csv prints each column with (sky/src/output.rs).
 DECIMALS = {
     "elongation_start_deg": 4,
     "elongation_end_deg": 4,

@@ -56,8 +56,6 @@ pub mod lk;
 pub mod memory;
 pub mod prove;
 pub mod search;
-#[cfg(feature = "sky")]
-pub mod sky;
 pub mod solver;
 #[cfg(test)]
 mod testing;

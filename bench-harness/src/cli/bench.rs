@@ -9,7 +9,7 @@ use std::path::{Path, PathBuf};
 use wend_bench::record::{read_runs, RunKey, RunRecord};
 use wend_bench::runner::{run_sweep, SweepPlan};
 use wend_bench::runner::{EndsChoice, MethodSpec};
-use wend_bench::tsplib::{read_instance, read_optima, read_tour};
+use wend_tsplib::{read_instance, read_optima, read_tour};
 
 #[derive(Args, Debug)]
 pub struct BenchArgs {

@@ -74,7 +74,7 @@ pub fn run(a: BoundArgs) -> Result<(), CliError> {
 }
 
 /// The assignment bound of asymmetric costs.
-fn assignment(a: &BoundArgs, inst: &wend_bench::tsplib::Instance) -> Result<(), CliError> {
+fn assignment(a: &BoundArgs, inst: &wend_tsplib::Instance) -> Result<(), CliError> {
     let began = std::time::Instant::now();
     let b = assignment_bound(inst.cost())
         .map_err(|e| CliError::Input(format!("{}: {e}", a.path.display())))?;

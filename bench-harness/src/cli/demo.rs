@@ -41,7 +41,7 @@ pub fn run(a: DemoArgs) -> Result<(), CliError> {
             "--time-limit must be a positive number".into(),
         ));
     }
-    let optima = wend_bench::tsplib::parse_optima(OPTIMA, "instances/optima.txt")?;
+    let optima = wend_tsplib::parse_optima(OPTIMA, "instances/optima.txt")?;
     println!(
         "Solving {} TSPLIB instances for {} s each with method {} (seed {}).",
         DEMO.len(),
@@ -59,7 +59,7 @@ pub fn run(a: DemoArgs) -> Result<(), CliError> {
         if super::interrupt::interrupted() {
             break;
         }
-        let inst = wend_bench::tsplib::parse_instance(text, file)?;
+        let inst = wend_tsplib::parse_instance(text, file)?;
         let opt = optima.get(&inst.name).copied();
         let mut solver = Solver::new(inst.cost())
             .seed(a.seed)

@@ -4,7 +4,7 @@ use super::{load, CliError};
 use clap::Args;
 use serde_json::json;
 use std::path::{Path, PathBuf};
-use wend_bench::tsplib::{TourFile, TsplibError};
+use wend_tsplib::{TourFile, TsplibError};
 
 #[derive(Args, Debug)]
 pub struct MeasureArgs {
@@ -19,7 +19,7 @@ pub struct MeasureArgs {
 
 pub fn run(a: MeasureArgs) -> Result<(), CliError> {
     let inst = load(&a.instance)?;
-    let tf = wend_bench::tsplib::read_tour(&a.tour)?;
+    let tf = wend_tsplib::read_tour(&a.tour)?;
     check_fit(&tf, &a.tour, &inst.name, inst.dimension)?;
     let tour = wend::Tour::new(tf.nodes, inst.dimension).map_err(|e| {
         CliError::Input(format!(
@@ -79,7 +79,7 @@ fn check_fit(tf: &TourFile, tour: &Path, instance: &str, n: usize) -> Result<(),
 #[cfg(test)]
 mod tests {
     use super::*;
-    use wend_bench::tsplib::parse_tour;
+    use wend_tsplib::parse_tour;
 
     fn fit(text: &str, n: usize) -> Result<(), String> {
         let tf = parse_tour(text, "t.tour").unwrap();

@@ -94,15 +94,15 @@ impl fmt::Display for CliError {
     }
 }
 
-impl From<wend_bench::tsplib::TsplibError> for CliError {
-    fn from(e: wend_bench::tsplib::TsplibError) -> Self {
+impl From<wend_tsplib::TsplibError> for CliError {
+    fn from(e: wend_tsplib::TsplibError) -> Self {
         CliError::Input(e.to_string())
     }
 }
 
 /// Reads an instance, mapping errors to one line that names the file.
-pub(crate) fn load(path: &std::path::Path) -> Result<wend_bench::tsplib::Instance, CliError> {
-    Ok(wend_bench::tsplib::read_instance(path)?)
+pub(crate) fn load(path: &std::path::Path) -> Result<wend_tsplib::Instance, CliError> {
+    Ok(wend_tsplib::read_instance(path)?)
 }
 
 /// Writes a file, naming it in the error.

@@ -8,18 +8,18 @@ use clap::{Args, Subcommand};
 use serde_json::json;
 use std::path::{Path, PathBuf};
 use std::time::Duration;
-use wend::sky::front::{search_front, Front, FrontOptions, FrontProgress};
-use wend::sky::plan::{plan, PlanOptions, DEFAULT_HORIZON_DAYS};
-use wend::sky::schedule::Schedule;
-use wend::sky::sun::sun_j2000;
-use wend::sky::{Epoch, Profile, Target};
 use wend::Method;
-use wend_bench::sky::draw::{write_momentum_chart, write_sky_map, MomentumTrace, SkyMap};
-use wend_bench::sky::front_report::{write_front_svg, write_report_html, FrontReport, FrontRow};
-use wend_bench::sky::output::{
+use wend_sky::draw::{write_momentum_chart, write_sky_map, MomentumTrace, SkyMap};
+use wend_sky::front::{search_front, Front, FrontOptions, FrontProgress};
+use wend_sky::front_report::{write_front_svg, write_report_html, FrontReport, FrontRow};
+use wend_sky::output::{
     self, format_utc, overhead_ratio, parse_utc, plan_json, CAUTION, DEMO_START_UTC,
 };
-use wend_bench::sky::{demo_profile, demo_targets, read_profile, read_targets};
+use wend_sky::plan::{plan, PlanOptions, DEFAULT_HORIZON_DAYS};
+use wend_sky::schedule::Schedule;
+use wend_sky::sun::sun_j2000;
+use wend_sky::{demo_profile, demo_targets, read_profile, read_targets};
+use wend_sky::{Epoch, Profile, Target};
 
 #[derive(Args, Debug)]
 pub struct SkyArgs {
@@ -319,7 +319,7 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
     Ok(())
 }
 
-fn reasons_text(s: &wend::sky::schedule::Schedule) -> String {
+fn reasons_text(s: &wend_sky::schedule::Schedule) -> String {
     let mut counts: Vec<(&str, usize)> = Vec::new();
     for u in &s.unscheduled {
         match counts.iter_mut().find(|(c, _)| *c == u.reason.code()) {
@@ -338,7 +338,7 @@ fn write_outputs(
     dir: &Path,
     profile: &Profile,
     targets: &[Target],
-    made: &wend::sky::plan::Plan,
+    made: &wend_sky::plan::Plan,
     summary: &serde_json::Value,
     start: Epoch,
 ) -> Result<(), CliError> {
@@ -404,7 +404,7 @@ fn write_plan_files(
         format_utc(start),
         format_utc(s.end)
     );
-    let draw_error = |e: wend_bench::sky::draw::DrawError| CliError::Failure(e.to_string());
+    let draw_error = |e: wend_sky::draw::DrawError| CliError::Failure(e.to_string());
     write_sky_map(
         &dir.join(names[1]),
         &SkyMap {
@@ -599,7 +599,7 @@ fn write_front_files(
         reference: front.reference,
         notes: &notes,
     };
-    let draw_error = |e: wend_bench::sky::draw::DrawError| CliError::Failure(e.to_string());
+    let draw_error = |e: wend_sky::draw::DrawError| CliError::Failure(e.to_string());
     write_front_svg(&dir.join("front.svg"), &report).map_err(draw_error)?;
     write_report_html(&dir.join("report.html"), &report).map_err(draw_error)
 }

@@ -340,19 +340,19 @@ fn ends_words(sol: &wend::Solution) -> String {
 /// Writes `order` to `out` as a TSPLIB TOUR file named after the instance.
 fn write_tour_file(
     out: &std::path::Path,
-    inst: &wend_bench::tsplib::Instance,
+    inst: &wend_tsplib::Instance,
     comment: &str,
     order: &[usize],
 ) -> Result<(), CliError> {
     write_file(out, |w| {
-        wend_bench::tsplib::write_tour(&format!("{}.tour", inst.name), comment, order, w)
+        wend_tsplib::write_tour(&format!("{}.tour", inst.name), comment, order, w)
     })
 }
 
 /// `wend solve --exact`.
 fn run_exact(
     a: &SolveArgs,
-    inst: &wend_bench::tsplib::Instance,
+    inst: &wend_tsplib::Instance,
     path: &std::path::Path,
     limit: Option<Duration>,
     ends: Ends,

@@ -18,20 +18,20 @@
 //! # `unscheduled.csv`
 //!
 //! One row per target left out: `id`, `reason` (a code of
-//! [`wend::sky::schedule::Reason::code`]), `explanation` (a sentence), `min_elongation_deg`
+//! [`crate::schedule::Reason::code`]), `explanation` (a sentence), `min_elongation_deg`
 //! and `max_elongation_deg` (its elongation range over the horizon).
 
 use std::io::Write;
 use std::path::Path;
 
+use crate::plan::Plan;
+use crate::schedule::{Schedule, Unscheduled};
+use crate::{Epoch, Profile, Target};
 use rand::{Rng, SeedableRng};
 use rand_pcg::Pcg64;
 use serde_json::json;
 use time::format_description::well_known::{Iso8601, Rfc3339};
 use time::OffsetDateTime;
-use wend::sky::plan::Plan;
-use wend::sky::schedule::{Schedule, Unscheduled};
-use wend::sky::{Epoch, Profile, Target};
 
 /// The caution every output of the sky adapter carries.
 pub const CAUTION: &str = "Plans are planning proposals to be confirmed by the operations team's validated tools. Spacecraft operations can damage hardware.";

@@ -188,7 +188,7 @@ mod tests {
 
     #[test]
     fn separations_match_astropy() {
-        // astropy SkyCoord.separation, fixture made by solver/scripts/sky_fixtures.py; it holds
+        // astropy SkyCoord.separation, fixture made by sky/scripts/sky_fixtures.py; it holds
         // exact 0° and 180° pairs, near-antipodal ones and pairs across the poles and RA = 0.
         let rows = astropy_separations();
         assert!(rows.iter().any(|r| r[4] == 0.0) && rows.iter().any(|r| r[4] == 180.0));

@@ -1,16 +1,4 @@
-//! The sky adapter: from a pool of targets to asymmetric slew costs, momentum and observing
-//! sequences for a sunshield observatory at the Sun–Earth L2 point.
-//!
-//! **Caution.** Spacecraft operations can damage hardware. Everything here is a planning aid:
-//! a plan it makes is a proposal that the operations team's validated flight-dynamics and
-//! constraint-checking tools must confirm.
-//!
-//! This module holds the data the adapter works on ([`Target`], [`Profile`]); reading them from
-//! files is the command line's job (crate `wend-bench`). The model lives in submodules, one
-//! topic each, with the published formulas they rest on named in their documentation.
-//!
-//! Units are SI unless a field's name says otherwise (`_deg`, `_s`); directions are ICRS
-//! (J2000 axes); times are Julian dates in TT ([`Epoch`]).
+//! The data the adapter works on: targets, instruments, the observatory profile, epochs.
 
 /// A moment in time as a Julian date in Terrestrial Time (TT). The difference between TT and
 /// UTC (about 69 s) moves the Sun by under 0.001°, below this model's accuracy; callers that
@@ -93,12 +81,3 @@ pub struct Profile {
     /// Time one momentum dump takes, seconds.
     pub dump_s: f64,
 }
-
-pub mod front;
-pub mod geometry;
-pub mod momentum;
-pub mod plan;
-pub mod schedule;
-pub mod slew;
-pub mod sun;
-pub mod visibility;

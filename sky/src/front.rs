@@ -558,8 +558,8 @@ fn surrogate_scale(ctx: &Context, candidates: &[usize], options: &FrontOptions) 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::sky::Epoch;
     use crate::testing::{shuffled, sky_profile, sky_targets};
+    use crate::Epoch;
     use proptest::prelude::*;
 
     const START: Epoch = Epoch { jd: 2_461_465.5 };

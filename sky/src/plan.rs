@@ -18,7 +18,7 @@ use super::schedule::{Context, PlanError, Runner, Schedule};
 use super::slew::{cost_matrix_ms, Pointing};
 use super::sun::sun_j2000;
 use super::{Epoch, Profile, Target};
-use crate::{Ends, Method, SolveError, Solver, StopHandle};
+use wend::{Ends, Method, SolveError, Solver, StopHandle};
 
 /// How to plan.
 #[derive(Clone, Debug)]

@@ -126,8 +126,8 @@ pub fn dump_propellant_kg(h_nms: &Vec3, arm_m: f64, isp_s: f64) -> Option<f64> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::sky::geometry::norm;
-    use crate::sky::Instrument;
+    use crate::geometry::norm;
+    use crate::Instrument;
 
     fn close(a: &Vec3, b: &Vec3, tol: f64) -> bool {
         (0..3).all(|k| (a[k] - b[k]).abs() <= tol)

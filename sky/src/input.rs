@@ -1,3 +1,5 @@
+//! Helpers of the readers (targets CSV, observatory profile TOML): UTF-8 text and line numbers.
+//!
 //! The sky adapter's input side: the targets CSV, the observatory profile TOML, and the
 //! built-in demo observatory.
 //!
@@ -5,10 +7,10 @@
 //! validated tools. Spacecraft operations can damage hardware; nothing read or made here is
 //! a command to a spacecraft.
 //!
-//! - [`parse_targets`] / [`read_targets`]: a CSV of targets into [`wend::sky::Target`]s,
-//!   instrument names resolved against a [`wend::sky::Profile`]. Format in [`targets`].
+//! - [`parse_targets`] / [`read_targets`]: a CSV of targets into [`crate::Target`]s,
+//!   instrument names resolved against a [`crate::Profile`]. Format in [`targets`].
 //! - [`parse_profile`] / [`read_profile`]: an observatory profile in TOML into a
-//!   [`wend::sky::Profile`], every value checked. Keys and units in [`profile`].
+//!   [`crate::Profile`], every value checked. Keys and units in [`profile`].
 //! - [`demo_profile`] / [`demo_targets`]: the invented "Lantern Deep-Sky Observatory" and its
 //!   72 invented targets, embedded in the binary (`instances/sky/demo-profile.toml`,
 //!   `instances/sky/demo-targets.csv`).
@@ -17,22 +19,11 @@
 //! in the `file:line: ...` form of the TSPLIB reader. Nothing a user feeds in makes these
 //! functions panic.
 
-pub mod demo;
-pub mod draw;
-pub mod front_report;
-pub mod output;
-pub mod profile;
-pub mod targets;
-
 use std::path::Path;
-
-pub use demo::{demo_profile, demo_targets, DEMO_PROFILE_TOML, DEMO_TARGETS_CSV};
-pub use profile::{parse_profile, read_profile, ProfileError};
-pub use targets::{parse_targets, read_targets, TargetsError};
 
 /// A file's text, refusing bytes that are not UTF-8 (ids and names must not change silently).
 /// On failure: (line, message), line 0 when the file could not be read at all.
-fn read_utf8(path: &Path) -> Result<String, (usize, String)> {
+pub(crate) fn read_utf8(path: &Path) -> Result<String, (usize, String)> {
     let bytes = std::fs::read(path).map_err(|e| (0, format!("cannot read the file: {e}")))?;
     String::from_utf8(bytes).map_err(|e| {
         let at = e.utf8_error().valid_up_to();
@@ -45,7 +36,7 @@ fn read_utf8(path: &Path) -> Result<String, (usize, String)> {
 }
 
 /// 1-based line of a byte offset in `text` (offsets past the end count as the last line).
-fn line_of(text: &str, offset: usize) -> usize {
+pub(crate) fn line_of(text: &str, offset: usize) -> usize {
     let end = offset.min(text.len());
     1 + text.as_bytes()[..end]
         .iter()
@@ -54,7 +45,7 @@ fn line_of(text: &str, offset: usize) -> usize {
 }
 
 /// `:LINE` for an error message, or nothing for line 0 (an error not tied to one line).
-fn line_part(line: usize) -> String {
+pub(crate) fn line_part(line: usize) -> String {
     if line == 0 {
         String::new()
     } else {

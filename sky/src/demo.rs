@@ -11,13 +11,13 @@
 //! targets inside the 80°–140° elongation band on 2027-03-01 (the plan start the script
 //! assumes) and the rest spread over the sky.
 
-use wend::sky::{Profile, Target};
+use crate::{Profile, Target};
 
 /// The demo observatory profile as TOML text (the file `instances/sky/demo-profile.toml`).
-pub const DEMO_PROFILE_TOML: &str = include_str!("../../../instances/sky/demo-profile.toml");
+pub const DEMO_PROFILE_TOML: &str = include_str!("../../instances/sky/demo-profile.toml");
 
 /// The demo target list as CSV text (the file `instances/sky/demo-targets.csv`).
-pub const DEMO_TARGETS_CSV: &str = include_str!("../../../instances/sky/demo-targets.csv");
+pub const DEMO_TARGETS_CSV: &str = include_str!("../../instances/sky/demo-targets.csv");
 
 /// The name the demo files go by in error messages.
 const PROFILE_NAME: &str = "demo-profile.toml (built in)";

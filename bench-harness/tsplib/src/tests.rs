@@ -14,7 +14,7 @@ use super::*;
 /// The shared TSPLIB folder next to the project, when present.
 fn shared(sub: &str) -> Option<PathBuf> {
     let dir = Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../../shared/tsplib")
+        .join("../../../shared/tsplib")
         .join(sub);
     if dir.is_dir() {
         Some(dir)

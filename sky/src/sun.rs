@@ -160,7 +160,7 @@ pub fn sun_j2000(epoch: Epoch) -> Sun {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::sky::geometry::separation_deg;
+    use crate::geometry::separation_deg;
 
     /// Rows of `fixtures/sun_astropy.csv`: (JD TT, RA°, Dec°, distance AU).
     fn astropy_sun() -> Vec<[f64; 4]> {
@@ -192,7 +192,7 @@ mod tests {
 
     #[test]
     fn j2000_direction_matches_astropy_get_sun() {
-        // astropy get_sun (GCRS, J2000 axes), fixture made by solver/scripts/sky_fixtures.py;
+        // astropy get_sun (GCRS, J2000 axes), fixture made by sky/scripts/sky_fixtures.py;
         // the Almanac states about 0.01° for its formula.
         let rows = astropy_sun();
         assert!(rows.len() >= 10);

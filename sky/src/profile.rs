@@ -49,9 +49,9 @@ use std::collections::HashMap;
 use std::ops::Range;
 use std::path::Path;
 
+use crate::{Instrument, Profile};
 use serde::Deserialize;
 use toml::Spanned;
-use wend::sky::{Instrument, Profile};
 
 use super::targets::{escape_controls, shown};
 

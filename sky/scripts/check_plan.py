@@ -10,7 +10,7 @@ than 0.01 degrees, and times are rounded to whole seconds). Prints the worst mar
 
     python3 -m venv /tmp/astro && /tmp/astro/bin/pip install astropy
     wend sky plan --out /tmp/demo-plan
-    /tmp/astro/bin/python solver/scripts/check_plan.py instances/sky/demo-targets.csv \
+    /tmp/astro/bin/python sky/scripts/check_plan.py instances/sky/demo-targets.csv \
         /tmp/demo-plan/plan.csv --band 80 140
 
 Plans are planning proposals to be confirmed by the operations team's validated tools; this

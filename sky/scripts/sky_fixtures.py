@@ -1,5 +1,5 @@
 #!/usr/bin/env python3
-"""Write the reference fixtures of the sky model's tests (solver/src/sky/fixtures/).
+"""Write the reference fixtures of the sky model's tests (sky/src/fixtures/).
 
 The reference library is astropy (PyPI package `astropy`): `get_sun` for the Sun's
 geocentric direction (GCRS, J2000 axes) and distance, `SkyCoord.separation` for angular
@@ -7,7 +7,7 @@ separations. The Rust tests read the CSV files this script writes with `include_
 never needs astropy. Run from the repository root:
 
     python3 -m venv /tmp/astro && /tmp/astro/bin/pip install astropy
-    /tmp/astro/bin/python solver/scripts/sky_fixtures.py
+    /tmp/astro/bin/python sky/scripts/sky_fixtures.py
 
 Each file records the astropy version that made it and this script's path.
 """
@@ -23,7 +23,7 @@ from astropy.utils import iers
 # Nothing here needs Earth-orientation tables (GCRS has no Earth rotation); never download.
 iers.conf.auto_download = False
 
-SCRIPT = "solver/scripts/sky_fixtures.py"
+SCRIPT = "sky/scripts/sky_fixtures.py"
 OUT = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "src", "sky", "fixtures")
 
 # Epochs in Terrestrial Time, spread over 1995-2035 and over the seasons.

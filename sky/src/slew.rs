@@ -18,7 +18,7 @@ use super::{Epoch, Profile, Target};
 pub enum CostError {
     /// The matrix would pass the memory ceiling ([`crate::memory`]).
     #[error(transparent)]
-    Memory(#[from] crate::memory::MemoryError),
+    Memory(#[from] wend::memory::MemoryError),
     /// The slew limits are not positive and finite.
     #[error("slew limits must be positive and finite: rate {rate_deg_s} deg/s, acceleration {accel_deg_s2} deg/s^2")]
     SlewLimits {
@@ -243,7 +243,7 @@ pub fn cost_matrix_ms_with_sun(
         pointings.push(p);
     }
     let n = targets.len();
-    crate::memory::check(crate::memory::square(n, 8), || {
+    wend::memory::check(wend::memory::square(n, 8), || {
         format!("the slew cost matrix of {n} targets")
     })?;
     let mut m = vec![vec![0i64; n]; n];
@@ -285,7 +285,7 @@ pub fn cost_matrix_ms(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::sky::Instrument;
+    use crate::Instrument;
 
     fn profile(warm: f64, cool: f64, setup: Vec<Vec<f64>>, settle: [f64; 2]) -> Profile {
         Profile {

@@ -13,14 +13,14 @@
 //! match and indices out of range give a [`DrawError`] rather than a panic or a wrong picture.
 //! An empty plan (no targets, no sequence, no momentum samples) still gives a picture.
 
+use crate::geometry::{separation_deg, unit_vector, Vec3};
+use crate::Target;
 use plotters::coord::Shift;
 use plotters::element::DashedPathElement;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 use std::f64::consts::{PI, SQRT_2};
 use std::path::Path;
-use wend::sky::geometry::{separation_deg, unit_vector, Vec3};
-use wend::sky::Target;
 
 /// Why a picture could not be written.
 #[derive(Debug, thiserror::Error)]

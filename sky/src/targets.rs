@@ -28,7 +28,7 @@
 use std::collections::HashMap;
 use std::path::Path;
 
-use wend::sky::{Profile, Target};
+use crate::{Profile, Target};
 
 /// A targets file that could not be read, with the place the trouble was found.
 ///
@@ -345,8 +345,8 @@ fn instrument_index(name: &str, profile: &Profile) -> Result<usize, String> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::Instrument;
     use proptest::prelude::*;
-    use wend::sky::Instrument;
 
     /// A profile written out by hand, independent of the profile reader.
     fn profile() -> Profile {

@@ -988,9 +988,9 @@ impl<'c, 'a> Runner<'c, 'a> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::sky::momentum::STANDARD_GRAVITY_M_S2;
-    use crate::sky::visibility::elongation_at;
+    use crate::momentum::STANDARD_GRAVITY_M_S2;
     use crate::testing::{sky_profile, sky_targets};
+    use crate::visibility::elongation_at;
 
     /// 2027-03-01 0h (JD 2461465.5).
     const START: Epoch = Epoch { jd: 2_461_465.5 };

@@ -1070,7 +1070,7 @@ fn render_html(r: &FrontReport) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::sky::draw::{legend_lines, text_fits};
+    use crate::draw::{legend_lines, text_fits};
 
     const CAUTION: &str = "Plans are planning proposals to be confirmed by the operations \
                            team's validated tools. Spacecraft operations can damage hardware.";
