@@ -4,6 +4,7 @@
 //! `K/N` (runs whose index is `K-1` modulo `N`) names the same runs on every machine; merging
 //! shards is concatenating their `runs.jsonl` files.
 
+use sysinfo::{CpuRefreshKind, MemoryRefreshKind, RefreshKind, System};
 use crate::record::{read_runs, RunKey, RunRecord};
 use wend_tsplib::{read_instance, write_tour, Instance, TsplibError};
 
@@ -333,25 +334,21 @@ pub fn machine_description() -> String {
     let cores = std::thread::available_parallelism()
         .map(|c| c.get())
         .unwrap_or(1);
-    let cpu = std::fs::read_to_string("/proc/cpuinfo")
-        .ok()
-        .and_then(|s| {
-            s.lines()
-                .find(|l| l.starts_with("model name"))
-                .and_then(|l| l.split(':').nth(1))
-                .map(|m| m.trim().to_string())
-        })
+    let system = System::new_with_specifics(
+        RefreshKind::nothing()
+            .with_cpu(CpuRefreshKind::nothing())
+            .with_memory(MemoryRefreshKind::nothing().with_ram()),
+    );
+    let cpu = system
+        .cpus()
+        .first()
+        .map(|c| c.brand().trim().to_string())
+        .filter(|b| !b.is_empty())
         .unwrap_or_else(|| "unknown CPU".into());
-    let mem = std::fs::read_to_string("/proc/meminfo")
-        .ok()
-        .and_then(|s| {
-            s.lines()
-                .find(|l| l.starts_with("MemTotal"))
-                .and_then(|l| l.split_whitespace().nth(1))
-                .and_then(|kb| kb.parse::<f64>().ok())
-        })
-        .map(|kb| format!("{:.0} GiB", kb / 1024.0 / 1024.0))
-        .unwrap_or_else(|| "unknown memory".into());
+    let mem = match system.total_memory() {
+        0 => "unknown memory".into(),
+        bytes => format!("{:.0} GiB", bytes as f64 / (1u64 << 30) as f64),
+    };
     format!(
         "{cores} cores, {cpu}, {mem}, {} {}",
         std::env::consts::OS,

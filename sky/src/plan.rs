@@ -95,7 +95,7 @@ pub enum PlanFailure {
     Solve(#[from] SolveError),
     /// The cost matrix could not be built.
     #[error(transparent)]
-    Cost(#[from] super::slew::CostError),
+    Cost(#[from] super::slew::SlewCostError),
 }
 
 /// A plan and what it is measured against.
@@ -192,7 +192,7 @@ pub fn weighted_matrix(
     targets: &[Target],
     at: Epoch,
     weight_s_per_nms: f64,
-) -> Result<Vec<Vec<i64>>, super::slew::CostError> {
+) -> Result<Vec<Vec<i64>>, super::slew::SlewCostError> {
     let mut m = cost_matrix_ms(profile, targets, at)?;
     if weight_s_per_nms > 0.0 && weight_s_per_nms.is_finite() {
         let imp = impulses_nms(profile, targets, at);

@@ -33,7 +33,7 @@ use serde::Serialize;
 
 use super::geometry::{dot, eigen_axis_angle_deg, elongation_deg, norm, unit_vector, Vec3};
 use super::momentum::{dump_propellant_kg, solar_torque_nm};
-use super::slew::{check_profile, cost_checked_s, slew_time_s, CostError, Pointing};
+use super::slew::{check_profile, cost_checked_s, slew_time_s, Pointing, SlewCostError};
 use super::sun::sun_j2000;
 use super::visibility::{visibility, Visibility};
 use super::{Epoch, Profile, Target};
@@ -57,7 +57,7 @@ const AFTER_EDGE_DAYS: f64 = 1.0 / SECONDS_PER_DAY;
 pub enum PlanError {
     /// The profile's slew, thermal or setup values, or a target's instrument, are invalid.
     #[error(transparent)]
-    Cost(#[from] CostError),
+    Cost(#[from] SlewCostError),
     /// A value of the profile the simulation needs is out of range.
     #[error("profile value {what} = {value} is out of range ({expected})")]
     Profile {

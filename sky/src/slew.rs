@@ -15,7 +15,7 @@ use super::{Epoch, Profile, Target};
 
 /// Why a cost could not be computed.
 #[derive(Debug, Error, Clone, PartialEq)]
-pub enum CostError {
+pub enum SlewCostError {
     /// The matrix would pass the memory ceiling ([`crate::memory`]).
     #[error(transparent)]
     Memory(#[from] wend::memory::MemoryError),
@@ -140,9 +140,9 @@ impl Pointing {
 }
 
 /// Checks the profile's slew limits, time constants and setup table.
-pub(crate) fn check_profile(profile: &Profile) -> Result<(), CostError> {
+pub(crate) fn check_profile(profile: &Profile) -> Result<(), SlewCostError> {
     if slew_time_s(0.0, profile.slew_rate_deg_s, profile.slew_accel_deg_s2).is_none() {
-        return Err(CostError::SlewLimits {
+        return Err(SlewCostError::SlewLimits {
             rate_deg_s: profile.slew_rate_deg_s,
             accel_deg_s2: profile.slew_accel_deg_s2,
         });
@@ -151,7 +151,7 @@ pub(crate) fn check_profile(profile: &Profile) -> Result<(), CostError> {
         if value.is_finite() && value >= 0.0 {
             Ok(())
         } else {
-            Err(CostError::BadValue { what, value })
+            Err(SlewCostError::BadValue { what, value })
         }
     };
     check("thermal_warm_s_per_deg", profile.thermal_warm_s_per_deg)?;
@@ -166,7 +166,7 @@ pub(crate) fn check_profile(profile: &Profile) -> Result<(), CostError> {
             .iter()
             .all(|row| row.len() == n && row.iter().all(|v| v.is_finite() && *v >= 0.0));
     if !square {
-        return Err(CostError::SetupTable { instruments: n });
+        return Err(SlewCostError::SetupTable { instruments: n });
     }
     Ok(())
 }
@@ -196,12 +196,12 @@ pub fn transition_cost_s(
     profile: &Profile,
     from: &Pointing,
     to: &Pointing,
-) -> Result<f64, CostError> {
+) -> Result<f64, SlewCostError> {
     check_profile(profile)?;
     let instruments = profile.instruments.len();
     for p in [from, to] {
         if p.instrument >= instruments {
-            return Err(CostError::UnknownInstrument {
+            return Err(SlewCostError::UnknownInstrument {
                 index: 0,
                 id: String::new(),
                 instrument: p.instrument,
@@ -220,23 +220,23 @@ pub fn cost_matrix_ms_with_sun(
     profile: &Profile,
     targets: &[Target],
     sun: &Vec3,
-) -> Result<Vec<Vec<i64>>, CostError> {
+) -> Result<Vec<Vec<i64>>, SlewCostError> {
     check_profile(profile)?;
     if !(sun.iter().all(|c| c.is_finite()) && sun.iter().any(|c| *c != 0.0)) {
-        return Err(CostError::SunDirection);
+        return Err(SlewCostError::SunDirection);
     }
     let instruments = profile.instruments.len();
     let mut pointings = Vec::with_capacity(targets.len());
     for (index, t) in targets.iter().enumerate() {
         if t.instrument >= instruments {
-            return Err(CostError::UnknownInstrument {
+            return Err(SlewCostError::UnknownInstrument {
                 index,
                 id: t.id.clone(),
                 instrument: t.instrument,
                 instruments,
             });
         }
-        let p = Pointing::new(t, sun).ok_or_else(|| CostError::UndefinedAttitude {
+        let p = Pointing::new(t, sun).ok_or_else(|| SlewCostError::UndefinedAttitude {
             index,
             id: t.id.clone(),
         })?;
@@ -250,7 +250,7 @@ pub fn cost_matrix_ms_with_sun(
     // Rows are independent: built in parallel, the first bad cell (by row) reported.
     m.par_iter_mut()
         .enumerate()
-        .try_for_each(|(i, row)| -> Result<(), CostError> {
+        .try_for_each(|(i, row)| -> Result<(), SlewCostError> {
             for (j, cell) in row.iter_mut().enumerate() {
                 if i == j {
                     continue;
@@ -259,7 +259,7 @@ pub fn cost_matrix_ms_with_sun(
                 let ms = (cost_s * 1000.0).round();
                 // i64::MAX is about 9.22e18; stay clearly inside it.
                 if !(ms.is_finite() && ms.abs() < 9.0e18) {
-                    return Err(CostError::TooLarge {
+                    return Err(SlewCostError::TooLarge {
                         from: i,
                         to: j,
                         cost_s,
@@ -278,7 +278,7 @@ pub fn cost_matrix_ms(
     profile: &Profile,
     targets: &[Target],
     epoch: Epoch,
-) -> Result<Vec<Vec<i64>>, CostError> {
+) -> Result<Vec<Vec<i64>>, SlewCostError> {
     cost_matrix_ms_with_sun(profile, targets, &sun_j2000(epoch).direction)
 }
 
@@ -448,7 +448,7 @@ mod tests {
         let on_sun = [target("ok", 90.0, 0.0, 0), target("sun", 0.0, 0.0, 0)];
         assert_eq!(
             cost_matrix_ms_with_sun(&p, &on_sun, &sun),
-            Err(CostError::UndefinedAttitude {
+            Err(SlewCostError::UndefinedAttitude {
                 index: 1,
                 id: "sun".into()
             })
@@ -456,28 +456,28 @@ mod tests {
         let nan = [target("nan", f64::NAN, 0.0, 0)];
         assert!(matches!(
             cost_matrix_ms_with_sun(&p, &nan, &sun),
-            Err(CostError::UndefinedAttitude { index: 0, .. })
+            Err(SlewCostError::UndefinedAttitude { index: 0, .. })
         ));
         let bad_inst = [target("i", 90.0, 0.0, 2)];
         assert!(matches!(
             cost_matrix_ms_with_sun(&p, &bad_inst, &sun),
-            Err(CostError::UnknownInstrument { instrument: 2, .. })
+            Err(SlewCostError::UnknownInstrument { instrument: 2, .. })
         ));
         assert_eq!(
             cost_matrix_ms_with_sun(&p, &bad_inst, &[0.0; 3]),
-            Err(CostError::SunDirection)
+            Err(SlewCostError::SunDirection)
         );
         let mut q = p.clone();
         q.slew_rate_deg_s = f64::NAN;
         assert!(matches!(
             cost_matrix_ms_with_sun(&q, &on_sun, &sun),
-            Err(CostError::SlewLimits { .. })
+            Err(SlewCostError::SlewLimits { .. })
         ));
         let mut q = p.clone();
         q.setup_s = vec![vec![0.0]];
         assert!(matches!(
             cost_matrix_ms_with_sun(&q, &on_sun, &sun),
-            Err(CostError::SetupTable { .. })
+            Err(SlewCostError::SetupTable { .. })
         ));
         assert_eq!(cost_matrix_ms_with_sun(&p, &[], &sun), Ok(vec![]));
     }
