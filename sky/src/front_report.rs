@@ -282,13 +282,12 @@ fn check(r: &FrontReport) -> Result<Ranges, String> {
 }
 
 // ---------------------------------------------------------------------------------------------
-// The picture. Same look as the sky map and the momentum chart (draw.rs): fonts, colours,
-// padding, wrapped title and caution, legend panel on the right.
+// The picture. Same look as the sky map and the momentum chart (the shared chart kit: fonts,
+// colours, padding, wrapped title and caution, legend panel on the right).
 
 // Font sizes as the drawing library takes them; it writes them at 1/1.24 of these.
 const POINT_LABEL_PX: u32 = 18;
 
-// Okabe and Ito's colour-blind-safe hues, and greys.
 /// The other plans evaluated.
 const FAINT: RGBColor = RGBColor(165, 165, 165);
 /// Opacity of the blue shading of the region the hypervolume measures.
