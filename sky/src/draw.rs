@@ -15,34 +15,20 @@
 
 use crate::geometry::{separation_deg, unit_vector, Vec3};
 use crate::Target;
-use plotters::coord::Shift;
 use plotters::element::DashedPathElement;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 use std::f64::consts::{PI, SQRT_2};
 use std::path::Path;
+use wend_charts::legend::{Key, LegendEntry, LegendKey, LegendLayout};
+use wend_charts::style::{
+    AXIS_TITLE_PX, BLUE, FONT, GREEN, GRID, INK, LEGEND_PX, ORANGE, OUTLINE, PURPLE, SOFT_TEXT,
+    VERMILLION,
+};
+use wend_charts::text::{boxed_text, em, text_width, Framed};
+use wend_charts::{linear_chart, number_label, write_checked, Area, DrawResult};
 
-/// Why a picture could not be written.
-#[derive(Debug, thiserror::Error)]
-pub enum DrawError {
-    /// The input cannot be drawn faithfully (a value that is not finite or out of its range,
-    /// lengths that do not match, an index past the end). Nothing was written.
-    #[error("cannot draw {path}: {message}")]
-    Input {
-        /// The file that was to be written.
-        path: String,
-        /// What is wrong with the input, naming the offending item.
-        message: String,
-    },
-    /// The picture could not be drawn or the file could not be written.
-    #[error("cannot write {path}: {message}")]
-    Write {
-        /// The file that was to be written.
-        path: String,
-        /// What went wrong.
-        message: String,
-    },
-}
+pub use wend_charts::DrawError;
 
 /// What the sky map shows.
 ///
@@ -124,179 +110,21 @@ pub fn write_momentum_chart(path: &Path, trace: &MomentumTrace) -> Result<(), Dr
     )
 }
 
-/// Checks what is to be drawn (`check`: a message when it cannot be drawn faithfully), draws
-/// it and writes the text to `path`, naming the file in every error.
-pub(super) fn write_checked<T, E: std::fmt::Display>(
-    path: &Path,
-    check: impl FnOnce() -> Result<T, String>,
-    draw: impl FnOnce(T) -> Result<String, E>,
-) -> Result<(), DrawError> {
-    let name = path.display().to_string();
-    let checked = check().map_err(|message| DrawError::Input {
-        path: name.clone(),
-        message,
-    })?;
-    let text = draw(checked).map_err(|e| DrawError::Write {
-        path: name.clone(),
-        message: format!("drawing failed: {e}"),
-    })?;
-    std::fs::write(path, text).map_err(|e| DrawError::Write {
-        path: name,
-        message: e.to_string(),
-    })
-}
-
 // ---------------------------------------------------------------------------------------------
-// Look shared by both pictures.
+// Look of both pictures; the rest (fonts, colours, text, legends, the caution) is the shared
+// chart kit, the same as in the front picture and the sweep report.
 
-pub(super) type Area<'b> = DrawingArea<SVGBackend<'b>, Shift>;
-pub(super) type DrawResult<T> = Result<T, DrawingAreaErrorKind<std::io::Error>>;
-
-/// Generic family name only: SVG viewers pick an installed face.
-pub(super) const FONT: &str = "sans-serif";
-// Font sizes as the drawing library takes them; it writes them at 1/1.24 of these.
-pub(super) const TITLE_PX: u32 = 26;
-pub(super) const AXIS_TITLE_PX: u32 = 21;
-pub(super) const TICK_PX: u32 = 18;
-pub(super) const LEGEND_PX: u32 = 16;
-pub(super) const CAUTION_PX: u32 = 19;
 const GRID_LABEL_PX: u32 = 15;
 const SUN_LABEL_PX: u32 = 17;
-
-// Okabe and Ito's colour-blind-safe hues, and greys.
-pub(super) const BLUE: RGBColor = RGBColor(0, 114, 178);
-pub(super) const VERMILLION: RGBColor = RGBColor(213, 94, 0);
-const GREEN: RGBColor = RGBColor(0, 158, 115);
-const PURPLE: RGBColor = RGBColor(204, 121, 167);
-const ORANGE: RGBColor = RGBColor(230, 159, 0);
-pub(super) const INK: RGBColor = RGBColor(0, 0, 0);
 const ZONE_ALWAYS: RGBColor = RGBColor(150, 150, 150);
 const ZONE_SOMETIMES: RGBColor = RGBColor(222, 222, 222);
-pub(super) const GRID: RGBColor = RGBColor(185, 185, 185);
-pub(super) const OUTLINE: RGBColor = RGBColor(70, 70, 70);
-pub(super) const SOFT_TEXT: RGBColor = RGBColor(90, 90, 90);
 
-/// Pixels from the edge of a picture to its text.
-pub(super) const PAD: i32 = 14;
-
-/// The size in pixels at which text of library size `px` is written.
-pub(super) fn em(px: u32) -> f64 {
-    f64::from(px) / 1.24
-}
-
-/// Distance between the baselines of two lines of text of library size `px`, pixels.
-pub(super) fn line_step(px: u32) -> i32 {
-    (em(px) * 1.3).ceil() as i32
-}
-
-/// Greedy word wrap of `text` into lines no wider than `width_px` at library size `px`,
-/// taking about 0.6 em a character (a common sans-serif face averages less). Newlines in
-/// `text` start new lines; blank lines are dropped; a word longer than a line is cut.
-pub(super) fn wrap(text: &str, px: u32, width_px: u32) -> Vec<String> {
-    let per_char = 0.6 * em(px);
-    let max = ((f64::from(width_px) / per_char).floor() as usize).max(8);
-    let mut lines = Vec::new();
-    for para in text.lines() {
-        let mut line = String::new();
-        let mut len = 0;
-        for word in para.split_whitespace() {
-            let chars: Vec<char> = word.chars().collect();
-            for chunk in chars.chunks(max) {
-                if len > 0 && len + 1 + chunk.len() > max {
-                    lines.push(std::mem::take(&mut line));
-                    len = 0;
-                }
-                if len > 0 {
-                    line.push(' ');
-                    len += 1;
-                }
-                line.extend(chunk);
-                len += chunk.len();
-            }
-        }
-        if len > 0 {
-            lines.push(line);
-        }
-    }
-    lines
-}
-
-/// Height in pixels of a block of `n` lines at library size `px`, with `PAD` above and below.
-pub(super) fn block_height(n: usize, px: u32) -> u32 {
-    (n as i32 * line_step(px) + 2 * PAD) as u32
-}
-
-/// Draws `lines` centred across `area`, the first line's top `PAD` pixels below its top.
-fn draw_centred(
-    area: &Area,
-    lines: &[String],
-    px: u32,
-    bold: bool,
-    colour: RGBColor,
-) -> DrawResult<()> {
-    let (w, _) = area.dim_in_pixel();
-    let font = (FONT, px).into_font();
-    let font = if bold {
-        font.style(FontStyle::Bold)
-    } else {
-        font
-    };
-    let style = TextStyle::from(font)
-        .color(&colour)
-        .pos(Pos::new(HPos::Center, VPos::Top));
-    for (i, line) in lines.iter().enumerate() {
-        let y = PAD + i as i32 * line_step(px);
-        area.draw(&Text::new(line.clone(), (w as i32 / 2, y), style.clone()))?;
-    }
-    Ok(())
-}
-
-/// The caution block: a thin rule, then the wrapped sentence.
-fn draw_caution(area: &Area, lines: &[String]) -> DrawResult<()> {
-    let (w, _) = area.dim_in_pixel();
-    area.draw(&PathElement::new(
-        vec![(PAD, 4), (w as i32 - PAD, 4)],
-        GRID.stroke_width(1),
-    ))?;
-    draw_centred(area, lines, CAUTION_PX, false, INK)
-}
-
-/// A tick label for `v` on an axis spanning `span`: enough decimals to tell ticks apart,
-/// no trailing zeros.
-pub(super) fn number_label(v: f64, span: f64) -> String {
-    let decimals = if span.is_finite() && span > 0.0 {
-        (2.0 - span.log10().floor()).clamp(0.0, 8.0) as usize
-    } else {
-        2
-    };
-    let s = format!("{v:.decimals$}");
-    let s = if s.contains('.') {
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        s
-    };
-    if s == "-0" {
-        "0".into()
-    } else {
-        s
-    }
-}
-
-/// How a legend entry shows what it explains.
+/// How a legend entry of the sky map shows what it explains: a key of the kit, or one of the
+/// map's own markers.
 #[derive(Clone, Copy)]
-enum Key {
-    /// A filled square of this colour, outlined.
-    Swatch(RGBColor),
-    /// A filled dot.
-    Dot(RGBColor),
-    /// A hollow ring.
-    Ring(RGBColor),
-    /// A solid line of this colour and width.
-    Line(RGBColor, u32),
-    /// A dashed line.
-    Dashed(RGBColor, u32),
-    /// A short vertical line.
-    Tick(RGBColor),
+enum SkyKey {
+    /// A key of the kit.
+    Kit(Key),
     /// A filled, outlined triangle.
     Triangle(RGBColor),
     /// A filled, outlined square.
@@ -305,145 +133,35 @@ enum Key {
     SunPath,
     /// The Sun marker, hollow (start) or filled (end).
     Sun { filled: bool },
-    /// No mark: text only, from the left edge.
-    Heading,
-    /// No mark: text only, from the left edge, in a softer colour.
-    Note,
 }
 
-/// What a legend needs of a key: whether it is text only (and in the softer colour), and how
-/// to draw its mark.
-pub(super) trait LegendKey: Copy {
-    /// `None` for a key with a mark; `Some(soft)` for text only from the left edge, in the
-    /// softer colour when `soft`.
-    fn text_only(&self) -> Option<bool>;
-    /// Draws the mark centred at `c` (pixels).
-    fn draw(&self, area: &Area, c: (i32, i32)) -> DrawResult<()>;
-}
-
-impl LegendKey for Key {
+impl LegendKey for SkyKey {
     fn text_only(&self) -> Option<bool> {
         match self {
-            Key::Heading => Some(false),
-            Key::Note => Some(true),
+            SkyKey::Kit(k) => k.text_only(),
             _ => None,
         }
     }
 
     fn draw(&self, area: &Area, c: (i32, i32)) -> DrawResult<()> {
-        draw_key(area, *self, c)
-    }
-}
-
-/// One line of a legend: a key and its label.
-pub(super) struct LegendEntry<K> {
-    pub(super) key: K,
-    pub(super) label: String,
-}
-
-/// Width of a legend key, pixels.
-pub(super) const KEY_W: i32 = 30;
-
-/// Lines of each entry's label when the legend is `width` pixels wide.
-pub(super) fn legend_lines<K: LegendKey>(
-    entries: &[LegendEntry<K>],
-    width: u32,
-) -> Vec<Vec<String>> {
-    let text_w = (width as i32 - 3 * PAD - KEY_W).max(40) as u32;
-    entries
-        .iter()
-        .map(|e| {
-            let w = if e.key.text_only().is_some() {
-                width - 2 * PAD as u32
-            } else {
-                text_w
-            };
-            wrap(&e.label, LEGEND_PX, w)
-        })
-        .collect()
-}
-
-/// Height in pixels the legend needs.
-pub(super) fn legend_height<K: LegendKey>(entries: &[LegendEntry<K>], width: u32) -> u32 {
-    let step = line_step(LEGEND_PX);
-    let rows: i32 = legend_lines(entries, width)
-        .iter()
-        .map(|l| l.len().max(1) as i32 * step + step / 2)
-        .sum();
-    (rows + 2 * PAD) as u32
-}
-
-/// Draws `entries` down `area`, from `top` pixels.
-pub(super) fn draw_legend<K: LegendKey>(
-    area: &Area,
-    top: i32,
-    entries: &[LegendEntry<K>],
-) -> DrawResult<()> {
-    let (w, _) = area.dim_in_pixel();
-    let step = line_step(LEGEND_PX);
-    let plain = TextStyle::from((FONT, LEGEND_PX).into_font())
-        .color(&INK)
-        .pos(Pos::new(HPos::Left, VPos::Center));
-    let soft = plain.color(&SOFT_TEXT);
-    let mut y = top + step / 2;
-    for (e, lines) in entries.iter().zip(legend_lines(entries, w)) {
-        let (x_text, style) = match e.key.text_only() {
-            Some(true) => (PAD, &soft),
-            Some(false) => (PAD, &plain),
-            None => {
-                e.key.draw(area, (PAD + KEY_W / 2, y))?;
-                (2 * PAD + KEY_W, &plain)
+        let (x, y) = c;
+        let half = wend_charts::legend::KEY_W / 2;
+        match *self {
+            SkyKey::Kit(k) => k.draw(area, c),
+            SkyKey::Triangle(colour) => draw_triangle(area, c, colour),
+            SkyKey::Square(colour) => draw_square(area, c, colour),
+            SkyKey::SunPath => {
+                area.draw(&PathElement::new(
+                    vec![(x - half, y), (x + half, y)],
+                    INK.stroke_width(5),
+                ))?;
+                area.draw(&PathElement::new(
+                    vec![(x - half, y), (x + half, y)],
+                    ORANGE.stroke_width(3),
+                ))
             }
-        };
-        for line in &lines {
-            area.draw(&Text::new(line.clone(), (x_text, y), style.clone()))?;
-            y += step;
+            SkyKey::Sun { filled } => draw_sun_marker(area, c, filled),
         }
-        y += step / 2;
-    }
-    Ok(())
-}
-
-/// Draws one legend key centred at `c` (pixels).
-fn draw_key(area: &Area, key: Key, c: (i32, i32)) -> DrawResult<()> {
-    let (x, y) = c;
-    let half = KEY_W / 2;
-    match key {
-        Key::Swatch(colour) => {
-            let r = [(x - half, y - 8), (x + half, y + 8)];
-            area.draw(&Rectangle::new(r, colour.filled()))?;
-            area.draw(&Rectangle::new(r, OUTLINE.stroke_width(1)))
-        }
-        Key::Dot(colour) => area.draw(&Circle::new(c, 4, colour.filled())),
-        Key::Ring(colour) => area.draw(&Circle::new(c, 4, colour.stroke_width(1))),
-        Key::Line(colour, width) => area.draw(&PathElement::new(
-            vec![(x - half, y), (x + half, y)],
-            colour.stroke_width(width),
-        )),
-        Key::Dashed(colour, width) => area.draw(&DashedPathElement::new(
-            vec![(x - half, y), (x + half, y)],
-            7,
-            4,
-            colour.stroke_width(width),
-        )),
-        Key::Tick(colour) => area.draw(&PathElement::new(
-            vec![(x, y - 9), (x, y + 9)],
-            colour.stroke_width(2),
-        )),
-        Key::Triangle(colour) => draw_triangle(area, c, colour),
-        Key::Square(colour) => draw_square(area, c, colour),
-        Key::SunPath => {
-            area.draw(&PathElement::new(
-                vec![(x - half, y), (x + half, y)],
-                INK.stroke_width(5),
-            ))?;
-            area.draw(&PathElement::new(
-                vec![(x - half, y), (x + half, y)],
-                ORANGE.stroke_width(3),
-            ))
-        }
-        Key::Sun { filled } => draw_sun_marker(area, c, filled),
-        Key::Heading | Key::Note => Ok(()),
     }
 }
 
@@ -740,26 +458,36 @@ fn check_sky_map(map: &SkyMap) -> Result<(), String> {
 }
 
 /// The legend of the sky map.
-fn sky_legend(map: &SkyMap) -> Vec<LegendEntry<Key>> {
+fn sky_legend(map: &SkyMap) -> Vec<LegendEntry<SkyKey>> {
     let (lo, hi) = map.band_deg;
     let n_sched = map.scheduled.iter().filter(|&&s| s).count();
     let n_other = map.targets.len() - n_sched;
-    let e = |key: Key, label: String| LegendEntry { key, label };
+    let e = |key: SkyKey, label: String| LegendEntry { key, label };
+    let kit = |key: Key, label: String| LegendEntry {
+        key: SkyKey::Kit(key),
+        label,
+    };
     let band = format!("{}°–{}°", number_label(lo, 100.0), number_label(hi, 100.0));
     let mut entries = vec![
-        e(
+        kit(
             Key::Heading,
             format!("Pointing forbidden (Sun angle outside {band}):"),
         ),
-        e(Key::Swatch(ZONE_ALWAYS), "for the whole plan".into()),
-        e(Key::Swatch(ZONE_SOMETIMES), "for part of the plan".into()),
-        e(Key::Swatch(WHITE), "never (allowed)".into()),
-        e(Key::Dot(BLUE), format!("scheduled target ({n_sched})")),
-        e(Key::Ring(INK), format!("not scheduled ({n_other})")),
-        e(Key::Line(BLUE, 2), "observing sequence".into()),
-        e(Key::Triangle(GREEN), "first observation".into()),
-        e(Key::Square(VERMILLION), "last observation".into()),
-        e(
+        kit(
+            Key::Swatch(ZONE_ALWAYS.to_rgba()),
+            "for the whole plan".into(),
+        ),
+        kit(
+            Key::Swatch(ZONE_SOMETIMES.to_rgba()),
+            "for part of the plan".into(),
+        ),
+        kit(Key::Swatch(WHITE.to_rgba()), "never (allowed)".into()),
+        kit(Key::Dot(BLUE, 4), format!("scheduled target ({n_sched})")),
+        kit(Key::Ring(INK), format!("not scheduled ({n_other})")),
+        kit(Key::Line(BLUE, 2), "observing sequence".into()),
+        e(SkyKey::Triangle(GREEN), "first observation".into()),
+        e(SkyKey::Square(VERMILLION), "last observation".into()),
+        kit(
             Key::Note,
             "Equal-area map, J2000 axes: RA 180° at the centre, growing to the left; \
              grid every 30°."
@@ -769,11 +497,11 @@ fn sky_legend(map: &SkyMap) -> Vec<LegendEntry<Key>> {
     // Ahead of the closing note: how the Sun is drawn.
     let note = entries.pop();
     if map.sun_path_deg.len() > 1 {
-        entries.push(e(Key::SunPath, "Sun's path".into()));
-        entries.push(e(Key::Sun { filled: false }, "Sun at plan start".into()));
-        entries.push(e(Key::Sun { filled: true }, "Sun at plan end".into()));
+        entries.push(e(SkyKey::SunPath, "Sun's path".into()));
+        entries.push(e(SkyKey::Sun { filled: false }, "Sun at plan start".into()));
+        entries.push(e(SkyKey::Sun { filled: true }, "Sun at plan end".into()));
     } else {
-        entries.push(e(Key::Sun { filled: true }, "Sun (one position)".into()));
+        entries.push(e(SkyKey::Sun { filled: true }, "Sun (one position)".into()));
     }
     entries.extend(note);
     entries
@@ -781,32 +509,39 @@ fn sky_legend(map: &SkyMap) -> Vec<LegendEntry<Key>> {
 
 /// The sky map as SVG text.
 fn render_sky_map(map: &SkyMap) -> DrawResult<String> {
-    let title_lines = wrap(map.title, TITLE_PX, SKY_W - 2 * PAD as u32);
-    let caution_lines = wrap(map.caution, CAUTION_PX, SKY_W - 2 * PAD as u32);
     let legend = sky_legend(map);
-    let header_h = block_height(title_lines.len(), TITLE_PX);
-    let footer_h = block_height(caution_lines.len(), CAUTION_PX);
-    let middle_h = SKY_MIDDLE_H.max(legend_height(&legend, SKY_LEGEND_W));
-    let size = (SKY_W, header_h + middle_h + footer_h);
-
     let suns: Vec<(f64, f64)> = thin_path(map.sun_path_deg, SUN_STEP_DEG);
     let sun_units: Vec<Vec3> = suns.iter().map(|&(a, d)| unit_vector(a, d)).collect();
     let shapes = zone_shapes(&zone_grid(&sun_units, map.band_deg));
+    framed(
+        SKY_W,
+        SKY_LEGEND_W,
+        SKY_MIDDLE_H,
+        map.title,
+        map.caution,
+        &legend,
+    )
+    .render(|_, area| draw_sky(area, map, &suns, &shapes))
+}
 
-    let mut svg = String::new();
-    {
-        let root = SVGBackend::with_string(&mut svg, size).into_drawing_area();
-        root.fill(&WHITE)?;
-        let (header, rest) = root.split_vertically(header_h);
-        let (middle, footer) = rest.split_vertically(middle_h);
-        let (map_area, legend_area) = middle.split_horizontally(SKY_W - SKY_LEGEND_W);
-        draw_centred(&header, &title_lines, TITLE_PX, false, INK)?;
-        draw_sky(&map_area, map, &suns, &shapes)?;
-        draw_legend(&legend_area, PAD, &legend)?;
-        draw_caution(&footer, &caution_lines)?;
-        root.present()?;
+/// The frame of both pictures: title, the body beside its legend, the caution.
+pub(super) fn framed<'a, K: LegendKey>(
+    width: u32,
+    legend_width: u32,
+    middle_height: u32,
+    title: &'a str,
+    caution: &'a str,
+    legend: &'a [LegendEntry<K>],
+) -> Framed<'a, K> {
+    Framed {
+        width,
+        legend_width,
+        middle_height,
+        title,
+        caution,
+        legend,
+        layout: LegendLayout::wrapped(LEGEND_PX),
     }
-    Ok(svg)
 }
 
 /// Draws the map itself into `area`: zones, grid, outline, Sun, targets and sequence.
@@ -948,7 +683,7 @@ fn draw_sky(
     let sun_text = TextStyle::from((FONT, SUN_LABEL_PX).into_font().style(FontStyle::Bold))
         .pos(Pos::new(HPos::Center, VPos::Center));
     let sun_label = |text: &str, at: (f64, f64), above: bool| -> DrawResult<()> {
-        let w = (text.chars().count() as f64 * 0.66 * em(SUN_LABEL_PX) + 8.0) * px;
+        let w = (text_width(text, SUN_LABEL_PX, 0.66) + 8.0) * px;
         let h = em(SUN_LABEL_PX) * 1.3 * px;
         let gap = 11.0 * px;
         let cx = at.0.clamp(x0 + w / 2.0, (x1 - w / 2.0).max(x0 + w / 2.0));
@@ -957,15 +692,13 @@ fn draw_sky(
         } else {
             (at.1 - gap - h, at.1 - gap)
         };
-        plot.draw(&Rectangle::new(
+        boxed_text(
+            plot,
             [(cx - w / 2.0, y0), (cx + w / 2.0, y1)],
-            WHITE.mix(0.8).filled(),
-        ))?;
-        plot.draw(&Text::new(
             text.to_string(),
             (cx, (y0 + y1) / 2.0),
-            sun_text.clone(),
-        ))
+            &sun_text,
+        )
     };
     let (start, end) = (suns[0], suns[suns.len() - 1]);
     let (p_start, p_end) = (project(start.0, start.1), project(end.0, end.1));
@@ -1077,7 +810,12 @@ fn momentum_legend(trace: &MomentumTrace) -> Vec<LegendEntry<Key>> {
             label: "wheel limit".into(),
         },
         LegendEntry {
-            key: Key::Dashed(INK, 2),
+            key: Key::Dashed {
+                colour: INK,
+                width: 2,
+                dash: 7,
+                gap: 4,
+            },
             label: "planning threshold".into(),
         },
         LegendEntry {
@@ -1090,42 +828,23 @@ fn momentum_legend(trace: &MomentumTrace) -> Vec<LegendEntry<Key>> {
 /// The momentum chart as SVG text.
 fn render_momentum(trace: &MomentumTrace, ranges: Ranges) -> DrawResult<String> {
     let Ranges { x_max, y_max } = ranges;
-    let title_lines = wrap(trace.title, TITLE_PX, MOMENTUM_W - 2 * PAD as u32);
-    let caution_lines = wrap(trace.caution, CAUTION_PX, MOMENTUM_W - 2 * PAD as u32);
     let legend = momentum_legend(trace);
-    let header_h = block_height(title_lines.len(), TITLE_PX);
-    let footer_h = block_height(caution_lines.len(), CAUTION_PX);
-    let middle_h = MOMENTUM_MIDDLE_H.max(legend_height(&legend, MOMENTUM_LEGEND_W));
-    let size = (MOMENTUM_W, header_h + middle_h + footer_h);
-
-    let mut svg = String::new();
-    {
-        let root = SVGBackend::with_string(&mut svg, size).into_drawing_area();
-        root.fill(&WHITE)?;
-        let (header, rest) = root.split_vertically(header_h);
-        let (middle, footer) = rest.split_vertically(middle_h);
-        let (chart_area, legend_area) = middle.split_horizontally(MOMENTUM_W - MOMENTUM_LEGEND_W);
-        draw_centred(&header, &title_lines, TITLE_PX, false, INK)?;
-
-        let mut chart = ChartBuilder::on(&chart_area)
-            .margin_left(PAD as u32)
-            .margin_right(PAD as u32)
-            .margin_top(8)
-            .margin_bottom(4)
-            .x_label_area_size(56)
-            .y_label_area_size(84)
-            .build_cartesian_2d(0.0..x_max, 0.0..y_max)?;
-        chart
-            .configure_mesh()
-            .x_desc("hours since plan start")
-            .y_desc("stored momentum |H| (N·m·s)")
-            .axis_desc_style((FONT, AXIS_TITLE_PX))
-            .label_style((FONT, TICK_PX))
-            .x_label_formatter(&|v| number_label(*v, x_max))
-            .y_label_formatter(&|v| number_label(*v, y_max))
-            .bold_line_style(RGBColor(235, 235, 235))
-            .max_light_lines(0)
-            .draw()?;
+    let frame = framed(
+        MOMENTUM_W,
+        MOMENTUM_LEGEND_W,
+        MOMENTUM_MIDDLE_H,
+        trace.title,
+        trace.caution,
+        &legend,
+    );
+    frame.render(|_, chart_area| {
+        let chart = linear_chart(
+            chart_area,
+            (0.0, x_max),
+            (0.0, y_max),
+            "hours since plan start",
+            "stored momentum |H| (N·m·s)",
+        )?;
         let plot = chart.plotting_area();
         let (_, plot_h) = plot.dim_in_pixel();
         let px = y_max / f64::from(plot_h.max(1)); // one pixel in N·m·s
@@ -1164,7 +883,7 @@ fn render_momentum(trace: &MomentumTrace, ranges: Ranges) -> DrawResult<String> 
             TextStyle::from((FONT, LEGEND_PX).into_font()).pos(Pos::new(HPos::Right, VPos::Center));
         // A name on a pale box at the right end of a line, above or below it.
         let line_label = |label: String, at: f64, above: bool| -> DrawResult<()> {
-            let w = (label.chars().count() as f64 * 0.6 * em(LEGEND_PX) + 6.0) * px_x;
+            let w = (text_width(&label, LEGEND_PX, 0.6) + 6.0) * px_x;
             let h = em(LEGEND_PX) * 1.3 * px;
             let (y0, y1) = if above {
                 (at + 2.0 * px, at + 2.0 * px + h)
@@ -1172,15 +891,13 @@ fn render_momentum(trace: &MomentumTrace, ranges: Ranges) -> DrawResult<String> 
                 (at - 2.0 * px - h, at - 2.0 * px)
             };
             let x1 = x_max - 2.0 * px_x;
-            plot.draw(&Rectangle::new(
+            boxed_text(
+                plot,
                 [(x1 - w, y0), (x1, y1)],
-                WHITE.mix(0.8).filled(),
-            ))?;
-            plot.draw(&Text::new(
                 label,
                 (x1 - 3.0 * px_x, (y0 + y1) / 2.0),
-                text.clone(),
-            ))
+                &text,
+            )
         };
         let value = |v: f64| number_label(v, v.abs());
         let limit_text = format!("limit, {} N·m·s", value(limit));
@@ -1203,38 +920,22 @@ fn render_momentum(trace: &MomentumTrace, ranges: Ranges) -> DrawResult<String> 
                 style,
             ))?;
         }
-
-        draw_legend(&legend_area, PAD, &legend)?;
-        draw_caution(&footer, &caution_lines)?;
-        root.present()?;
-    }
-    Ok(svg)
+        Ok(())
+    })
 }
 
 /// Test check: every text's baseline lies inside the picture's height, with room for
 /// descenders.
 #[cfg(test)]
 pub(super) fn text_fits(svg: &str) {
-    let height: f64 = svg
-        .split("height=\"")
-        .nth(1)
-        .and_then(|s| s.split('"').next())
-        .and_then(|s| s.parse().ok())
-        .expect("the SVG has a height");
-    for part in svg.split("<text").skip(1) {
-        let y: f64 = part
-            .split("y=\"")
-            .nth(1)
-            .and_then(|s| s.split('"').next())
-            .and_then(|s| s.parse().ok())
-            .expect("text has a y");
-        assert!(y >= 0.0 && y + 22.0 <= height, "text at y {y} of {height}");
-    }
+    assert_eq!(wend_charts::text_fits(svg), Ok(()));
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use wend_charts::style::CAUTION_PX;
+    use wend_charts::text::{wrap, PAD};
 
     const TOL: f64 = 1e-12;
 
@@ -1464,23 +1165,6 @@ mod tests {
         }
         assert!(thin.len() >= 17 && thin.len() <= 22, "{}", thin.len());
         assert_eq!(thin_path(&[(5.0, 5.0)], 0.5), vec![(5.0, 5.0)]);
-    }
-
-    #[test]
-    fn wrapping_keeps_every_word_and_the_width() {
-        let text = "one two three four five six seven eight nine ten eleven twelve";
-        let lines = wrap(text, 19, 120);
-        assert!(lines.len() > 1);
-        assert_eq!(lines.join(" "), text);
-        let max = (120.0 / (0.6 * em(19))).floor() as usize;
-        assert!(lines.iter().all(|l| l.chars().count() <= max));
-        assert_eq!(wrap("a\n\nb", 19, 1000), vec!["a", "b"]);
-        assert!(wrap("", 19, 1000).is_empty());
-        // A word longer than a line is cut rather than overflowing.
-        let long = "x".repeat(100);
-        assert!(wrap(&long, 19, 120)
-            .iter()
-            .all(|l| l.chars().count() <= max));
     }
 
     fn sky_map<'a>(

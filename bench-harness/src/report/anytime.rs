@@ -8,12 +8,15 @@
 //! the mean of longer ones. The mean can therefore rise where a run that was slow to find its
 //! first tour joins. Runs without a known optimum or without a trace are left out.
 
-use super::style::{self, Colours, Entry, Mark};
+use super::style;
 use super::{gap_percent, ReportError};
 use crate::record::RunRecord;
 use plotters::prelude::*;
 use std::collections::BTreeMap;
 use std::path::Path;
+use wend_charts::legend::{Key, LegendEntry};
+use wend_charts::style::{AXIS_TITLE_PX, FONT, TICK_PX, TITLE_PX};
+use wend_charts::{log_ticks, number_label, seconds_label, Area, Colours, DrawResult};
 
 /// File name of the figure.
 pub const FILE: &str = "gap-vs-time.svg";
@@ -189,22 +192,27 @@ pub(crate) fn write_plot(
         Piece::Partial(_) => true,
         Piece::Lone(_, all) => !all,
     });
-    let mut legend: Vec<Entry> = curves
+    let mut legend: Vec<LegendEntry<Key>> = curves
         .iter()
-        .map(|c| Entry {
+        .map(|c| LegendEntry {
             label: format!(
                 "{} ({} run{})",
                 c.method,
                 c.runs,
                 if c.runs == 1 { "" } else { "s" }
             ),
-            mark: Mark::Solid(colours.of(&c.method)),
+            key: Key::Line(colours.of(&c.method), 3),
         })
         .collect();
     if any_partial {
-        legend.push(Entry {
+        legend.push(LegendEntry {
             label: "dashed: mean over\nonly some of the runs".into(),
-            mark: Mark::Dashed(RGBColor(90, 90, 90)),
+            key: Key::Dashed {
+                colour: RGBColor(90, 90, 90),
+                width: 1,
+                dash: 6,
+                gap: 4,
+            },
         });
     }
     let values: Vec<f64> = curves
@@ -212,41 +220,22 @@ pub(crate) fn write_plot(
         .flat_map(|c| c.points.iter().filter_map(|p| p.mean_gap))
         .collect();
     let title = "Mean gap to the optimum over time";
-
-    let err = style::plot_error(path);
-    let mut svg = String::new();
-    {
-        let (w, h) = style::CHART_SIZE;
-        if values.is_empty() {
-            let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
-            root.fill(&WHITE).map_err(&err)?;
-            style::placeholder(
-                &root,
-                title,
-                "No run has both a known optimum and a trace of its tours.",
-            )
-            .map_err(&err)?;
-            root.present().map_err(&err)?;
-        } else {
-            let lw = style::legend_width(&legend);
-            let root = SVGBackend::with_string(&mut svg, (w + lw, h)).into_drawing_area();
-            root.fill(&WHITE).map_err(&err)?;
-            let (plot, side) = root.split_horizontally(w);
-            draw(&plot, title, &drawn, &values, colours).map_err(&err)?;
-            style::draw_legend(&side, 70, &legend).map_err(&err)?;
-            root.present().map_err(&err)?;
-        }
-    }
-    style::save(path, svg)
+    let missing = values.is_empty().then_some((
+        title,
+        "No run has both a known optimum and a trace of its tours.",
+    ));
+    style::write_chart(path, &legend, missing, |plot| {
+        draw(plot, title, &drawn, &values, colours)
+    })
 }
 
 fn draw(
-    root: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+    root: &Area,
     title: &str,
     drawn: &[(&AnytimeCurve, Vec<Piece>)],
     values: &[f64],
     colours: &Colours,
-) -> Result<(), DrawingAreaErrorKind<std::io::Error>> {
+) -> DrawResult<()> {
     let times: Vec<f64> = drawn
         .iter()
         .flat_map(|c| c.0.points.iter().map(|p| p.seconds))
@@ -261,24 +250,22 @@ fn draw(
     let (y0, y1) = (lo - span * 0.03, lo + span * 1.05);
 
     let mut chart = ChartBuilder::on(root)
-        .caption(title, (style::FONT, style::TITLE_PX))
+        .caption(title, (FONT, TITLE_PX))
         .margin(18)
         .x_label_area_size(56)
         .y_label_area_size(76)
         .build_cartesian_2d(
-            (t0..t1)
-                .log_scale()
-                .with_key_points(style::log_ticks(t0, t1)),
+            (t0..t1).log_scale().with_key_points(log_ticks(t0, t1)),
             y0..y1,
         )?;
     chart
         .configure_mesh()
         .x_desc("time (seconds, log scale)")
         .y_desc("mean gap to optimum (%)")
-        .axis_desc_style((style::FONT, style::AXIS_TITLE_PX))
-        .label_style((style::FONT, style::TICK_PX))
-        .x_label_formatter(&|v| style::seconds_label(*v))
-        .y_label_formatter(&|v| style::number_label(*v, span))
+        .axis_desc_style((FONT, AXIS_TITLE_PX))
+        .label_style((FONT, TICK_PX))
+        .x_label_formatter(&|v| seconds_label(*v))
+        .y_label_formatter(&|v| number_label(*v, span))
         .bold_line_style(RGBColor(225, 225, 225))
         .light_line_style(RGBColor(245, 245, 245))
         .draw()?;

@@ -1,11 +1,13 @@
 //! Drawings of tours over their instance's points.
 
-use super::style::{self, Colours};
+use super::style;
 use super::{gap_percent, ReportError};
 use crate::record::RunRecord;
 use plotters::prelude::*;
 use std::collections::BTreeSet;
 use std::path::Path;
+use wend_charts::style::{FONT, TICK_PX, TITLE_PX};
+use wend_charts::{number_label, Colours};
 
 /// The larger side of the plotting area, pixels.
 const PLOT_PX: f64 = 760.0;
@@ -122,22 +124,16 @@ pub(crate) fn write_tour(
         ((PLOT_PX * dx / dy).max(MIN_PLOT_PX), PLOT_PX)
     };
     let title = title(run);
-    let title_px = 2 * style::TITLE_PX + 10;
+    let title_px = 2 * TITLE_PX + 10;
     // Wide enough for the title in an average sans-serif face (about 0.6 em a character).
-    let title_w = (title.chars().count() as f64 * 0.6 * f64::from(style::TITLE_PX)) as u32 + 40;
+    let title_w = (title.chars().count() as f64 * 0.6 * f64::from(TITLE_PX)) as u32 + 40;
     let size = (
         (pw as u32 + 2 * MARGIN + Y_LABELS).max(title_w),
         ph as u32 + 2 * MARGIN + X_LABELS + title_px,
     );
 
-    let err = style::plot_error(path);
-    let mut svg = String::new();
-    {
-        let root = SVGBackend::with_string(&mut svg, size).into_drawing_area();
-        root.fill(&WHITE).map_err(&err)?;
-        let body = root
-            .titled(&title, (style::FONT, style::TITLE_PX))
-            .map_err(&err)?;
+    style::write_svg(path, size, |root| {
+        let body = root.titled(&title, (FONT, TITLE_PX))?;
         // The plotting area is what is left after the fixed margins and label areas; fit the
         // data into it at one scale for both axes, centred, with a little air around.
         let (w, h) = body.dim_in_pixel();
@@ -150,18 +146,16 @@ pub(crate) fn write_tour(
             .margin(MARGIN)
             .x_label_area_size(X_LABELS)
             .y_label_area_size(Y_LABELS)
-            .build_cartesian_2d(cx - hx..cx + hx, cy - hy..cy + hy)
-            .map_err(&err)?;
+            .build_cartesian_2d(cx - hx..cx + hx, cy - hy..cy + hy)?;
         let span = 2.0 * hx.max(hy);
         chart
             .configure_mesh()
-            .label_style((style::FONT, style::TICK_PX))
-            .x_label_formatter(&|v| style::number_label(*v, span))
-            .y_label_formatter(&|v| style::number_label(*v, span))
+            .label_style((FONT, TICK_PX))
+            .x_label_formatter(&|v| number_label(*v, span))
+            .y_label_formatter(&|v| number_label(*v, span))
             .bold_line_style(RGBColor(235, 235, 235))
             .max_light_lines(0)
-            .draw()
-            .map_err(&err)?;
+            .draw()?;
 
         let colour = colours.of(&run.method);
         let n = order.len();
@@ -170,23 +164,18 @@ pub(crate) fn write_tour(
             .iter()
             .chain(order.first())
             .map(|&v| (points[v][0], points[v][1]));
-        chart
-            .draw_series(LineSeries::new(closed, colour.stroke_width(line_width)))
-            .map_err(&err)?;
+        chart.draw_series(LineSeries::new(closed, colour.stroke_width(line_width)))?;
         // Dots would only blacken a large drawing.
         if n <= 2000 {
             let r = if n <= 200 { 3 } else { 2 };
-            chart
-                .draw_series(
-                    points
-                        .iter()
-                        .map(|p| Circle::new((p[0], p[1]), r, BLACK.filled())),
-                )
-                .map_err(&err)?;
+            chart.draw_series(
+                points
+                    .iter()
+                    .map(|p| Circle::new((p[0], p[1]), r, BLACK.filled())),
+            )?;
         }
-        root.present().map_err(&err)?;
-    }
-    style::save(path, svg)
+        Ok(())
+    })
 }
 
 fn title(run: &RunRecord) -> String {

@@ -88,7 +88,7 @@ pub fn write_report(
         errors: summary::find_errors(runs),
         files: Vec::new(),
     };
-    let colours = style::Colours::new(runs);
+    let colours = wend_charts::Colours::new(runs.iter().map(|r| r.method.as_str()));
 
     let csv_path = out_dir.join("runs.csv");
     runs_csv::write(runs, &csv_path)?;

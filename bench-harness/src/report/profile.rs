@@ -1,11 +1,14 @@
 //! Performance profiles of the methods over the problems they all ran.
 
-use super::style::{self, Colours, Entry, Mark};
+use super::style;
 use super::ReportError;
 use crate::record::RunRecord;
 use plotters::prelude::*;
 use std::collections::{BTreeMap, BTreeSet};
 use std::path::Path;
+use wend_charts::legend::{Key, LegendEntry};
+use wend_charts::style::{AXIS_TITLE_PX, FONT, TICK_PX, TITLE_PX};
+use wend_charts::{number_label, Area, Colours, DrawResult};
 
 /// File name of the figure.
 pub const FILE: &str = "performance-profile.svg";
@@ -124,56 +127,38 @@ pub(crate) fn write_plot(
     colours: &Colours,
 ) -> Result<(), ReportError> {
     let profile = performance_profile(runs);
-    let legend: Vec<Entry> = profile
+    let legend: Vec<LegendEntry<Key>> = profile
         .curves
         .iter()
-        .map(|c| Entry {
+        .map(|c| LegendEntry {
             label: format!(
                 "{}\nbest or tied on {:.0}%",
                 c.method,
                 100.0 * c.steps.first().map_or(0.0, |s| s.1)
             ),
-            mark: Mark::Solid(colours.of(&c.method)),
+            key: Key::Line(colours.of(&c.method), 3),
         })
         .collect();
-    let err = style::plot_error(path);
-    let mut svg = String::new();
-    {
-        let (w, h) = style::CHART_SIZE;
-        if profile.problems == 0 {
-            let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
-            root.fill(&WHITE).map_err(&err)?;
-            style::placeholder(
-                &root,
-                "Performance profile of tour length",
-                "No (instance, seed, time limit) was run by every method.",
-            )
-            .map_err(&err)?;
-            root.present().map_err(&err)?;
-        } else {
-            let title = format!(
-                "Performance profile of tour length over {} problem{}",
-                profile.problems,
-                if profile.problems == 1 { "" } else { "s" }
-            );
-            let lw = style::legend_width(&legend);
-            let root = SVGBackend::with_string(&mut svg, (w + lw, h)).into_drawing_area();
-            root.fill(&WHITE).map_err(&err)?;
-            let (plot, side) = root.split_horizontally(w);
-            draw(&plot, &title, &profile, colours).map_err(&err)?;
-            style::draw_legend(&side, 70, &legend).map_err(&err)?;
-            root.present().map_err(&err)?;
-        }
-    }
-    style::save(path, svg)
+    let missing = (profile.problems == 0).then_some((
+        "Performance profile of tour length",
+        "No (instance, seed, time limit) was run by every method.",
+    ));
+    let title = format!(
+        "Performance profile of tour length over {} problem{}",
+        profile.problems,
+        if profile.problems == 1 { "" } else { "s" }
+    );
+    style::write_chart(path, &legend, missing, |plot| {
+        draw(plot, &title, &profile, colours)
+    })
 }
 
 fn draw(
-    root: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+    root: &Area,
     title: &str,
     profile: &PerformanceProfile,
     colours: &Colours,
-) -> Result<(), DrawingAreaErrorKind<std::io::Error>> {
+) -> DrawResult<()> {
     // With every method tied everywhere there is no ratio range: show a little past 1 anyway.
     let reach = if profile.tau_max > 1.0 {
         profile.tau_max - 1.0
@@ -183,7 +168,7 @@ fn draw(
     // A margin past the largest ratio, so the last jump is not hidden in the frame.
     let x1 = 1.0 + reach * 1.04;
     let mut chart = ChartBuilder::on(root)
-        .caption(title, (style::FONT, style::TITLE_PX))
+        .caption(title, (FONT, TITLE_PX))
         .margin(18)
         .x_label_area_size(56)
         .y_label_area_size(76)
@@ -193,10 +178,10 @@ fn draw(
         .configure_mesh()
         .x_desc("τ: tour length / shortest length of any method")
         .y_desc("share of problems, ρ(τ)")
-        .axis_desc_style((style::FONT, style::AXIS_TITLE_PX))
-        .label_style((style::FONT, style::TICK_PX))
-        .x_label_formatter(&|v| style::number_label(*v, reach))
-        .y_label_formatter(&|v| style::number_label(*v, 1.0))
+        .axis_desc_style((FONT, AXIS_TITLE_PX))
+        .label_style((FONT, TICK_PX))
+        .x_label_formatter(&|v| number_label(*v, reach))
+        .y_label_formatter(&|v| number_label(*v, 1.0))
         .bold_line_style(RGBColor(225, 225, 225))
         .light_line_style(RGBColor(248, 248, 248))
         .draw()?;
