@@ -2,7 +2,7 @@
 //! dynamic programme over subsets ([`dynamic_programme`], up to 24 nodes).
 
 use crate::cost::Cost;
-use crate::ends::{path_length, EndedCost, Ends};
+use crate::transform::{path_length, EndedCost, Ends};
 use rayon::prelude::*;
 
 /// Largest instance [`enumerate`] accepts: 8! = 40,320 orders with the first node fixed.
@@ -127,7 +127,7 @@ pub enum DpError {
     Internal(&'static str),
     /// The ends asked of [`optimal_path`] are out of range, or their penalty could overflow.
     #[error(transparent)]
-    Ends(#[from] crate::ends::EndsError),
+    Ends(#[from] crate::transform::EndsError),
 }
 
 /// `bytes` in MiB or GiB, for messages.
@@ -311,7 +311,7 @@ pub fn dynamic_programme<C: Cost + ?Sized>(
 /// The shortest visiting order with the given [`Ends`] by the dynamic programme: for a closed
 /// tour ([`Ends::Closed`], or `StartEnd(s, s)`) that of [`dynamic_programme`], rotated to start
 /// at `s`; for a path, the shortest closed tour of the costs with one dummy node
-/// ([`crate::ends::EndedCost`], exact because its penalty exceeds every difference of path
+/// ([`crate::transform::EndedCost`], exact because its penalty exceeds every difference of path
 /// lengths), read off as a path. The order runs from the path's first node to its last, and
 /// `length` is the path's length on `cost`, without a return step. Paths take one node more
 /// than tours, so at most `DP_LIMIT - 1` nodes.

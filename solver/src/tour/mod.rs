@@ -21,6 +21,9 @@ mod two_level;
 pub use array::ArrayTour;
 pub use two_level::TwoLevelTour;
 
+/// Longest segment an Or-opt move relocates (and [`TourRepr::move_segment`] moves).
+pub const MAX_SEGMENT: usize = 3;
+
 /// A closed tour that local moves edit in place.
 ///
 /// "Forward" is the direction of [`TourRepr::next`]. Every implementation must make the same
@@ -34,6 +37,7 @@ pub trait TourRepr {
     /// Number of nodes.
     fn len(&self) -> usize;
     /// True when there are no nodes.
+    #[cfg_attr(not(feature = "internals"), allow(dead_code))] // for `internals` callers
     fn is_empty(&self) -> bool {
         self.len() == 0
     }
@@ -47,7 +51,7 @@ pub trait TourRepr {
     /// complementary path is reversed instead when it has fewer nodes (the same cycle, with the
     /// other orientation); a path of all `n` nodes is then left alone.
     fn reverse(&mut self, from: usize, to: usize, keep_direction: bool);
-    /// Moves the segment of `len` (at most [`crate::improve::MAX_SEGMENT`]) nodes starting at
+    /// Moves the segment of `len` (at most [`MAX_SEGMENT`]) nodes starting at
     /// `s1` (walking forward) to between `c` and its successor; every node keeps its direction.
     /// `c` must not be in the segment and must not be the segment's predecessor.
     fn move_segment(&mut self, s1: usize, len: usize, c: usize);
@@ -55,6 +59,7 @@ pub trait TourRepr {
     /// then some rotation of the cycle, forward.
     fn stored_order(&self) -> Vec<usize>;
     /// [`TourRepr::stored_order`], consuming the tour.
+    #[cfg_attr(not(feature = "internals"), allow(dead_code))] // for `internals` callers
     fn into_stored_order(self) -> Vec<usize>
     where
         Self: Sized;

@@ -61,6 +61,7 @@ impl TwoLevelTour {
     }
 
     /// Number of segments (for tests and tuning).
+    #[cfg(test)]
     pub fn segments(&self) -> usize {
         self.ring.len()
     }

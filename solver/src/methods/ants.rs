@@ -58,13 +58,13 @@
 //! (and every 64 lockstep steps); a generation cut short keeps the tours it finished for the
 //! best so far and leaves the trails alone.
 
-use crate::candidates::Neighbours;
+use super::drive::Iterative;
+use super::lk::{LinKernighan, LkParams};
 use crate::construct::nearest_neighbour;
+use crate::control::mix;
 use crate::cost::Cost;
-use crate::drive::Iterative;
-use crate::improve::two_opt_or_opt;
-use crate::lk::{LinKernighan, LkParams};
-use crate::search::mix;
+use crate::moves::two_opt_or_opt;
+use crate::neighbours::Neighbours;
 use crate::tour::{closed_length, ArrayTour};
 use rand::{Rng, SeedableRng};
 use rand_pcg::Pcg64;
@@ -96,10 +96,10 @@ pub enum AntVariant {
 pub enum AntLocalSearch {
     /// Tours stay as the ants built them.
     None,
-    /// 2-opt and Or-opt moves ([`crate::improve::two_opt_or_opt`]); Or-opt only on asymmetric
+    /// 2-opt and Or-opt moves ([`crate::moves::two_opt_or_opt`]); Or-opt only on asymmetric
     /// costs.
     TwoOpt,
-    /// Lin–Kernighan-style moves ([`crate::lk::LinKernighan`]) on symmetric costs; on asymmetric
+    /// Lin–Kernighan-style moves ([`crate::methods::LinKernighan`]) on symmetric costs; on asymmetric
     /// costs the same as [`AntLocalSearch::TwoOpt`] (Or-opt only).
     Lk,
 }
@@ -337,7 +337,7 @@ impl AntParams {
 
     /// The values a run of `variant` on `n` nodes uses: defaults filled in, out-of-range
     /// fields (set directly rather than through [`AntParams::set`]) pulled into range.
-    fn resolve(&self, variant: AntVariant, n: usize, symmetric: bool) -> Plan {
+    fn resolve(&self, variant: AntVariant, n: usize, symmetric: bool) -> ColonyPlan {
         let acs = variant == AntVariant::Acs;
         let mut ls = self.local_search.unwrap_or(AntLocalSearch::Lk);
         if ls == AntLocalSearch::Lk && !symmetric {
@@ -355,7 +355,7 @@ impl AntParams {
             (false, _) => 0.2,
         });
         let unit = |x: f64, lo: f64, hi: f64| if x.is_nan() { lo } else { x.clamp(lo, hi) };
-        Plan {
+        ColonyPlan {
             ants,
             alpha: if acs {
                 1.0
@@ -376,7 +376,7 @@ impl AntParams {
 
 /// [`AntParams`] with every default filled in.
 #[derive(Clone, Copy, Debug)]
-struct Plan {
+struct ColonyPlan {
     ants: usize,
     alpha: f64,
     beta: f64,
@@ -558,6 +558,7 @@ impl Trails {
     }
 
     /// Smallest and largest trail held (`(inf, -inf)` when none is).
+    #[cfg(test)]
     fn range(&self) -> (f64, f64) {
         let fold = |(lo, hi): (f64, f64), &t: &f64| (lo.min(t), hi.max(t));
         let start = (f64::INFINITY, f64::NEG_INFINITY);
@@ -634,7 +635,7 @@ struct Field<'a, C: Cost + ?Sized> {
     cost: &'a C,
     nb: &'a Neighbours,
     variant: AntVariant,
-    plan: Plan,
+    plan: ColonyPlan,
     trails: Trails,
     /// `eta^beta` of the edge from `i` to `nb.out(i)[x]`, at `i * k + x`.
     heur: Vec<f64>,
@@ -925,54 +926,52 @@ impl<'a, C: Cost + ?Sized> Colony<'a, C> {
         }
     }
 
-    /// The method this colony runs.
-    pub fn variant(&self) -> AntVariant {
-        self.field.variant
-    }
-
     /// Ants per generation.
+    #[cfg(test)]
     pub fn colony_size(&self) -> usize {
         self.field.plan.ants
     }
 
     /// The local search applied to each ant's tour (after the asymmetric fallback).
+    #[cfg(test)]
     pub fn local_search(&self) -> AntLocalSearch {
         self.field.plan.ls
     }
 
     /// True when every edge has a trail of its own ([`DENSE_TRAILS_UP_TO`]).
+    #[cfg(test)]
     pub fn dense_trails(&self) -> bool {
         matches!(self.field.trails.store, Store::Dense(_))
     }
 
     /// Smallest and largest trail held (including the background value beyond the dense
     /// limit); `(inf, -inf)` when there are no nodes.
+    #[cfg(test)]
     pub fn pheromone_range(&self) -> (f64, f64) {
         self.field.trails.range()
     }
 
     /// MAX–MIN ant system: the current limits `(tau_min, tau_max)`, which every trail is within
     /// after each update. `None` for ant colony system.
+    #[cfg(test)]
     pub fn trail_limits(&self) -> Option<(f64, f64)> {
         (self.field.variant == AntVariant::MaxMin).then_some(self.limits)
     }
 
     /// Ant colony system: the start value `tau0 = 1 / (n L_nn)` of every trail.
+    #[cfg(test)]
     pub fn initial_trail(&self) -> f64 {
         self.field.tau0
     }
 
     /// Trail of the edge from `i` to `j` (both below `n`).
+    #[cfg(test)]
     pub fn trail(&self, i: usize, j: usize) -> f64 {
         self.field.trails.get(self.field.nb, i, j)
     }
 
-    /// Generations run so far.
-    pub fn generations(&self) -> u64 {
-        self.generations
-    }
-
     /// MAX–MIN ant system: times the trails were reinitialised.
+    #[cfg(test)]
     pub fn reinitialisations(&self) -> u64 {
         self.reinits
     }
@@ -1145,10 +1144,10 @@ impl<C: Cost + ?Sized> Iterative for Colony<'_, C> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::candidates::k_nearest;
+    use crate::control::{StopHandle, StopReason};
     use crate::cost::{CoordCost, MatrixCost, Metric};
-    use crate::drive::{drive, LoopPlan};
-    use crate::search::{StopHandle, StopReason};
+    use crate::methods::{drive, LoopPlan};
+    use crate::neighbours::k_nearest;
     use crate::testing::random_costs;
     use crate::tour::Tour;
     use proptest::prelude::*;

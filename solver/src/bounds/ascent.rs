@@ -16,7 +16,7 @@
 //! is a lower bound on every tour. [`held_karp_bound`] searches for penalties that make `L`
 //! large; [`one_tree`] finds a cheapest 1-tree, optionally with edges that must be in it
 //! ([`EdgeState::Forced`]) or must not ([`EdgeState::Forbidden`]), which the branch and bound of
-//! [`crate::branch`] uses.
+//! [`crate::bounds::branch`] uses.
 //!
 //! # Exact arithmetic
 //!
@@ -64,8 +64,8 @@
 //! Asymmetric costs are refused ([`BoundError::Asymmetric`]): the 1-tree bound needs
 //! `c(i,j) == c(j,i)`.
 
+use crate::control::StopHandle;
 use crate::cost::Cost;
-use crate::search::StopHandle;
 use crate::tour::{closed_length, Overflow};
 use std::time::{Duration, Instant};
 
@@ -161,6 +161,7 @@ impl EdgeRules {
     }
 
     /// True when there are no nodes.
+    #[cfg(test)]
     pub fn is_empty(&self) -> bool {
         self.n == 0
     }
@@ -263,6 +264,7 @@ const QUICK_TWO_OPT_LIMIT: usize = 2000;
 ///
 /// For `n == 2` the 1-tree is the edge between the two nodes taken twice, and for `n < 2` it is
 /// empty, matching [`crate::tour::closed_length`].
+#[cfg(test)]
 pub fn one_tree<F: Fn(usize, usize) -> i64>(
     n: usize,
     special: usize,
@@ -449,7 +451,7 @@ pub(crate) struct Best {
 
 /// The step-size schedule of one ascent.
 #[derive(Clone, Debug)]
-pub(crate) struct Plan {
+pub(crate) struct AscentPlan {
     /// Initial step factor.
     pub lambda: f64,
     /// Non-improving iterations before the factor halves.
@@ -727,7 +729,7 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
         rules: Option<&EdgeRules>,
         start: &[f64],
         upper: i64,
-        plan: &Plan,
+        plan: &AscentPlan,
         stop: &StopHandle,
     ) -> Run {
         let n = self.n;
@@ -875,8 +877,8 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
 }
 
 /// The ascent's default schedule for `n` nodes; see the module documentation.
-pub(crate) fn root_plan(n: usize, opts: &AscentOptions, began: Instant) -> Plan {
-    Plan {
+pub(crate) fn root_plan(n: usize, opts: &AscentOptions, began: Instant) -> AscentPlan {
+    AscentPlan {
         lambda: 2.0,
         patience: 30 + n / 10,
         lambda_min: 1e-4,

@@ -33,8 +33,8 @@
 //! repairs it by moving the fixed nodes to their places, so the answer is always a permutation
 //! with the requested ends, and its length is always computed on the caller's costs.
 
-use crate::candidates::{candidates, CandidateSource, Neighbours};
 use crate::cost::Cost;
+use crate::neighbours::{candidates, CandidateSource, Neighbours};
 use crate::tour::Overflow;
 
 /// Which ends a visiting order has. Node ids are the caller's, `0..n`.
@@ -223,12 +223,8 @@ impl<'a, C: Cost + ?Sized> EndedCost<'a, C> {
         })
     }
 
-    /// The dummy node's index, `n`.
-    pub fn dummy(&self) -> usize {
-        self.n
-    }
-
     /// The penalty `B` on a step at the dummy node that the ends forbid.
+    #[cfg(test)]
     pub fn penalty(&self) -> i64 {
         self.penalty
     }

@@ -1,6 +1,6 @@
 //! Asymmetric costs as symmetric ones on twice the nodes (Jonker and Volgenant 1983,
 //! "Transforming asymmetric into symmetric traveling salesman problems", Operations Research
-//! Letters 2(4)), so that the symmetric Lin–Kernighan machinery of [`crate::lk`] can search
+//! Letters 2(4)), so that the symmetric Lin–Kernighan machinery of [`crate::methods::lk`] can search
 //! them.
 //!
 //! # The construction
@@ -31,8 +31,8 @@
 //! then keeps the order of the in copies (a permutation of the nodes, so always a tour), in
 //! whichever direction is shorter on the original costs.
 
-use crate::candidates::{candidates, CandidateSource, Neighbours};
 use crate::cost::Cost;
+use crate::neighbours::{candidates, CandidateSource, Neighbours};
 use crate::tour::closed_length;
 
 /// Why the transformation cannot be applied.
@@ -96,6 +96,7 @@ impl<'a, C: Cost + ?Sized> TwinCost<'a, C> {
     }
 
     /// The constant `M` added to every arc.
+    #[cfg(test)]
     pub fn arc_offset(&self) -> i64 {
         self.big
     }
@@ -270,7 +271,7 @@ mod tests {
     fn twins_lead_the_candidate_lists() {
         let c = asym();
         let t = TwinCost::new(&c).unwrap();
-        let nb = crate::candidates::k_nearest(&c, 2);
+        let nb = crate::neighbours::k_nearest(&c, 2);
         let tn = t.neighbours(&nb, CandidateSource::Nearest);
         assert_eq!(tn.k(), 3);
         for v in 0..8 {

@@ -19,14 +19,14 @@
 //!   flips whose every intermediate is a tour;
 //! - moving a segment elsewhere without reversing it (the pure sequential 3-opt "segment
 //!   insertion") needs three flips and is found when the gain criterion admits the intermediate
-//!   steps; for segments of up to [`crate::improve::MAX_SEGMENT`] nodes it is always tried
-//!   directly, in both orientations, by the Or-opt moves of [`crate::improve`], which run from
+//!   steps; for segments of up to [`crate::tour::MAX_SEGMENT`] nodes it is always tried
+//!   directly, in both orientations, by the Or-opt moves of [`crate::moves::improve`], which run from
 //!   `t1` when no LK move starts there.
 //!
 //! For asymmetric costs a flip would reverse a path and change its cost, so on the costs as
 //! given only the direction-keeping Or-opt moves run. By default [`crate::Solver`] does not
 //! search asymmetric costs that way: it runs these symmetric moves on their transformation to
-//! symmetric costs over twice the nodes (Jonker and Volgenant 1983, [`crate::twin`]) and maps
+//! symmetric costs over twice the nodes (Jonker and Volgenant 1983, [`crate::transform::twin`]) and maps
 //! the tour back; [`crate::AsymmetricMode::Direct`] keeps the direct moves.
 //!
 //! # The iterated search
@@ -45,13 +45,14 @@
 //! instances, the segments of [`TwoLevelTour`] (O(sqrt(n)) flips) for large ones, chosen by
 //! [`Layout`]. Both give the same tour from the same seed.
 
-use crate::candidates::Neighbours;
+use super::drive::{drive, Iterative, LoopOutcome, LoopPlan};
+use crate::construct::{start_tour, Start};
+use crate::control::Improvement;
 use crate::cost::Cost;
-use crate::drive::{drive, Iterative, LoopOutcome, LoopPlan};
-use crate::improve::{try_or_opt, ImproveStats, MAX_SEGMENT};
-use crate::search::{self, Improvement, Start};
+use crate::moves::{try_or_opt, ImproveStats};
+use crate::neighbours::Neighbours;
 use crate::tour::closed_length;
-use crate::tour::{ArrayTour, Layout, TourRepr, TwoLevelTour};
+use crate::tour::{ArrayTour, Layout, TourRepr, TwoLevelTour, MAX_SEGMENT};
 use rand::Rng;
 use rand_pcg::Pcg64;
 use std::collections::VecDeque;
@@ -533,17 +534,6 @@ fn same_edge(e: (usize, usize), a: usize, b: usize) -> bool {
     (e.0 == a && e.1 == b) || (e.0 == b && e.1 == a)
 }
 
-/// Takes `tour` to an LK local optimum with default parameters; the counterpart of
-/// [`crate::improve::two_opt_or_opt`].
-pub fn lin_kernighan<C: Cost + ?Sized, T: TourRepr>(
-    cost: &C,
-    nb: &Neighbours,
-    tour: &mut T,
-    should_stop: &mut dyn FnMut() -> bool,
-) -> ImproveStats {
-    LinKernighan::new(cost, nb, LkParams::default()).optimise(tour, should_stop)
-}
-
 /// Longest kick segment for `n` nodes: `kick_segment`, but at most an eighth of the tour so that
 /// the three segments never wrap round.
 fn kick_segment(n: usize, cap: usize) -> usize {
@@ -656,7 +646,7 @@ pub(crate) fn iterated<C: Cost + ?Sized>(
         drive(&plan.limits, began, observer, |r, rng, should_stop| {
             let order = match &plan.start {
                 Some(order) if r == 0 => order.clone(),
-                _ => search::start_tour(cost, nb, Start::GreedyEdge, r, rng, should_stop),
+                _ => start_tour(cost, nb, Start::GreedyEdge, r, rng, should_stop),
             };
             LkRun::<C, T>::start(cost, nb, plan, order, should_stop)
         })
@@ -681,9 +671,9 @@ pub fn default_kicks(n: usize) -> u64 {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::candidates::k_nearest;
+    use crate::control::{StopHandle, StopReason};
     use crate::cost::MatrixCost;
-    use crate::search::{StopHandle, StopReason};
+    use crate::neighbours::k_nearest;
     use crate::testing::{random_costs, shuffled};
     use crate::tour::Tour;
     use crate::{Method, Solver};

@@ -15,7 +15,7 @@
 //! time (every pair is looked at once) and O(n) memory per thread; it is offered up to
 //! [`ALPHA_LIMIT`] nodes.
 
-use crate::candidates::Neighbours;
+use super::lists::Neighbours;
 use crate::cost::Cost;
 use rayon::prelude::*;
 
@@ -217,12 +217,12 @@ pub fn from_ascent<C: Cost + ?Sized>(cost: &C, k: usize) -> Result<Neighbours, A
             limit: ALPHA_LIMIT,
         });
     }
-    let opts = crate::bound::AscentOptions {
+    let opts = crate::bounds::AscentOptions {
         time_limit: None,
         max_iterations: Some(ascent_iterations(n)),
         upper_bound: None,
     };
-    let asc = crate::bound::held_karp_bound(cost, &opts, &crate::search::StopHandle::new())
+    let asc = crate::bounds::held_karp_bound(cost, &opts, &crate::control::StopHandle::new())
         .map_err(|e| AlphaError::Bound(e.to_string()))?;
     alpha_nearness(cost, &asc.pi, k)
 }

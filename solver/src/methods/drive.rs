@@ -17,7 +17,7 @@
 //! - every new best tour over all runs goes to the observer, at most one report per
 //!   [`REPORT_INTERVAL`] (the last withheld one is sent at the end).
 
-use crate::search::{self, Improvement, StopHandle, StopReason};
+use crate::control::{self, Improvement, StopHandle, StopReason};
 use rand::SeedableRng;
 use rand_pcg::Pcg64;
 use std::sync::atomic::{AtomicBool, AtomicU64, AtomicUsize, Ordering};
@@ -163,7 +163,7 @@ where
             break;
         }
         started.fetch_add(1, Ordering::Relaxed);
-        let mut rng = Pcg64::seed_from_u64(search::mix(plan.seed, r as u64));
+        let mut rng = Pcg64::seed_from_u64(control::mix(plan.seed, r as u64));
         let mut run = start(r, &mut rng, &mut || over());
         let mut length = run.best_length();
         reporter.offer(length, r);
@@ -202,7 +202,7 @@ where
             *guard = Some((length, r, run.best_order()));
         }
     };
-    search::on_threads(plan.threads, &worker);
+    control::on_threads(plan.threads, &worker);
     reporter.flush();
     let (length, _, order) = best
         .into_inner()

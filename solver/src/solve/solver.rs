@@ -1,19 +1,20 @@
 //! The embedding API: a builder that takes costs and options and returns a [`Solution`].
 
-use crate::anneal::{AnnealParams, Annealer};
-use crate::ants::{AntParams, AntVariant, Colony};
-use crate::assignment::{assignment_bound, patch_cover};
-use crate::candidates::{candidates_until, CandidateSource, Neighbours};
+use crate::bounds::{assignment_bound, patch_cover};
 use crate::construct;
+use crate::construct::{start_tour, Start};
+use crate::control::{self, Improvement, StopHandle, StopReason};
 use crate::cost::{Cost, CostError, FnCost, MatrixCost};
-use crate::drive::{drive, Iterative, LoopPlan};
-use crate::ends::{path_length, EndedCost, Ends, EndsError};
 use crate::exact;
-use crate::improve::two_opt_or_opt;
-use crate::lk::{self, LkParams, LkPlan};
-use crate::search::{self, start_tour, Improvement, Start, StopHandle, StopReason};
+use crate::methods::{default_kicks, iterated, LkParams, LkPlan};
+use crate::methods::{drive, Iterative, LoopPlan};
+use crate::methods::{AnnealParams, Annealer};
+use crate::methods::{AntParams, AntVariant, Colony};
+use crate::moves::two_opt_or_opt;
+use crate::neighbours::{candidates_until, CandidateSource, Neighbours};
 use crate::tour::{closed_length, ArrayTour, Layout, Overflow, Tour};
-use crate::twin::{TwinCost, TwinTooLarge};
+use crate::transform::{path_length, EndedCost, Ends, EndsError};
+use crate::transform::{TwinCost, TwinTooLarge};
 use rand_pcg::Pcg64;
 use std::sync::Mutex;
 use std::time::{Duration, Instant};
@@ -30,13 +31,13 @@ pub enum Method {
     /// Restarts of a construction followed by 2-opt and Or-opt over neighbour lists.
     TwoOpt,
     /// Iterated Lin–Kernighan-style search: LK moves plus Or-opt, double-bridge kicks, parallel
-    /// independent runs (see [`crate::lk`]). The default.
+    /// independent runs (see [`crate::methods::lk`]). The default.
     Lk,
-    /// Ant colony system (see [`crate::ants`]), ants built in parallel.
+    /// Ant colony system (see [`crate::methods::ants`]), ants built in parallel.
     Acs,
-    /// MAX–MIN ant system (see [`crate::ants`]), ants built in parallel.
+    /// MAX–MIN ant system (see [`crate::methods::ants`]), ants built in parallel.
     MaxMin,
-    /// Simulated annealing over 2-opt, Or-opt and segment exchanges (see [`crate::anneal`]),
+    /// Simulated annealing over 2-opt, Or-opt and segment exchanges (see [`crate::methods::anneal`]),
     /// independent runs per thread.
     Anneal,
 }
@@ -164,7 +165,7 @@ pub enum SolveError {
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
 pub enum AsymmetricMode {
     /// Lin–Kernighan moves on the symmetric transformation over `2n` nodes (Jonker and
-    /// Volgenant 1983; see [`crate::twin`]), the tour mapped back to the caller's nodes.
+    /// Volgenant 1983; see [`crate::transform::twin`]), the tour mapped back to the caller's nodes.
     #[default]
     Transformed,
     /// Direction-keeping Or-opt moves and kicks on the costs as given.
@@ -234,7 +235,7 @@ pub struct Solver<C> {
 }
 
 /// Asymmetric instances from `PATCH_FROM` to `PATCH_LIMIT` nodes start their first `lk` run
-/// from the patched assignment cover ([`crate::assignment::patch_cover`]). Above the limit the
+/// from the patched assignment cover ([`crate::bounds::patch_cover`]). Above the limit the
 /// Hungarian method (O(n³): about a second at 2,000 nodes, eight at 4,000, on one core) costs
 /// too much of a run. Below `PATCH_FROM` the kicks cover the instance many times over, so the
 /// start matters little (ten 10-second runs on each TSPLIB ATSP instance: optimal in 64 of 70
@@ -261,7 +262,7 @@ pub fn default_iterations(method: Method, n: usize) -> u64 {
     match method {
         Method::Acs | Method::MaxMin => 100,
         Method::Anneal => 500,
-        _ => lk::default_kicks(n),
+        _ => default_kicks(n),
     }
 }
 
@@ -414,7 +415,7 @@ impl<C: Cost> Solver<C> {
 
     /// Which ends the answer has: a closed tour (the default) or a path with free or fixed ends
     /// ([`Ends`]). Every method handles every variant through one dummy node (see
-    /// [`crate::ends`]); the [`Solution`] then holds the path from its first node and its length
+    /// [`crate::transform::ends`]); the [`Solution`] then holds the path from its first node and its length
     /// without a return step. Fixed ends must be below the number of nodes
     /// ([`SolveError::Ends`] otherwise).
     pub fn ends(mut self, ends: Ends) -> Self {
@@ -455,7 +456,7 @@ impl<C: Cost> Solver<C> {
 
     /// Bytes the search's large buffers will take, estimated before anything is allocated:
     /// neighbour lists, the tours and work arrays of the runs going at once, the trails of the
-    /// ant colonies (full tables up to [`crate::ants::DENSE_TRAILS_UP_TO`] nodes), and twice
+    /// ant colonies (full tables up to [`crate::methods::DENSE_TRAILS_UP_TO`] nodes), and twice
     /// the nodes when `lk` transforms asymmetric costs. A lower estimate of the process's use.
     pub fn memory_estimate(&self) -> usize {
         let n = self.cost.len();
@@ -476,7 +477,7 @@ impl<C: Cost> Solver<C> {
         // Order, positions, don't-look bits, queue and segment lists of one run.
         let per_run = nodes.saturating_mul(128);
         let trails = match self.method {
-            Method::Acs | Method::MaxMin if n <= crate::ants::DENSE_TRAILS_UP_TO => {
+            Method::Acs | Method::MaxMin if n <= crate::methods::DENSE_TRAILS_UP_TO => {
                 crate::memory::square(n, 8)
             }
             Method::Acs | Method::MaxMin => crate::memory::bytes_of(n, k * 8),
@@ -499,7 +500,7 @@ impl<C: Cost> Solver<C> {
         })?;
         // Preparation (neighbour lists) gives up at a stop request or the deadline, so that
         // neither waits for seconds of list building on large instances.
-        let deadline = search::deadline(began, self.time_limit);
+        let deadline = control::deadline(began, self.time_limit);
         let over = || self.stop.is_stopped() || deadline.is_some_and(|d| Instant::now() >= d);
         if let Some(max_cost) = cost.max_cost_hint() {
             // Moves add and subtract a handful of costs on top of a tour length.
@@ -735,7 +736,7 @@ impl<C: Cost> Solver<C> {
                 ),
                 stall: self.stall_limit,
                 target,
-                deadline: search::deadline(began, self.time_limit),
+                deadline: control::deadline(began, self.time_limit),
                 stop: self.stop.clone(),
             };
             let out = match self.method {
@@ -761,8 +762,7 @@ impl<C: Cost> Solver<C> {
                     }
                 }
                 Method::Anneal => drive(&limits, began, observe, |r, rng, should_stop| {
-                    let order =
-                        search::start_tour(cost, &nb, Start::NearestNeighbour, r, rng, should_stop);
+                    let order = start_tour(cost, &nb, Start::NearestNeighbour, r, rng, should_stop);
                     Annealer::start(cost, &nb, &self.annealing, order, rng)
                 }),
                 _ => {
@@ -772,7 +772,7 @@ impl<C: Cost> Solver<C> {
                         layout: self.layout,
                         start,
                     };
-                    lk::iterated(cost, &nb, &plan, began, observe)
+                    iterated(cost, &nb, &plan, began, observe)
                 }
             };
             debug_assert!(
@@ -796,7 +796,7 @@ impl<C: Cost> Solver<C> {
             iterations: None,
             stall: None,
             target,
-            deadline: search::deadline(began, self.time_limit),
+            deadline: control::deadline(began, self.time_limit),
             stop: self.stop.clone(),
         };
         let out = drive(&limits, began, observe, |r, rng, should_stop| {
@@ -816,7 +816,7 @@ impl<C: Cost> Solver<C> {
 }
 
 /// One restart: a starting tour taken to a local optimum of 2-opt and Or-opt when it starts.
-/// It has no steps: under [`crate::drive::drive`] each run is one restart, and the loop owner
+/// It has no steps: under [`crate::methods::drive`] each run is one restart, and the loop owner
 /// runs them in parallel under the limits.
 struct Restart {
     order: Vec<usize>,

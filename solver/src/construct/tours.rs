@@ -3,8 +3,8 @@
 //! Each returns a visiting order (a permutation of all nodes). The `noise` variants give the
 //! restarts of the local search different, still reasonable, starting points.
 
-use crate::candidates::Neighbours;
 use crate::cost::Cost;
+use crate::neighbours::Neighbours;
 use rand::Rng;
 use rayon::slice::ParallelSliceMut;
 
@@ -327,8 +327,8 @@ fn hilbert_index(side: u32, mut x: u32, mut y: u32) -> u64 {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::candidates::k_nearest;
     use crate::cost::{CoordCost, MatrixCost, Metric};
+    use crate::neighbours::k_nearest;
     use crate::tour::Tour;
     use rand::SeedableRng;
 

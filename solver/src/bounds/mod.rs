@@ -1,0 +1,10 @@
+//! Lower bounds and proofs: the 1-tree bound and its Held–Karp ascent ([`ascent`]), the
+//! assignment bound ([`assignment`]), and branch and bound on the 1-tree bound ([`branch`]).
+
+pub(crate) mod ascent;
+pub(crate) mod assignment;
+pub(crate) mod branch;
+
+pub use ascent::{held_karp_bound, Ascent, AscentOptions, BoundError};
+pub use assignment::{assignment_bound, patch_cover, AssignmentBound, AssignmentError};
+pub use branch::{branch_and_bound, BranchOptions, Proof};

@@ -1,0 +1,8 @@
+//! Other problems as closed tours: fixed path ends through a dummy node ([`ends`]), and
+//! asymmetric costs as symmetric ones over twice the nodes ([`twin`]).
+
+pub(crate) mod ends;
+pub(crate) mod twin;
+
+pub use ends::{path_length, EndedCost, Ends, EndsError};
+pub use twin::{TwinCost, TwinTooLarge};
