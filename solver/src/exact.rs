@@ -6,13 +6,13 @@ use crate::transform::{path_length, EndedCost, Ends};
 use rayon::prelude::*;
 
 /// Largest instance [`enumerate`] accepts: 8! = 40,320 orders with the first node fixed.
-pub const ENUMERATION_LIMIT: usize = 9;
+pub(crate) const ENUMERATION_LIMIT: usize = 9;
 
 /// The shortest closed tour by trying every order with node 0 first (and, when no cost is
 /// negative, pruning partial orders that are already no better than the best), for
 /// `n <= ENUMERATION_LIMIT`. Sums saturate, so a cost near `i64::MAX` cannot wrap; the caller
 /// checks the length of the result exactly.
-pub fn enumerate<C: Cost + ?Sized>(cost: &C) -> Option<Vec<usize>> {
+pub(crate) fn enumerate<C: Cost + ?Sized>(cost: &C) -> Option<Vec<usize>> {
     let n = cost.len();
     if n > ENUMERATION_LIMIT {
         return None;
@@ -145,7 +145,7 @@ fn human_bytes(bytes: usize) -> String {
 /// `(n-1) * 2^(n-2) * entry_bytes` for the table, `(n-1)^2 * entry_bytes` for the cost matrix the
 /// inner loop reads and `n^2 * 8` for the full `i64` matrix. Zero for `n < 2`; `None` if the
 /// count overflows `usize`.
-pub fn dp_memory_bytes(n: usize, entry_bytes: usize) -> Option<usize> {
+pub(crate) fn dp_memory_bytes(n: usize, entry_bytes: usize) -> Option<usize> {
     if n < 2 {
         return Some(0);
     }

@@ -14,7 +14,7 @@
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 /// Ceiling when the physical memory cannot be read: 8 GiB.
-pub const FALLBACK_CEILING: usize = 8 << 30;
+pub(crate) const FALLBACK_CEILING: usize = 8 << 30;
 
 /// 0 until set (or first read), then the ceiling in bytes.
 static CEILING: AtomicUsize = AtomicUsize::new(0);
@@ -54,12 +54,12 @@ pub fn set_ceiling(bytes: usize) {
 }
 
 /// Three quarters of the physical memory, or [`FALLBACK_CEILING`].
-pub fn default_ceiling() -> usize {
+pub(crate) fn default_ceiling() -> usize {
     physical_memory().map_or(FALLBACK_CEILING, |b| b / 4 * 3)
 }
 
 /// Physical memory in bytes, where the system tells (Linux: `MemTotal` of `/proc/meminfo`).
-pub fn physical_memory() -> Option<usize> {
+pub(crate) fn physical_memory() -> Option<usize> {
     let info = std::fs::read_to_string("/proc/meminfo").ok()?;
     let line = info.lines().find(|l| l.starts_with("MemTotal:"))?;
     let kib: usize = line.split_whitespace().nth(1)?.parse().ok()?;
@@ -132,7 +132,7 @@ pub fn parse_size(text: &str) -> Result<usize, String> {
 }
 
 /// `bytes` for people: B, KiB, MiB, GiB or TiB.
-pub fn human(bytes: usize) -> String {
+pub(crate) fn human(bytes: usize) -> String {
     if bytes == usize::MAX {
         return "more bytes than a 64-bit count holds".to_string();
     }

@@ -14,7 +14,7 @@ use pathfinding::matrix::Matrix;
 
 /// Largest instance [`assignment_bound`] accepts: an `n x n` matrix of `i64` (32 MB at 2,000
 /// nodes, 800 MB at 10,000) and O(n³) work.
-pub const ASSIGNMENT_LIMIT: usize = 10_000;
+pub(crate) const ASSIGNMENT_LIMIT: usize = 10_000;
 
 /// The cheapest cycle cover and its cost.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -127,7 +127,7 @@ pub fn assignment_bound<C: Cost + ?Sized>(cost: &C) -> Result<AssignmentBound, A
 /// practice: about `ln n`), and the tour found lies close to the assignment bound on them.
 ///
 /// `successor` must be a permutation of `0..cost.len()`; anything else gives the identity order.
-pub fn patch_cover<C: Cost + ?Sized>(cost: &C, successor: &[usize]) -> Vec<usize> {
+pub(crate) fn patch_cover<C: Cost + ?Sized>(cost: &C, successor: &[usize]) -> Vec<usize> {
     let n = cost.len();
     let mut seen = vec![false; n];
     if successor.len() != n

@@ -6,5 +6,6 @@ pub(crate) mod assignment;
 pub(crate) mod branch;
 
 pub use ascent::{held_karp_bound, Ascent, AscentOptions, BoundError};
-pub use assignment::{assignment_bound, patch_cover, AssignmentBound, AssignmentError};
+pub(crate) use assignment::patch_cover;
+pub use assignment::{assignment_bound, AssignmentBound, AssignmentError};
 pub use branch::{branch_and_bound, BranchOptions, Proof};

@@ -5,5 +5,6 @@ pub(crate) mod start;
 pub(crate) mod tours;
 
 pub(crate) use start::start_tour;
-pub use start::Start;
-pub use tours::{greedy_edge, greedy_edge_until, nearest_neighbour, space_filling_curve};
+pub(crate) use start::Start;
+pub use tours::greedy_edge;
+pub(crate) use tours::{greedy_edge_until, nearest_neighbour, space_filling_curve};

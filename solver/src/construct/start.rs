@@ -8,7 +8,7 @@ use rand_pcg::Pcg64;
 
 /// How the starting tour of each restart is built.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Start {
+pub(crate) enum Start {
     /// Nearest neighbour from a random node.
     NearestNeighbour,
     /// Greedy edge (the first restart without noise, later ones with random noise).

@@ -12,7 +12,11 @@ use rayon::slice::ParallelSliceMut;
 ///
 /// The neighbour lists answer most steps; when all of a node's neighbours are taken the remaining
 /// nodes are scanned, so the worst case is quadratic but typical runs are near linear.
-pub fn nearest_neighbour<C: Cost + ?Sized>(cost: &C, nb: &Neighbours, start: usize) -> Vec<usize> {
+pub(crate) fn nearest_neighbour<C: Cost + ?Sized>(
+    cost: &C,
+    nb: &Neighbours,
+    start: usize,
+) -> Vec<usize> {
     let n = cost.len();
     if n == 0 {
         return Vec::new();
@@ -110,7 +114,7 @@ pub fn greedy_edge<C: Cost + ?Sized, R: Rng>(
 
 /// [`greedy_edge`], given up when `stop` turns true (polled every few thousand nodes or
 /// edges): `None` then. On a million nodes the construction takes seconds.
-pub fn greedy_edge_until<C: Cost + ?Sized, R: Rng>(
+pub(crate) fn greedy_edge_until<C: Cost + ?Sized, R: Rng>(
     cost: &C,
     nb: &Neighbours,
     noise: f64,
@@ -269,7 +273,10 @@ fn join_fragments<C: Cost + ?Sized>(
 /// Order along a Hilbert curve through the nodes' geometry (the two coordinates with the
 /// largest spread). `None` when the costs have no geometry. `shift` in `[0, 1)^2` moves the
 /// curve's origin (wrapping), for varied restarts.
-pub fn space_filling_curve<C: Cost + ?Sized>(cost: &C, shift: [f64; 2]) -> Option<Vec<usize>> {
+pub(crate) fn space_filling_curve<C: Cost + ?Sized>(
+    cost: &C,
+    shift: [f64; 2],
+) -> Option<Vec<usize>> {
     let g = cost.geometry()?;
     let n = g.points.len();
     let mut lo = [f64::INFINITY; 3];

@@ -344,7 +344,7 @@ enum Move {
 }
 
 /// One run of simulated annealing: a tour, its temperature and the best tour seen.
-pub struct Annealer<'a, C: Cost + ?Sized> {
+pub(crate) struct Annealer<'a, C: Cost + ?Sized> {
     cost: &'a C,
     nb: &'a Neighbours,
     params: AnnealParams,
@@ -378,7 +378,7 @@ impl<'a, C: Cost + ?Sized> Annealer<'a, C> {
     /// Instances of fewer than five nodes are solved at once by trying every order; the run
     /// is then [`Iterative::finished`], as it is when the candidate lists are empty or the
     /// starting tour's length overflows.
-    pub fn start(
+    pub(crate) fn start(
         cost: &'a C,
         nb: &'a Neighbours,
         params: &AnnealParams,
@@ -442,11 +442,6 @@ impl<'a, C: Cost + ?Sized> Annealer<'a, C> {
         self.temperature
     }
 
-    /// The start temperature `T0` measured on the starting tour (cost units).
-    #[cfg(test)]
-    pub fn start_temperature(&self) -> f64 {
-        self.t0
-    }
 
     /// Share of the valid proposals of the last batch that were accepted (0 before the first).
     #[cfg(test)]

@@ -72,11 +72,11 @@ use rayon::prelude::*;
 
 /// Nodes up to which every edge has a trail of its own; beyond, only candidate edges do (see the
 /// module documentation).
-pub const DENSE_TRAILS_UP_TO: usize = 2_000;
+pub(crate) const DENSE_TRAILS_UP_TO: usize = 2_000;
 
 /// Added to every cost in the heuristic value `eta = 1 / (cost + ETA_EPSILON)`, so that an edge
 /// of cost zero is very attractive but not infinitely so.
-pub const ETA_EPSILON: f64 = 0.1;
+pub(crate) const ETA_EPSILON: f64 = 0.1;
 
 /// The lambda of the lambda-branching factor: a candidate edge counts as a branch when its trail
 /// is at least `tau_min + LAMBDA (tau_max - tau_min)`.
@@ -84,7 +84,7 @@ const LAMBDA: f64 = 0.05;
 
 /// Which ant colony method runs.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum AntVariant {
+pub(crate) enum AntVariant {
     /// Ant colony system (Dorigo and Gambardella 1997).
     Acs,
     /// MAX–MIN ant system (Stützle and Hoos 2000).
@@ -166,10 +166,10 @@ pub struct AntParams {
 }
 
 /// Largest automatic colony of MAX–MIN ant system with local search (twice this without).
-pub const MAX_MIN_COLONY: usize = 25;
+pub(crate) const MAX_MIN_COLONY: usize = 25;
 
 /// Largest colony [`AntParams::set`] accepts.
-pub const MAX_COLONY: usize = 10_000;
+pub(crate) const MAX_COLONY: usize = 10_000;
 
 impl Default for AntParams {
     fn default() -> Self {
@@ -820,7 +820,7 @@ impl<'a, C: Cost + ?Sized> Improver<'a, C> {
 
 /// A started run of an ant colony method; one [`Iterative::step`] is one generation (every ant
 /// built and improved, trails updated).
-pub struct Colony<'a, C: Cost + ?Sized> {
+pub(crate) struct Colony<'a, C: Cost + ?Sized> {
     field: Field<'a, C>,
     improvers: Vec<Improver<'a, C>>,
     /// MAX–MIN trail limits `(tau_min, tau_max)`.
@@ -841,7 +841,7 @@ impl<'a, C: Cost + ?Sized> Colony<'a, C> {
     /// a nearest-neighbour tour from a random node gives `tau0` (ant colony system); improved by
     /// the local search (polling `should_stop`), it is the first best tour and gives `tau_max`
     /// (MAX–MIN ant system).
-    pub fn start(
+    pub(crate) fn start(
         cost: &'a C,
         nb: &'a Neighbours,
         variant: AntVariant,
@@ -926,11 +926,6 @@ impl<'a, C: Cost + ?Sized> Colony<'a, C> {
         }
     }
 
-    /// Ants per generation.
-    #[cfg(test)]
-    pub fn colony_size(&self) -> usize {
-        self.field.plan.ants
-    }
 
     /// The local search applied to each ant's tour (after the asymmetric fallback).
     #[cfg(test)]

@@ -25,7 +25,7 @@ use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
 /// A started run of an iterative method.
-pub trait Iterative {
+pub(crate) trait Iterative {
     /// One unit of work. `should_stop` turns true at the deadline or on a stop request; a long
     /// step may poll it and return early, keeping its best tour so far.
     fn step(&mut self, rng: &mut Pcg64, should_stop: &mut dyn FnMut() -> bool);
@@ -41,7 +41,7 @@ pub trait Iterative {
 
 /// Limits and identity of a driven search.
 #[derive(Clone, Debug)]
-pub struct LoopPlan {
+pub(crate) struct LoopPlan {
     /// Seed of every run's generator (with the run index).
     pub seed: u64,
     /// Runs at the same time.
@@ -62,7 +62,7 @@ pub struct LoopPlan {
 
 /// What a driven search found.
 #[derive(Clone, Debug)]
-pub struct LoopOutcome {
+pub(crate) struct LoopOutcome {
     /// The best tour by (length, run index).
     pub order: Vec<usize>,
     /// Its length.
@@ -77,7 +77,7 @@ pub struct LoopOutcome {
 
 /// Minimum time between two reports to the observer, so that a long run gives a readable
 /// anytime curve rather than one entry per step.
-pub const REPORT_INTERVAL: Duration = Duration::from_millis(10);
+pub(crate) const REPORT_INTERVAL: Duration = Duration::from_millis(10);
 
 /// Anytime reports, throttled to [`REPORT_INTERVAL`]; the last withheld one is sent at the end.
 struct Reporter<'o> {
@@ -120,7 +120,7 @@ impl Reporter<'_> {
 /// best tour by (length, run index). `start(r, rng, should_stop)` builds run `r` with that run's
 /// generator; run 0 is always built, even when the deadline has passed, so there is always a
 /// tour. `began` is the instant improvement times count from.
-pub fn drive<M, S>(
+pub(crate) fn drive<M, S>(
     plan: &LoopPlan,
     began: Instant,
     observer: &(dyn Fn(Improvement) + Sync),

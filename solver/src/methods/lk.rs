@@ -60,7 +60,7 @@ use std::time::Instant;
 
 /// Tuning of the LK move and of the kicks.
 #[derive(Clone, Debug, PartialEq, Eq)]
-pub struct LkParams {
+pub(crate) struct LkParams {
     /// Alternatives tried per level of the chain, first level first; levels beyond the list
     /// try one.
     pub breadth: Vec<usize>,
@@ -173,7 +173,7 @@ fn undo_or_opt<T: TourRepr>(tour: &mut T, p: usize, nx: usize, s1: usize, s2: us
 
 /// A double-bridge kick as applied, enough to take it back.
 #[derive(Clone, Copy, Debug)]
-pub struct Kick {
+pub(crate) struct Kick {
     /// The node before the three segments.
     pub v: usize,
     /// The node after them.
@@ -192,7 +192,7 @@ pub struct Kick {
 /// put in the order `D C B`, each keeping its direction, so four edges change and nothing is
 /// reversed (valid for asymmetric costs). Lengths below one count as one; when they do not
 /// leave at least one other node the tour is left alone (delta 0). Costs O(sum of `lens`).
-pub fn double_bridge<C: Cost + ?Sized, T: TourRepr>(
+pub(crate) fn double_bridge<C: Cost + ?Sized, T: TourRepr>(
     cost: &C,
     tour: &mut T,
     v: usize,
@@ -244,7 +244,7 @@ pub fn double_bridge<C: Cost + ?Sized, T: TourRepr>(
 
 /// Takes back a [`double_bridge`]; the tour must be the same cycle as right after it, in either
 /// orientation.
-pub fn undo_double_bridge<C: Cost + ?Sized, T: TourRepr>(cost: &C, tour: &mut T, k: &Kick) {
+pub(crate) fn undo_double_bridge<C: Cost + ?Sized, T: TourRepr>(cost: &C, tour: &mut T, k: &Kick) {
     let [b, c, d] = k.lens;
     if tour.next(k.v) == k.first {
         double_bridge(cost, tour, k.v, [d, c, b]);
@@ -258,7 +258,7 @@ pub fn undo_double_bridge<C: Cost + ?Sized, T: TourRepr>(cost: &C, tour: &mut T,
 /// (don't-look bits) and an optional log of committed changes for undoing a rejected kick.
 ///
 /// Buffers are kept between calls, so one value serves a whole iterated search.
-pub struct LinKernighan<'a, C: Cost + ?Sized> {
+pub(crate) struct LinKernighan<'a, C: Cost + ?Sized> {
     cost: &'a C,
     nb: &'a Neighbours,
     params: LkParams,
@@ -283,7 +283,7 @@ pub struct LinKernighan<'a, C: Cost + ?Sized> {
 
 impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
     /// A search over `cost` with candidate lists `nb`.
-    pub fn new(cost: &'a C, nb: &'a Neighbours, params: LkParams) -> Self {
+    pub(crate) fn new(cost: &'a C, nb: &'a Neighbours, params: LkParams) -> Self {
         let n = cost.len();
         let depth = params.max_depth.max(1);
         let nb_cost = (0..n)
@@ -314,7 +314,7 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
     }
 
     /// Marks `v` active: the next [`LinKernighan::run`] tries moves from it.
-    pub fn activate(&mut self, v: usize) {
+    pub(crate) fn activate(&mut self, v: usize) {
         if !self.queued[v] {
             self.queued[v] = true;
             self.queue.push_back(v);
@@ -323,7 +323,7 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
 
     /// Takes `tour` to a local optimum from every node (in tour order), or until `should_stop`
     /// says so (polled every few dozen nodes).
-    pub fn optimise<T: TourRepr>(
+    pub(crate) fn optimise<T: TourRepr>(
         &mut self,
         tour: &mut T,
         should_stop: &mut dyn FnMut() -> bool,
@@ -336,7 +336,7 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
 
     /// Applies improving moves from the active nodes until none is active or `should_stop`
     /// says so (polled every few dozen nodes).
-    pub fn run<T: TourRepr>(
+    pub(crate) fn run<T: TourRepr>(
         &mut self,
         tour: &mut T,
         should_stop: &mut dyn FnMut() -> bool,
@@ -365,7 +365,7 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
 
     /// One improving move from `t1`, applied (its changed endpoints become active); its gain,
     /// or `None` when no move starts at `t1`.
-    pub fn improve_from<T: TourRepr>(&mut self, tour: &mut T, t1: usize) -> Option<i64> {
+    pub(crate) fn improve_from<T: TourRepr>(&mut self, tour: &mut T, t1: usize) -> Option<i64> {
         if tour.len() < 5 || self.nb.k() == 0 {
             return None;
         }
@@ -390,20 +390,20 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
     }
 
     /// Starts logging committed changes (clearing the log), for [`LinKernighan::undo_log`].
-    pub fn start_log(&mut self) {
+    pub(crate) fn start_log(&mut self) {
         self.logging = true;
         self.log.clear();
     }
 
     /// Forgets the logged changes (they stay applied) and stops logging.
-    pub fn keep_log(&mut self) {
+    pub(crate) fn keep_log(&mut self) {
         self.logging = false;
         self.log.clear();
     }
 
     /// Takes back every change logged since [`LinKernighan::start_log`], newest first, and
     /// stops logging.
-    pub fn undo_log<T: TourRepr>(&mut self, tour: &mut T) {
+    pub(crate) fn undo_log<T: TourRepr>(&mut self, tour: &mut T) {
         while let Some(u) = self.log.pop() {
             match u {
                 Undo::Flip(f) => unflip(tour, f),
@@ -664,7 +664,7 @@ pub(crate) fn iterated<C: Cost + ?Sized>(
 }
 
 /// Kicks per run when nothing else bounds a run (no time limit, no stall limit).
-pub fn default_kicks(n: usize) -> u64 {
+pub(crate) fn default_kicks(n: usize) -> u64 {
     n.clamp(1_000, 10_000) as u64
 }
 

@@ -8,7 +8,9 @@ pub(crate) mod ants;
 pub(crate) mod drive;
 pub(crate) mod lk;
 
-pub use anneal::{AnnealParams, Annealer, CoolingSchedule};
-pub use ants::{AntLocalSearch, AntParams, AntVariant, Colony, DENSE_TRAILS_UP_TO};
-pub use drive::{drive, Iterative, LoopPlan};
+pub(crate) use anneal::Annealer;
+pub use anneal::{AnnealParams, CoolingSchedule};
+pub use ants::{AntLocalSearch, AntParams};
+pub(crate) use ants::{AntVariant, Colony, DENSE_TRAILS_UP_TO};
+pub(crate) use drive::{drive, Iterative, LoopPlan};
 pub(crate) use lk::{default_kicks, iterated, LkParams, LkPlan};

@@ -250,7 +250,7 @@ mod tests {
     use super::*;
     use crate::cost::{CoordCost, MatrixCost, Metric};
     use crate::neighbours::k_nearest;
-    use crate::tour::{closed_length, Tour, TwoLevelTour};
+    use crate::tour::{closed_length, ArrayTour, Tour, TwoLevelTour};
     use proptest::prelude::*;
 
     fn random_points(n: usize, seed: u64) -> Vec<[f64; 2]> {

@@ -3,4 +3,5 @@
 pub(crate) mod improve;
 
 pub(crate) use improve::try_or_opt;
-pub use improve::{two_opt_or_opt, ImproveStats};
+pub use improve::two_opt_or_opt;
+pub(crate) use improve::ImproveStats;

@@ -63,7 +63,7 @@ pub fn candidates<C: Cost + ?Sized>(cost: &C, k: usize, source: CandidateSource)
 /// [`candidates`], given up when `stop` turns true (polled once per node, from every thread
 /// building lists): `None` then. On a million points the lists take seconds, so a stop request
 /// or a deadline must not wait for them.
-pub fn candidates_until<C: Cost + ?Sized>(
+pub(crate) fn candidates_until<C: Cost + ?Sized>(
     cost: &C,
     k: usize,
     source: CandidateSource,

@@ -23,7 +23,7 @@ use std::time::{Duration, Instant};
 
 /// Symmetric instances up to this size go to the dynamic programme (it takes well under a
 /// second there); larger ones to branch and bound.
-pub const DP_DIRECT_LIMIT: usize = 16;
+pub(crate) const DP_DIRECT_LIMIT: usize = 16;
 
 /// Limits of [`prove_optimal`].
 #[derive(Clone, Debug)]

@@ -242,13 +242,13 @@ pub struct Solver<C> {
 /// runs with the patched start, 63 with greedy starts), and greedy starts keep the runs apart
 /// where the patched one puts every first run in one basin (ftv38: 0.13 % above the optimum in
 /// 5 of 10 runs, against 1 of 10 with greedy starts).
-pub const PATCH_LIMIT: usize = 3_000;
+pub(crate) const PATCH_LIMIT: usize = 3_000;
 /// See [`PATCH_LIMIT`].
-pub const PATCH_FROM: usize = 200;
+pub(crate) const PATCH_FROM: usize = 200;
 
 /// Independent runs of an iterative method when neither a time limit nor a run count is given,
 /// or when an iteration budget is: one colony for the ant methods, [`DEFAULT_LK_RUNS`] otherwise.
-pub fn default_runs(method: Method) -> usize {
+pub(crate) fn default_runs(method: Method) -> usize {
     match method {
         Method::Acs | Method::MaxMin => 1,
         _ => DEFAULT_LK_RUNS,
@@ -258,7 +258,7 @@ pub fn default_runs(method: Method) -> usize {
 /// Steps per run of an iterative method without a time limit or stall limit: kicks for `lk`
 /// ([`lk::default_kicks`]), 100 generations for the ant colonies, 500 batches of moves for
 /// `anneal` (with the default batches, a cooling cycle takes a few dozen).
-pub fn default_iterations(method: Method, n: usize) -> u64 {
+pub(crate) fn default_iterations(method: Method, n: usize) -> u64 {
     match method {
         Method::Acs | Method::MaxMin => 100,
         Method::Anneal => 500,
@@ -267,12 +267,12 @@ pub fn default_iterations(method: Method, n: usize) -> u64 {
 }
 
 /// Restarts run when neither a time limit nor a restart count is given.
-pub const DEFAULT_RESTARTS: usize = 8;
+pub(crate) const DEFAULT_RESTARTS: usize = 8;
 /// Width of the neighbour lists by default.
 pub const DEFAULT_NEIGHBOURS: usize = 10;
 /// Independent `lk` runs when neither a time limit nor a run count is given, or when a kick
 /// budget is (so that the answer does not depend on the number of threads).
-pub const DEFAULT_LK_RUNS: usize = 2;
+pub(crate) const DEFAULT_LK_RUNS: usize = 2;
 
 impl<C: Cost> Solver<C> {
     /// A solver over `cost` with default options: method `lk`, seed 0, one thread per core.

@@ -19,10 +19,10 @@ mod array;
 mod two_level;
 
 pub use array::ArrayTour;
-pub use two_level::TwoLevelTour;
+pub(crate) use two_level::TwoLevelTour;
 
 /// Longest segment an Or-opt move relocates (and [`TourRepr::move_segment`] moves).
-pub const MAX_SEGMENT: usize = 3;
+pub(crate) const MAX_SEGMENT: usize = 3;
 
 /// A closed tour that local moves edit in place.
 ///
@@ -90,7 +90,7 @@ pub enum Layout {
 
 /// Size from which [`Layout::Auto`] uses [`TwoLevelTour`]: measured crossover of kicks per
 /// second on 2 cores (array ahead by 14 % at 4,461 nodes, behind by 10 % at 14,051).
-pub const TWO_LEVEL_FROM: usize = 10_000;
+pub(crate) const TWO_LEVEL_FROM: usize = 10_000;
 
 impl Layout {
     /// True when a tour of `n` nodes should use [`TwoLevelTour`].

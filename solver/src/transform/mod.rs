@@ -4,5 +4,6 @@
 pub(crate) mod ends;
 pub(crate) mod twin;
 
-pub use ends::{path_length, EndedCost, Ends, EndsError};
-pub use twin::{TwinCost, TwinTooLarge};
+pub(crate) use ends::EndedCost;
+pub use ends::{path_length, Ends, EndsError};
+pub(crate) use twin::{TwinCost, TwinTooLarge};
