@@ -20,6 +20,14 @@ pub struct StopHandle(Arc<AtomicBool>);
 
 impl StopHandle {
     /// A handle that has not been triggered.
+    ///
+    /// ```
+    /// let stop = wend::StopHandle::new();
+    /// let copy = stop.clone(); // for another thread or a signal handler
+    /// assert!(!stop.is_stopped());
+    /// copy.stop();
+    /// assert!(stop.is_stopped());
+    /// ```
     pub fn new() -> Self {
         Self::default()
     }

@@ -262,6 +262,14 @@ fn next_same_size(x: u32) -> u32 {
 /// `should_stop` is polled between batches of a few million additions; when it returns true the
 /// call ends with [`DpError::Stopped`]. The length is that of [`crate::tour::closed_length`]: 0
 /// for fewer than two nodes.
+///
+/// ```
+/// let rows = vec![vec![0, 2, 9], vec![1, 0, 6], vec![15, 7, 0]];
+/// let costs = wend::MatrixCost::from_rows(&rows).unwrap();
+/// let best = wend::dynamic_programme(&costs, wend::DEFAULT_DP_MEMORY, &mut || false).unwrap();
+/// assert_eq!(best.order, vec![0, 2, 1]);
+/// assert_eq!(best.length, 17);
+/// ```
 pub fn dynamic_programme<C: Cost + ?Sized>(
     cost: &C,
     memory_limit_bytes: usize,
@@ -315,6 +323,15 @@ pub fn dynamic_programme<C: Cost + ?Sized>(
 /// lengths), read off as a path. The order runs from the path's first node to its last, and
 /// `length` is the path's length on `cost`, without a return step. Paths take one node more
 /// than tours, so at most `DP_LIMIT - 1` nodes.
+///
+/// ```
+/// use wend::{optimal_path, CoordCost, Ends, Metric, DEFAULT_DP_MEMORY};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// let path = optimal_path(&square, Ends::StartEnd(0, 1), DEFAULT_DP_MEMORY, &mut || false).unwrap();
+/// assert_eq!(path.order, vec![0, 3, 2, 1]); // the long way round: 1 is reached last
+/// assert_eq!(path.length, 30);
+/// ```
 pub fn optimal_path<C: Cost + ?Sized>(
     cost: &C,
     ends: Ends,

@@ -160,7 +160,6 @@ impl EdgeRules {
         self.n
     }
 
-
     /// The state of edge `(i, j)`.
     #[inline]
     pub(crate) fn state(&self, i: usize, j: usize) -> EdgeState {
@@ -891,6 +890,15 @@ pub(crate) fn root_plan(n: usize, opts: &AscentOptions, began: Instant) -> Ascen
 /// optimisation of node penalties (see the module documentation for the step size and the
 /// exact arithmetic). The result is a lower bound on every tour whatever the limits; longer
 /// ascents make it tighter.
+///
+/// ```
+/// use wend::{held_karp_bound, AscentOptions, CoordCost, Metric, StopHandle};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// let ascent = held_karp_bound(&square, &AscentOptions::default(), &StopHandle::new()).unwrap();
+/// assert_eq!(ascent.lower_bound, 40); // the rim of the square is its cheapest 1-tree
+/// assert!(ascent.tree_is_tour);
+/// ```
 pub fn held_karp_bound<C: Cost + ?Sized>(
     cost: &C,
     opts: &AscentOptions,

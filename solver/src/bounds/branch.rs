@@ -158,6 +158,17 @@ fn child_plan(n: usize, deadline: Option<Instant>) -> AscentPlan {
 ///
 /// When a limit stops the search the result holds the best tour, the best lower bound and
 /// `proven_optimal == false`; the lower bound is valid in every case.
+///
+/// ```
+/// use wend::{branch_and_bound, BranchOptions, CoordCost, Metric, StopHandle};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// // Start from the crossing tour 0 2 1 3 (length 48).
+/// let proof = branch_and_bound(&square, vec![0, 2, 1, 3], &BranchOptions::default(), &StopHandle::new())
+///     .unwrap();
+/// assert_eq!(proof.length, 40);
+/// assert!(proof.proven_optimal);
+/// ```
 pub fn branch_and_bound<C: Cost + ?Sized>(
     cost: &C,
     initial_tour: Vec<usize>,

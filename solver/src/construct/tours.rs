@@ -5,6 +5,7 @@
 
 use crate::cost::Cost;
 use crate::neighbours::Neighbours;
+use petgraph::unionfind::UnionFind;
 use rand::Rng;
 use rayon::slice::ParallelSliceMut;
 
@@ -65,34 +66,6 @@ pub(crate) fn nearest_neighbour<C: Cost + ?Sized>(
         cur = next;
     }
     order
-}
-
-/// Union-find over nodes, used to keep greedy fragments acyclic.
-struct Dsu {
-    parent: Vec<usize>,
-}
-
-impl Dsu {
-    fn new(n: usize) -> Self {
-        Dsu {
-            parent: (0..n).collect(),
-        }
-    }
-    fn find(&mut self, mut x: usize) -> usize {
-        while self.parent[x] != x {
-            self.parent[x] = self.parent[self.parent[x]];
-            x = self.parent[x];
-        }
-        x
-    }
-    fn union(&mut self, a: usize, b: usize) -> bool {
-        let (ra, rb) = (self.find(a), self.find(b));
-        if ra == rb {
-            return false;
-        }
-        self.parent[ra] = rb;
-        true
-    }
 }
 
 /// Greedy edge: take candidate edges cheapest first whenever they keep every node at degree two
@@ -159,7 +132,8 @@ pub(crate) fn greedy_edge_until<C: Cost + ?Sized, R: Rng>(
     // unordered ends.
     const NONE: usize = usize::MAX;
     let mut link = vec![[NONE, NONE]; n];
-    let mut dsu = Dsu::new(n);
+    // Union-find over nodes keeps the fragments acyclic.
+    let mut dsu = UnionFind::<usize>::new(n);
     let mut added = 0;
     for (e, &(_, a, b)) in edges.iter().enumerate() {
         if added == n - 1 {

@@ -210,6 +210,13 @@ impl AnnealParams {
 
     /// Sets the parameter named `key` (one of [`AnnealParams::KEYS`]) from text. The error
     /// names the key and what it accepts.
+    ///
+    /// ```
+    /// let mut params = wend::AnnealParams::default();
+    /// params.set("schedule", "adaptive").unwrap();
+    /// assert_eq!(params.schedule, wend::CoolingSchedule::Adaptive);
+    /// assert!(params.set("schedule", "fast").is_err());
+    /// ```
     pub fn set(&mut self, key: &str, value: &str) -> Result<(), String> {
         let v = value.trim();
         match key {
@@ -441,7 +448,6 @@ impl<'a, C: Cost + ?Sized> Annealer<'a, C> {
     pub fn temperature(&self) -> f64 {
         self.temperature
     }
-
 
     /// Share of the valid proposals of the last batch that were accepted (0 before the first).
     #[cfg(test)]

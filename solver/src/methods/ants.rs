@@ -272,6 +272,13 @@ impl AntParams {
 
     /// Sets the parameter named `key` (one of [`AntParams::KEYS`]) from its text `value`. The
     /// error names the key and the allowed range or choices; the parameters are unchanged then.
+    ///
+    /// ```
+    /// let mut params = wend::AntParams::default();
+    /// params.set("colony-size", "20").unwrap();
+    /// assert_eq!(params.colony_size, Some(20));
+    /// assert!(params.set("colony-size", "0").is_err());
+    /// ```
     pub fn set(&mut self, key: &str, value: &str) -> Result<(), String> {
         let v = value.trim();
         match key {
@@ -925,7 +932,6 @@ impl<'a, C: Cost + ?Sized> Colony<'a, C> {
             reinits: 0,
         }
     }
-
 
     /// The local search applied to each ant's tour (after the asymmetric fallback).
     #[cfg(test)]

@@ -48,6 +48,13 @@ pub enum ListError {
 impl Neighbours {
     /// Lists made elsewhere: `out[i * k ..][..k]` are node `i`'s candidates, best first;
     /// `incoming` likewise for asymmetric costs (empty when symmetric).
+    ///
+    /// ```
+    /// // Three nodes, one candidate each: 0 -> 1, 1 -> 2, 2 -> 0 (symmetric: no incoming lists).
+    /// let lists = wend::Neighbours::from_lists(3, 1, vec![1, 2, 0], Vec::new()).unwrap();
+    /// assert_eq!(lists.out(2), &[0]);
+    /// assert!(wend::Neighbours::from_lists(3, 1, vec![1, 2], Vec::new()).is_err());
+    /// ```
     pub fn from_lists(
         n: usize,
         k: usize,

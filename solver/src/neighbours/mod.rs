@@ -56,6 +56,17 @@ impl CandidateSource {
 }
 
 /// Candidate lists of width `k` from `source`.
+///
+/// ```
+/// use wend::{candidates, CandidateSource, CoordCost, Metric};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// let lists = candidates(&square, 2, CandidateSource::Nearest);
+/// assert_eq!(lists.k(), 2);
+/// let mut near = lists.out(0).to_vec();
+/// near.sort();
+/// assert_eq!(near, vec![1, 3]); // the two corners 10 away
+/// ```
 pub fn candidates<C: Cost + ?Sized>(cost: &C, k: usize, source: CandidateSource) -> Neighbours {
     build(cost, k, source, &|| false)
 }

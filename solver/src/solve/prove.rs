@@ -160,6 +160,15 @@ pub enum ProveError {
 /// documentation for which method runs when [`ProveOptions::method`] is `None`; a method asked
 /// for that cannot run (the dynamic programme beyond [`DP_LIMIT`] nodes or its memory limit,
 /// branch and bound on asymmetric costs) is an error.
+///
+/// ```
+/// use wend::{prove_optimal, CoordCost, Metric, ProveOptions, StopHandle};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// let certificate = prove_optimal(&square, &ProveOptions::default(), &StopHandle::new()).unwrap();
+/// assert_eq!(certificate.length, 40);
+/// assert!(certificate.proven_optimal);
+/// ```
 pub fn prove_optimal<C: Cost + ?Sized>(
     cost: &C,
     opts: &ProveOptions,
@@ -298,6 +307,17 @@ pub enum LowerBoundError {
 /// a path, the bound of the closed tours through the dummy node that fixes its ends, less what
 /// such a tour pays at that node on top of its path: every path with those ends is one of
 /// these tours.
+///
+/// ```
+/// use std::time::Duration;
+/// use wend::{lower_bound, CoordCost, Ends, Metric, StopHandle};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// let bound = lower_bound(&square, Ends::Closed, 40, Duration::from_secs(1), &StopHandle::new())
+///     .unwrap();
+/// assert!(bound <= 40); // never above a real tour's length
+/// assert!(bound >= 30);
+/// ```
 pub fn lower_bound<C: Cost + ?Sized>(
     cost: &C,
     ends: Ends,

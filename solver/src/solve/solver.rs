@@ -278,6 +278,14 @@ impl<C: Cost> Solver<C> {
     /// A solver over `cost` with default options: method `lk`, seed 0, one thread per core.
     /// Without a time limit, `lk` makes [`DEFAULT_LK_RUNS`] runs of [`lk::default_kicks`] kicks
     /// each (and `2opt` makes [`DEFAULT_RESTARTS`] restarts).
+    ///
+    /// ```
+    /// use wend::{CoordCost, Metric, Solver};
+    ///
+    /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+    /// let solution = Solver::new(square).seed(1).solve().unwrap();
+    /// assert_eq!(solution.length, 40);
+    /// ```
     pub fn new(cost: C) -> Self {
         Solver {
             cost,
@@ -358,6 +366,15 @@ impl<C: Cost> Solver<C> {
 
     /// Sets one parameter of the chosen method by its key (see [`Method::keys`]), as the
     /// command line's `--set KEY=VALUE` does. Set the method first.
+    ///
+    /// ```
+    /// use wend::{Method, Solver};
+    ///
+    /// let rows = vec![vec![0, 2, 9], vec![1, 0, 6], vec![15, 7, 0]];
+    /// let solver = Solver::from_matrix(&rows).unwrap().method(Method::Anneal);
+    /// let solver = solver.set("cooling", "0.9").unwrap();
+    /// assert!(solver.set("no-such-key", "1").is_err());
+    /// ```
     pub fn set(mut self, key: &str, value: &str) -> Result<Self, SolveError> {
         let method = self.method;
         let result = match method {
@@ -387,6 +404,14 @@ impl<C: Cost> Solver<C> {
     }
 
     /// The method to run.
+    ///
+    /// ```
+    /// use wend::{CoordCost, Method, Metric, Solver};
+    ///
+    /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+    /// let solution = Solver::new(square).method(Method::Greedy).solve().unwrap();
+    /// assert_eq!(solution.length, 40);
+    /// ```
     pub fn method(mut self, method: Method) -> Self {
         self.method = method;
         self
@@ -418,6 +443,16 @@ impl<C: Cost> Solver<C> {
     /// [`crate::transform::ends`]); the [`Solution`] then holds the path from its first node and its length
     /// without a return step. Fixed ends must be below the number of nodes
     /// ([`SolveError::Ends`] otherwise).
+    ///
+    /// ```
+    /// use wend::{CoordCost, Ends, Metric, Solver};
+    ///
+    /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+    /// let path = Solver::new(square).ends(Ends::StartEnd(0, 1)).solve().unwrap();
+    /// assert_eq!(path.length, 30);
+    /// assert_eq!(path.tour.order().first(), Some(&0));
+    /// assert_eq!(path.tour.order().last(), Some(&1));
+    /// ```
     pub fn ends(mut self, ends: Ends) -> Self {
         self.ends = ends;
         self
@@ -431,12 +466,36 @@ impl<C: Cost> Solver<C> {
     }
 
     /// A handle whose [`StopHandle::stop`] ends the solve early with the best tour so far.
+    ///
+    /// ```
+    /// use wend::{CoordCost, Metric, Solver, StopHandle, StopReason};
+    ///
+    /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+    /// let stop = StopHandle::new();
+    /// stop.stop(); // already asked to stop: the solve returns the first tour at hand
+    /// let solution = Solver::new(square).stop_handle(stop).restarts(100).solve().unwrap();
+    /// assert_eq!(solution.tour.len(), 4);
+    /// ```
     pub fn stop_handle(mut self, stop: StopHandle) -> Self {
         self.stop = stop;
         self
     }
 
     /// Called with every new best tour (from worker threads; keep it short).
+    ///
+    /// ```
+    /// use std::sync::{Arc, Mutex};
+    /// use wend::{CoordCost, Metric, Solver};
+    ///
+    /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+    /// let seen = Arc::new(Mutex::new(Vec::new()));
+    /// let log = Arc::clone(&seen);
+    /// let solution = Solver::new(square)
+    ///     .on_improvement(move |step| log.lock().unwrap().push(step.length))
+    ///     .solve()
+    ///     .unwrap();
+    /// assert_eq!(seen.lock().unwrap().last(), Some(&solution.length));
+    /// ```
     pub fn on_improvement(mut self, f: impl Fn(Improvement) + Sync + Send + 'static) -> Self {
         self.observer = Some(Box::new(f));
         self
@@ -449,6 +508,15 @@ impl<C: Cost> Solver<C> {
 
     /// Refuse to start when [`Solver::memory_estimate`] passes this many bytes (default: the
     /// process-wide ceiling of [`crate::memory`]).
+    ///
+    /// ```
+    /// use wend::{CoordCost, Metric, Solver};
+    ///
+    /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+    /// let solver = Solver::new(square).memory_limit(1);
+    /// assert!(solver.memory_estimate() > 1);
+    /// assert!(solver.solve().is_err()); // refused before allocating
+    /// ```
     pub fn memory_limit(mut self, bytes: usize) -> Self {
         self.memory_limit = Some(bytes);
         self
@@ -489,6 +557,13 @@ impl<C: Cost> Solver<C> {
     }
 
     /// Runs the search.
+    ///
+    /// ```
+    /// let rows = vec![vec![0, 2, 9], vec![1, 0, 6], vec![15, 7, 0]];
+    /// let solution = wend::Solver::from_matrix(&rows).unwrap().solve().unwrap();
+    /// assert_eq!(solution.length, 17);
+    /// assert_eq!(solution.tour.len(), 3);
+    /// ```
     pub fn solve(&self) -> Result<Solution, SolveError> {
         let began = Instant::now();
         let cost = &self.cost;
@@ -869,6 +944,17 @@ struct Raw {
 
 impl<F: Fn(usize, usize) -> i64 + Sync> Solver<FnCost<F>> {
     /// A solver over `n` nodes whose costs come from `f(from, to)`.
+    ///
+    /// ```
+    /// // A rail where moving right costs the distance and moving left three times as much.
+    /// let solution = wend::Solver::from_fn(3, false, |i, j| {
+    ///     let d = j as i64 - i as i64;
+    ///     if d >= 0 { d } else { -3 * d }
+    /// })
+    /// .solve()
+    /// .unwrap();
+    /// assert_eq!(solution.length, 8); // right 1, right 1, back 2 at triple cost
+    /// ```
     pub fn from_fn(n: usize, symmetric: bool, f: F) -> Self {
         Solver::new(FnCost::new(n, symmetric, f))
     }
@@ -876,6 +962,12 @@ impl<F: Fn(usize, usize) -> i64 + Sync> Solver<FnCost<F>> {
 
 impl Solver<MatrixCost> {
     /// A solver over a square matrix given as rows (`rows[i][j]` is the cost from `i` to `j`).
+    ///
+    /// ```
+    /// let solver = wend::Solver::from_matrix(&[vec![0, 4], vec![4, 0]]).unwrap();
+    /// assert_eq!(solver.solve().unwrap().length, 8);
+    /// assert!(wend::Solver::from_matrix(&[vec![0, 4]]).is_err()); // not square
+    /// ```
     pub fn from_matrix(rows: &[Vec<i64>]) -> Result<Self, SolveError> {
         Ok(Solver::new(MatrixCost::from_rows(rows)?))
     }

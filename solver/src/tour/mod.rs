@@ -143,6 +143,12 @@ pub struct Overflow;
 
 impl Tour {
     /// Checks that `order` is a permutation of `0..n`.
+    ///
+    /// ```
+    /// let tour = wend::Tour::new(vec![2, 0, 1], 3).unwrap();
+    /// assert_eq!(tour.order(), &[2, 0, 1]);
+    /// assert!(wend::Tour::new(vec![0, 0, 1], 3).is_err()); // node 0 twice
+    /// ```
     pub fn new(order: Vec<usize>, n: usize) -> Result<Tour, TourError> {
         if order.len() != n {
             return Err(TourError::WrongLength {
@@ -203,6 +209,14 @@ impl Tour {
 
 /// Exact length of the closed tour `order` (sum of consecutive costs and the closing step).
 /// A single node has length 0: there is no step to take.
+///
+/// ```
+/// use wend::{closed_length, CoordCost, Metric};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// assert_eq!(closed_length(&square, &[0, 1, 2, 3]), Ok(40));
+/// assert_eq!(closed_length(&square, &[0, 2, 1, 3]), Ok(48));
+/// ```
 pub fn closed_length<C: Cost + ?Sized>(cost: &C, order: &[usize]) -> Result<i64, Overflow> {
     if order.len() < 2 {
         return Ok(0);

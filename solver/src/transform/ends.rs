@@ -144,6 +144,13 @@ pub enum EndsError {
 
 /// Exact length of the path `order`: the sum of consecutive steps, no return step. Zero for
 /// fewer than two nodes.
+///
+/// ```
+/// use wend::{path_length, CoordCost, Metric};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// assert_eq!(path_length(&square, &[0, 1, 2, 3]), Ok(30)); // no step back from 3 to 0
+/// ```
 pub fn path_length<C: Cost + ?Sized>(cost: &C, order: &[usize]) -> Result<i64, Overflow> {
     order.windows(2).try_fold(0i64, |total, w| {
         total.checked_add(cost.cost(w[0], w[1])).ok_or(Overflow)
