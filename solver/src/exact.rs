@@ -248,7 +248,7 @@ fn next_same_size(x: u32) -> u32 {
 
 /// The shortest closed tour by the dynamic programme over subsets (Held and Karp 1962), exact for
 /// symmetric and asymmetric costs, for `n <= DP_LIMIT`. Time O(n^2 2^n), parallel over the
-/// subsets of each size; memory [`dp_memory_bytes`], refused with [`DpError::TooLarge`] before
+/// subsets of each size; memory `dp_memory_bytes`, refused with [`DpError::TooLarge`] before
 /// anything is allocated when above `memory_limit_bytes`.
 ///
 /// Node 0 is the start. For every nonempty subset `S` of the other nodes (relabelled
@@ -319,7 +319,7 @@ pub fn dynamic_programme<C: Cost + ?Sized>(
 /// The shortest visiting order with the given [`Ends`] by the dynamic programme: for a closed
 /// tour ([`Ends::Closed`], or `StartEnd(s, s)`) that of [`dynamic_programme`], rotated to start
 /// at `s`; for a path, the shortest closed tour of the costs with one dummy node
-/// ([`crate::transform::EndedCost`], exact because its penalty exceeds every difference of path
+/// (`crate::transform::EndedCost`, exact because its penalty exceeds every difference of path
 /// lengths), read off as a path. The order runs from the path's first node to its last, and
 /// `length` is the path's length on `cost`, without a return step. Paths take one node more
 /// than tours, so at most `DP_LIMIT - 1` nodes.

@@ -35,7 +35,7 @@ pub enum AssignmentError {
     TooManyNodes {
         /// Nodes in the instance.
         n: usize,
-        /// [`ASSIGNMENT_LIMIT`].
+        /// `ASSIGNMENT_LIMIT`.
         limit: usize,
     },
     /// Costs so large that sums of them could overflow.

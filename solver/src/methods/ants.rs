@@ -96,10 +96,10 @@ pub(crate) enum AntVariant {
 pub enum AntLocalSearch {
     /// Tours stay as the ants built them.
     None,
-    /// 2-opt and Or-opt moves ([`crate::moves::two_opt_or_opt`]); Or-opt only on asymmetric
+    /// 2-opt and Or-opt moves (`crate::moves::two_opt_or_opt`); Or-opt only on asymmetric
     /// costs.
     TwoOpt,
-    /// Lin–Kernighan-style moves ([`crate::methods::LinKernighan`]) on symmetric costs; on asymmetric
+    /// Lin–Kernighan-style moves (`crate::methods::LinKernighan`) on symmetric costs; on asymmetric
     /// costs the same as [`AntLocalSearch::TwoOpt`] (Or-opt only).
     Lk,
 }
@@ -132,7 +132,7 @@ impl AntLocalSearch {
 #[derive(Clone, Debug, PartialEq)]
 pub struct AntParams {
     /// Ants per generation, `m` in the papers. `None`: 10 for ant colony system; for MAX–MIN
-    /// ant system `n`, but at most [`MAX_MIN_COLONY`] with local search and twice that without.
+    /// ant system `n`, but at most `MAX_MIN_COLONY` with local search and twice that without.
     pub colony_size: Option<usize>,
     /// Exponent `alpha` of the trail in the choice rule (dimensionless). MAX–MIN ant system only;
     /// ant colony system uses 1. Default 1.

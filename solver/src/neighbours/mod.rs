@@ -27,8 +27,8 @@ pub enum CandidateSource {
     #[default]
     Quadrant,
     /// The alpha-nearest: edges that the cheapest 1-tree containing them makes least longer,
-    /// under penalties from a short Held–Karp ascent ([`alpha`]). Symmetric costs up to
-    /// [`alpha::ALPHA_LIMIT`] nodes; otherwise the same as `Quadrant`. Costs O(n²).
+    /// under penalties from a short Held–Karp ascent (`alpha`). Symmetric costs up to
+    /// `alpha::ALPHA_LIMIT` nodes; otherwise the same as `Quadrant`. Costs O(n²).
     Alpha,
 }
 

@@ -31,13 +31,13 @@ pub enum Method {
     /// Restarts of a construction followed by 2-opt and Or-opt over neighbour lists.
     TwoOpt,
     /// Iterated Lin–Kernighan-style search: LK moves plus Or-opt, double-bridge kicks, parallel
-    /// independent runs (see [`crate::methods::lk`]). The default.
+    /// independent runs (see `crate::methods::lk`). The default.
     Lk,
-    /// Ant colony system (see [`crate::methods::ants`]), ants built in parallel.
+    /// Ant colony system (see `crate::methods::ants`), ants built in parallel.
     Acs,
-    /// MAX–MIN ant system (see [`crate::methods::ants`]), ants built in parallel.
+    /// MAX–MIN ant system (see `crate::methods::ants`), ants built in parallel.
     MaxMin,
-    /// Simulated annealing over 2-opt, Or-opt and segment exchanges (see [`crate::methods::anneal`]),
+    /// Simulated annealing over 2-opt, Or-opt and segment exchanges (see `crate::methods::anneal`),
     /// independent runs per thread.
     Anneal,
 }
@@ -165,7 +165,7 @@ pub enum SolveError {
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
 pub enum AsymmetricMode {
     /// Lin–Kernighan moves on the symmetric transformation over `2n` nodes (Jonker and
-    /// Volgenant 1983; see [`crate::transform::twin`]), the tour mapped back to the caller's nodes.
+    /// Volgenant 1983; see `crate::transform::twin`), the tour mapped back to the caller's nodes.
     #[default]
     Transformed,
     /// Direction-keeping Or-opt moves and kicks on the costs as given.
@@ -276,8 +276,8 @@ pub(crate) const DEFAULT_LK_RUNS: usize = 2;
 
 impl<C: Cost> Solver<C> {
     /// A solver over `cost` with default options: method `lk`, seed 0, one thread per core.
-    /// Without a time limit, `lk` makes [`DEFAULT_LK_RUNS`] runs of [`lk::default_kicks`] kicks
-    /// each (and `2opt` makes [`DEFAULT_RESTARTS`] restarts).
+    /// Without a time limit, `lk` makes `DEFAULT_LK_RUNS` runs of `lk::default_kicks` kicks
+    /// each (and `2opt` makes `DEFAULT_RESTARTS` restarts).
     ///
     /// ```
     /// use wend::{CoordCost, Metric, Solver};
@@ -330,8 +330,8 @@ impl<C: Cost> Solver<C> {
     }
 
     /// Number of restarts (construction plus local search). Without a time limit the default
-    /// is [`DEFAULT_RESTARTS`]; with one, restarts continue until it unless this is set.
-    /// For `lk` this is the number of independent runs (default [`DEFAULT_LK_RUNS`] without a
+    /// is `DEFAULT_RESTARTS`; with one, restarts continue until it unless this is set.
+    /// For `lk` this is the number of independent runs (default `DEFAULT_LK_RUNS` without a
     /// time limit or with a kick budget; otherwise runs follow one another until the limit).
     pub fn restarts(mut self, restarts: usize) -> Self {
         self.restarts = Some(restarts.max(1));
@@ -341,7 +341,7 @@ impl<C: Cost> Solver<C> {
     /// Steps per run of an iterative method: kicks for `lk`, generations for the ant colonies,
     /// batches of moves at one temperature for `anneal`. With such a budget and no time limit
     /// (or one long enough), the same seed gives the same tour for any number of threads.
-    /// Without a time limit the default is [`default_iterations`].
+    /// Without a time limit the default is `default_iterations`.
     pub fn iterations(mut self, steps: u64) -> Self {
         self.kicks = Some(steps);
         self
@@ -431,7 +431,7 @@ impl<C: Cost> Solver<C> {
     }
 
     /// Which tour representation `lk` edits (by default the array below
-    /// [`crate::tour::TWO_LEVEL_FROM`] nodes, the two-level list from there on). The tour found
+    /// `crate::tour::TWO_LEVEL_FROM` nodes, the two-level list from there on). The tour found
     /// is the same either way; only the speed differs.
     pub fn layout(mut self, layout: Layout) -> Self {
         self.layout = layout;
@@ -440,7 +440,7 @@ impl<C: Cost> Solver<C> {
 
     /// Which ends the answer has: a closed tour (the default) or a path with free or fixed ends
     /// ([`Ends`]). Every method handles every variant through one dummy node (see
-    /// [`crate::transform::ends`]); the [`Solution`] then holds the path from its first node and its length
+    /// `crate::transform::ends`); the [`Solution`] then holds the path from its first node and its length
     /// without a return step. Fixed ends must be below the number of nodes
     /// ([`SolveError::Ends`] otherwise).
     ///
@@ -524,7 +524,7 @@ impl<C: Cost> Solver<C> {
 
     /// Bytes the search's large buffers will take, estimated before anything is allocated:
     /// neighbour lists, the tours and work arrays of the runs going at once, the trails of the
-    /// ant colonies (full tables up to [`crate::methods::DENSE_TRAILS_UP_TO`] nodes), and twice
+    /// ant colonies (full tables up to `crate::methods::DENSE_TRAILS_UP_TO` nodes), and twice
     /// the nodes when `lk` transforms asymmetric costs. A lower estimate of the process's use.
     pub fn memory_estimate(&self) -> usize {
         let n = self.cost.len();

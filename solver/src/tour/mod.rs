@@ -79,12 +79,12 @@ pub trait TourRepr {
 /// Which representation a search edits.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 pub enum Layout {
-    /// [`ArrayTour`] below [`TWO_LEVEL_FROM`] nodes, [`TwoLevelTour`] from there on.
+    /// `ArrayTour` below `TWO_LEVEL_FROM` nodes, `TwoLevelTour` from there on.
     #[default]
     Auto,
-    /// Always [`ArrayTour`].
+    /// Always `ArrayTour`.
     Array,
-    /// Always [`TwoLevelTour`].
+    /// Always `TwoLevelTour`.
     TwoLevel,
 }
 
@@ -93,7 +93,7 @@ pub enum Layout {
 pub(crate) const TWO_LEVEL_FROM: usize = 10_000;
 
 impl Layout {
-    /// True when a tour of `n` nodes should use [`TwoLevelTour`].
+    /// True when a tour of `n` nodes should use `TwoLevelTour`.
     pub fn two_level(self, n: usize) -> bool {
         match self {
             Layout::Auto => n >= TWO_LEVEL_FROM,
