@@ -5,7 +5,7 @@ Every reference to another module of the same crate (`use crate::a::b`, `crate::
 `super::x`, and names re-exported by a parent module) is an edge between the two sibling
 modules that hold the two ends below their closest common parent. A parent's ownership of its
 children is no edge, nor are references from a child to its parent's own items; code under
-`#[cfg(test)]` is left out. Between crates, the edges are the `[dependencies]` of each
+`#[cfg(test)]` is left out, and so are whole modules declared under it. Between crates, the edges are the `[dependencies]` of each
 package's Cargo.toml.
 
     python3 .ci/module_graph.py                # check every crate; exit 1 on a circle
@@ -162,8 +162,21 @@ def resolve(segs, mods, table, depth=0):
     return mod
 
 
+def test_only(mods):
+    """Modules declared under `#[cfg(test)]` (`#[cfg(test)] mod testing;`), with their children:
+    all of their code is test code."""
+    decl = re.compile(r"#\[cfg\(test\)\]\s*(?:pub(?:\([a-z]+\))?\s+)?mod\s+([A-Za-z_][A-Za-z0-9_]*)\s*;")
+    roots = set()
+    for mod, f in mods.items():
+        for m in decl.finditer(strip_comments(f.read_text())):
+            roots.add(mod + (m.group(1),))
+    return {m for m in mods if any(m[: len(r)] == r for r in roots)}
+
+
 def crate_edges(src):
     mods = modules_of(src)
+    for m in test_only(mods):
+        del mods[m]
     texts = {m: strip_tests(strip_comments(f.read_text())) for m, f in mods.items()}
     table = reexports(mods, texts)
     edges = {}

@@ -2,10 +2,10 @@
 //! variant of the heuristic against the dynamic programme's optimal path.
 
 use proptest::prelude::*;
-use wend::ends::path_length;
-use wend::exact::{optimal_path, DEFAULT_DP_MEMORY};
-use wend::prove::{prove_optimal, ProveOptions};
-use wend::tour::closed_length;
+use wend::closed_length;
+use wend::path_length;
+use wend::{optimal_path, DEFAULT_DP_MEMORY};
+use wend::{prove_optimal, ProveOptions};
 use wend::{AsymmetricMode, Cost, Ends, MatrixCost, Solution, SolveError, Solver, StopHandle};
 use wend_tests::instance;
 use wend_tsplib::read_instance;

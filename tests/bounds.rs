@@ -6,8 +6,8 @@
 use std::collections::BTreeMap;
 use std::path::Path;
 use std::time::{Duration, Instant};
-use wend::bound::{held_karp_bound, AscentOptions};
-use wend::branch::{branch_and_bound, BranchOptions};
+use wend::{branch_and_bound, BranchOptions};
+use wend::{held_karp_bound, AscentOptions};
 use wend::{StopHandle, Tour};
 use wend_tests::{all_instances, instance, instances_dir};
 use wend_tsplib::{parse_optima, read_instance};

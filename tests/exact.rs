@@ -1,7 +1,7 @@
 //! The dynamic programme over subsets (Held and Karp 1962) against published optima.
 
-use wend::exact::{dynamic_programme, DpError, DEFAULT_DP_MEMORY};
 use wend::Tour;
+use wend::{dynamic_programme, DpError, DEFAULT_DP_MEMORY};
 use wend_tests::instance;
 use wend_tsplib::read_instance;
 

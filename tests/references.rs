@@ -225,7 +225,7 @@ fn alpha_lists_hold_nearly_every_optimal_edge() {
         let opt = read_tour(&instances_dir().join("tours").join(tour)).unwrap();
         let order = &opt.nodes;
         let n = order.len();
-        let cover = |nb: &wend::candidates::Neighbours| {
+        let cover = |nb: &wend::Neighbours| {
             (0..n)
                 .filter(|&i| {
                     let (a, b) = (order[i], order[(i + 1) % n]);
@@ -234,8 +234,8 @@ fn alpha_lists_hold_nearly_every_optimal_edge() {
                 .count() as f64
                 / n as f64
         };
-        let alpha = wend::alpha::from_ascent(inst.cost(), 5).unwrap();
-        let nearest = wend::candidates::k_nearest(inst.cost(), 5);
+        let alpha = wend::internals::from_ascent(inst.cost(), 5).unwrap();
+        let nearest = wend::internals::k_nearest(inst.cost(), 5);
         let (ca, cn) = (cover(&alpha), cover(&nearest));
         assert!(
             ca >= 0.95,

@@ -357,7 +357,7 @@ fn solve_path(inst: &Path, extra: &[&str], dir: &Path) -> (serde_json::Value, Ve
     let mut sorted = file.nodes.clone();
     sorted.sort_unstable();
     assert_eq!(sorted, (0..instance.dimension).collect::<Vec<_>>());
-    let length = wend::ends::path_length(instance.cost(), &file.nodes).unwrap();
+    let length = wend::path_length(instance.cost(), &file.nodes).unwrap();
     assert_eq!(v["length"].as_i64(), Some(length), "{extra:?}");
     (v, file.nodes)
 }

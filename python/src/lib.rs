@@ -26,7 +26,7 @@ use pyo3::exceptions::{PyOSError, PyRuntimeError, PyValueError};
 use pyo3::prelude::*;
 use pyo3::types::{PyDict, PyList};
 
-use wend::prove::lower_bound;
+use wend::lower_bound;
 use wend::{CoordCost, Cost, Ends, MatrixCost, Method, Metric, Solution, Solver, StopHandle};
 use wend_sky::front::{search_front, Front, FrontOptions, FrontProgress};
 use wend_sky::output::{format_utc, parse_utc, plan_json, CAUTION, DEMO_START_UTC};

@@ -1,12 +1,12 @@
 //! Criterion benchmarks of the building blocks on random uniform instances.
-//! Run with `cargo bench -p wend --bench kernels`.
+//! Run with `cargo bench -p wend --features internals --bench kernels`.
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
 use rand::{Rng, SeedableRng};
-use wend::candidates::k_nearest;
-use wend::construct::greedy_edge;
-use wend::exact::{dynamic_programme, DEFAULT_DP_MEMORY};
-use wend::improve::{two_opt_or_opt, ArrayTour};
+use wend::internals::greedy_edge;
+use wend::internals::k_nearest;
+use wend::internals::{two_opt_or_opt, ArrayTour};
+use wend::{dynamic_programme, DEFAULT_DP_MEMORY};
 use wend::{CoordCost, Cost, MatrixCost, Metric};
 
 fn uniform(n: usize, seed: u64) -> CoordCost {

@@ -225,6 +225,14 @@ pub struct CoordCost {
 
 impl CoordCost {
     /// Costs between `points` under `metric`. For 2-D metrics the third component is ignored.
+    ///
+    /// ```
+    /// use wend::{Cost, CoordCost, Metric};
+    ///
+    /// let cube = CoordCost::new(Metric::Euc3d, vec![[0.0, 0.0, 0.0], [3.0, 4.0, 12.0]]).unwrap();
+    /// assert_eq!(cube.cost(0, 1), 13);
+    /// assert!(CoordCost::new(Metric::Euc3d, vec![[f64::NAN, 0.0, 0.0]]).is_err());
+    /// ```
     pub fn new(metric: Metric, points: Vec<[f64; 3]>) -> Result<Self, CostError> {
         let dims = metric.dims();
         let mut lo = [f64::INFINITY; 3];
@@ -289,6 +297,13 @@ impl CoordCost {
     }
 
     /// Costs between points in the plane.
+    ///
+    /// ```
+    /// use wend::{Cost, CoordCost, Metric};
+    ///
+    /// let pair = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [3.0, 4.0]]).unwrap();
+    /// assert_eq!(pair.cost(0, 1), 5);
+    /// ```
     pub fn plane(metric: Metric, points: &[[f64; 2]]) -> Result<Self, CostError> {
         Self::new(metric, points.iter().map(|p| [p[0], p[1], 0.0]).collect())
     }
@@ -394,6 +409,14 @@ pub struct MatrixCost {
 impl MatrixCost {
     /// A matrix from its rows, row-major (`weights[i * n + j]` is the cost from `i` to `j`).
     /// Symmetry is detected, not assumed.
+    ///
+    /// ```
+    /// use wend::{Cost, MatrixCost};
+    ///
+    /// let m = MatrixCost::from_row_major(2, vec![0, 7, 3, 0]).unwrap();
+    /// assert_eq!((m.cost(0, 1), m.cost(1, 0)), (7, 3));
+    /// assert!(MatrixCost::from_row_major(2, vec![0, 7, 3]).is_err()); // not 2 x 2
+    /// ```
     pub fn from_row_major(n: usize, weights: Vec<i64>) -> Result<Self, CostError> {
         let expected = n.checked_mul(n).ok_or(CostError::MatrixShape {
             n,
@@ -423,6 +446,14 @@ impl MatrixCost {
     }
 
     /// A matrix from nested rows; every row must have `rows.len()` entries.
+    ///
+    /// ```
+    /// use wend::{Cost, MatrixCost};
+    ///
+    /// let m = MatrixCost::from_rows(&[vec![0, 7], vec![3, 0]]).unwrap();
+    /// assert_eq!(m.cost(1, 0), 3);
+    /// assert!(!m.is_symmetric());
+    /// ```
     pub fn from_rows(rows: &[Vec<i64>]) -> Result<Self, CostError> {
         let n = rows.len();
         let mut weights = Vec::with_capacity(n * n);
@@ -474,6 +505,14 @@ pub struct FnCost<F> {
 
 impl<F: Fn(usize, usize) -> i64 + Sync> FnCost<F> {
     /// `n` nodes with costs `f(from, to)`, declared symmetric or not.
+    ///
+    /// ```
+    /// use wend::{Cost, FnCost};
+    ///
+    /// // Stations on a line, 5 apart.
+    /// let line = FnCost::new(4, true, |i, j| 5 * (i as i64 - j as i64).abs());
+    /// assert_eq!(line.cost(0, 3), 15);
+    /// ```
     pub fn new(n: usize, symmetric: bool, f: F) -> Self {
         FnCost { n, symmetric, f }
     }

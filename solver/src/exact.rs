@@ -2,17 +2,17 @@
 //! dynamic programme over subsets ([`dynamic_programme`], up to 24 nodes).
 
 use crate::cost::Cost;
-use crate::ends::{path_length, EndedCost, Ends};
+use crate::transform::{path_length, EndedCost, Ends};
 use rayon::prelude::*;
 
 /// Largest instance [`enumerate`] accepts: 8! = 40,320 orders with the first node fixed.
-pub const ENUMERATION_LIMIT: usize = 9;
+pub(crate) const ENUMERATION_LIMIT: usize = 9;
 
 /// The shortest closed tour by trying every order with node 0 first (and, when no cost is
 /// negative, pruning partial orders that are already no better than the best), for
 /// `n <= ENUMERATION_LIMIT`. Sums saturate, so a cost near `i64::MAX` cannot wrap; the caller
 /// checks the length of the result exactly.
-pub fn enumerate<C: Cost + ?Sized>(cost: &C) -> Option<Vec<usize>> {
+pub(crate) fn enumerate<C: Cost + ?Sized>(cost: &C) -> Option<Vec<usize>> {
     let n = cost.len();
     if n > ENUMERATION_LIMIT {
         return None;
@@ -127,7 +127,7 @@ pub enum DpError {
     Internal(&'static str),
     /// The ends asked of [`optimal_path`] are out of range, or their penalty could overflow.
     #[error(transparent)]
-    Ends(#[from] crate::ends::EndsError),
+    Ends(#[from] crate::transform::EndsError),
 }
 
 /// `bytes` in MiB or GiB, for messages.
@@ -145,7 +145,7 @@ fn human_bytes(bytes: usize) -> String {
 /// `(n-1) * 2^(n-2) * entry_bytes` for the table, `(n-1)^2 * entry_bytes` for the cost matrix the
 /// inner loop reads and `n^2 * 8` for the full `i64` matrix. Zero for `n < 2`; `None` if the
 /// count overflows `usize`.
-pub fn dp_memory_bytes(n: usize, entry_bytes: usize) -> Option<usize> {
+pub(crate) fn dp_memory_bytes(n: usize, entry_bytes: usize) -> Option<usize> {
     if n < 2 {
         return Some(0);
     }
@@ -248,7 +248,7 @@ fn next_same_size(x: u32) -> u32 {
 
 /// The shortest closed tour by the dynamic programme over subsets (Held and Karp 1962), exact for
 /// symmetric and asymmetric costs, for `n <= DP_LIMIT`. Time O(n^2 2^n), parallel over the
-/// subsets of each size; memory [`dp_memory_bytes`], refused with [`DpError::TooLarge`] before
+/// subsets of each size; memory `dp_memory_bytes`, refused with [`DpError::TooLarge`] before
 /// anything is allocated when above `memory_limit_bytes`.
 ///
 /// Node 0 is the start. For every nonempty subset `S` of the other nodes (relabelled
@@ -262,6 +262,14 @@ fn next_same_size(x: u32) -> u32 {
 /// `should_stop` is polled between batches of a few million additions; when it returns true the
 /// call ends with [`DpError::Stopped`]. The length is that of [`crate::tour::closed_length`]: 0
 /// for fewer than two nodes.
+///
+/// ```
+/// let rows = vec![vec![0, 2, 9], vec![1, 0, 6], vec![15, 7, 0]];
+/// let costs = wend::MatrixCost::from_rows(&rows).unwrap();
+/// let best = wend::dynamic_programme(&costs, wend::DEFAULT_DP_MEMORY, &mut || false).unwrap();
+/// assert_eq!(best.order, vec![0, 2, 1]);
+/// assert_eq!(best.length, 17);
+/// ```
 pub fn dynamic_programme<C: Cost + ?Sized>(
     cost: &C,
     memory_limit_bytes: usize,
@@ -311,10 +319,19 @@ pub fn dynamic_programme<C: Cost + ?Sized>(
 /// The shortest visiting order with the given [`Ends`] by the dynamic programme: for a closed
 /// tour ([`Ends::Closed`], or `StartEnd(s, s)`) that of [`dynamic_programme`], rotated to start
 /// at `s`; for a path, the shortest closed tour of the costs with one dummy node
-/// ([`crate::ends::EndedCost`], exact because its penalty exceeds every difference of path
+/// (`crate::transform::EndedCost`, exact because its penalty exceeds every difference of path
 /// lengths), read off as a path. The order runs from the path's first node to its last, and
 /// `length` is the path's length on `cost`, without a return step. Paths take one node more
 /// than tours, so at most `DP_LIMIT - 1` nodes.
+///
+/// ```
+/// use wend::{optimal_path, CoordCost, Ends, Metric, DEFAULT_DP_MEMORY};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// let path = optimal_path(&square, Ends::StartEnd(0, 1), DEFAULT_DP_MEMORY, &mut || false).unwrap();
+/// assert_eq!(path.order, vec![0, 3, 2, 1]); // the long way round: 1 is reached last
+/// assert_eq!(path.length, 30);
+/// ```
 pub fn optimal_path<C: Cost + ?Sized>(
     cost: &C,
     ends: Ends,

@@ -29,42 +29,57 @@
 //! assert_eq!(s.length, 17);
 //! ```
 //!
-//! Data flows one way: [`cost`] oracles give integer costs; [`candidates`] picks the few edges
-//! worth trying; [`construct`] builds starting tours; [`improve`] shortens them with local
-//! moves; [`search`] runs restarts in parallel under a deadline; [`Solver`] ties it together.
-//! The crate knows nothing of files or terminals: reading TSPLIB files and the command line
-//! live in the `wend-bench` crate.
+//! The crate is built in families of modules, each using only those below it: `control` (stop
+//! handle, deadlines, seeds, threads) and `cost` at the bottom; `tour`; `neighbours` (candidate
+//! lists); `construct` (starting tours); `moves` (2-opt, Or-opt); `methods` (the iterated
+//! searches and the loop that runs them); `bounds` and `exact` (lower bounds and proofs);
+//! `transform` (path ends, asymmetric costs); `solve` (the builder [`Solver`]) on top. What an
+//! embedding program needs is re-exported here. The crate knows nothing of files or terminals:
+//! reading TSPLIB files and the command line live in the `wend-bench` crate.
 
 #![warn(missing_docs)]
 // Input reaches almost every path here: failures are errors, never `unwrap`/`expect` panics.
 #![cfg_attr(not(test), deny(clippy::unwrap_used, clippy::expect_used))]
 
-pub mod alpha;
-pub mod anneal;
-pub mod ants;
-pub mod assignment;
-pub mod bound;
-pub mod branch;
-pub mod candidates;
-pub mod construct;
-pub mod cost;
-pub mod drive;
-pub mod ends;
-pub mod exact;
-pub mod improve;
-pub mod lk;
+mod bounds;
+mod construct;
+mod control;
+mod cost;
+mod exact;
 pub mod memory;
-pub mod prove;
-pub mod search;
-pub mod solver;
+mod methods;
+mod moves;
+mod neighbours;
+mod solve;
 #[cfg(test)]
 mod testing;
-pub mod tour;
-pub mod twin;
+mod tour;
+mod transform;
 
-pub use candidates::CandidateSource;
+pub use bounds::{
+    assignment_bound, branch_and_bound, held_karp_bound, Ascent, AscentOptions, AssignmentBound,
+    AssignmentError, BoundError, BranchOptions, Proof,
+};
+pub use control::{Improvement, StopHandle, StopReason};
 pub use cost::{CoordCost, Cost, CostError, FnCost, Geometry, MatrixCost, Metric};
-pub use ends::Ends;
-pub use search::{Improvement, StopHandle, StopReason};
-pub use solver::{AsymmetricMode, Method, Solution, SolveError, Solver};
-pub use tour::{Layout, Overflow, Tour, TourError};
+pub use exact::{dynamic_programme, optimal_path, DpError, DpTour, DEFAULT_DP_MEMORY, DP_LIMIT};
+pub use memory::MemoryError;
+pub use methods::{AnnealParams, AntLocalSearch, AntParams, CoolingSchedule};
+pub use neighbours::{candidates, CandidateSource, ListError, Neighbours};
+pub use solve::{
+    lower_bound, prove_optimal, AsymmetricMode, Certificate, ExactMethod, LowerBoundError, Method,
+    ProveError, ProveOptions, Solution, SolveError, Solver, DEFAULT_NEIGHBOURS,
+};
+pub use tour::{closed_length, Layout, Overflow, Tour, TourError};
+pub use transform::{path_length, Ends, EndsError};
+
+/// Building blocks for the crate's own benchmarks and reference tests, outside the stable
+/// surface: only with the non-default feature `internals`.
+#[cfg(feature = "internals")]
+pub mod internals {
+    pub use crate::construct::greedy_edge;
+    pub use crate::moves::two_opt_or_opt;
+    pub use crate::neighbours::alpha::from_ascent;
+    pub use crate::neighbours::k_nearest;
+    pub use crate::tour::{ArrayTour, TourRepr};
+}

@@ -5,8 +5,8 @@ use clap::Args;
 use serde_json::json;
 use std::path::PathBuf;
 use std::time::Duration;
-use wend::assignment::assignment_bound;
-use wend::bound::{held_karp_bound, AscentOptions};
+use wend::assignment_bound;
+use wend::{held_karp_bound, AscentOptions};
 
 #[derive(Args, Debug)]
 pub struct BoundArgs {

@@ -6,7 +6,7 @@ use serde_json::json;
 use std::io::IsTerminal;
 use std::path::PathBuf;
 use std::time::Duration;
-use wend::prove::{lower_bound, prove_optimal, ExactMethod, ProveOptions};
+use wend::{lower_bound, prove_optimal, ExactMethod, ProveOptions};
 use wend::{CandidateSource, Ends, Layout, Method, Solver};
 
 #[derive(Args, Debug)]
@@ -48,7 +48,7 @@ pub struct SolveArgs {
     #[arg(long, default_value = "lk")]
     method: String,
     /// Width of the neighbour lists the moves look at.
-    #[arg(long, default_value_t = wend::solver::DEFAULT_NEIGHBOURS)]
+    #[arg(long, default_value_t = wend::DEFAULT_NEIGHBOURS)]
     neighbours: usize,
     /// Where the neighbour lists come from: quadrant (the nearest few in each quadrant around a
     /// node, topped up with the nearest; helps on clustered instances), nearest, or alpha

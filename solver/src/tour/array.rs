@@ -1,7 +1,7 @@
 //! The array representation: a visiting order plus each node's position.
 
 use super::TourRepr;
-use crate::improve::MAX_SEGMENT;
+use super::MAX_SEGMENT;
 
 /// A tour as an array plus the position of each node, so that successor, predecessor and
 /// "is between" are O(1) and a reversal costs the length of the shorter side.
@@ -22,11 +22,13 @@ impl ArrayTour {
     }
 
     /// Number of nodes.
+    #[cfg_attr(not(feature = "internals"), allow(dead_code))] // for `internals` callers
     pub fn len(&self) -> usize {
         self.order.len()
     }
 
     /// True when there are no nodes.
+    #[cfg_attr(not(feature = "internals"), allow(dead_code))] // for `internals` callers
     pub fn is_empty(&self) -> bool {
         self.order.is_empty()
     }

@@ -19,7 +19,10 @@ mod array;
 mod two_level;
 
 pub use array::ArrayTour;
-pub use two_level::TwoLevelTour;
+pub(crate) use two_level::TwoLevelTour;
+
+/// Longest segment an Or-opt move relocates (and [`TourRepr::move_segment`] moves).
+pub(crate) const MAX_SEGMENT: usize = 3;
 
 /// A closed tour that local moves edit in place.
 ///
@@ -34,6 +37,7 @@ pub trait TourRepr {
     /// Number of nodes.
     fn len(&self) -> usize;
     /// True when there are no nodes.
+    #[cfg_attr(not(feature = "internals"), allow(dead_code))] // for `internals` callers
     fn is_empty(&self) -> bool {
         self.len() == 0
     }
@@ -47,7 +51,7 @@ pub trait TourRepr {
     /// complementary path is reversed instead when it has fewer nodes (the same cycle, with the
     /// other orientation); a path of all `n` nodes is then left alone.
     fn reverse(&mut self, from: usize, to: usize, keep_direction: bool);
-    /// Moves the segment of `len` (at most [`crate::improve::MAX_SEGMENT`]) nodes starting at
+    /// Moves the segment of `len` (at most [`MAX_SEGMENT`]) nodes starting at
     /// `s1` (walking forward) to between `c` and its successor; every node keeps its direction.
     /// `c` must not be in the segment and must not be the segment's predecessor.
     fn move_segment(&mut self, s1: usize, len: usize, c: usize);
@@ -55,6 +59,7 @@ pub trait TourRepr {
     /// then some rotation of the cycle, forward.
     fn stored_order(&self) -> Vec<usize>;
     /// [`TourRepr::stored_order`], consuming the tour.
+    #[cfg_attr(not(feature = "internals"), allow(dead_code))] // for `internals` callers
     fn into_stored_order(self) -> Vec<usize>
     where
         Self: Sized;
@@ -74,21 +79,21 @@ pub trait TourRepr {
 /// Which representation a search edits.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 pub enum Layout {
-    /// [`ArrayTour`] below [`TWO_LEVEL_FROM`] nodes, [`TwoLevelTour`] from there on.
+    /// `ArrayTour` below `TWO_LEVEL_FROM` nodes, `TwoLevelTour` from there on.
     #[default]
     Auto,
-    /// Always [`ArrayTour`].
+    /// Always `ArrayTour`.
     Array,
-    /// Always [`TwoLevelTour`].
+    /// Always `TwoLevelTour`.
     TwoLevel,
 }
 
 /// Size from which [`Layout::Auto`] uses [`TwoLevelTour`]: measured crossover of kicks per
 /// second on 2 cores (array ahead by 14 % at 4,461 nodes, behind by 10 % at 14,051).
-pub const TWO_LEVEL_FROM: usize = 10_000;
+pub(crate) const TWO_LEVEL_FROM: usize = 10_000;
 
 impl Layout {
-    /// True when a tour of `n` nodes should use [`TwoLevelTour`].
+    /// True when a tour of `n` nodes should use `TwoLevelTour`.
     pub fn two_level(self, n: usize) -> bool {
         match self {
             Layout::Auto => n >= TWO_LEVEL_FROM,
@@ -138,6 +143,12 @@ pub struct Overflow;
 
 impl Tour {
     /// Checks that `order` is a permutation of `0..n`.
+    ///
+    /// ```
+    /// let tour = wend::Tour::new(vec![2, 0, 1], 3).unwrap();
+    /// assert_eq!(tour.order(), &[2, 0, 1]);
+    /// assert!(wend::Tour::new(vec![0, 0, 1], 3).is_err()); // node 0 twice
+    /// ```
     pub fn new(order: Vec<usize>, n: usize) -> Result<Tour, TourError> {
         if order.len() != n {
             return Err(TourError::WrongLength {
@@ -198,6 +209,14 @@ impl Tour {
 
 /// Exact length of the closed tour `order` (sum of consecutive costs and the closing step).
 /// A single node has length 0: there is no step to take.
+///
+/// ```
+/// use wend::{closed_length, CoordCost, Metric};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// assert_eq!(closed_length(&square, &[0, 1, 2, 3]), Ok(40));
+/// assert_eq!(closed_length(&square, &[0, 2, 1, 3]), Ok(48));
+/// ```
 pub fn closed_length<C: Cost + ?Sized>(cost: &C, order: &[usize]) -> Result<i64, Overflow> {
     if order.len() < 2 {
         return Ok(0);

@@ -26,7 +26,7 @@ struct Segment {
 /// successor and predecessor, O(sqrt(n)) reversal. See the [module](super) for the contract it
 /// shares with [`super::ArrayTour`].
 #[derive(Clone, Debug)]
-pub struct TwoLevelTour {
+pub(crate) struct TwoLevelTour {
     n: usize,
     /// Segment of each node.
     seg: Vec<u32>,
@@ -43,7 +43,7 @@ pub struct TwoLevelTour {
 
 impl TwoLevelTour {
     /// Wraps a visiting order (a permutation of `0..order.len()`).
-    pub fn new(order: Vec<usize>) -> Self {
+    pub(crate) fn new(order: Vec<usize>) -> Self {
         let n = order.len();
         let size = ((n as f64).sqrt().round() as usize).max(8);
         let mut t = TwoLevelTour {
@@ -61,6 +61,7 @@ impl TwoLevelTour {
     }
 
     /// Number of segments (for tests and tuning).
+    #[cfg(test)]
     pub fn segments(&self) -> usize {
         self.ring.len()
     }

@@ -1,5 +1,5 @@
-//! What the searches share: the stop handle, improvement reports and stop reasons, starting
-//! tours, seeds and threads.
+//! What every search shares, below everything else: the stop handle, improvement reports and
+//! stop reasons, deadlines, seeds and threads. This module uses nothing else of the crate.
 //!
 //! Restart `r` draws its random numbers from a generator seeded by (seed, r) alone, and the
 //! answer is the best result by (length, restart index). So the answer does not depend on which
@@ -7,11 +7,6 @@
 //! seed gives the same tour for any number of threads. Only a deadline, which cuts the number of
 //! restarts, can make two runs differ.
 
-use crate::candidates::Neighbours;
-use crate::construct;
-use crate::cost::Cost;
-use rand::Rng;
-use rand_pcg::Pcg64;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::Arc;
 use std::time::{Duration, Instant};
@@ -25,6 +20,14 @@ pub struct StopHandle(Arc<AtomicBool>);
 
 impl StopHandle {
     /// A handle that has not been triggered.
+    ///
+    /// ```
+    /// let stop = wend::StopHandle::new();
+    /// let copy = stop.clone(); // for another thread or a signal handler
+    /// assert!(!stop.is_stopped());
+    /// copy.stop();
+    /// assert!(stop.is_stopped());
+    /// ```
     pub fn new() -> Self {
         Self::default()
     }
@@ -36,20 +39,6 @@ impl StopHandle {
     pub fn is_stopped(&self) -> bool {
         self.0.load(Ordering::Relaxed)
     }
-}
-
-/// How the starting tour of each restart is built.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Start {
-    /// Nearest neighbour from a random node.
-    NearestNeighbour,
-    /// Greedy edge (the first restart without noise, later ones with random noise).
-    GreedyEdge,
-    /// Hilbert curve (a random shift of the curve for later restarts); nearest neighbour when
-    /// the costs have no geometry.
-    SpaceFillingCurve,
-    /// Greedy first, then the curve, then alternating noisy greedy and nearest neighbour.
-    Mixed,
 }
 
 /// One new best tour, as reported to observers.
@@ -108,52 +97,6 @@ pub(crate) fn mix(seed: u64, r: u64) -> u64 {
     z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
     z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
     z ^ (z >> 31)
-}
-
-pub(crate) fn start_tour<C: Cost + ?Sized>(
-    cost: &C,
-    nb: &Neighbours,
-    start: Start,
-    r: usize,
-    rng: &mut Pcg64,
-    should_stop: &mut dyn FnMut() -> bool,
-) -> Vec<usize> {
-    let n = cost.len();
-    let nn = |rng: &mut Pcg64| {
-        let s = if r == 0 {
-            0
-        } else {
-            rng.gen_range(0..n.max(1))
-        };
-        construct::nearest_neighbour(cost, nb, s)
-    };
-    let curve = |rng: &mut Pcg64| {
-        let shift = if r == 0 {
-            [0.0, 0.0]
-        } else {
-            [rng.gen::<f64>(), rng.gen::<f64>()]
-        };
-        construct::space_filling_curve(cost, shift)
-    };
-    let noise = if r == 0 { 0.0 } else { 0.3 };
-    // A greedy start given up at a stop request or the deadline: the curve, which takes a
-    // fraction of the time (or the nodes in order, without geometry), so a tour is at hand.
-    let mut greedy = |noise: f64, rng: &mut Pcg64| {
-        construct::greedy_edge_until(cost, nb, noise, rng, should_stop)
-            .or_else(|| construct::space_filling_curve(cost, [0.0, 0.0]))
-            .unwrap_or_else(|| (0..n).collect())
-    };
-    match start {
-        Start::NearestNeighbour => nn(rng),
-        Start::GreedyEdge => greedy(noise, rng),
-        Start::SpaceFillingCurve => curve(rng).unwrap_or_else(|| nn(rng)),
-        Start::Mixed => match r {
-            0 => greedy(0.0, rng),
-            1 => curve(rng).unwrap_or_else(|| nn(rng)),
-            r if r % 2 == 0 => greedy(0.3, rng),
-            _ => nn(rng),
-        },
-    }
 }
 
 /// A deadline `limit` after `began`, or none.

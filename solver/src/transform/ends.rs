@@ -33,8 +33,8 @@
 //! repairs it by moving the fixed nodes to their places, so the answer is always a permutation
 //! with the requested ends, and its length is always computed on the caller's costs.
 
-use crate::candidates::{candidates, CandidateSource, Neighbours};
 use crate::cost::Cost;
+use crate::neighbours::{candidates, CandidateSource, Neighbours};
 use crate::tour::Overflow;
 
 /// Which ends a visiting order has. Node ids are the caller's, `0..n`.
@@ -144,6 +144,13 @@ pub enum EndsError {
 
 /// Exact length of the path `order`: the sum of consecutive steps, no return step. Zero for
 /// fewer than two nodes.
+///
+/// ```
+/// use wend::{path_length, CoordCost, Metric};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// assert_eq!(path_length(&square, &[0, 1, 2, 3]), Ok(30)); // no step back from 3 to 0
+/// ```
 pub fn path_length<C: Cost + ?Sized>(cost: &C, order: &[usize]) -> Result<i64, Overflow> {
     order.windows(2).try_fold(0i64, |total, w| {
         total.checked_add(cost.cost(w[0], w[1])).ok_or(Overflow)
@@ -177,7 +184,7 @@ pub(crate) fn cost_range<C: Cost + ?Sized>(cost: &C) -> (i64, i64) {
 
 /// The caller's costs with one dummy node `n` added, so that the shortest closed tour is the
 /// shortest path with the requested [`Ends`] (see the [module documentation](self)).
-pub struct EndedCost<'a, C: Cost + ?Sized> {
+pub(crate) struct EndedCost<'a, C: Cost + ?Sized> {
     inner: &'a C,
     n: usize,
     ends: Ends,
@@ -193,7 +200,7 @@ impl<'a, C: Cost + ?Sized> EndedCost<'a, C> {
     /// The augmented costs for `ends`, which must be a path variant with ends in range and
     /// `inner` at least one node. Refuses when the penalty could make lengths overflow: every
     /// closed tour of the `n + 1` nodes, plus a few moves' worth of costs, must fit in `i64`.
-    pub fn new(inner: &'a C, ends: Ends) -> Result<Self, EndsError> {
+    pub(crate) fn new(inner: &'a C, ends: Ends) -> Result<Self, EndsError> {
         let n = inner.len();
         ends.check(n)?;
         debug_assert!(ends.is_path());
@@ -223,19 +230,15 @@ impl<'a, C: Cost + ?Sized> EndedCost<'a, C> {
         })
     }
 
-    /// The dummy node's index, `n`.
-    pub fn dummy(&self) -> usize {
-        self.n
-    }
-
     /// The penalty `B` on a step at the dummy node that the ends forbid.
+    #[cfg(test)]
     pub fn penalty(&self) -> i64 {
         self.penalty
     }
 
     /// What a closed tour with the requested ends pays at the dummy node on top of its path:
     /// `B` for symmetric `Start` or `End`, 0 otherwise.
-    pub fn offset(&self) -> i64 {
+    pub(crate) fn offset(&self) -> i64 {
         if self.symmetric && matches!(self.ends, Ends::Start(_) | Ends::End(_)) {
             self.penalty
         } else {
@@ -246,13 +249,13 @@ impl<'a, C: Cost + ?Sized> EndedCost<'a, C> {
     /// The path length a closed-tour length of the augmented costs stands for, when the tour has
     /// the requested ends (judged from the length alone: a tour with a wrong end pays at least
     /// `B` more, which takes it above every path); `None` otherwise.
-    pub fn path_length_of(&self, tour_length: i64) -> Option<i64> {
+    pub(crate) fn path_length_of(&self, tour_length: i64) -> Option<i64> {
         let p = tour_length.checked_sub(self.offset())?;
         (p <= self.path_max).then_some(p)
     }
 
     /// The closed-tour length of the augmented costs that a path of length `path` has.
-    pub fn tour_length_of(&self, path: i64) -> Option<i64> {
+    pub(crate) fn tour_length_of(&self, path: i64) -> Option<i64> {
         path.checked_add(self.offset())
     }
 
@@ -290,7 +293,7 @@ impl<'a, C: Cost + ?Sized> EndedCost<'a, C> {
     /// the node before it (for symmetric costs turned round if that puts the fixed ends in
     /// place). If the tour's ends are still wrong, the fixed nodes are moved to their places;
     /// the result is always a permutation of `0..n` with the requested ends.
-    pub fn path_from_tour(&self, tour: &[usize]) -> Vec<usize> {
+    pub(crate) fn path_from_tour(&self, tour: &[usize]) -> Vec<usize> {
         let d = self.n;
         let mut path: Vec<usize> = match tour.iter().position(|&v| v == d) {
             Some(p) => tour[p + 1..]
@@ -315,7 +318,7 @@ impl<'a, C: Cost + ?Sized> EndedCost<'a, C> {
     /// node's list gains the dummy node, the dummy's list holds the nodes it is cheapest to
     /// reach (the fixed ends first), all sorted by the augmented costs. Lists of width
     /// `nb.k() + 1`; falls back to a scan of the augmented costs if they cannot be built.
-    pub fn neighbours(&self, nb: &Neighbours, source: CandidateSource) -> Neighbours {
+    pub(crate) fn neighbours(&self, nb: &Neighbours, source: CandidateSource) -> Neighbours {
         let n = self.n;
         let k = nb.k();
         let width = k + 1;

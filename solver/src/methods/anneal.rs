@@ -43,7 +43,7 @@
 //! takes one to two milliseconds; the `should_stop` callback is polled every few thousand
 //! proposals, so large instances stop promptly too.
 //!
-//! **Schedules** ([`Schedule`]):
+//! **Schedules** ([`CoolingSchedule`]):
 //! - `geometric`: `T <- cooling * T` after each batch (Kirkpatrick et al. 1983).
 //! - `adaptive` (our own rule): the step in `ln T` after a batch is
 //!   `rate_step / s`, kept within a quarter and four times the geometric step `-ln(cooling)`,
@@ -73,17 +73,17 @@
 //! best order is copied (and checked against [`closed_length`] in debug builds) when the tour
 //! is about to leave a new best, or at the end of the batch.
 
-use crate::candidates::Neighbours;
+use super::drive::Iterative;
 use crate::cost::Cost;
-use crate::drive::Iterative;
-use crate::improve::{two_opt_or_opt, MAX_SEGMENT};
-use crate::tour::{closed_length, ArrayTour, Tour};
+use crate::moves::two_opt_or_opt;
+use crate::neighbours::Neighbours;
+use crate::tour::{closed_length, ArrayTour, Tour, MAX_SEGMENT};
 use rand::Rng;
 use rand_pcg::Pcg64;
 
 /// How the temperature falls between reheats.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
-pub enum Schedule {
+pub enum CoolingSchedule {
     /// `T <- cooling * T` after every batch.
     #[default]
     Geometric,
@@ -91,20 +91,20 @@ pub enum Schedule {
     Adaptive,
 }
 
-impl Schedule {
+impl CoolingSchedule {
     /// Every schedule, for option parsing.
-    pub const ALL: [Schedule; 2] = [Schedule::Geometric, Schedule::Adaptive];
+    pub const ALL: [CoolingSchedule; 2] = [CoolingSchedule::Geometric, CoolingSchedule::Adaptive];
 
     /// The name as [`AnnealParams::set`] takes it.
     pub fn name(self) -> &'static str {
         match self {
-            Schedule::Geometric => "geometric",
-            Schedule::Adaptive => "adaptive",
+            CoolingSchedule::Geometric => "geometric",
+            CoolingSchedule::Adaptive => "adaptive",
         }
     }
 
     /// The schedule of this name.
-    pub fn from_name(name: &str) -> Option<Schedule> {
+    pub fn from_name(name: &str) -> Option<CoolingSchedule> {
         Self::ALL.into_iter().find(|s| s.name() == name)
     }
 }
@@ -115,7 +115,7 @@ impl Schedule {
 #[derive(Clone, Debug, PartialEq)]
 pub struct AnnealParams {
     /// How the temperature falls between reheats.
-    pub schedule: Schedule,
+    pub schedule: CoolingSchedule,
     /// Geometric cooling factor per batch, in (0, 1): the temperature after a batch is this
     /// times the one before. The adaptive schedule takes `-ln(cooling)` as its reference step.
     pub cooling: f64,
@@ -152,7 +152,7 @@ impl Default for AnnealParams {
     /// and 1.1 % on pr1002, whose first cooling takes about 3.5 s (cooling time grows with n).
     fn default() -> Self {
         AnnealParams {
-            schedule: Schedule::Geometric,
+            schedule: CoolingSchedule::Geometric,
             cooling: 0.98,
             batch: 100,
             start_acceptance: 0.5,
@@ -210,11 +210,18 @@ impl AnnealParams {
 
     /// Sets the parameter named `key` (one of [`AnnealParams::KEYS`]) from text. The error
     /// names the key and what it accepts.
+    ///
+    /// ```
+    /// let mut params = wend::AnnealParams::default();
+    /// params.set("schedule", "adaptive").unwrap();
+    /// assert_eq!(params.schedule, wend::CoolingSchedule::Adaptive);
+    /// assert!(params.set("schedule", "fast").is_err());
+    /// ```
     pub fn set(&mut self, key: &str, value: &str) -> Result<(), String> {
         let v = value.trim();
         match key {
             "schedule" => {
-                self.schedule = Schedule::from_name(v).ok_or_else(|| {
+                self.schedule = CoolingSchedule::from_name(v).ok_or_else(|| {
                     format!("schedule: expected geometric or adaptive, got '{value}'")
                 })?;
             }
@@ -344,7 +351,7 @@ enum Move {
 }
 
 /// One run of simulated annealing: a tour, its temperature and the best tour seen.
-pub struct Annealer<'a, C: Cost + ?Sized> {
+pub(crate) struct Annealer<'a, C: Cost + ?Sized> {
     cost: &'a C,
     nb: &'a Neighbours,
     params: AnnealParams,
@@ -378,7 +385,7 @@ impl<'a, C: Cost + ?Sized> Annealer<'a, C> {
     /// Instances of fewer than five nodes are solved at once by trying every order; the run
     /// is then [`Iterative::finished`], as it is when the candidate lists are empty or the
     /// starting tour's length overflows.
-    pub fn start(
+    pub(crate) fn start(
         cost: &'a C,
         nb: &'a Neighbours,
         params: &AnnealParams,
@@ -437,36 +444,31 @@ impl<'a, C: Cost + ?Sized> Annealer<'a, C> {
     }
 
     /// The temperature the next batch runs at (cost units).
+    #[cfg(test)]
     pub fn temperature(&self) -> f64 {
         self.temperature
     }
 
-    /// The start temperature `T0` measured on the starting tour (cost units).
-    pub fn start_temperature(&self) -> f64 {
-        self.t0
-    }
-
     /// Share of the valid proposals of the last batch that were accepted (0 before the first).
+    #[cfg(test)]
     pub fn last_acceptance_rate(&self) -> f64 {
         self.last_rate
     }
 
     /// Length of the current tour (exact, kept by the integer deltas).
+    #[cfg(test)]
     pub fn current_length(&self) -> i64 {
         self.length
     }
 
     /// The current tour, in the array's order.
+    #[cfg(test)]
     pub fn current_order(&self) -> &[usize] {
         self.tour.order()
     }
 
-    /// Batches run so far.
-    pub fn batches(&self) -> u64 {
-        self.batches
-    }
-
     /// Reheats so far.
+    #[cfg(test)]
     pub fn reheats(&self) -> u64 {
         self.reheats
     }
@@ -708,8 +710,8 @@ impl<'a, C: Cost + ?Sized> Annealer<'a, C> {
     fn cooled(&mut self) -> f64 {
         let h_geo = -self.params.cooling.ln();
         let h = match self.params.schedule {
-            Schedule::Geometric => h_geo,
-            Schedule::Adaptive => {
+            CoolingSchedule::Geometric => h_geo,
+            CoolingSchedule::Adaptive => {
                 let r = self.last_rate;
                 if let Some(pr) = self.prev_rate {
                     if self.last_step > 0.0 {
@@ -863,10 +865,10 @@ fn shortest_by_trying_all<C: Cost + ?Sized>(cost: &C, order: Vec<usize>) -> Vec<
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::candidates::k_nearest;
+    use crate::control::{StopHandle, StopReason};
     use crate::cost::{CoordCost, MatrixCost, Metric};
-    use crate::drive::{drive, LoopPlan};
-    use crate::search::{StopHandle, StopReason};
+    use crate::methods::{drive, LoopPlan};
+    use crate::neighbours::k_nearest;
     use crate::testing::{random_costs, shuffled};
     use proptest::prelude::*;
     use rand::{Rng, SeedableRng};
@@ -898,7 +900,7 @@ mod tests {
         let c = CoordCost::plane(Metric::Euc2d, &points(200, 7)).unwrap();
         let nb = k_nearest(&c, 10);
         let params = AnnealParams {
-            schedule: Schedule::Geometric,
+            schedule: CoolingSchedule::Geometric,
             cooling: 0.9,
             batch: 20,
             reheat_after: 0,
@@ -1038,10 +1040,13 @@ mod tests {
                 }
                 (a.best_order(), a.best_length())
             };
-            for schedule in Schedule::ALL {
+            for schedule in CoolingSchedule::ALL {
                 assert_eq!(run(3, schedule), run(3, schedule));
             }
-            assert_ne!(run(3, Schedule::Geometric).0, run(4, Schedule::Geometric).0);
+            assert_ne!(
+                run(3, CoolingSchedule::Geometric).0,
+                run(4, CoolingSchedule::Geometric).0
+            );
         }
     }
 
@@ -1061,7 +1066,7 @@ mod tests {
         let c = CoordCost::plane(Metric::Euc2d, &pts).unwrap();
         let hull = closed_length(&c, &perm).unwrap();
         let nb = k_nearest(&c, 8);
-        for schedule in Schedule::ALL {
+        for schedule in CoolingSchedule::ALL {
             let params = AnnealParams {
                 schedule,
                 batch: 50,
@@ -1141,7 +1146,7 @@ mod tests {
             assert_eq!(p.set(key, value), Ok(()), "{key}");
         }
         let expected = AnnealParams {
-            schedule: Schedule::Adaptive,
+            schedule: CoolingSchedule::Adaptive,
             cooling: 0.9,
             batch: 7,
             start_acceptance: 0.3,

@@ -1,19 +1,20 @@
 //! The embedding API: a builder that takes costs and options and returns a [`Solution`].
 
-use crate::anneal::{AnnealParams, Annealer};
-use crate::ants::{AntParams, AntVariant, Colony};
-use crate::assignment::{assignment_bound, patch_cover};
-use crate::candidates::{candidates_until, CandidateSource, Neighbours};
+use crate::bounds::{assignment_bound, patch_cover};
 use crate::construct;
+use crate::construct::{start_tour, Start};
+use crate::control::{self, Improvement, StopHandle, StopReason};
 use crate::cost::{Cost, CostError, FnCost, MatrixCost};
-use crate::drive::{drive, Iterative, LoopPlan};
-use crate::ends::{path_length, EndedCost, Ends, EndsError};
 use crate::exact;
-use crate::improve::two_opt_or_opt;
-use crate::lk::{self, LkParams, LkPlan};
-use crate::search::{self, start_tour, Improvement, Start, StopHandle, StopReason};
+use crate::methods::{default_kicks, iterated, LkParams, LkPlan};
+use crate::methods::{drive, Iterative, LoopPlan};
+use crate::methods::{AnnealParams, Annealer};
+use crate::methods::{AntParams, AntVariant, Colony};
+use crate::moves::two_opt_or_opt;
+use crate::neighbours::{candidates_until, CandidateSource, Neighbours};
 use crate::tour::{closed_length, ArrayTour, Layout, Overflow, Tour};
-use crate::twin::{TwinCost, TwinTooLarge};
+use crate::transform::{path_length, EndedCost, Ends, EndsError};
+use crate::transform::{TwinCost, TwinTooLarge};
 use rand_pcg::Pcg64;
 use std::sync::Mutex;
 use std::time::{Duration, Instant};
@@ -30,13 +31,13 @@ pub enum Method {
     /// Restarts of a construction followed by 2-opt and Or-opt over neighbour lists.
     TwoOpt,
     /// Iterated Lin–Kernighan-style search: LK moves plus Or-opt, double-bridge kicks, parallel
-    /// independent runs (see [`crate::lk`]). The default.
+    /// independent runs (see `crate::methods::lk`). The default.
     Lk,
-    /// Ant colony system (see [`crate::ants`]), ants built in parallel.
+    /// Ant colony system (see `crate::methods::ants`), ants built in parallel.
     Acs,
-    /// MAX–MIN ant system (see [`crate::ants`]), ants built in parallel.
+    /// MAX–MIN ant system (see `crate::methods::ants`), ants built in parallel.
     MaxMin,
-    /// Simulated annealing over 2-opt, Or-opt and segment exchanges (see [`crate::anneal`]),
+    /// Simulated annealing over 2-opt, Or-opt and segment exchanges (see `crate::methods::anneal`),
     /// independent runs per thread.
     Anneal,
 }
@@ -164,7 +165,7 @@ pub enum SolveError {
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
 pub enum AsymmetricMode {
     /// Lin–Kernighan moves on the symmetric transformation over `2n` nodes (Jonker and
-    /// Volgenant 1983; see [`crate::twin`]), the tour mapped back to the caller's nodes.
+    /// Volgenant 1983; see `crate::transform::twin`), the tour mapped back to the caller's nodes.
     #[default]
     Transformed,
     /// Direction-keeping Or-opt moves and kicks on the costs as given.
@@ -234,20 +235,20 @@ pub struct Solver<C> {
 }
 
 /// Asymmetric instances from `PATCH_FROM` to `PATCH_LIMIT` nodes start their first `lk` run
-/// from the patched assignment cover ([`crate::assignment::patch_cover`]). Above the limit the
+/// from the patched assignment cover ([`crate::bounds::patch_cover`]). Above the limit the
 /// Hungarian method (O(n³): about a second at 2,000 nodes, eight at 4,000, on one core) costs
 /// too much of a run. Below `PATCH_FROM` the kicks cover the instance many times over, so the
 /// start matters little (ten 10-second runs on each TSPLIB ATSP instance: optimal in 64 of 70
 /// runs with the patched start, 63 with greedy starts), and greedy starts keep the runs apart
 /// where the patched one puts every first run in one basin (ftv38: 0.13 % above the optimum in
 /// 5 of 10 runs, against 1 of 10 with greedy starts).
-pub const PATCH_LIMIT: usize = 3_000;
+pub(crate) const PATCH_LIMIT: usize = 3_000;
 /// See [`PATCH_LIMIT`].
-pub const PATCH_FROM: usize = 200;
+pub(crate) const PATCH_FROM: usize = 200;
 
 /// Independent runs of an iterative method when neither a time limit nor a run count is given,
 /// or when an iteration budget is: one colony for the ant methods, [`DEFAULT_LK_RUNS`] otherwise.
-pub fn default_runs(method: Method) -> usize {
+pub(crate) fn default_runs(method: Method) -> usize {
     match method {
         Method::Acs | Method::MaxMin => 1,
         _ => DEFAULT_LK_RUNS,
@@ -257,26 +258,34 @@ pub fn default_runs(method: Method) -> usize {
 /// Steps per run of an iterative method without a time limit or stall limit: kicks for `lk`
 /// ([`lk::default_kicks`]), 100 generations for the ant colonies, 500 batches of moves for
 /// `anneal` (with the default batches, a cooling cycle takes a few dozen).
-pub fn default_iterations(method: Method, n: usize) -> u64 {
+pub(crate) fn default_iterations(method: Method, n: usize) -> u64 {
     match method {
         Method::Acs | Method::MaxMin => 100,
         Method::Anneal => 500,
-        _ => lk::default_kicks(n),
+        _ => default_kicks(n),
     }
 }
 
 /// Restarts run when neither a time limit nor a restart count is given.
-pub const DEFAULT_RESTARTS: usize = 8;
+pub(crate) const DEFAULT_RESTARTS: usize = 8;
 /// Width of the neighbour lists by default.
 pub const DEFAULT_NEIGHBOURS: usize = 10;
 /// Independent `lk` runs when neither a time limit nor a run count is given, or when a kick
 /// budget is (so that the answer does not depend on the number of threads).
-pub const DEFAULT_LK_RUNS: usize = 2;
+pub(crate) const DEFAULT_LK_RUNS: usize = 2;
 
 impl<C: Cost> Solver<C> {
     /// A solver over `cost` with default options: method `lk`, seed 0, one thread per core.
-    /// Without a time limit, `lk` makes [`DEFAULT_LK_RUNS`] runs of [`lk::default_kicks`] kicks
-    /// each (and `2opt` makes [`DEFAULT_RESTARTS`] restarts).
+    /// Without a time limit, `lk` makes `DEFAULT_LK_RUNS` runs of `lk::default_kicks` kicks
+    /// each (and `2opt` makes `DEFAULT_RESTARTS` restarts).
+    ///
+    /// ```
+    /// use wend::{CoordCost, Metric, Solver};
+    ///
+    /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+    /// let solution = Solver::new(square).seed(1).solve().unwrap();
+    /// assert_eq!(solution.length, 40);
+    /// ```
     pub fn new(cost: C) -> Self {
         Solver {
             cost,
@@ -321,8 +330,8 @@ impl<C: Cost> Solver<C> {
     }
 
     /// Number of restarts (construction plus local search). Without a time limit the default
-    /// is [`DEFAULT_RESTARTS`]; with one, restarts continue until it unless this is set.
-    /// For `lk` this is the number of independent runs (default [`DEFAULT_LK_RUNS`] without a
+    /// is `DEFAULT_RESTARTS`; with one, restarts continue until it unless this is set.
+    /// For `lk` this is the number of independent runs (default `DEFAULT_LK_RUNS` without a
     /// time limit or with a kick budget; otherwise runs follow one another until the limit).
     pub fn restarts(mut self, restarts: usize) -> Self {
         self.restarts = Some(restarts.max(1));
@@ -332,7 +341,7 @@ impl<C: Cost> Solver<C> {
     /// Steps per run of an iterative method: kicks for `lk`, generations for the ant colonies,
     /// batches of moves at one temperature for `anneal`. With such a budget and no time limit
     /// (or one long enough), the same seed gives the same tour for any number of threads.
-    /// Without a time limit the default is [`default_iterations`].
+    /// Without a time limit the default is `default_iterations`.
     pub fn iterations(mut self, steps: u64) -> Self {
         self.kicks = Some(steps);
         self
@@ -357,6 +366,15 @@ impl<C: Cost> Solver<C> {
 
     /// Sets one parameter of the chosen method by its key (see [`Method::keys`]), as the
     /// command line's `--set KEY=VALUE` does. Set the method first.
+    ///
+    /// ```
+    /// use wend::{Method, Solver};
+    ///
+    /// let rows = vec![vec![0, 2, 9], vec![1, 0, 6], vec![15, 7, 0]];
+    /// let solver = Solver::from_matrix(&rows).unwrap().method(Method::Anneal);
+    /// let solver = solver.set("cooling", "0.9").unwrap();
+    /// assert!(solver.set("no-such-key", "1").is_err());
+    /// ```
     pub fn set(mut self, key: &str, value: &str) -> Result<Self, SolveError> {
         let method = self.method;
         let result = match method {
@@ -386,6 +404,14 @@ impl<C: Cost> Solver<C> {
     }
 
     /// The method to run.
+    ///
+    /// ```
+    /// use wend::{CoordCost, Method, Metric, Solver};
+    ///
+    /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+    /// let solution = Solver::new(square).method(Method::Greedy).solve().unwrap();
+    /// assert_eq!(solution.length, 40);
+    /// ```
     pub fn method(mut self, method: Method) -> Self {
         self.method = method;
         self
@@ -405,7 +431,7 @@ impl<C: Cost> Solver<C> {
     }
 
     /// Which tour representation `lk` edits (by default the array below
-    /// [`crate::tour::TWO_LEVEL_FROM`] nodes, the two-level list from there on). The tour found
+    /// `crate::tour::TWO_LEVEL_FROM` nodes, the two-level list from there on). The tour found
     /// is the same either way; only the speed differs.
     pub fn layout(mut self, layout: Layout) -> Self {
         self.layout = layout;
@@ -414,9 +440,19 @@ impl<C: Cost> Solver<C> {
 
     /// Which ends the answer has: a closed tour (the default) or a path with free or fixed ends
     /// ([`Ends`]). Every method handles every variant through one dummy node (see
-    /// [`crate::ends`]); the [`Solution`] then holds the path from its first node and its length
+    /// `crate::transform::ends`); the [`Solution`] then holds the path from its first node and its length
     /// without a return step. Fixed ends must be below the number of nodes
     /// ([`SolveError::Ends`] otherwise).
+    ///
+    /// ```
+    /// use wend::{CoordCost, Ends, Metric, Solver};
+    ///
+    /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+    /// let path = Solver::new(square).ends(Ends::StartEnd(0, 1)).solve().unwrap();
+    /// assert_eq!(path.length, 30);
+    /// assert_eq!(path.tour.order().first(), Some(&0));
+    /// assert_eq!(path.tour.order().last(), Some(&1));
+    /// ```
     pub fn ends(mut self, ends: Ends) -> Self {
         self.ends = ends;
         self
@@ -430,12 +466,36 @@ impl<C: Cost> Solver<C> {
     }
 
     /// A handle whose [`StopHandle::stop`] ends the solve early with the best tour so far.
+    ///
+    /// ```
+    /// use wend::{CoordCost, Metric, Solver, StopHandle, StopReason};
+    ///
+    /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+    /// let stop = StopHandle::new();
+    /// stop.stop(); // already asked to stop: the solve returns the first tour at hand
+    /// let solution = Solver::new(square).stop_handle(stop).restarts(100).solve().unwrap();
+    /// assert_eq!(solution.tour.len(), 4);
+    /// ```
     pub fn stop_handle(mut self, stop: StopHandle) -> Self {
         self.stop = stop;
         self
     }
 
     /// Called with every new best tour (from worker threads; keep it short).
+    ///
+    /// ```
+    /// use std::sync::{Arc, Mutex};
+    /// use wend::{CoordCost, Metric, Solver};
+    ///
+    /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+    /// let seen = Arc::new(Mutex::new(Vec::new()));
+    /// let log = Arc::clone(&seen);
+    /// let solution = Solver::new(square)
+    ///     .on_improvement(move |step| log.lock().unwrap().push(step.length))
+    ///     .solve()
+    ///     .unwrap();
+    /// assert_eq!(seen.lock().unwrap().last(), Some(&solution.length));
+    /// ```
     pub fn on_improvement(mut self, f: impl Fn(Improvement) + Sync + Send + 'static) -> Self {
         self.observer = Some(Box::new(f));
         self
@@ -448,6 +508,15 @@ impl<C: Cost> Solver<C> {
 
     /// Refuse to start when [`Solver::memory_estimate`] passes this many bytes (default: the
     /// process-wide ceiling of [`crate::memory`]).
+    ///
+    /// ```
+    /// use wend::{CoordCost, Metric, Solver};
+    ///
+    /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+    /// let solver = Solver::new(square).memory_limit(1);
+    /// assert!(solver.memory_estimate() > 1);
+    /// assert!(solver.solve().is_err()); // refused before allocating
+    /// ```
     pub fn memory_limit(mut self, bytes: usize) -> Self {
         self.memory_limit = Some(bytes);
         self
@@ -455,7 +524,7 @@ impl<C: Cost> Solver<C> {
 
     /// Bytes the search's large buffers will take, estimated before anything is allocated:
     /// neighbour lists, the tours and work arrays of the runs going at once, the trails of the
-    /// ant colonies (full tables up to [`crate::ants::DENSE_TRAILS_UP_TO`] nodes), and twice
+    /// ant colonies (full tables up to `crate::methods::DENSE_TRAILS_UP_TO` nodes), and twice
     /// the nodes when `lk` transforms asymmetric costs. A lower estimate of the process's use.
     pub fn memory_estimate(&self) -> usize {
         let n = self.cost.len();
@@ -476,7 +545,7 @@ impl<C: Cost> Solver<C> {
         // Order, positions, don't-look bits, queue and segment lists of one run.
         let per_run = nodes.saturating_mul(128);
         let trails = match self.method {
-            Method::Acs | Method::MaxMin if n <= crate::ants::DENSE_TRAILS_UP_TO => {
+            Method::Acs | Method::MaxMin if n <= crate::methods::DENSE_TRAILS_UP_TO => {
                 crate::memory::square(n, 8)
             }
             Method::Acs | Method::MaxMin => crate::memory::bytes_of(n, k * 8),
@@ -488,6 +557,13 @@ impl<C: Cost> Solver<C> {
     }
 
     /// Runs the search.
+    ///
+    /// ```
+    /// let rows = vec![vec![0, 2, 9], vec![1, 0, 6], vec![15, 7, 0]];
+    /// let solution = wend::Solver::from_matrix(&rows).unwrap().solve().unwrap();
+    /// assert_eq!(solution.length, 17);
+    /// assert_eq!(solution.tour.len(), 3);
+    /// ```
     pub fn solve(&self) -> Result<Solution, SolveError> {
         let began = Instant::now();
         let cost = &self.cost;
@@ -499,7 +575,7 @@ impl<C: Cost> Solver<C> {
         })?;
         // Preparation (neighbour lists) gives up at a stop request or the deadline, so that
         // neither waits for seconds of list building on large instances.
-        let deadline = search::deadline(began, self.time_limit);
+        let deadline = control::deadline(began, self.time_limit);
         let over = || self.stop.is_stopped() || deadline.is_some_and(|d| Instant::now() >= d);
         if let Some(max_cost) = cost.max_cost_hint() {
             // Moves add and subtract a handful of costs on top of a tour length.
@@ -735,7 +811,7 @@ impl<C: Cost> Solver<C> {
                 ),
                 stall: self.stall_limit,
                 target,
-                deadline: search::deadline(began, self.time_limit),
+                deadline: control::deadline(began, self.time_limit),
                 stop: self.stop.clone(),
             };
             let out = match self.method {
@@ -761,8 +837,7 @@ impl<C: Cost> Solver<C> {
                     }
                 }
                 Method::Anneal => drive(&limits, began, observe, |r, rng, should_stop| {
-                    let order =
-                        search::start_tour(cost, &nb, Start::NearestNeighbour, r, rng, should_stop);
+                    let order = start_tour(cost, &nb, Start::NearestNeighbour, r, rng, should_stop);
                     Annealer::start(cost, &nb, &self.annealing, order, rng)
                 }),
                 _ => {
@@ -772,7 +847,7 @@ impl<C: Cost> Solver<C> {
                         layout: self.layout,
                         start,
                     };
-                    lk::iterated(cost, &nb, &plan, began, observe)
+                    iterated(cost, &nb, &plan, began, observe)
                 }
             };
             debug_assert!(
@@ -796,7 +871,7 @@ impl<C: Cost> Solver<C> {
             iterations: None,
             stall: None,
             target,
-            deadline: search::deadline(began, self.time_limit),
+            deadline: control::deadline(began, self.time_limit),
             stop: self.stop.clone(),
         };
         let out = drive(&limits, began, observe, |r, rng, should_stop| {
@@ -816,7 +891,7 @@ impl<C: Cost> Solver<C> {
 }
 
 /// One restart: a starting tour taken to a local optimum of 2-opt and Or-opt when it starts.
-/// It has no steps: under [`crate::drive::drive`] each run is one restart, and the loop owner
+/// It has no steps: under [`crate::methods::drive`] each run is one restart, and the loop owner
 /// runs them in parallel under the limits.
 struct Restart {
     order: Vec<usize>,
@@ -869,6 +944,17 @@ struct Raw {
 
 impl<F: Fn(usize, usize) -> i64 + Sync> Solver<FnCost<F>> {
     /// A solver over `n` nodes whose costs come from `f(from, to)`.
+    ///
+    /// ```
+    /// // A rail where moving right costs the distance and moving left three times as much.
+    /// let solution = wend::Solver::from_fn(3, false, |i, j| {
+    ///     let d = j as i64 - i as i64;
+    ///     if d >= 0 { d } else { -3 * d }
+    /// })
+    /// .solve()
+    /// .unwrap();
+    /// assert_eq!(solution.length, 8); // right 1, right 1, back 2 at triple cost
+    /// ```
     pub fn from_fn(n: usize, symmetric: bool, f: F) -> Self {
         Solver::new(FnCost::new(n, symmetric, f))
     }
@@ -876,6 +962,12 @@ impl<F: Fn(usize, usize) -> i64 + Sync> Solver<FnCost<F>> {
 
 impl Solver<MatrixCost> {
     /// A solver over a square matrix given as rows (`rows[i][j]` is the cost from `i` to `j`).
+    ///
+    /// ```
+    /// let solver = wend::Solver::from_matrix(&[vec![0, 4], vec![4, 0]]).unwrap();
+    /// assert_eq!(solver.solve().unwrap().length, 8);
+    /// assert!(wend::Solver::from_matrix(&[vec![0, 4]]).is_err()); // not square
+    /// ```
     pub fn from_matrix(rows: &[Vec<i64>]) -> Result<Self, SolveError> {
         Ok(Solver::new(MatrixCost::from_rows(rows)?))
     }

@@ -1,6 +1,6 @@
 //! Asymmetric costs as symmetric ones on twice the nodes (Jonker and Volgenant 1983,
 //! "Transforming asymmetric into symmetric traveling salesman problems", Operations Research
-//! Letters 2(4)), so that the symmetric Lin–Kernighan machinery of [`crate::lk`] can search
+//! Letters 2(4)), so that the symmetric Lin–Kernighan machinery of [`crate::methods::lk`] can search
 //! them.
 //!
 //! # The construction
@@ -31,8 +31,8 @@
 //! then keeps the order of the in copies (a permutation of the nodes, so always a tour), in
 //! whichever direction is shorter on the original costs.
 
-use crate::candidates::{candidates, CandidateSource, Neighbours};
 use crate::cost::Cost;
+use crate::neighbours::{candidates, CandidateSource, Neighbours};
 use crate::tour::closed_length;
 
 /// Why the transformation cannot be applied.
@@ -52,7 +52,7 @@ pub struct TwinTooLarge {
 
 /// Symmetric costs on `2m` nodes whose shortest tours are the shortest directed tours of `m`
 /// asymmetric costs (see the [module documentation](self)).
-pub struct TwinCost<'a, C: Cost + ?Sized> {
+pub(crate) struct TwinCost<'a, C: Cost + ?Sized> {
     inner: &'a C,
     m: usize,
     lo: i64,
@@ -62,7 +62,7 @@ pub struct TwinCost<'a, C: Cost + ?Sized> {
 
 impl<'a, C: Cost + ?Sized> TwinCost<'a, C> {
     /// The transformed costs of `inner` (any costs, at least two nodes; scans all pairs once).
-    pub fn new(inner: &'a C) -> Result<Self, TwinTooLarge> {
+    pub(crate) fn new(inner: &'a C) -> Result<Self, TwinTooLarge> {
         let m = inner.len();
         let (mut lo, mut hi) = (0i64, 0i64);
         if m >= 2 {
@@ -96,13 +96,14 @@ impl<'a, C: Cost + ?Sized> TwinCost<'a, C> {
     }
 
     /// The constant `M` added to every arc.
+    #[cfg(test)]
     pub fn arc_offset(&self) -> i64 {
         self.big
     }
 
     /// The length on the original costs of a transformed tour of length `tour_length`, when that
     /// tour keeps every twin edge; `None` when it does not (its length is at least `(m + 1) M`).
-    pub fn original_length(&self, tour_length: i64) -> Option<i64> {
+    pub(crate) fn original_length(&self, tour_length: i64) -> Option<i64> {
         let m = self.m as i128;
         let limit = (m + 1) * self.big as i128;
         if (tour_length as i128) >= limit {
@@ -113,7 +114,7 @@ impl<'a, C: Cost + ?Sized> TwinCost<'a, C> {
     }
 
     /// The transformed length of a tour of length `length` on the original costs.
-    pub fn transformed_length(&self, length: i64) -> Option<i64> {
+    pub(crate) fn transformed_length(&self, length: i64) -> Option<i64> {
         let m = self.m as i128;
         let t = length as i128 + m * self.big as i128 - m * self.lo as i128;
         i64::try_from(t).ok()
@@ -122,7 +123,7 @@ impl<'a, C: Cost + ?Sized> TwinCost<'a, C> {
     /// The directed tour of the original nodes that a tour of the `2m` nodes stands for, and
     /// whether it had to be repaired (a twin edge broken or a forbidden edge used; then the
     /// order of the in copies is kept in the direction that is shorter on the original costs).
-    pub fn tour_back(&self, tour: &[usize]) -> (Vec<usize>, bool) {
+    pub(crate) fn tour_back(&self, tour: &[usize]) -> (Vec<usize>, bool) {
         let m = self.m;
         let len = tour.len();
         if m == 0 || len != 2 * m {
@@ -158,7 +159,7 @@ impl<'a, C: Cost + ?Sized> TwinCost<'a, C> {
     /// predecessors of `j`; the out copy of `i` its twin, then the in copies of the cheapest
     /// successors of `i`. Width `nb.k() + 1`, so every node's twin is among its candidates
     /// (first, at cost 0). Falls back to a scan of the transformed costs if they cannot be built.
-    pub fn neighbours(&self, nb: &Neighbours, source: CandidateSource) -> Neighbours {
+    pub(crate) fn neighbours(&self, nb: &Neighbours, source: CandidateSource) -> Neighbours {
         let m = self.m;
         let k = nb.k();
         let width = k + 1;
@@ -270,7 +271,7 @@ mod tests {
     fn twins_lead_the_candidate_lists() {
         let c = asym();
         let t = TwinCost::new(&c).unwrap();
-        let nb = crate::candidates::k_nearest(&c, 2);
+        let nb = crate::neighbours::k_nearest(&c, 2);
         let tn = t.neighbours(&nb, CandidateSource::Nearest);
         assert_eq!(tn.k(), 3);
         for v in 0..8 {

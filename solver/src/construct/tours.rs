@@ -3,8 +3,9 @@
 //! Each returns a visiting order (a permutation of all nodes). The `noise` variants give the
 //! restarts of the local search different, still reasonable, starting points.
 
-use crate::candidates::Neighbours;
 use crate::cost::Cost;
+use crate::neighbours::Neighbours;
+use petgraph::unionfind::UnionFind;
 use rand::Rng;
 use rayon::slice::ParallelSliceMut;
 
@@ -12,7 +13,11 @@ use rayon::slice::ParallelSliceMut;
 ///
 /// The neighbour lists answer most steps; when all of a node's neighbours are taken the remaining
 /// nodes are scanned, so the worst case is quadratic but typical runs are near linear.
-pub fn nearest_neighbour<C: Cost + ?Sized>(cost: &C, nb: &Neighbours, start: usize) -> Vec<usize> {
+pub(crate) fn nearest_neighbour<C: Cost + ?Sized>(
+    cost: &C,
+    nb: &Neighbours,
+    start: usize,
+) -> Vec<usize> {
     let n = cost.len();
     if n == 0 {
         return Vec::new();
@@ -63,34 +68,6 @@ pub fn nearest_neighbour<C: Cost + ?Sized>(cost: &C, nb: &Neighbours, start: usi
     order
 }
 
-/// Union-find over nodes, used to keep greedy fragments acyclic.
-struct Dsu {
-    parent: Vec<usize>,
-}
-
-impl Dsu {
-    fn new(n: usize) -> Self {
-        Dsu {
-            parent: (0..n).collect(),
-        }
-    }
-    fn find(&mut self, mut x: usize) -> usize {
-        while self.parent[x] != x {
-            self.parent[x] = self.parent[self.parent[x]];
-            x = self.parent[x];
-        }
-        x
-    }
-    fn union(&mut self, a: usize, b: usize) -> bool {
-        let (ra, rb) = (self.find(a), self.find(b));
-        if ra == rb {
-            return false;
-        }
-        self.parent[ra] = rb;
-        true
-    }
-}
-
 /// Greedy edge: take candidate edges cheapest first whenever they keep every node at degree two
 /// or less and close no cycle; then join the fragments end to end, nearest end first.
 ///
@@ -110,7 +87,7 @@ pub fn greedy_edge<C: Cost + ?Sized, R: Rng>(
 
 /// [`greedy_edge`], given up when `stop` turns true (polled every few thousand nodes or
 /// edges): `None` then. On a million nodes the construction takes seconds.
-pub fn greedy_edge_until<C: Cost + ?Sized, R: Rng>(
+pub(crate) fn greedy_edge_until<C: Cost + ?Sized, R: Rng>(
     cost: &C,
     nb: &Neighbours,
     noise: f64,
@@ -155,7 +132,8 @@ pub fn greedy_edge_until<C: Cost + ?Sized, R: Rng>(
     // unordered ends.
     const NONE: usize = usize::MAX;
     let mut link = vec![[NONE, NONE]; n];
-    let mut dsu = Dsu::new(n);
+    // Union-find over nodes keeps the fragments acyclic.
+    let mut dsu = UnionFind::<usize>::new(n);
     let mut added = 0;
     for (e, &(_, a, b)) in edges.iter().enumerate() {
         if added == n - 1 {
@@ -269,7 +247,10 @@ fn join_fragments<C: Cost + ?Sized>(
 /// Order along a Hilbert curve through the nodes' geometry (the two coordinates with the
 /// largest spread). `None` when the costs have no geometry. `shift` in `[0, 1)^2` moves the
 /// curve's origin (wrapping), for varied restarts.
-pub fn space_filling_curve<C: Cost + ?Sized>(cost: &C, shift: [f64; 2]) -> Option<Vec<usize>> {
+pub(crate) fn space_filling_curve<C: Cost + ?Sized>(
+    cost: &C,
+    shift: [f64; 2],
+) -> Option<Vec<usize>> {
     let g = cost.geometry()?;
     let n = g.points.len();
     let mut lo = [f64::INFINITY; 3];
@@ -327,8 +308,8 @@ fn hilbert_index(side: u32, mut x: u32, mut y: u32) -> u64 {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::candidates::k_nearest;
     use crate::cost::{CoordCost, MatrixCost, Metric};
+    use crate::neighbours::k_nearest;
     use crate::tour::Tour;
     use rand::SeedableRng;
 

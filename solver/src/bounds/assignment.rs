@@ -14,7 +14,7 @@ use pathfinding::matrix::Matrix;
 
 /// Largest instance [`assignment_bound`] accepts: an `n x n` matrix of `i64` (32 MB at 2,000
 /// nodes, 800 MB at 10,000) and O(n³) work.
-pub const ASSIGNMENT_LIMIT: usize = 10_000;
+pub(crate) const ASSIGNMENT_LIMIT: usize = 10_000;
 
 /// The cheapest cycle cover and its cost.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -35,7 +35,7 @@ pub enum AssignmentError {
     TooManyNodes {
         /// Nodes in the instance.
         n: usize,
-        /// [`ASSIGNMENT_LIMIT`].
+        /// `ASSIGNMENT_LIMIT`.
         limit: usize,
     },
     /// Costs so large that sums of them could overflow.
@@ -51,6 +51,14 @@ pub enum AssignmentError {
 
 /// The assignment lower bound on every closed tour of `cost` (symmetric or not). For fewer than
 /// two nodes the bound is 0; for two it is the one tour's length.
+///
+/// ```
+/// let rows = vec![vec![0, 2, 9], vec![1, 0, 6], vec![15, 7, 0]];
+/// let bound = wend::assignment_bound(&wend::MatrixCost::from_rows(&rows).unwrap()).unwrap();
+/// // Without a node staying in place, each node's successor is one of the two 3-cycles.
+/// assert_eq!(bound.lower_bound, 17); // 0 -> 2 -> 1 -> 0
+/// assert_eq!(bound.cycles, 1);
+/// ```
 pub fn assignment_bound<C: Cost + ?Sized>(cost: &C) -> Result<AssignmentBound, AssignmentError> {
     let n = cost.len();
     if n > ASSIGNMENT_LIMIT {
@@ -127,7 +135,7 @@ pub fn assignment_bound<C: Cost + ?Sized>(cost: &C) -> Result<AssignmentBound, A
 /// practice: about `ln n`), and the tour found lies close to the assignment bound on them.
 ///
 /// `successor` must be a permutation of `0..cost.len()`; anything else gives the identity order.
-pub fn patch_cover<C: Cost + ?Sized>(cost: &C, successor: &[usize]) -> Vec<usize> {
+pub(crate) fn patch_cover<C: Cost + ?Sized>(cost: &C, successor: &[usize]) -> Vec<usize> {
     let n = cost.len();
     let mut seen = vec![false; n];
     if successor.len() != n

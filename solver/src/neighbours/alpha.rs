@@ -15,12 +15,12 @@
 //! time (every pair is looked at once) and O(n) memory per thread; it is offered up to
 //! [`ALPHA_LIMIT`] nodes.
 
-use crate::candidates::Neighbours;
+use super::lists::Neighbours;
 use crate::cost::Cost;
 use rayon::prelude::*;
 
 /// Largest instance [`alpha_nearness`] accepts: the O(n²) work is a few seconds there.
-pub const ALPHA_LIMIT: usize = 20_000;
+pub(crate) const ALPHA_LIMIT: usize = 20_000;
 
 /// Why alpha-nearness lists could not be built.
 #[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
@@ -101,7 +101,7 @@ fn spanning_tree(n: usize, c: &(dyn Fn(usize, usize) -> f64 + Sync)) -> Tree {
 
 /// The `k` alpha-nearest candidates of every node under penalties `pi` (all zero for the plain
 /// minimum 1-tree), ties broken by `c'` and then by node index. Symmetric costs only.
-pub fn alpha_nearness<C: Cost + ?Sized>(
+pub(crate) fn alpha_nearness<C: Cost + ?Sized>(
     cost: &C,
     pi: &[f64],
     k: usize,
@@ -199,7 +199,7 @@ pub fn alpha_nearness<C: Cost + ?Sized>(
 /// instances, and about 4·10⁸ cost look-ups at most on large ones (about a second for 2-D
 /// Euclidean costs; 20 one-trees from 4,500 nodes on). A budget of 2·10⁹ left nothing of a
 /// 10 s limit for the search at 4,461 nodes (an 18 % gap against 0.2 % with nearest lists).
-pub fn ascent_iterations(n: usize) -> usize {
+pub(crate) fn ascent_iterations(n: usize) -> usize {
     let n2 = (n.max(1) as u64).saturating_mul(n.max(1) as u64);
     (400_000_000 / n2).clamp(20, 300) as usize
 }
@@ -217,12 +217,12 @@ pub fn from_ascent<C: Cost + ?Sized>(cost: &C, k: usize) -> Result<Neighbours, A
             limit: ALPHA_LIMIT,
         });
     }
-    let opts = crate::bound::AscentOptions {
+    let opts = crate::bounds::AscentOptions {
         time_limit: None,
         max_iterations: Some(ascent_iterations(n)),
         upper_bound: None,
     };
-    let asc = crate::bound::held_karp_bound(cost, &opts, &crate::search::StopHandle::new())
+    let asc = crate::bounds::held_karp_bound(cost, &opts, &crate::control::StopHandle::new())
         .map_err(|e| AlphaError::Bound(e.to_string()))?;
     alpha_nearness(cost, &asc.pi, k)
 }

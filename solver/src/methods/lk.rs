@@ -19,14 +19,14 @@
 //!   flips whose every intermediate is a tour;
 //! - moving a segment elsewhere without reversing it (the pure sequential 3-opt "segment
 //!   insertion") needs three flips and is found when the gain criterion admits the intermediate
-//!   steps; for segments of up to [`crate::improve::MAX_SEGMENT`] nodes it is always tried
-//!   directly, in both orientations, by the Or-opt moves of [`crate::improve`], which run from
+//!   steps; for segments of up to [`crate::tour::MAX_SEGMENT`] nodes it is always tried
+//!   directly, in both orientations, by the Or-opt moves of [`crate::moves::improve`], which run from
 //!   `t1` when no LK move starts there.
 //!
 //! For asymmetric costs a flip would reverse a path and change its cost, so on the costs as
 //! given only the direction-keeping Or-opt moves run. By default [`crate::Solver`] does not
 //! search asymmetric costs that way: it runs these symmetric moves on their transformation to
-//! symmetric costs over twice the nodes (Jonker and Volgenant 1983, [`crate::twin`]) and maps
+//! symmetric costs over twice the nodes (Jonker and Volgenant 1983, [`crate::transform::twin`]) and maps
 //! the tour back; [`crate::AsymmetricMode::Direct`] keeps the direct moves.
 //!
 //! # The iterated search
@@ -45,13 +45,14 @@
 //! instances, the segments of [`TwoLevelTour`] (O(sqrt(n)) flips) for large ones, chosen by
 //! [`Layout`]. Both give the same tour from the same seed.
 
-use crate::candidates::Neighbours;
+use super::drive::{drive, Iterative, LoopOutcome, LoopPlan};
+use crate::construct::{start_tour, Start};
+use crate::control::Improvement;
 use crate::cost::Cost;
-use crate::drive::{drive, Iterative, LoopOutcome, LoopPlan};
-use crate::improve::{try_or_opt, ImproveStats, MAX_SEGMENT};
-use crate::search::{self, Improvement, Start};
+use crate::moves::{try_or_opt, ImproveStats};
+use crate::neighbours::Neighbours;
 use crate::tour::closed_length;
-use crate::tour::{ArrayTour, Layout, TourRepr, TwoLevelTour};
+use crate::tour::{ArrayTour, Layout, TourRepr, TwoLevelTour, MAX_SEGMENT};
 use rand::Rng;
 use rand_pcg::Pcg64;
 use std::collections::VecDeque;
@@ -59,7 +60,7 @@ use std::time::Instant;
 
 /// Tuning of the LK move and of the kicks.
 #[derive(Clone, Debug, PartialEq, Eq)]
-pub struct LkParams {
+pub(crate) struct LkParams {
     /// Alternatives tried per level of the chain, first level first; levels beyond the list
     /// try one.
     pub breadth: Vec<usize>,
@@ -172,7 +173,7 @@ fn undo_or_opt<T: TourRepr>(tour: &mut T, p: usize, nx: usize, s1: usize, s2: us
 
 /// A double-bridge kick as applied, enough to take it back.
 #[derive(Clone, Copy, Debug)]
-pub struct Kick {
+pub(crate) struct Kick {
     /// The node before the three segments.
     pub v: usize,
     /// The node after them.
@@ -191,7 +192,7 @@ pub struct Kick {
 /// put in the order `D C B`, each keeping its direction, so four edges change and nothing is
 /// reversed (valid for asymmetric costs). Lengths below one count as one; when they do not
 /// leave at least one other node the tour is left alone (delta 0). Costs O(sum of `lens`).
-pub fn double_bridge<C: Cost + ?Sized, T: TourRepr>(
+pub(crate) fn double_bridge<C: Cost + ?Sized, T: TourRepr>(
     cost: &C,
     tour: &mut T,
     v: usize,
@@ -243,7 +244,7 @@ pub fn double_bridge<C: Cost + ?Sized, T: TourRepr>(
 
 /// Takes back a [`double_bridge`]; the tour must be the same cycle as right after it, in either
 /// orientation.
-pub fn undo_double_bridge<C: Cost + ?Sized, T: TourRepr>(cost: &C, tour: &mut T, k: &Kick) {
+pub(crate) fn undo_double_bridge<C: Cost + ?Sized, T: TourRepr>(cost: &C, tour: &mut T, k: &Kick) {
     let [b, c, d] = k.lens;
     if tour.next(k.v) == k.first {
         double_bridge(cost, tour, k.v, [d, c, b]);
@@ -257,7 +258,7 @@ pub fn undo_double_bridge<C: Cost + ?Sized, T: TourRepr>(cost: &C, tour: &mut T,
 /// (don't-look bits) and an optional log of committed changes for undoing a rejected kick.
 ///
 /// Buffers are kept between calls, so one value serves a whole iterated search.
-pub struct LinKernighan<'a, C: Cost + ?Sized> {
+pub(crate) struct LinKernighan<'a, C: Cost + ?Sized> {
     cost: &'a C,
     nb: &'a Neighbours,
     params: LkParams,
@@ -282,7 +283,7 @@ pub struct LinKernighan<'a, C: Cost + ?Sized> {
 
 impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
     /// A search over `cost` with candidate lists `nb`.
-    pub fn new(cost: &'a C, nb: &'a Neighbours, params: LkParams) -> Self {
+    pub(crate) fn new(cost: &'a C, nb: &'a Neighbours, params: LkParams) -> Self {
         let n = cost.len();
         let depth = params.max_depth.max(1);
         let nb_cost = (0..n)
@@ -313,7 +314,7 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
     }
 
     /// Marks `v` active: the next [`LinKernighan::run`] tries moves from it.
-    pub fn activate(&mut self, v: usize) {
+    pub(crate) fn activate(&mut self, v: usize) {
         if !self.queued[v] {
             self.queued[v] = true;
             self.queue.push_back(v);
@@ -322,7 +323,7 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
 
     /// Takes `tour` to a local optimum from every node (in tour order), or until `should_stop`
     /// says so (polled every few dozen nodes).
-    pub fn optimise<T: TourRepr>(
+    pub(crate) fn optimise<T: TourRepr>(
         &mut self,
         tour: &mut T,
         should_stop: &mut dyn FnMut() -> bool,
@@ -335,7 +336,7 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
 
     /// Applies improving moves from the active nodes until none is active or `should_stop`
     /// says so (polled every few dozen nodes).
-    pub fn run<T: TourRepr>(
+    pub(crate) fn run<T: TourRepr>(
         &mut self,
         tour: &mut T,
         should_stop: &mut dyn FnMut() -> bool,
@@ -364,7 +365,7 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
 
     /// One improving move from `t1`, applied (its changed endpoints become active); its gain,
     /// or `None` when no move starts at `t1`.
-    pub fn improve_from<T: TourRepr>(&mut self, tour: &mut T, t1: usize) -> Option<i64> {
+    pub(crate) fn improve_from<T: TourRepr>(&mut self, tour: &mut T, t1: usize) -> Option<i64> {
         if tour.len() < 5 || self.nb.k() == 0 {
             return None;
         }
@@ -389,20 +390,20 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
     }
 
     /// Starts logging committed changes (clearing the log), for [`LinKernighan::undo_log`].
-    pub fn start_log(&mut self) {
+    pub(crate) fn start_log(&mut self) {
         self.logging = true;
         self.log.clear();
     }
 
     /// Forgets the logged changes (they stay applied) and stops logging.
-    pub fn keep_log(&mut self) {
+    pub(crate) fn keep_log(&mut self) {
         self.logging = false;
         self.log.clear();
     }
 
     /// Takes back every change logged since [`LinKernighan::start_log`], newest first, and
     /// stops logging.
-    pub fn undo_log<T: TourRepr>(&mut self, tour: &mut T) {
+    pub(crate) fn undo_log<T: TourRepr>(&mut self, tour: &mut T) {
         while let Some(u) = self.log.pop() {
             match u {
                 Undo::Flip(f) => unflip(tour, f),
@@ -533,17 +534,6 @@ fn same_edge(e: (usize, usize), a: usize, b: usize) -> bool {
     (e.0 == a && e.1 == b) || (e.0 == b && e.1 == a)
 }
 
-/// Takes `tour` to an LK local optimum with default parameters; the counterpart of
-/// [`crate::improve::two_opt_or_opt`].
-pub fn lin_kernighan<C: Cost + ?Sized, T: TourRepr>(
-    cost: &C,
-    nb: &Neighbours,
-    tour: &mut T,
-    should_stop: &mut dyn FnMut() -> bool,
-) -> ImproveStats {
-    LinKernighan::new(cost, nb, LkParams::default()).optimise(tour, should_stop)
-}
-
 /// Longest kick segment for `n` nodes: `kick_segment`, but at most an eighth of the tour so that
 /// the three segments never wrap round.
 fn kick_segment(n: usize, cap: usize) -> usize {
@@ -656,7 +646,7 @@ pub(crate) fn iterated<C: Cost + ?Sized>(
         drive(&plan.limits, began, observer, |r, rng, should_stop| {
             let order = match &plan.start {
                 Some(order) if r == 0 => order.clone(),
-                _ => search::start_tour(cost, nb, Start::GreedyEdge, r, rng, should_stop),
+                _ => start_tour(cost, nb, Start::GreedyEdge, r, rng, should_stop),
             };
             LkRun::<C, T>::start(cost, nb, plan, order, should_stop)
         })
@@ -674,16 +664,16 @@ pub(crate) fn iterated<C: Cost + ?Sized>(
 }
 
 /// Kicks per run when nothing else bounds a run (no time limit, no stall limit).
-pub fn default_kicks(n: usize) -> u64 {
+pub(crate) fn default_kicks(n: usize) -> u64 {
     n.clamp(1_000, 10_000) as u64
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::candidates::k_nearest;
+    use crate::control::{StopHandle, StopReason};
     use crate::cost::MatrixCost;
-    use crate::search::{StopHandle, StopReason};
+    use crate::neighbours::k_nearest;
     use crate::testing::{random_costs, shuffled};
     use crate::tour::Tour;
     use crate::{Method, Solver};

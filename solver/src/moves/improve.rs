@@ -5,14 +5,10 @@
 //! changes one of its tour edges, so a converged region costs nothing. For asymmetric costs only
 //! direction-keeping Or-opt moves are used: a 2-opt move reverses a path, which changes its cost.
 
-use crate::candidates::Neighbours;
 use crate::cost::Cost;
-pub use crate::tour::ArrayTour;
-use crate::tour::TourRepr;
+use crate::neighbours::Neighbours;
+use crate::tour::{TourRepr, MAX_SEGMENT};
 use std::collections::VecDeque;
-
-/// Longest segment an Or-opt move relocates.
-pub const MAX_SEGMENT: usize = 3;
 
 /// What a local search run did.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
@@ -252,9 +248,9 @@ fn back<T: TourRepr>(tour: &T, mut v: usize, k: usize) -> usize {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::candidates::k_nearest;
     use crate::cost::{CoordCost, MatrixCost, Metric};
-    use crate::tour::{closed_length, Tour, TwoLevelTour};
+    use crate::neighbours::k_nearest;
+    use crate::tour::{closed_length, ArrayTour, Tour, TwoLevelTour};
     use proptest::prelude::*;
 
     fn random_points(n: usize, seed: u64) -> Vec<[f64; 2]> {

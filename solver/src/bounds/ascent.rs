@@ -16,7 +16,7 @@
 //! is a lower bound on every tour. [`held_karp_bound`] searches for penalties that make `L`
 //! large; [`one_tree`] finds a cheapest 1-tree, optionally with edges that must be in it
 //! ([`EdgeState::Forced`]) or must not ([`EdgeState::Forbidden`]), which the branch and bound of
-//! [`crate::branch`] uses.
+//! [`crate::bounds::branch`] uses.
 //!
 //! # Exact arithmetic
 //!
@@ -64,8 +64,8 @@
 //! Asymmetric costs are refused ([`BoundError::Asymmetric`]): the 1-tree bound needs
 //! `c(i,j) == c(j,i)`.
 
+use crate::control::StopHandle;
 use crate::cost::Cost;
-use crate::search::StopHandle;
 use crate::tour::{closed_length, Overflow};
 use std::time::{Duration, Instant};
 
@@ -128,7 +128,7 @@ pub enum BoundError {
 
 /// What a 1-tree may do with one edge.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
-pub enum EdgeState {
+pub(crate) enum EdgeState {
     /// The 1-tree may use the edge or not.
     #[default]
     Free,
@@ -141,14 +141,14 @@ pub enum EdgeState {
 /// Forced and forbidden edges of a 1-tree over `n` nodes (symmetric: the state of `(i, j)` is
 /// that of `(j, i)`).
 #[derive(Clone, Debug, PartialEq, Eq)]
-pub struct EdgeRules {
+pub(crate) struct EdgeRules {
     n: usize,
     state: Vec<EdgeState>,
 }
 
 impl EdgeRules {
     /// Every edge free.
-    pub fn new(n: usize) -> Self {
+    pub(crate) fn new(n: usize) -> Self {
         EdgeRules {
             n,
             state: vec![EdgeState::Free; n * n],
@@ -156,42 +156,37 @@ impl EdgeRules {
     }
 
     /// Number of nodes.
-    pub fn len(&self) -> usize {
+    pub(crate) fn len(&self) -> usize {
         self.n
-    }
-
-    /// True when there are no nodes.
-    pub fn is_empty(&self) -> bool {
-        self.n == 0
     }
 
     /// The state of edge `(i, j)`.
     #[inline]
-    pub fn state(&self, i: usize, j: usize) -> EdgeState {
+    pub(crate) fn state(&self, i: usize, j: usize) -> EdgeState {
         self.state[i * self.n + j]
     }
 
     /// Sets the state of edge `(i, j)` (and of `(j, i)`). `i` must differ from `j`.
-    pub fn set(&mut self, i: usize, j: usize, state: EdgeState) {
+    pub(crate) fn set(&mut self, i: usize, j: usize, state: EdgeState) {
         debug_assert_ne!(i, j, "a 1-tree has no loops");
         self.state[i * self.n + j] = state;
         self.state[j * self.n + i] = state;
     }
 
     /// Requires edge `(i, j)`.
-    pub fn force(&mut self, i: usize, j: usize) {
+    pub(crate) fn force(&mut self, i: usize, j: usize) {
         self.set(i, j, EdgeState::Forced);
     }
 
     /// Excludes edge `(i, j)`.
-    pub fn forbid(&mut self, i: usize, j: usize) {
+    pub(crate) fn forbid(&mut self, i: usize, j: usize) {
         self.set(i, j, EdgeState::Forbidden);
     }
 }
 
 /// A cheapest 1-tree found by [`one_tree`].
 #[derive(Clone, Debug, PartialEq, Eq)]
-pub struct OneTree {
+pub(crate) struct OneTree {
     /// Sum of the weights of its edges, exactly.
     pub cost: i128,
     /// Degree of every node in it.
@@ -204,12 +199,12 @@ pub struct OneTree {
 impl OneTree {
     /// True when the 1-tree is a Hamiltonian cycle (every degree is two; a 1-tree is
     /// connected, so it is then a single cycle through every node).
-    pub fn is_tour(&self) -> bool {
+    pub(crate) fn is_tour(&self) -> bool {
         self.degree.iter().all(|&d| d == 2) && self.degree.len() >= 2
     }
 
     /// The cycle as a visiting order starting at node 0, when [`OneTree::is_tour`].
-    pub fn tour(&self) -> Option<Vec<usize>> {
+    pub(crate) fn tour(&self) -> Option<Vec<usize>> {
         let n = self.degree.len();
         if !self.is_tour() {
             return None;
@@ -246,7 +241,7 @@ impl OneTree {
 /// Largest node count for which the ascent keeps a dense cost matrix (32-bit entries when the
 /// costs fit, so 64 MB at this size, 128 MB while it is filled), and only within the memory
 /// ceiling ([`crate::memory`]); otherwise costs are asked of the oracle on the fly.
-pub const DENSE_LIMIT: usize = 4000;
+pub(crate) const DENSE_LIMIT: usize = 4000;
 
 /// Largest node count for which [`held_karp_bound`] improves its own starting tour by 2-opt
 /// (each pass looks at every pair of edges).
@@ -263,6 +258,7 @@ const QUICK_TWO_OPT_LIMIT: usize = 2000;
 ///
 /// For `n == 2` the 1-tree is the edge between the two nodes taken twice, and for `n < 2` it is
 /// empty, matching [`crate::tour::closed_length`].
+#[cfg(test)]
 pub fn one_tree<F: Fn(usize, usize) -> i64>(
     n: usize,
     special: usize,
@@ -449,7 +445,7 @@ pub(crate) struct Best {
 
 /// The step-size schedule of one ascent.
 #[derive(Clone, Debug)]
-pub(crate) struct Plan {
+pub(crate) struct AscentPlan {
     /// Initial step factor.
     pub lambda: f64,
     /// Non-improving iterations before the factor halves.
@@ -464,7 +460,7 @@ pub(crate) struct Plan {
 
 impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
     /// Reads the costs (into a table when `n <= DENSE_LIMIT`) and picks the scale.
-    pub fn new(cost: &'a C) -> Result<Self, BoundError> {
+    pub(crate) fn new(cost: &'a C) -> Result<Self, BoundError> {
         let n = cost.len();
         let mut max_abs: i64 = 0;
         // The table (8 bytes an entry while it is filled) only when it fits the memory
@@ -524,7 +520,7 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
     }
 
     /// Lets `stop` and `deadline` end a 1-tree or the quick tour midway.
-    pub fn interruptible(mut self, stop: &StopHandle, deadline: Option<Instant>) -> Self {
+    pub(crate) fn interruptible(mut self, stop: &StopHandle, deadline: Option<Instant>) -> Self {
         self.stop = stop.clone();
         self.deadline = deadline;
         self
@@ -535,18 +531,18 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
     }
 
     /// The scale factor of costs and penalties.
-    pub fn scale(&self) -> i64 {
+    pub(crate) fn scale(&self) -> i64 {
         self.scale
     }
 
     /// Number of nodes.
-    pub fn len(&self) -> usize {
+    pub(crate) fn len(&self) -> usize {
         self.n
     }
 
     /// The unscaled cost of edge `(i, j)`.
     #[inline]
-    pub fn cost(&self, i: usize, j: usize) -> i64 {
+    pub(crate) fn cost(&self, i: usize, j: usize) -> i64 {
         match &self.dense {
             Dense::None => self.cost.cost(i, j),
             Dense::Narrow(m) => m[i * self.n + j] as i64,
@@ -557,7 +553,7 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
     /// The cheapest 1-tree under scaled costs plus the penalties `pi` (scaled units), without
     /// rules.
     /// `None` when the stop handle or the deadline ended it midway.
-    pub fn tree(&self, pi: &[i64]) -> Option<OneTree> {
+    pub(crate) fn tree(&self, pi: &[i64]) -> Option<OneTree> {
         let (n, s) = (self.n, self.scale);
         let halt = || self.halted();
         let edges = match &self.dense {
@@ -592,7 +588,7 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
     /// The edges `rules` allow, as adjacency lists with scaled costs, forced edges `2^60`
     /// cheaper. Modified costs stay below `2^58` in size (see [`Scaled::new`]), so every forced
     /// edge is cheaper than every free one whatever the penalties.
-    pub fn with_rules(&self, rules: &EdgeRules) -> RuledCosts {
+    pub(crate) fn with_rules(&self, rules: &EdgeRules) -> RuledCosts {
         const BIG: i64 = 1 << 60;
         let n = self.n;
         let mut start = Vec::with_capacity(n + 1);
@@ -627,7 +623,12 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
     /// the penalties `pi`, by Prim's algorithm over the allowed edges (each extraction scans
     /// the nodes left, each allowed edge is relaxed once); `None` when no 1-tree satisfies the
     /// rules.
-    pub fn ruled_tree(&self, ruled: &RuledCosts, rules: &EdgeRules, pi: &[i64]) -> Option<OneTree> {
+    pub(crate) fn ruled_tree(
+        &self,
+        ruled: &RuledCosts,
+        rules: &EdgeRules,
+        pi: &[i64],
+    ) -> Option<OneTree> {
         let n = self.n;
         let adj = |v: usize| &ruled.next[ruled.start[v]..ruled.start[v + 1]];
         let mut edges = Vec::with_capacity(n);
@@ -705,29 +706,29 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
     }
 
     /// `SCALE * L(pi)` of a 1-tree computed under `pi`.
-    pub fn value(&self, tree: &OneTree, pi: &[i64]) -> i128 {
+    pub(crate) fn value(&self, tree: &OneTree, pi: &[i64]) -> i128 {
         tree.cost - 2 * pi.iter().map(|&p| p as i128).sum::<i128>()
     }
 
     /// The bound in cost units: `ceil(value / SCALE)`, saturated into `i64`.
-    pub fn bound(&self, value: i128) -> i64 {
+    pub(crate) fn bound(&self, value: i128) -> i64 {
         ceil_div(value, self.scale as i128).clamp(i64::MIN as i128, i64::MAX as i128) as i64
     }
 
     /// Penalties in cost units.
-    pub fn unscaled(&self, pi: &[i64]) -> Vec<f64> {
+    pub(crate) fn unscaled(&self, pi: &[i64]) -> Vec<f64> {
         pi.iter().map(|&p| p as f64 / self.scale as f64).collect()
     }
 
     /// Subgradient ascent from penalties `start` (scaled units) under `rules`, with the step
     /// length set by `upper` (the length of a tour). Stops early once the bound reaches `upper`
     /// or the 1-tree is a tour.
-    pub fn ascend(
+    pub(crate) fn ascend(
         &self,
         rules: Option<&EdgeRules>,
         start: &[f64],
         upper: i64,
-        plan: &Plan,
+        plan: &AscentPlan,
         stop: &StopHandle,
     ) -> Run {
         let n = self.n;
@@ -813,7 +814,7 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
     }
 
     /// A quick tour (nearest neighbour, then 2-opt while it helps and time allows).
-    pub fn quick_tour(&self, deadline: Option<Instant>) -> Vec<usize> {
+    pub(crate) fn quick_tour(&self, deadline: Option<Instant>) -> Vec<usize> {
         let n = self.n;
         if n == 0 {
             return Vec::new();
@@ -875,8 +876,8 @@ impl<'a, C: Cost + ?Sized> Scaled<'a, C> {
 }
 
 /// The ascent's default schedule for `n` nodes; see the module documentation.
-pub(crate) fn root_plan(n: usize, opts: &AscentOptions, began: Instant) -> Plan {
-    Plan {
+pub(crate) fn root_plan(n: usize, opts: &AscentOptions, began: Instant) -> AscentPlan {
+    AscentPlan {
         lambda: 2.0,
         patience: 30 + n / 10,
         lambda_min: 1e-4,
@@ -889,6 +890,15 @@ pub(crate) fn root_plan(n: usize, opts: &AscentOptions, began: Instant) -> Plan 
 /// optimisation of node penalties (see the module documentation for the step size and the
 /// exact arithmetic). The result is a lower bound on every tour whatever the limits; longer
 /// ascents make it tighter.
+///
+/// ```
+/// use wend::{held_karp_bound, AscentOptions, CoordCost, Metric, StopHandle};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// let ascent = held_karp_bound(&square, &AscentOptions::default(), &StopHandle::new()).unwrap();
+/// assert_eq!(ascent.lower_bound, 40); // the rim of the square is its cheapest 1-tree
+/// assert!(ascent.tree_is_tour);
+/// ```
 pub fn held_karp_bound<C: Cost + ?Sized>(
     cost: &C,
     opts: &AscentOptions,

@@ -58,13 +58,13 @@
 //! (and every 64 lockstep steps); a generation cut short keeps the tours it finished for the
 //! best so far and leaves the trails alone.
 
-use crate::candidates::Neighbours;
+use super::drive::Iterative;
+use super::lk::{LinKernighan, LkParams};
 use crate::construct::nearest_neighbour;
+use crate::control::mix;
 use crate::cost::Cost;
-use crate::drive::Iterative;
-use crate::improve::two_opt_or_opt;
-use crate::lk::{LinKernighan, LkParams};
-use crate::search::mix;
+use crate::moves::two_opt_or_opt;
+use crate::neighbours::Neighbours;
 use crate::tour::{closed_length, ArrayTour};
 use rand::{Rng, SeedableRng};
 use rand_pcg::Pcg64;
@@ -72,11 +72,11 @@ use rayon::prelude::*;
 
 /// Nodes up to which every edge has a trail of its own; beyond, only candidate edges do (see the
 /// module documentation).
-pub const DENSE_TRAILS_UP_TO: usize = 2_000;
+pub(crate) const DENSE_TRAILS_UP_TO: usize = 2_000;
 
 /// Added to every cost in the heuristic value `eta = 1 / (cost + ETA_EPSILON)`, so that an edge
 /// of cost zero is very attractive but not infinitely so.
-pub const ETA_EPSILON: f64 = 0.1;
+pub(crate) const ETA_EPSILON: f64 = 0.1;
 
 /// The lambda of the lambda-branching factor: a candidate edge counts as a branch when its trail
 /// is at least `tau_min + LAMBDA (tau_max - tau_min)`.
@@ -84,7 +84,7 @@ const LAMBDA: f64 = 0.05;
 
 /// Which ant colony method runs.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum AntVariant {
+pub(crate) enum AntVariant {
     /// Ant colony system (Dorigo and Gambardella 1997).
     Acs,
     /// MAX–MIN ant system (Stützle and Hoos 2000).
@@ -96,10 +96,10 @@ pub enum AntVariant {
 pub enum AntLocalSearch {
     /// Tours stay as the ants built them.
     None,
-    /// 2-opt and Or-opt moves ([`crate::improve::two_opt_or_opt`]); Or-opt only on asymmetric
+    /// 2-opt and Or-opt moves (`crate::moves::two_opt_or_opt`); Or-opt only on asymmetric
     /// costs.
     TwoOpt,
-    /// Lin–Kernighan-style moves ([`crate::lk::LinKernighan`]) on symmetric costs; on asymmetric
+    /// Lin–Kernighan-style moves (`crate::methods::LinKernighan`) on symmetric costs; on asymmetric
     /// costs the same as [`AntLocalSearch::TwoOpt`] (Or-opt only).
     Lk,
 }
@@ -132,7 +132,7 @@ impl AntLocalSearch {
 #[derive(Clone, Debug, PartialEq)]
 pub struct AntParams {
     /// Ants per generation, `m` in the papers. `None`: 10 for ant colony system; for MAX–MIN
-    /// ant system `n`, but at most [`MAX_MIN_COLONY`] with local search and twice that without.
+    /// ant system `n`, but at most `MAX_MIN_COLONY` with local search and twice that without.
     pub colony_size: Option<usize>,
     /// Exponent `alpha` of the trail in the choice rule (dimensionless). MAX–MIN ant system only;
     /// ant colony system uses 1. Default 1.
@@ -166,10 +166,10 @@ pub struct AntParams {
 }
 
 /// Largest automatic colony of MAX–MIN ant system with local search (twice this without).
-pub const MAX_MIN_COLONY: usize = 25;
+pub(crate) const MAX_MIN_COLONY: usize = 25;
 
 /// Largest colony [`AntParams::set`] accepts.
-pub const MAX_COLONY: usize = 10_000;
+pub(crate) const MAX_COLONY: usize = 10_000;
 
 impl Default for AntParams {
     fn default() -> Self {
@@ -272,6 +272,13 @@ impl AntParams {
 
     /// Sets the parameter named `key` (one of [`AntParams::KEYS`]) from its text `value`. The
     /// error names the key and the allowed range or choices; the parameters are unchanged then.
+    ///
+    /// ```
+    /// let mut params = wend::AntParams::default();
+    /// params.set("colony-size", "20").unwrap();
+    /// assert_eq!(params.colony_size, Some(20));
+    /// assert!(params.set("colony-size", "0").is_err());
+    /// ```
     pub fn set(&mut self, key: &str, value: &str) -> Result<(), String> {
         let v = value.trim();
         match key {
@@ -337,7 +344,7 @@ impl AntParams {
 
     /// The values a run of `variant` on `n` nodes uses: defaults filled in, out-of-range
     /// fields (set directly rather than through [`AntParams::set`]) pulled into range.
-    fn resolve(&self, variant: AntVariant, n: usize, symmetric: bool) -> Plan {
+    fn resolve(&self, variant: AntVariant, n: usize, symmetric: bool) -> ColonyPlan {
         let acs = variant == AntVariant::Acs;
         let mut ls = self.local_search.unwrap_or(AntLocalSearch::Lk);
         if ls == AntLocalSearch::Lk && !symmetric {
@@ -355,7 +362,7 @@ impl AntParams {
             (false, _) => 0.2,
         });
         let unit = |x: f64, lo: f64, hi: f64| if x.is_nan() { lo } else { x.clamp(lo, hi) };
-        Plan {
+        ColonyPlan {
             ants,
             alpha: if acs {
                 1.0
@@ -376,7 +383,7 @@ impl AntParams {
 
 /// [`AntParams`] with every default filled in.
 #[derive(Clone, Copy, Debug)]
-struct Plan {
+struct ColonyPlan {
     ants: usize,
     alpha: f64,
     beta: f64,
@@ -558,6 +565,7 @@ impl Trails {
     }
 
     /// Smallest and largest trail held (`(inf, -inf)` when none is).
+    #[cfg(test)]
     fn range(&self) -> (f64, f64) {
         let fold = |(lo, hi): (f64, f64), &t: &f64| (lo.min(t), hi.max(t));
         let start = (f64::INFINITY, f64::NEG_INFINITY);
@@ -634,7 +642,7 @@ struct Field<'a, C: Cost + ?Sized> {
     cost: &'a C,
     nb: &'a Neighbours,
     variant: AntVariant,
-    plan: Plan,
+    plan: ColonyPlan,
     trails: Trails,
     /// `eta^beta` of the edge from `i` to `nb.out(i)[x]`, at `i * k + x`.
     heur: Vec<f64>,
@@ -819,7 +827,7 @@ impl<'a, C: Cost + ?Sized> Improver<'a, C> {
 
 /// A started run of an ant colony method; one [`Iterative::step`] is one generation (every ant
 /// built and improved, trails updated).
-pub struct Colony<'a, C: Cost + ?Sized> {
+pub(crate) struct Colony<'a, C: Cost + ?Sized> {
     field: Field<'a, C>,
     improvers: Vec<Improver<'a, C>>,
     /// MAX–MIN trail limits `(tau_min, tau_max)`.
@@ -840,7 +848,7 @@ impl<'a, C: Cost + ?Sized> Colony<'a, C> {
     /// a nearest-neighbour tour from a random node gives `tau0` (ant colony system); improved by
     /// the local search (polling `should_stop`), it is the first best tour and gives `tau_max`
     /// (MAX–MIN ant system).
-    pub fn start(
+    pub(crate) fn start(
         cost: &'a C,
         nb: &'a Neighbours,
         variant: AntVariant,
@@ -925,54 +933,46 @@ impl<'a, C: Cost + ?Sized> Colony<'a, C> {
         }
     }
 
-    /// The method this colony runs.
-    pub fn variant(&self) -> AntVariant {
-        self.field.variant
-    }
-
-    /// Ants per generation.
-    pub fn colony_size(&self) -> usize {
-        self.field.plan.ants
-    }
-
     /// The local search applied to each ant's tour (after the asymmetric fallback).
+    #[cfg(test)]
     pub fn local_search(&self) -> AntLocalSearch {
         self.field.plan.ls
     }
 
     /// True when every edge has a trail of its own ([`DENSE_TRAILS_UP_TO`]).
+    #[cfg(test)]
     pub fn dense_trails(&self) -> bool {
         matches!(self.field.trails.store, Store::Dense(_))
     }
 
     /// Smallest and largest trail held (including the background value beyond the dense
     /// limit); `(inf, -inf)` when there are no nodes.
+    #[cfg(test)]
     pub fn pheromone_range(&self) -> (f64, f64) {
         self.field.trails.range()
     }
 
     /// MAX–MIN ant system: the current limits `(tau_min, tau_max)`, which every trail is within
     /// after each update. `None` for ant colony system.
+    #[cfg(test)]
     pub fn trail_limits(&self) -> Option<(f64, f64)> {
         (self.field.variant == AntVariant::MaxMin).then_some(self.limits)
     }
 
     /// Ant colony system: the start value `tau0 = 1 / (n L_nn)` of every trail.
+    #[cfg(test)]
     pub fn initial_trail(&self) -> f64 {
         self.field.tau0
     }
 
     /// Trail of the edge from `i` to `j` (both below `n`).
+    #[cfg(test)]
     pub fn trail(&self, i: usize, j: usize) -> f64 {
         self.field.trails.get(self.field.nb, i, j)
     }
 
-    /// Generations run so far.
-    pub fn generations(&self) -> u64 {
-        self.generations
-    }
-
     /// MAX–MIN ant system: times the trails were reinitialised.
+    #[cfg(test)]
     pub fn reinitialisations(&self) -> u64 {
         self.reinits
     }
@@ -1145,10 +1145,10 @@ impl<C: Cost + ?Sized> Iterative for Colony<'_, C> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::candidates::k_nearest;
+    use crate::control::{StopHandle, StopReason};
     use crate::cost::{CoordCost, MatrixCost, Metric};
-    use crate::drive::{drive, LoopPlan};
-    use crate::search::{StopHandle, StopReason};
+    use crate::methods::{drive, LoopPlan};
+    use crate::neighbours::k_nearest;
     use crate::testing::random_costs;
     use crate::tour::Tour;
     use proptest::prelude::*;

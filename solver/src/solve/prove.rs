@@ -5,25 +5,25 @@
 //! - up to [`DP_DIRECT_LIMIT`] nodes, or asymmetric costs up to [`DP_LIMIT`] nodes: the dynamic
 //!   programme of [`crate::exact`], exact for either kind of costs;
 //! - larger symmetric costs: a short iterated Lin–Kernighan-style search for a first tour,
-//!   then the branch and bound of [`crate::branch`] on the 1-tree bound;
+//!   then the branch and bound of [`crate::bounds::branch`] on the 1-tree bound;
 //! - larger asymmetric costs are refused with [`ProveError::AsymmetricTooLarge`].
 //!
 //! With a time limit the answer may come back unproven: the best tour found, the best lower
 //! bound known (none when the dynamic programme was stopped) and `proven_optimal == false`.
 
-use crate::bound::{held_karp_bound, AscentOptions, BoundError};
-use crate::branch::{branch_and_bound, BranchOptions};
+use crate::bounds::{branch_and_bound, BranchOptions};
+use crate::bounds::{held_karp_bound, AscentOptions, BoundError};
+use crate::control::StopHandle;
 use crate::cost::Cost;
-use crate::ends::Ends;
 use crate::exact::{optimal_path, DpError, DEFAULT_DP_MEMORY, DP_LIMIT};
-use crate::search::StopHandle;
-use crate::solver::{Method, SolveError, Solver};
+use crate::solve::{Method, SolveError, Solver};
 use crate::tour::{Overflow, Tour, TourError};
+use crate::transform::Ends;
 use std::time::{Duration, Instant};
 
 /// Symmetric instances up to this size go to the dynamic programme (it takes well under a
 /// second there); larger ones to branch and bound.
-pub const DP_DIRECT_LIMIT: usize = 16;
+pub(crate) const DP_DIRECT_LIMIT: usize = 16;
 
 /// Limits of [`prove_optimal`].
 #[derive(Clone, Debug)]
@@ -160,6 +160,15 @@ pub enum ProveError {
 /// documentation for which method runs when [`ProveOptions::method`] is `None`; a method asked
 /// for that cannot run (the dynamic programme beyond [`DP_LIMIT`] nodes or its memory limit,
 /// branch and bound on asymmetric costs) is an error.
+///
+/// ```
+/// use wend::{prove_optimal, CoordCost, Metric, ProveOptions, StopHandle};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// let certificate = prove_optimal(&square, &ProveOptions::default(), &StopHandle::new()).unwrap();
+/// assert_eq!(certificate.length, 40);
+/// assert!(certificate.proven_optimal);
+/// ```
 pub fn prove_optimal<C: Cost + ?Sized>(
     cost: &C,
     opts: &ProveOptions,
@@ -286,10 +295,10 @@ pub enum LowerBoundError {
     HeldKarp(#[from] BoundError),
     /// The assignment bound refused (too many nodes, overflowing costs, memory).
     #[error(transparent)]
-    Assignment(#[from] crate::assignment::AssignmentError),
+    Assignment(#[from] crate::bounds::AssignmentError),
     /// The ends are out of range, or their penalty could overflow.
     #[error(transparent)]
-    Ends(#[from] crate::ends::EndsError),
+    Ends(#[from] crate::transform::EndsError),
 }
 
 /// A lower bound on every tour of `cost` with the given `ends` (a closed tour or a path), for
@@ -298,6 +307,17 @@ pub enum LowerBoundError {
 /// a path, the bound of the closed tours through the dummy node that fixes its ends, less what
 /// such a tour pays at that node on top of its path: every path with those ends is one of
 /// these tours.
+///
+/// ```
+/// use std::time::Duration;
+/// use wend::{lower_bound, CoordCost, Ends, Metric, StopHandle};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// let bound = lower_bound(&square, Ends::Closed, 40, Duration::from_secs(1), &StopHandle::new())
+///     .unwrap();
+/// assert!(bound <= 40); // never above a real tour's length
+/// assert!(bound >= 30);
+/// ```
 pub fn lower_bound<C: Cost + ?Sized>(
     cost: &C,
     ends: Ends,
@@ -313,7 +333,7 @@ pub fn lower_bound<C: Cost + ?Sized>(
         Ok(if cost.is_symmetric() {
             held_karp_bound(cost, opts, stop)?.lower_bound
         } else {
-            crate::assignment::assignment_bound(cost)?.lower_bound
+            crate::bounds::assignment_bound(cost)?.lower_bound
         })
     }
     let opts = AscentOptions {
@@ -322,7 +342,7 @@ pub fn lower_bound<C: Cost + ?Sized>(
         upper_bound: Some(length),
     };
     let bound = if ends.is_path() {
-        let ended = crate::ends::EndedCost::new(cost, ends)?;
+        let ended = crate::transform::EndedCost::new(cost, ends)?;
         let opts = AscentOptions {
             upper_bound: ended.tour_length_of(length),
             ..opts

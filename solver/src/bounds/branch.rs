@@ -1,4 +1,4 @@
-//! Proofs of optimality: branch and bound on the 1-tree bound of [`crate::bound`], with the
+//! Proofs of optimality: branch and bound on the 1-tree bound of [`crate::bounds::ascent`], with the
 //! branching rule of Volgenant and Jonker (1982).
 //!
 //! # Subproblems
@@ -12,12 +12,12 @@
 //! empty).
 //!
 //! Its bound is a short subgradient ascent of the 1-tree under the rules (the cheapest 1-tree
-//! with every forced edge and no forbidden one, as [`crate::bound::one_tree`] defines it, found
+//! with every forced edge and no forbidden one, as [`crate::bounds::one_tree`] defines it, found
 //! by Prim's algorithm over the allowed edges), warm-started from the penalties of its parent:
-//! the step rule of [`crate::bound`] with `lambda` starting at 0.5, halved after 8 1-trees
+//! the step rule of [`crate::bounds::ascent`] with `lambda` starting at 0.5, halved after 8 1-trees
 //! without a better bound, at most 80 + n / 5 1-trees, ending early once `lambda` is below 0.005,
 //! the bound reaches the incumbent's length or the 1-tree is a tour. The root gets the full
-//! ascent of [`crate::bound::held_karp_bound`], with the starting tour as upper bound.
+//! ascent of [`crate::bounds::held_karp_bound`], with the starting tour as upper bound.
 //!
 //! A subproblem is closed when its bound, rounded up, is no less than the best tour's length,
 //! when its rules admit no 1-tree, or when its cheapest 1-tree is a tour (then the best tour of
@@ -63,11 +63,11 @@
 //! time or node limit stops the search. Each open subproblem keeps its decisions as a link to
 //! its parent's and its parent's penalties, shared with its siblings.
 
-use crate::bound::{
-    root_plan, AscentOptions, Best, BoundError, EdgeRules, EdgeState, Plan, Scaled,
+use super::ascent::{
+    root_plan, AscentOptions, AscentPlan, Best, BoundError, EdgeRules, EdgeState, Scaled,
 };
+use crate::control::StopHandle;
 use crate::cost::Cost;
-use crate::search::StopHandle;
 use crate::tour::{closed_length, Tour};
 use std::cmp::Ordering;
 use std::collections::BinaryHeap;
@@ -142,8 +142,8 @@ impl Ord for Open {
 }
 
 /// Ascent of a subproblem: a few dozen 1-trees from the parent's penalties.
-fn child_plan(n: usize, deadline: Option<Instant>) -> Plan {
-    Plan {
+fn child_plan(n: usize, deadline: Option<Instant>) -> AscentPlan {
+    AscentPlan {
         lambda: 0.5,
         patience: 8,
         lambda_min: 0.005,
@@ -158,6 +158,17 @@ fn child_plan(n: usize, deadline: Option<Instant>) -> Plan {
 ///
 /// When a limit stops the search the result holds the best tour, the best lower bound and
 /// `proven_optimal == false`; the lower bound is valid in every case.
+///
+/// ```
+/// use wend::{branch_and_bound, BranchOptions, CoordCost, Metric, StopHandle};
+///
+/// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+/// // Start from the crossing tour 0 2 1 3 (length 48).
+/// let proof = branch_and_bound(&square, vec![0, 2, 1, 3], &BranchOptions::default(), &StopHandle::new())
+///     .unwrap();
+/// assert_eq!(proof.length, 40);
+/// assert!(proof.proven_optimal);
+/// ```
 pub fn branch_and_bound<C: Cost + ?Sized>(
     cost: &C,
     initial_tour: Vec<usize>,
@@ -772,7 +783,7 @@ fn reduce<C: Cost + ?Sized>(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::bound::tests::{brute_force_optimum, matrix};
+    use crate::bounds::ascent::tests::{brute_force_optimum, matrix};
     use crate::cost::{FnCost, MatrixCost};
     use proptest::prelude::*;
 

@@ -1,10 +1,7 @@
-//! Candidate sets: for each node, the few other nodes a good tour is likely to connect it to.
+//! The neighbour lists and their plain sources; a leaf, using nothing of the crate but the costs.
 //!
-//! Local search only looks at moves that add a candidate edge, which turns quadratic
-//! neighbourhoods into linear ones. With geometry the lists come from a k-d tree in
-//! O(n log n); otherwise from a scan of each row of costs.
-//!
-//! Sources are pluggable: [`k_nearest`], [`quadrant`] (for clustered instances, where the
+//! With geometry the lists come from a k-d tree in O(n log n); otherwise from a scan of each row
+//! of costs. Sources are pluggable: [`k_nearest`], [`quadrant`] (for clustered instances, where the
 //! nearest nodes all sit in the node's own cluster), or any lists a caller computes (for
 //! example from a lower-bound calculation) through [`Neighbours::from_lists`].
 
@@ -21,79 +18,6 @@ pub struct Neighbours {
     out: Vec<u32>,
     /// For asymmetric costs, nodes `j` by increasing `cost(j, i)`; empty when symmetric.
     inc: Vec<u32>,
-}
-
-/// Where candidate lists come from.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
-pub enum CandidateSource {
-    /// The `k` cheapest other nodes.
-    Nearest,
-    /// The nearest few in each quadrant around the node (octant for 3-D points), topped up with
-    /// the nearest overall. Without geometry this is the same as `Nearest`. The default: on
-    /// uniform instances it finds as good tours as `Nearest`, on clustered ones better.
-    #[default]
-    Quadrant,
-    /// The alpha-nearest: edges that the cheapest 1-tree containing them makes least longer,
-    /// under penalties from a short Held–Karp ascent ([`crate::alpha`]). Symmetric costs up to
-    /// [`crate::alpha::ALPHA_LIMIT`] nodes; otherwise the same as `Quadrant`. Costs O(n²).
-    Alpha,
-}
-
-impl CandidateSource {
-    /// Every source, for option parsing.
-    pub const ALL: [CandidateSource; 3] = [
-        CandidateSource::Nearest,
-        CandidateSource::Quadrant,
-        CandidateSource::Alpha,
-    ];
-
-    /// Name as the command line takes it.
-    pub fn name(self) -> &'static str {
-        match self {
-            CandidateSource::Nearest => "nearest",
-            CandidateSource::Quadrant => "quadrant",
-            CandidateSource::Alpha => "alpha",
-        }
-    }
-
-    /// The source of this name.
-    pub fn from_name(name: &str) -> Option<CandidateSource> {
-        Self::ALL.into_iter().find(|s| s.name() == name)
-    }
-}
-
-/// Candidate lists of width `k` from `source`.
-pub fn candidates<C: Cost + ?Sized>(cost: &C, k: usize, source: CandidateSource) -> Neighbours {
-    build(cost, k, source, &|| false)
-}
-
-/// [`candidates`], given up when `stop` turns true (polled once per node, from every thread
-/// building lists): `None` then. On a million points the lists take seconds, so a stop request
-/// or a deadline must not wait for them.
-pub fn candidates_until<C: Cost + ?Sized>(
-    cost: &C,
-    k: usize,
-    source: CandidateSource,
-    stop: &(dyn Fn() -> bool + Sync),
-) -> Option<Neighbours> {
-    let lists = build(cost, k, source, stop);
-    (!stop()).then_some(lists)
-}
-
-/// The lists, incomplete (and to be thrown away) if `stop` turned true meanwhile.
-fn build<C: Cost + ?Sized>(
-    cost: &C,
-    k: usize,
-    source: CandidateSource,
-    stop: &(dyn Fn() -> bool + Sync),
-) -> Neighbours {
-    match source {
-        CandidateSource::Nearest => nearest_until(cost, k, stop),
-        CandidateSource::Quadrant => quadrant_until(cost, k, stop),
-        CandidateSource::Alpha => {
-            crate::alpha::from_ascent(cost, k).unwrap_or_else(|_| quadrant_until(cost, k, stop))
-        }
-    }
 }
 
 /// Why caller-made lists were refused.
@@ -124,6 +48,13 @@ pub enum ListError {
 impl Neighbours {
     /// Lists made elsewhere: `out[i * k ..][..k]` are node `i`'s candidates, best first;
     /// `incoming` likewise for asymmetric costs (empty when symmetric).
+    ///
+    /// ```
+    /// // Three nodes, one candidate each: 0 -> 1, 1 -> 2, 2 -> 0 (symmetric: no incoming lists).
+    /// let lists = wend::Neighbours::from_lists(3, 1, vec![1, 2, 0], Vec::new()).unwrap();
+    /// assert_eq!(lists.out(2), &[0]);
+    /// assert!(wend::Neighbours::from_lists(3, 1, vec![1, 2], Vec::new()).is_err());
+    /// ```
     pub fn from_lists(
         n: usize,
         k: usize,
@@ -183,11 +114,12 @@ impl Neighbours {
 }
 
 /// The `k` nearest neighbours of every node (fewer when there are fewer other nodes).
+#[cfg(any(test, feature = "internals"))]
 pub fn k_nearest<C: Cost + ?Sized>(cost: &C, k: usize) -> Neighbours {
     nearest_until(cost, k, &|| false)
 }
 
-fn nearest_until<C: Cost + ?Sized>(
+pub(crate) fn nearest_until<C: Cost + ?Sized>(
     cost: &C,
     k: usize,
     stop: &(dyn Fn() -> bool + Sync),
@@ -257,11 +189,12 @@ fn geometric_prefilter(
 /// sorted by cost. Regions are searched among the nearest few hundred points only, so a region
 /// that is empty nearby stays short and the list is topped up instead. Falls back to
 /// [`k_nearest`] without geometry.
+#[cfg(test)]
 pub fn quadrant<C: Cost + ?Sized>(cost: &C, k: usize) -> Neighbours {
     quadrant_until(cost, k, &|| false)
 }
 
-fn quadrant_until<C: Cost + ?Sized>(
+pub(crate) fn quadrant_until<C: Cost + ?Sized>(
     cost: &C,
     k: usize,
     stop: &(dyn Fn() -> bool + Sync),

@@ -17,7 +17,7 @@
 //! - every new best tour over all runs goes to the observer, at most one report per
 //!   [`REPORT_INTERVAL`] (the last withheld one is sent at the end).
 
-use crate::search::{self, Improvement, StopHandle, StopReason};
+use crate::control::{self, Improvement, StopHandle, StopReason};
 use rand::SeedableRng;
 use rand_pcg::Pcg64;
 use std::sync::atomic::{AtomicBool, AtomicU64, AtomicUsize, Ordering};
@@ -25,7 +25,7 @@ use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
 /// A started run of an iterative method.
-pub trait Iterative {
+pub(crate) trait Iterative {
     /// One unit of work. `should_stop` turns true at the deadline or on a stop request; a long
     /// step may poll it and return early, keeping its best tour so far.
     fn step(&mut self, rng: &mut Pcg64, should_stop: &mut dyn FnMut() -> bool);
@@ -41,7 +41,7 @@ pub trait Iterative {
 
 /// Limits and identity of a driven search.
 #[derive(Clone, Debug)]
-pub struct LoopPlan {
+pub(crate) struct LoopPlan {
     /// Seed of every run's generator (with the run index).
     pub seed: u64,
     /// Runs at the same time.
@@ -62,7 +62,7 @@ pub struct LoopPlan {
 
 /// What a driven search found.
 #[derive(Clone, Debug)]
-pub struct LoopOutcome {
+pub(crate) struct LoopOutcome {
     /// The best tour by (length, run index).
     pub order: Vec<usize>,
     /// Its length.
@@ -77,7 +77,7 @@ pub struct LoopOutcome {
 
 /// Minimum time between two reports to the observer, so that a long run gives a readable
 /// anytime curve rather than one entry per step.
-pub const REPORT_INTERVAL: Duration = Duration::from_millis(10);
+pub(crate) const REPORT_INTERVAL: Duration = Duration::from_millis(10);
 
 /// Anytime reports, throttled to [`REPORT_INTERVAL`]; the last withheld one is sent at the end.
 struct Reporter<'o> {
@@ -120,7 +120,7 @@ impl Reporter<'_> {
 /// best tour by (length, run index). `start(r, rng, should_stop)` builds run `r` with that run's
 /// generator; run 0 is always built, even when the deadline has passed, so there is always a
 /// tour. `began` is the instant improvement times count from.
-pub fn drive<M, S>(
+pub(crate) fn drive<M, S>(
     plan: &LoopPlan,
     began: Instant,
     observer: &(dyn Fn(Improvement) + Sync),
@@ -163,7 +163,7 @@ where
             break;
         }
         started.fetch_add(1, Ordering::Relaxed);
-        let mut rng = Pcg64::seed_from_u64(search::mix(plan.seed, r as u64));
+        let mut rng = Pcg64::seed_from_u64(control::mix(plan.seed, r as u64));
         let mut run = start(r, &mut rng, &mut || over());
         let mut length = run.best_length();
         reporter.offer(length, r);
@@ -202,7 +202,7 @@ where
             *guard = Some((length, r, run.best_order()));
         }
     };
-    search::on_threads(plan.threads, &worker);
+    control::on_threads(plan.threads, &worker);
     reporter.flush();
     let (length, _, order) = best
         .into_inner()
