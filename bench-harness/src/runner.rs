@@ -4,8 +4,8 @@
 //! `K/N` (runs whose index is `K-1` modulo `N`) names the same runs on every machine; merging
 //! shards is concatenating their `runs.jsonl` files.
 
-use sysinfo::{CpuRefreshKind, MemoryRefreshKind, RefreshKind, System};
 use crate::record::{read_runs, RunKey, RunRecord};
+use sysinfo::{CpuRefreshKind, MemoryRefreshKind, RefreshKind, System};
 use wend_tsplib::{read_instance, write_tour, Instance, TsplibError};
 
 use std::collections::{BTreeMap, HashSet};

@@ -24,7 +24,8 @@ pub struct Neighbours {
 }
 
 /// Where candidate lists come from.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
 pub enum CandidateSource {
     /// The `k` cheapest other nodes.
     Nearest,

@@ -56,6 +56,7 @@ pub mod lk;
 pub mod memory;
 pub mod prove;
 pub mod search;
+pub mod settings;
 pub mod solver;
 #[cfg(test)]
 mod testing;
@@ -66,5 +67,6 @@ pub use candidates::CandidateSource;
 pub use cost::{CoordCost, Cost, CostError, FnCost, Geometry, MatrixCost, Metric};
 pub use ends::Ends;
 pub use search::{Improvement, StopHandle, StopReason};
+pub use settings::{solve_with, Hooks, Outcome, Settings, SettingsError, SolveWithError};
 pub use solver::{AsymmetricMode, Method, Solution, SolveError, Solver};
 pub use tour::{Layout, Overflow, Tour, TourError};

@@ -19,7 +19,8 @@ use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
 /// A named solver configuration, as chosen on the command line with `--method`.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
 pub enum Method {
     /// Nearest-neighbour construction only.
     Nearest,
@@ -28,6 +29,7 @@ pub enum Method {
     /// Space-filling-curve construction only (nearest neighbour without geometry).
     Curve,
     /// Restarts of a construction followed by 2-opt and Or-opt over neighbour lists.
+    #[serde(rename = "2opt")]
     TwoOpt,
     /// Iterated Lin–Kernighan-style search: LK moves plus Or-opt, double-bridge kicks, parallel
     /// independent runs (see [`crate::lk`]). The default.
@@ -35,6 +37,7 @@ pub enum Method {
     /// Ant colony system (see [`crate::ants`]), ants built in parallel.
     Acs,
     /// MAX–MIN ant system (see [`crate::ants`]), ants built in parallel.
+    #[serde(rename = "mmas")]
     MaxMin,
     /// Simulated annealing over 2-opt, Or-opt and segment exchanges (see [`crate::anneal`]),
     /// independent runs per thread.
@@ -161,7 +164,10 @@ pub enum SolveError {
 }
 
 /// How `lk` searches asymmetric costs.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
+#[derive(
+    Clone, Copy, Debug, Default, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize,
+)]
+#[serde(rename_all = "lowercase")]
 pub enum AsymmetricMode {
     /// Lin–Kernighan moves on the symmetric transformation over `2n` nodes (Jonker and
     /// Volgenant 1983; see [`crate::twin`]), the tour mapped back to the caller's nodes.
@@ -358,16 +364,8 @@ impl<C: Cost> Solver<C> {
     /// Sets one parameter of the chosen method by its key (see [`Method::keys`]), as the
     /// command line's `--set KEY=VALUE` does. Set the method first.
     pub fn set(mut self, key: &str, value: &str) -> Result<Self, SolveError> {
-        let method = self.method;
-        let result = match method {
-            Method::Acs | Method::MaxMin => self.ants.set(key, value),
-            Method::Anneal => self.annealing.set(key, value),
-            _ => Err(format!("takes no parameters (`{key}` was given)")),
-        };
-        result.map_err(|message| SolveError::Parameter {
-            method: method.name(),
-            message,
-        })?;
+        let (ants, annealing) = (&mut self.ants, &mut self.annealing);
+        crate::settings::set_param(self.method, ants, annealing, key, value)?;
         Ok(self)
     }
 
