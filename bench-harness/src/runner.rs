@@ -13,8 +13,7 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
-use std::time::Duration;
-use wend::{CandidateSource, Ends, Method, Solver, StopHandle};
+use wend::{solve_with, CandidateSource, Ends, Hooks, Method, Settings, StopHandle};
 
 /// A method with optional candidate-list settings and parameters: `lk`, `lk:alpha`,
 /// `lk:nearest:5`, `mmas+local-search=2opt+evaporation=0.1`. Runs of different variants of one
@@ -27,7 +26,7 @@ pub struct MethodSpec {
     pub candidates: Option<CandidateSource>,
     /// Width of the neighbour lists (default: the solver's).
     pub neighbours: Option<usize>,
-    /// Method parameters as `(key, value)`, set in order ([`Solver::set`]).
+    /// Method parameters as `(key, value)`, set in order ([`Settings::set`]).
     pub settings: Vec<(String, String)>,
 }
 
@@ -97,15 +96,27 @@ impl MethodSpec {
             settings,
         };
         // Checked now, so that a bad key stops the sweep before its first run.
-        spec.settings
-            .iter()
-            .try_fold(
-                Solver::new(wend::MatrixCost::from_rows(&[]).map_err(|e| e.to_string())?)
-                    .method(method),
-                |s, (k, v)| s.set(k, v),
-            )
-            .map_err(|e| format!("{text:?}: {e}"))?;
+        spec.settings().map_err(|e| format!("{text:?}: {e}"))?;
         Ok(spec)
+    }
+
+    /// The settings of this variant: its method, neighbour lists and parameters (the
+    /// defaults otherwise).
+    pub fn settings(&self) -> Result<Settings, wend::SolveError> {
+        let mut settings = Settings {
+            method: self.method,
+            ..Settings::default()
+        };
+        if let Some(c) = self.candidates {
+            settings.candidates = c;
+        }
+        if let Some(k) = self.neighbours {
+            settings.neighbours = k;
+        }
+        for (k, v) in &self.settings {
+            settings.set(k, v)?;
+        }
+        Ok(settings)
     }
 
     /// The canonical text of the variant, as records and reports name it.
@@ -463,43 +474,30 @@ fn run_one(
     spec: &RunSpec,
     machine: &str,
 ) -> Result<Option<RunRecord>, SweepError> {
-    let mut solver = Solver::new(inst.cost()).method(spec.method.method);
-    for (k, v) in &spec.method.settings {
-        solver = solver.set(k, v).map_err(|e| SweepError::Solve {
-            file: spec.file.display().to_string(),
-            message: e.to_string(),
-        })?;
-    }
-    let mut solver = solver
-        .seed(spec.seed)
-        .threads(plan.threads_per_run)
-        .time_limit(Duration::from_secs_f64(plan.time_limit))
-        .ends(spec.ends.ends(inst.dimension))
-        .stop_handle(plan.stop.clone());
-    if let Some(c) = spec.method.candidates {
-        solver = solver.candidates(c);
-    }
-    if let Some(k) = spec.method.neighbours {
-        solver = solver.neighbours(k);
-    }
-    if let Some(r) = plan.restarts {
-        solver = solver.restarts(r);
-    }
-    if let Some(k) = plan.kicks {
-        solver = solver.kicks(k);
-    }
+    let failed = |message: String| SweepError::Solve {
+        file: spec.file.display().to_string(),
+        message,
+    };
     // Known optima are of closed tours; a path has none.
     let closed = spec.ends == EndsChoice::Closed;
     let optimum = plan.optima.get(&spec.instance).copied().filter(|_| closed);
-    if plan.stop_at_optimum {
-        if let Some(o) = optimum {
-            solver = solver.target_length(o);
-        }
-    }
-    let sol = solver.solve().map_err(|e| SweepError::Solve {
-        file: spec.file.display().to_string(),
-        message: e.to_string(),
-    })?;
+    let settings = Settings {
+        seed: spec.seed,
+        threads: Some(plan.threads_per_run),
+        time_limit: Some(plan.time_limit),
+        ends: spec.ends.ends(inst.dimension),
+        runs: plan.restarts,
+        iterations: plan.kicks,
+        target_length: optimum.filter(|_| plan.stop_at_optimum),
+        ..spec.method.settings().map_err(|e| failed(e.to_string()))?
+    };
+    let hooks = Hooks {
+        stop: plan.stop.clone(),
+        ..Hooks::default()
+    };
+    let out = solve_with(inst.cost(), &settings, hooks).map_err(|e| failed(e.to_string()))?;
+    let search =
+        (out.search.as_ref()).ok_or_else(|| failed("the search reported nothing".into()))?;
     if plan.stop.is_stopped() {
         return Ok(None);
     }
@@ -523,7 +521,7 @@ fn run_one(
         } else {
             format!("{} path, no return step: ", spec.ends.name())
         },
-        sol.length,
+        out.length,
         env!("CARGO_PKG_VERSION"),
         spec.method.label(),
         spec.seed
@@ -531,7 +529,7 @@ fn run_one(
     std::fs::File::create(&tour_path)
         .and_then(|f| {
             let mut w = std::io::BufWriter::new(f);
-            write_tour(&inst.name, &comment, sol.tour.order(), &mut w)?;
+            write_tour(&inst.name, &comment, out.tour.order(), &mut w)?;
             w.flush()
         })
         .map_err(|source| SweepError::Io {
@@ -548,21 +546,21 @@ fn run_one(
         seed: spec.seed,
         time_limit: plan.time_limit,
         threads: plan.threads_per_run,
-        length: sol.length,
+        length: out.length,
         optimum,
         gap_percent: optimum
             .filter(|&o| o != 0)
-            .map(|o| 100.0 * (sol.length - o) as f64 / o as f64),
-        seconds: sol.seconds,
-        time_to_best: sol.trace.last().map_or(sol.seconds, |t| t.seconds),
+            .map(|o| 100.0 * (out.length - o) as f64 / o as f64),
+        seconds: out.seconds,
+        time_to_best: search.trace.last().map_or(out.seconds, |t| t.seconds),
         lower_bound: None,
-        stop_reason: serde_json::to_value(sol.stop_reason)
+        stop_reason: serde_json::to_value(search.stop_reason)
             .ok()
             .and_then(|v| v.as_str().map(str::to_string))
             .unwrap_or_default(),
-        restarts: sol.restarts,
-        kicks: sol.iterations,
-        trace: sol.trace.iter().map(|t| (t.seconds, t.length)).collect(),
+        restarts: search.restarts,
+        kicks: search.iterations,
+        trace: search.trace.iter().map(|t| (t.seconds, t.length)).collect(),
         tour_file: Some(format!("tours/{tour_name}")),
         version: env!("CARGO_PKG_VERSION").to_string(),
         git_commit: env!("WEND_GIT_COMMIT").to_string(),

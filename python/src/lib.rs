@@ -26,8 +26,8 @@ use pyo3::exceptions::{PyOSError, PyRuntimeError, PyValueError};
 use pyo3::prelude::*;
 use pyo3::types::{PyDict, PyList};
 
-use wend::lower_bound;
-use wend::{CoordCost, Cost, Ends, MatrixCost, Method, Metric, Solution, Solver, StopHandle};
+use wend::{solve_with, CoordCost, Cost, Ends, Hooks, MatrixCost, Method, Metric, Outcome};
+use wend::{Settings, StopHandle};
 use wend_sky::front::{search_front, Front, FrontOptions, FrontProgress};
 use wend_sky::output::{format_utc, parse_utc, plan_json, CAUTION, DEMO_START_UTC};
 use wend_sky::plan::{plan, Plan, PlanOptions};
@@ -167,55 +167,42 @@ struct SolveOptions {
 }
 
 impl SolveOptions {
-    fn method(&self) -> Result<Method, Fail> {
-        Method::from_name(&self.method).ok_or_else(|| {
+    /// The settings these options ask for, checked (0-based ends, checked against the
+    /// instance by the solver).
+    fn settings(&self) -> Result<Settings, Fail> {
+        let method = Method::from_name(&self.method).ok_or_else(|| {
             let names: Vec<&str> = Method::ALL.iter().map(|m| m.name()).collect();
             Fail::Input(format!(
                 "unknown method {:?}; choose one of: {}",
                 self.method,
                 names.join(", ")
             ))
-        })
-    }
-
-    /// The ends asked for: 0-based node indices, checked against the instance by the solver.
-    fn ends(&self) -> Ends {
-        match (self.start, self.end) {
+        })?;
+        let ends = match (self.start, self.end) {
             (Some(s), Some(e)) => Ends::StartEnd(s, e),
             (Some(s), None) => Ends::Start(s),
             (None, Some(e)) => Ends::End(e),
             (None, None) if self.open => Ends::Open,
             (None, None) => Ends::Closed,
+        };
+        let mut settings = Settings {
+            method,
+            time_limit: self.time_limit,
+            seed: self.seed,
+            threads: self.threads,
+            runs: self.restarts,
+            iterations: self.iterations,
+            ends,
+            bound: self.lower_bound,
+            bound_time: self.bound_time,
+            ..Settings::default()
+        };
+        settings.check().map_err(input)?;
+        for (key, value) in &self.settings {
+            settings.set(key.trim(), value.trim()).map_err(input)?;
         }
+        Ok(settings)
     }
-
-    fn limit(&self) -> Result<Option<Duration>, Fail> {
-        match self.time_limit {
-            Some(t) if !(t.is_finite() && t >= 0.0) => Err(Fail::Input(format!(
-                "time_limit must be a non-negative number of seconds, got {t}"
-            ))),
-            Some(t) => Ok(Some(Duration::from_secs_f64(t.min(1.0e9)))),
-            None => Ok(None),
-        }
-    }
-}
-
-/// A bound on every tour (or path with the requested ends) no longer than `length`, as
-/// `wend solve --bound` computes it.
-fn bound_for(
-    cost: &dyn Cost,
-    ends: Ends,
-    length: i64,
-    bound_time: f64,
-    stop: &StopHandle,
-) -> Result<i64, String> {
-    if !(bound_time.is_finite() && bound_time >= 0.0) {
-        return Err(format!(
-            "bound_time must be a non-negative number of seconds, got {bound_time}"
-        ));
-    }
-    let time = Duration::from_secs_f64(bound_time.min(1.0e9));
-    lower_bound(cost, ends, length, time, stop).map_err(|e| e.to_string())
 }
 
 /// Solves over `cost` as `wend solve` does with the same options, watching for Ctrl-C.
@@ -224,78 +211,44 @@ fn solve_cost<'py>(
     cost: &dyn Cost,
     o: &SolveOptions,
 ) -> Result<Bound<'py, PyDict>, Fail> {
-    let method = o.method()?;
-    let limit = o.limit()?;
-    if o.threads == Some(0) {
-        return Err(Fail::Input("threads must be at least 1".into()));
-    }
-    let ends = o.ends();
+    let settings = o.settings()?;
     let stop = StopHandle::new();
-    let mut solver = Solver::new(cost)
-        .seed(o.seed)
-        .method(method)
-        .ends(ends)
-        .stop_handle(stop.clone());
-    if let Some(l) = limit {
-        solver = solver.time_limit(l);
-    }
-    if let Some(t) = o.threads {
-        solver = solver.threads(t);
-    }
-    if let Some(r) = o.restarts {
-        solver = solver.restarts(r);
-    }
-    if let Some(k) = o.iterations {
-        solver = solver.iterations(k);
-    }
-    for (key, value) in &o.settings {
-        solver = solver.set(key.trim(), value.trim()).map_err(input)?;
-    }
-    let want_bound = o.lower_bound;
-    let bound_time = o.bound_time;
-    let stop_in = stop.clone();
-    let (sol, bound) = run_watched(py, &stop, move || {
-        let sol = solver.solve()?;
-        let bound = if want_bound && !stop_in.is_stopped() {
-            Some(bound_for(cost, sol.ends, sol.length, bound_time, &stop_in))
-        } else {
-            None
-        };
-        Ok::<_, wend::SolveError>((sol, bound))
-    })?
-    .map_err(input)?;
-    let bound = bound.transpose().map_err(Fail::Input)?;
-    solution_dict(py, &sol, bound)
+    let hooks = Hooks {
+        stop: stop.clone(),
+        ..Hooks::default()
+    };
+    let out = run_watched(py, &stop, move || solve_with(cost, &settings, hooks))?.map_err(input)?;
+    outcome_dict(py, &out)
 }
 
-fn solution_dict<'py>(
-    py: Python<'py>,
-    sol: &Solution,
-    bound: Option<i64>,
-) -> Result<Bound<'py, PyDict>, Fail> {
+fn outcome_dict<'py>(py: Python<'py>, out: &Outcome) -> Result<Bound<'py, PyDict>, Fail> {
     let d = PyDict::new(py);
     let fail = |e: PyErr| Fail::Internal(e.to_string());
-    let order: Vec<i64> = sol.tour.order().iter().map(|&v| v as i64).collect();
+    let Some(search) = &out.search else {
+        return Err(Fail::Internal("the search reported nothing".into()));
+    };
+    let order: Vec<i64> = out.tour.order().iter().map(|&v| v as i64).collect();
     d.set_item("order", PyArray1::from_vec(py, order))
         .map_err(fail)?;
-    d.set_item("length", sol.length).map_err(fail)?;
-    d.set_item("lower_bound", bound).map_err(fail)?;
-    let reason = serde_json::to_value(sol.stop_reason)
+    d.set_item("length", out.length).map_err(fail)?;
+    d.set_item("lower_bound", out.lower_bound).map_err(fail)?;
+    let reason = serde_json::to_value(search.stop_reason)
         .ok()
         .and_then(|v| v.as_str().map(str::to_string))
         .unwrap_or_default();
     d.set_item("stop_reason", reason).map_err(fail)?;
-    d.set_item("seconds", sol.seconds).map_err(fail)?;
-    d.set_item("restarts", sol.restarts).map_err(fail)?;
-    d.set_item("iterations", sol.iterations).map_err(fail)?;
-    d.set_item("method", sol.method.name()).map_err(fail)?;
-    d.set_item("ends", sol.ends.name()).map_err(fail)?;
-    let mut trace = Vec::with_capacity(sol.trace.len() * 2);
-    for t in &sol.trace {
+    d.set_item("seconds", out.seconds).map_err(fail)?;
+    d.set_item("restarts", search.restarts).map_err(fail)?;
+    d.set_item("iterations", search.iterations).map_err(fail)?;
+    let method = out.method.map_or("exact", Method::name);
+    d.set_item("method", method).map_err(fail)?;
+    d.set_item("ends", out.ends.name()).map_err(fail)?;
+    let mut trace = Vec::with_capacity(search.trace.len() * 2);
+    for t in &search.trace {
         trace.push(t.seconds);
         trace.push(t.length as f64);
     }
-    let trace = Array2::from_shape_vec((sol.trace.len(), 2), trace)
+    let trace = Array2::from_shape_vec((search.trace.len(), 2), trace)
         .map_err(|e| Fail::Internal(e.to_string()))?;
     d.set_item("trace", PyArray2::from_owned_array(py, trace))
         .map_err(fail)?;

@@ -50,6 +50,7 @@ pub mod memory;
 mod methods;
 mod moves;
 mod neighbours;
+mod params;
 mod solve;
 #[cfg(test)]
 mod testing;
@@ -70,6 +71,7 @@ pub use solve::{
     lower_bound, prove_optimal, AsymmetricMode, Certificate, ExactMethod, LowerBoundError, Method,
     ProveError, ProveOptions, Solution, SolveError, Solver, DEFAULT_NEIGHBOURS,
 };
+pub use solve::{solve_with, Hooks, Outcome, Settings, SettingsError, SolveWithError};
 pub use tour::{closed_length, Layout, Overflow, Tour, TourError};
 pub use transform::{path_length, Ends, EndsError};
 

@@ -6,8 +6,10 @@ use serde_json::json;
 use std::io::IsTerminal;
 use std::path::PathBuf;
 use std::time::Duration;
-use wend::{lower_bound, prove_optimal, ExactMethod, ProveOptions};
-use wend::{CandidateSource, Ends, Layout, Method, Solver};
+use wend::SettingsError;
+use wend::{
+    solve_with, CandidateSource, Ends, ExactMethod, Hooks, Layout, Method, Outcome, Settings,
+};
 
 #[derive(Args, Debug)]
 pub struct SolveArgs {
@@ -107,6 +109,43 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
         }
         return Ok(());
     }
+    let mut settings = settings_of(&a)?;
+    let path = a.path.clone().unwrap_or_default();
+    let inst = load(&path)?;
+    settings.ends = path_ends(&a, inst.dimension)
+        .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
+    let limit = settings
+        .time_limit
+        .map(|t| Duration::from_secs_f64(t.min(1.0e9)));
+    let progress = Progress::start(limit, !a.json || std::io::stderr().is_terminal());
+    let hooks = Hooks {
+        stop: super::interrupt::handle(),
+        observer: (!a.exact).then(|| Box::new(progress.observer()) as _),
+        after_search: Some(Box::new(move || progress.finish())),
+    };
+    let out = solve_with(inst.cost(), &settings, hooks)
+        .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
+    if let Some(file) = &a.tour_out {
+        write_tour_file(
+            file,
+            &inst,
+            &tour_comment(&out, &settings),
+            out.tour.order(),
+        )?;
+    }
+    if a.json {
+        println!("{}", json_object(&a, &inst, &path, &settings, &out)?);
+    } else {
+        print_summary(&inst, &settings, &out);
+        if let Some(file) = &a.tour_out {
+            println!("tour       written to {}", file.display());
+        }
+    }
+    Ok(())
+}
+
+/// The settings the options ask for (the ends follow once the instance is read).
+fn settings_of(a: &SolveArgs) -> Result<Settings, CliError> {
     let method = Method::from_name(&a.method).ok_or_else(|| {
         let names: Vec<&str> = Method::ALL.iter().map(|m| m.name()).collect();
         CliError::Input(format!(
@@ -115,15 +154,6 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
             names.join(", ")
         ))
     })?;
-    let limit = match a.time_limit {
-        Some(t) if !(t.is_finite() && t >= 0.0) => {
-            return Err(CliError::Input(format!(
-                "--time-limit must be a non-negative number of seconds, got {t}"
-            )))
-        }
-        Some(t) => Some(Duration::from_secs_f64(t.min(1.0e9))),
-        None => None,
-    };
     let candidates = CandidateSource::from_name(&a.candidates).ok_or_else(|| {
         let names: Vec<&str> = CandidateSource::ALL.iter().map(|s| s.name()).collect();
         CliError::Input(format!(
@@ -142,158 +172,155 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
             )))
         }
     };
-    if a.threads == Some(0) {
-        return Err(CliError::Input("--threads must be at least 1".into()));
-    }
-    let path = a.path.clone().unwrap_or_default();
-    let inst = load(&path)?;
-    let ends = path_ends(&a, inst.dimension)
-        .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
-    if a.exact {
-        return run_exact(&a, &inst, &path, limit, ends);
-    }
-    let progress = Progress::start(limit, !a.json || std::io::stderr().is_terminal());
-    let mut solver = Solver::new(inst.cost())
-        .seed(a.seed)
-        .method(method)
-        .neighbours(a.neighbours)
-        .candidates(candidates)
-        .layout(layout)
-        .ends(ends);
-    if let Some(l) = limit {
-        solver = solver.time_limit(l);
-    }
-    if let Some(t) = a.threads {
-        solver = solver.threads(t);
-    }
-    if let Some(r) = a.restarts {
-        solver = solver.restarts(r);
-    }
-    if let Some(k) = a.iterations {
-        solver = solver.iterations(k);
-    }
+    let exact_method = match &a.exact_method {
+        None => None,
+        Some(name) => Some(ExactMethod::from_name(name).ok_or_else(|| {
+            CliError::Input(format!(
+                "unknown exact method {name:?}; choose one of: dynamic-programme, branch-and-bound"
+            ))
+        })?),
+    };
+    let mut settings = Settings {
+        method,
+        time_limit: a.time_limit,
+        seed: a.seed,
+        threads: a.threads,
+        runs: a.restarts,
+        iterations: a.iterations,
+        stall_limit: a.stall_limit,
+        target_length: a.target,
+        neighbours: a.neighbours,
+        candidates,
+        layout,
+        bound: a.bound,
+        bound_time: a.bound_time,
+        exact: a.exact,
+        exact_method,
+        ..Settings::default()
+    };
     for setting in &a.settings {
         let (key, value) = setting
             .split_once('=')
             .ok_or_else(|| CliError::Input(format!("--set takes KEY=VALUE, got {setting:?}")))?;
-        solver = solver
+        settings
             .set(key.trim(), value.trim())
             .map_err(|e| CliError::Input(e.to_string()))?;
     }
-    if let Some(k) = a.stall_limit {
-        solver = solver.stall_limit(k);
-    }
-    if let Some(t) = a.target {
-        solver = solver.target_length(t);
-    }
-    let observer = progress.observer();
-    let solver = solver
-        .on_improvement(observer)
-        .stop_handle(super::interrupt::handle());
-    let result = solver.solve();
-    progress.finish();
-    let sol = result.map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
-    let lower_bound = if a.bound {
-        if !(a.bound_time.is_finite() && a.bound_time >= 0.0) {
-            return Err(CliError::Input(format!(
-                "--bound-time must be a non-negative number of seconds, got {}",
-                a.bound_time
-            )));
+    settings.check().map_err(|e| match e {
+        SettingsError::Field { field, requirement } => {
+            CliError::Input(format!("--{} {requirement}", field.replace('_', "-")))
         }
-        let time = Duration::from_secs_f64(a.bound_time.min(1.0e9));
-        match lower_bound(
-            inst.cost(),
-            ends,
-            sol.length,
-            time,
-            &super::interrupt::handle(),
-        ) {
-            Ok(b) => Some(b),
-            // Ctrl-C during the solve or the bound: the tour is still written, without a bound.
-            Err(_) if super::interrupt::interrupted() => None,
-            Err(e) => return Err(CliError::Input(format!("{}: {e}", path.display()))),
-        }
-    } else {
-        None
-    };
-    let proven_gap = lower_bound
-        .filter(|&b| b > 0)
-        .map(|b| 100.0 * (sol.length - b) as f64 / b as f64);
+        other => CliError::Input(other.to_string()),
+    })?;
+    Ok(settings)
+}
 
-    if let Some(out) = &a.tour_out {
-        let mut comment = format!(
-            "length {} found by wend {} (method {}, seed {})",
-            sol.length,
-            env!("CARGO_PKG_VERSION"),
-            method.name(),
-            a.seed
-        );
-        if ends.is_path() {
-            comment = format!(
-                "open path (no return edge), {}; {comment}",
-                ends_words(&sol)
+/// The comment line of the tour file.
+fn tour_comment(out: &Outcome, settings: &Settings) -> String {
+    let version = env!("CARGO_PKG_VERSION");
+    match &out.proof {
+        None => {
+            let comment = format!(
+                "length {} found by wend {version} (method {}, seed {})",
+                out.length,
+                settings.method.name(),
+                settings.seed
             );
+            if out.ends.is_path() {
+                format!("open path (no return edge), {}; {comment}", ends_words(out))
+            } else {
+                comment
+            }
         }
-        write_tour_file(out, &inst, &comment, sol.tour.order())?;
-    }
-    if a.json {
-        let obj = json!({
-            "instance": inst.name,
-            "file": path.display().to_string(),
-            "type": inst.kind.keyword(),
-            "nodes": inst.dimension,
-            "method": method.name(),
-            "seed": a.seed,
-            "threads": a.threads,
-            "time_limit": a.time_limit,
-            "ends": ends.name(),
-            "start": ends.start().map(|s| s + 1),
-            "end": match ends {
-                Ends::StartEnd(_, e) | Ends::End(e) => Some(e + 1),
-                _ => None,
+        Some(p) => format!(
+            "{}length {} found by wend {version} ({}{})",
+            if out.ends.is_path() {
+                format!("{} path, no return step: ", out.ends.name())
+            } else {
+                String::new()
             },
-            "length": sol.length,
-            "lower_bound": lower_bound,
-            "proven_gap_percent": proven_gap,
-            "seconds": sol.seconds,
-            "restarts": sol.restarts,
-            "iterations": sol.iterations,
-            "stop_reason": sol.stop_reason,
-            "tour_out": a.tour_out.as_ref().map(|p| p.display().to_string()),
+            out.length,
+            p.exact_method.name(),
+            if p.proven_optimal {
+                ", proven optimal"
+            } else {
+                ", not proven optimal"
+            }
+        ),
+    }
+}
+
+/// The `--json` object: the outcome without its tour and trace, and what only the command
+/// knows (the file, the instance, the options as given, the tour file).
+fn json_object(
+    a: &SolveArgs,
+    inst: &wend_tsplib::Instance,
+    path: &std::path::Path,
+    settings: &Settings,
+    out: &Outcome,
+) -> Result<serde_json::Value, CliError> {
+    let mut v = serde_json::to_value(out).map_err(|e| CliError::Failure(e.to_string()))?;
+    let Some(obj) = v.as_object_mut() else {
+        return Err(CliError::Failure("the outcome is not an object".into()));
+    };
+    obj.remove("tour");
+    obj.remove("trace");
+    let ends = settings.ends;
+    let mut own = json!({
+        "instance": inst.name,
+        "file": path.display().to_string(),
+        "type": inst.kind.keyword(),
+        "nodes": inst.dimension,
+        "seed": settings.seed,
+        "threads": settings.threads,
+        "time_limit": settings.time_limit,
+        "tour_out": a.tour_out.as_ref().map(|p| p.display().to_string()),
+    });
+    if out.proof.is_none() {
+        own["start"] = json!(ends.start().map(|s| s + 1));
+        own["end"] = json!(match ends {
+            Ends::StartEnd(_, e) | Ends::End(e) => Some(e + 1),
+            _ => None,
         });
-        println!("{obj}");
-    } else {
-        println!(
-            "instance   {} ({} nodes, {})",
-            inst.name,
-            inst.dimension,
-            inst.kind.keyword()
-        );
-        println!("method     {}", method.name());
-        if ends != Ends::Closed {
-            println!("ends       {}", ends_words(&sol));
-        }
-        println!("length     {}", sol.length);
-        if let (Some(b), Some(g)) = (lower_bound, proven_gap) {
-            println!("bound      {b}: the tour is at most {g:.3} % above the optimum");
-        }
-        println!(
-            "time       {:.3} s, {} run(s), {} {}, stopped: {}",
-            sol.seconds,
-            sol.restarts,
-            sol.iterations,
-            match method {
-                Method::Acs | Method::MaxMin => "generation(s)",
-                Method::Anneal => "batch(es) of moves",
-                _ => "kick(s)",
-            },
-            stop_words(sol.stop_reason)
-        );
-        if let Some(out) = &a.tour_out {
-            println!("tour       written to {}", out.display());
-        }
     }
-    Ok(())
+    if let Some(own) = own.as_object() {
+        obj.extend(own.clone());
+    }
+    Ok(v)
+}
+
+/// The text summary.
+fn print_summary(inst: &wend_tsplib::Instance, settings: &Settings, out: &Outcome) {
+    println!(
+        "instance   {} ({} nodes, {})",
+        inst.name,
+        inst.dimension,
+        inst.kind.keyword()
+    );
+    let (Some(search), None) = (&out.search, &out.proof) else {
+        return print_proof(out);
+    };
+    let method = settings.method;
+    println!("method     {}", method.name());
+    if out.ends != Ends::Closed {
+        println!("ends       {}", ends_words(out));
+    }
+    println!("length     {}", out.length);
+    if let (Some(b), Some(g)) = (out.lower_bound, out.proven_gap_percent) {
+        println!("bound      {b}: the tour is at most {g:.3} % above the optimum");
+    }
+    println!(
+        "time       {:.3} s, {} run(s), {} {}, stopped: {}",
+        out.seconds,
+        search.restarts,
+        search.iterations,
+        match method {
+            Method::Acs | Method::MaxMin => "generation(s)",
+            Method::Anneal => "batch(es) of moves",
+            _ => "kick(s)",
+        },
+        stop_words(search.stop_reason)
+    );
 }
 
 /// The ends `--open`, `--start` and `--end` ask for, with the file's 1-based node numbers
@@ -320,7 +347,7 @@ fn path_ends(a: &SolveArgs, nodes: usize) -> Result<Ends, String> {
 }
 
 /// "from 3 to 7", in the file's node numbers, for the path of `sol`.
-fn ends_words(sol: &wend::Solution) -> String {
+fn ends_words(sol: &Outcome) -> String {
     let order = sol.tour.order();
     let what = match sol.ends {
         Ends::Closed => "closed tour",
@@ -349,114 +376,34 @@ fn write_tour_file(
     })
 }
 
-/// `wend solve --exact`.
-fn run_exact(
-    a: &SolveArgs,
-    inst: &wend_tsplib::Instance,
-    path: &std::path::Path,
-    limit: Option<Duration>,
-    ends: Ends,
-) -> Result<(), CliError> {
-    let method = match &a.exact_method {
-        None => None,
-        Some(name) => Some(ExactMethod::from_name(name).ok_or_else(|| {
-            CliError::Input(format!(
-                "unknown exact method {name:?}; choose one of: dynamic-programme, branch-and-bound"
-            ))
-        })?),
+/// The text summary of `--exact`, after the instance line.
+fn print_proof(c: &Outcome) {
+    let Some(p) = &c.proof else {
+        return;
     };
-    let opts = ProveOptions {
-        method,
-        time_limit: limit,
-        seed: a.seed,
-        threads: a.threads,
-        ends,
-        ..Default::default()
-    };
-    let progress = Progress::start(limit, !a.json || std::io::stderr().is_terminal());
-    let result = prove_optimal(inst.cost(), &opts, &super::interrupt::handle());
-    progress.finish();
-    let c = result.map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
-    let proven_gap = c
-        .lower_bound
-        .filter(|&b| b > 0)
-        .map(|b| 100.0 * (c.length - b) as f64 / b as f64);
-    if let Some(out) = &a.tour_out {
-        let comment = format!(
-            "{}length {} found by wend {} ({}{})",
-            if ends.is_path() {
-                format!("{} path, no return step: ", ends.name())
-            } else {
-                String::new()
-            },
-            c.length,
-            env!("CARGO_PKG_VERSION"),
-            c.method.name(),
-            if c.proven_optimal {
-                ", proven optimal"
-            } else {
-                ", not proven optimal"
-            }
-        );
-        write_tour_file(out, inst, &comment, c.tour.order())?;
+    match p.exact_method {
+        ExactMethod::DynamicProgramme => println!("method     exact: dynamic programme"),
+        ExactMethod::BranchAndBound => println!(
+            "method     exact: branch and bound, {} subproblem(s), first tour {}",
+            p.subproblems,
+            p.first_tour_length.unwrap_or(c.length)
+        ),
     }
-    if a.json {
-        let obj = json!({
-            "instance": inst.name,
-            "file": path.display().to_string(),
-            "type": inst.kind.keyword(),
-            "nodes": inst.dimension,
-            "method": "exact",
-            "exact_method": c.method.name(),
-            "ends": ends.name(),
-            "seed": a.seed,
-            "threads": a.threads,
-            "time_limit": a.time_limit,
-            "length": c.length,
-            "lower_bound": c.lower_bound,
-            "proven_optimal": c.proven_optimal,
-            "proven_gap_percent": proven_gap,
-            "first_tour_length": c.first_tour_length,
-            "subproblems": c.subproblems,
-            "seconds": c.seconds,
-            "tour_out": a.tour_out.as_ref().map(|p| p.display().to_string()),
-        });
-        println!("{obj}");
-    } else {
-        println!(
-            "instance   {} ({} nodes, {})",
-            inst.name,
-            inst.dimension,
-            inst.kind.keyword()
-        );
-        match c.method {
-            ExactMethod::DynamicProgramme => println!("method     exact: dynamic programme"),
-            ExactMethod::BranchAndBound => println!(
-                "method     exact: branch and bound, {} subproblem(s), first tour {}",
-                c.subproblems,
-                c.first_tour_length.unwrap_or(c.length)
-            ),
-        }
-        if ends.is_path() {
-            let order = c.tour.order();
-            if let (Some(f), Some(l)) = (order.first(), order.last()) {
-                println!("ends       {} path, {} to {}", ends.name(), f + 1, l + 1);
-            }
-        }
-        println!("length     {}", c.length);
-        match (c.proven_optimal, c.lower_bound, proven_gap) {
-            (true, _, _) => println!("proof      optimal"),
-            (false, Some(b), Some(g)) => println!(
-                "proof      not finished in time; bound {b}: the tour is at most {g:.3} % above the optimum"
-            ),
-            _ => println!("proof      not finished in time; no bound"),
-        }
-        println!("time       {:.3} s", c.seconds);
-        if let Some(out) = &a.tour_out {
-            println!("tour       written to {}", out.display());
+    if c.ends.is_path() {
+        let order = c.tour.order();
+        if let (Some(f), Some(l)) = (order.first(), order.last()) {
+            println!("ends       {} path, {} to {}", c.ends.name(), f + 1, l + 1);
         }
     }
-    Ok(())
+    println!("length     {}", c.length);
+    match (p.proven_optimal, c.lower_bound, c.proven_gap_percent) {
+        (true, _, _) => println!("proof      optimal"),
+        (false, Some(b), Some(g)) => println!(
+            "proof      not finished in time; bound {b}: the tour is at most {g:.3} % above the optimum"
+        ),
+        _ => println!("proof      not finished in time; no bound"),
+    }
+    println!("time       {:.3} s", c.seconds);
 }
 
 fn stop_words(r: wend::StopReason) -> &'static str {

@@ -82,7 +82,8 @@ use rand::Rng;
 use rand_pcg::Pcg64;
 
 /// How the temperature falls between reheats.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
 pub enum CoolingSchedule {
     /// `T <- cooling * T` after every batch.
     #[default]
@@ -112,31 +113,44 @@ impl CoolingSchedule {
 /// Tuning of simulated annealing. Temperatures are given as shares of the start temperature
 /// `T0`, which each run measures on its own starting tour, so the defaults carry over between
 /// instances of any cost scale.
-#[derive(Clone, Debug, PartialEq)]
+///
+/// Serialised under the keys of [`AnnealParams::KEYS`]; text values (`"0.5"`, `off`) are read
+/// like numbers and switches, so `--set KEY=VALUE` pairs deserialise too.
+#[derive(Clone, Debug, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(default, deny_unknown_fields, rename_all = "kebab-case")]
 pub struct AnnealParams {
     /// How the temperature falls between reheats.
     pub schedule: CoolingSchedule,
     /// Geometric cooling factor per batch, in (0, 1): the temperature after a batch is this
     /// times the one before. The adaptive schedule takes `-ln(cooling)` as its reference step.
+    #[serde(deserialize_with = "crate::params::text")]
     pub cooling: f64,
     /// Proposals per batch, per node (a batch is `batch * n` proposals at one temperature).
+    #[serde(deserialize_with = "crate::params::text")]
     pub batch: u64,
     /// Share of worsening proposals accepted at the start temperature `T0`, in (0, 1): `T0` is
     /// set so that the mean Metropolis probability `exp(-delta / T0)` over sampled worsening
     /// proposals from the starting tour equals this.
+    #[serde(deserialize_with = "crate::params::text")]
     pub start_acceptance: f64,
     /// Proposals sampled from the starting tour to set `T0`.
+    #[serde(deserialize_with = "crate::params::text")]
     pub samples: usize,
     /// Floor of the temperature, as a share of `T0`, in (0, 1): cooling stops there.
+    #[serde(deserialize_with = "crate::params::text")]
     pub min_temperature: f64,
     /// Batches at the floor without a new best tour before reheating; 0 never reheats.
+    #[serde(deserialize_with = "crate::params::text")]
     pub reheat_after: u64,
     /// Temperature after a reheat, as a share of `T0`, in (0, 1].
+    #[serde(deserialize_with = "crate::params::text")]
     pub reheat: f64,
     /// Adaptive schedule: planned fall of the acceptance rate (a share of proposals) per batch,
     /// in (0, 1).
+    #[serde(deserialize_with = "crate::params::text")]
     pub rate_step: f64,
     /// Take the tour to a 2-opt/Or-opt local optimum before each reheat.
+    #[serde(deserialize_with = "crate::params::switch")]
     pub descent: bool,
 }
 
@@ -218,46 +232,7 @@ impl AnnealParams {
     /// assert!(params.set("schedule", "fast").is_err());
     /// ```
     pub fn set(&mut self, key: &str, value: &str) -> Result<(), String> {
-        let v = value.trim();
-        match key {
-            "schedule" => {
-                self.schedule = CoolingSchedule::from_name(v).ok_or_else(|| {
-                    format!("schedule: expected geometric or adaptive, got '{value}'")
-                })?;
-            }
-            "cooling" => self.cooling = open_unit(key, v)?,
-            "batch" => self.batch = integer(key, v, 1, 1_000_000)?,
-            "start-acceptance" => self.start_acceptance = open_unit(key, v)?,
-            "samples" => self.samples = integer(key, v, 1, 10_000_000)? as usize,
-            "min-temperature" => self.min_temperature = open_unit(key, v)?,
-            "reheat-after" => self.reheat_after = integer(key, v, 0, u64::MAX)?,
-            "reheat" => {
-                self.reheat = match v.parse::<f64>() {
-                    Ok(x) if x > 0.0 && x <= 1.0 => x,
-                    _ => {
-                        return Err(format!(
-                            "reheat: expected a number in (0, 1], got '{value}'"
-                        ))
-                    }
-                }
-            }
-            "rate-step" => self.rate_step = open_unit(key, v)?,
-            "descent" => {
-                self.descent = match v {
-                    "on" | "true" | "yes" | "1" => true,
-                    "off" | "false" | "no" | "0" => false,
-                    _ => return Err(format!("descent: expected on or off, got '{value}'")),
-                }
-            }
-            _ => {
-                let known: Vec<&str> = Self::KEYS.iter().map(|(k, _)| *k).collect();
-                return Err(format!(
-                    "unknown annealing parameter '{key}'; known: {}",
-                    known.join(", ")
-                ));
-            }
-        }
-        Ok(())
+        crate::params::set_by_key(self, key, value)
     }
 
     /// The same parameters with every out-of-range value (possible when fields are set
@@ -281,25 +256,6 @@ impl AnnealParams {
             rate_step: unit(self.rate_step, d.rate_step),
             descent: self.descent,
         }
-    }
-}
-
-/// A number strictly between 0 and 1.
-fn open_unit(key: &str, v: &str) -> Result<f64, String> {
-    match v.parse::<f64>() {
-        Ok(x) if x > 0.0 && x < 1.0 => Ok(x),
-        _ => Err(format!("{key}: expected a number in (0, 1), got '{v}'")),
-    }
-}
-
-/// A whole number in `lo..=hi`.
-fn integer(key: &str, v: &str, lo: u64, hi: u64) -> Result<u64, String> {
-    match v.parse::<u64>() {
-        Ok(x) if (lo..=hi).contains(&x) => Ok(x),
-        _ if hi == u64::MAX => Err(format!("{key}: expected a whole number >= {lo}, got '{v}'")),
-        _ => Err(format!(
-            "{key}: expected a whole number from {lo} to {hi}, got '{v}'"
-        )),
     }
 }
 

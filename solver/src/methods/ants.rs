@@ -92,16 +92,26 @@ pub(crate) enum AntVariant {
 }
 
 /// The local search applied to every ant's tour.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
 pub enum AntLocalSearch {
     /// Tours stay as the ants built them.
     None,
     /// 2-opt and Or-opt moves (`crate::moves::two_opt_or_opt`); Or-opt only on asymmetric
     /// costs.
+    #[serde(rename = "2opt")]
     TwoOpt,
     /// Lin–Kernighan-style moves (`crate::methods::LinKernighan`) on symmetric costs; on asymmetric
     /// costs the same as [`AntLocalSearch::TwoOpt`] (Or-opt only).
     Lk,
+}
+
+impl std::str::FromStr for AntLocalSearch {
+    type Err = String;
+
+    fn from_str(s: &str) -> Result<Self, String> {
+        AntLocalSearch::from_name(s).ok_or_else(|| format!("unknown local search `{s}`"))
+    }
 }
 
 impl AntLocalSearch {
@@ -129,39 +139,53 @@ impl AntLocalSearch {
 
 /// Tuning of the ant colony methods. Fields that apply to one method only say so; `None` means
 /// the method's own default.
-#[derive(Clone, Debug, PartialEq)]
+///
+/// Serialised under the keys of [`AntParams::KEYS`]; `None` fields as `auto` (or `never`). Text
+/// values (`"0.5"`) are read like numbers, so `--set KEY=VALUE` pairs deserialise too.
+#[derive(Clone, Debug, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(default, deny_unknown_fields, rename_all = "kebab-case")]
 pub struct AntParams {
     /// Ants per generation, `m` in the papers. `None`: 10 for ant colony system; for MAX–MIN
     /// ant system `n`, but at most `MAX_MIN_COLONY` with local search and twice that without.
+    #[serde(with = "crate::params::auto")]
     pub colony_size: Option<usize>,
     /// Exponent `alpha` of the trail in the choice rule (dimensionless). MAX–MIN ant system only;
     /// ant colony system uses 1. Default 1.
+    #[serde(deserialize_with = "crate::params::text")]
     pub trail_weight: f64,
     /// Exponent `beta` of the heuristic value `1 / cost` in the choice rule (dimensionless).
     /// Default 2.
+    #[serde(deserialize_with = "crate::params::text")]
     pub cost_weight: f64,
     /// Evaporation rate `rho` (fraction of the trail lost per update, in (0, 1]). `None`: 0.1
     /// for ant colony system, 0.2 for MAX–MIN ant system with local search and 0.02 without.
+    #[serde(with = "crate::params::auto")]
     pub evaporation: Option<f64>,
     /// Probability `q0` that an ant takes the step of greatest weight rather than drawing one
     /// (in [0, 1]). Ant colony system only. Default 0.9.
+    #[serde(deserialize_with = "crate::params::text")]
     pub greed: f64,
     /// Local evaporation rate `xi` (in [0, 1]): each step sets its edge's trail to
     /// `(1 - xi) tau + xi tau0`. Ant colony system only. Default 0.1.
+    #[serde(deserialize_with = "crate::params::text")]
     pub local_evaporation: f64,
     /// Probability `p_best` (in (0, 1)) that a converged colony builds the best tour again, from
     /// which the lower trail limit follows. MAX–MIN ant system only. Default 0.05.
+    #[serde(deserialize_with = "crate::params::text")]
     pub best_probability: f64,
     /// Trails count as converged when the average lambda-branching factor per node, divided by
     /// 2 for symmetric costs, falls below this (at most 1 in a fully converged colony, where only
     /// the edges of one tour keep trails well above `tau_min`); they are then reinitialised.
     /// 0 turns the test off. MAX–MIN ant system only. Default 1.00001.
+    #[serde(deserialize_with = "crate::params::text")]
     pub restart_branching: f64,
     /// Trails are reinitialised after this many generations in a row without a shorter tour
     /// since the last reinitialisation (`None`: never). MAX–MIN ant system only. Default 250.
+    #[serde(with = "crate::params::never")]
     pub restart_stall: Option<u64>,
     /// Local search on every ant's tour. `None`: Lin–Kernighan-style moves for symmetric costs,
     /// Or-opt for asymmetric ones, for both methods.
+    #[serde(with = "crate::params::auto")]
     pub local_search: Option<AntLocalSearch>,
 }
 
@@ -185,43 +209,6 @@ impl Default for AntParams {
             restart_stall: Some(250),
             local_search: None,
         }
-    }
-}
-
-/// A number parsed from `value`, within `lo ..= hi` (strictly above `lo` when `open_lo`,
-/// strictly below `hi` when `open_hi`); the error names the key and the range.
-fn number_in(
-    key: &str,
-    value: &str,
-    (lo, hi): (f64, f64),
-    (open_lo, open_hi): (bool, bool),
-) -> Result<f64, String> {
-    let range = format!(
-        "{}{lo}, {hi}{}",
-        if open_lo { "(" } else { "[" },
-        if open_hi { ")" } else { "]" }
-    );
-    let err = || format!("{key}: expected a number in {range}, got `{value}`");
-    let x: f64 = value.trim().parse().map_err(|_| err())?;
-    let above = if open_lo { x > lo } else { x >= lo };
-    let below = if open_hi { x < hi } else { x <= hi };
-    if x.is_finite() && above && below {
-        Ok(x)
-    } else {
-        Err(err())
-    }
-}
-
-/// A whole number parsed from `value`, within `lo ..= hi`; the error names the key, the range
-/// and the `word` (`auto`, `never`) allowed instead.
-fn count_in(key: &str, value: &str, lo: u64, hi: u64, word: &str) -> Result<u64, String> {
-    let err =
-        || format!("{key}: expected a whole number from {lo} to {hi} or `{word}`, got `{value}`");
-    let x: u64 = value.trim().parse().map_err(|_| err())?;
-    if (lo..=hi).contains(&x) {
-        Ok(x)
-    } else {
-        Err(err())
     }
 }
 
@@ -280,66 +267,7 @@ impl AntParams {
     /// assert!(params.set("colony-size", "0").is_err());
     /// ```
     pub fn set(&mut self, key: &str, value: &str) -> Result<(), String> {
-        let v = value.trim();
-        match key {
-            "colony-size" => {
-                self.colony_size = if v == "auto" {
-                    None
-                } else {
-                    Some(count_in(key, value, 1, MAX_COLONY as u64, "auto")? as usize)
-                };
-            }
-            "trail-weight" => {
-                self.trail_weight = number_in(key, value, (0.0, 10.0), (false, false))?;
-            }
-            "cost-weight" => {
-                self.cost_weight = number_in(key, value, (0.0, 10.0), (false, false))?;
-            }
-            "evaporation" => {
-                self.evaporation = if v == "auto" {
-                    None
-                } else {
-                    Some(
-                        number_in(key, value, (0.0, 1.0), (true, false))
-                            .map_err(|e| format!("{e} (or `auto`)"))?,
-                    )
-                };
-            }
-            "greed" => self.greed = number_in(key, value, (0.0, 1.0), (false, false))?,
-            "local-evaporation" => {
-                self.local_evaporation = number_in(key, value, (0.0, 1.0), (false, false))?;
-            }
-            "best-probability" => {
-                self.best_probability = number_in(key, value, (0.0, 1.0), (true, true))?;
-            }
-            "restart-branching" => {
-                self.restart_branching = number_in(key, value, (0.0, 100.0), (false, false))?;
-            }
-            "restart-stall" => {
-                self.restart_stall = if v == "never" {
-                    None
-                } else {
-                    Some(count_in(key, value, 1, u64::MAX, "never")?)
-                };
-            }
-            "local-search" => {
-                self.local_search = if v == "auto" {
-                    None
-                } else {
-                    Some(AntLocalSearch::from_name(v).ok_or_else(|| {
-                        format!("{key}: expected none, 2opt, lk or auto, got `{value}`")
-                    })?)
-                };
-            }
-            _ => {
-                let known: Vec<&str> = Self::KEYS.iter().map(|(k, _)| *k).collect();
-                return Err(format!(
-                    "unknown ant colony parameter `{key}`; known: {}",
-                    known.join(", ")
-                ));
-            }
-        }
-        Ok(())
+        crate::params::set_by_key(self, key, value)
     }
 
     /// The values a run of `variant` on `n` nodes uses: defaults filled in, out-of-range

@@ -11,6 +11,6 @@ pub(crate) mod lk;
 pub(crate) use anneal::Annealer;
 pub use anneal::{AnnealParams, CoolingSchedule};
 pub use ants::{AntLocalSearch, AntParams};
-pub(crate) use ants::{AntVariant, Colony, DENSE_TRAILS_UP_TO};
+pub(crate) use ants::{AntVariant, Colony, DENSE_TRAILS_UP_TO, MAX_COLONY};
 pub(crate) use drive::{drive, Iterative, LoopPlan};
 pub(crate) use lk::{default_kicks, iterated, LkParams, LkPlan};

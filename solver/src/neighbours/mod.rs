@@ -17,7 +17,8 @@ pub use lists::{ListError, Neighbours};
 use crate::cost::Cost;
 
 /// Where candidate lists come from.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
 pub enum CandidateSource {
     /// The `k` cheapest other nodes.
     Nearest,

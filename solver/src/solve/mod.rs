@@ -2,9 +2,11 @@
 //! and proofs of optimality and lower bounds that use it ([`prove`]).
 
 pub(crate) mod prove;
+pub(crate) mod settings;
 pub(crate) mod solver;
 
 pub use prove::{
     lower_bound, prove_optimal, Certificate, ExactMethod, LowerBoundError, ProveError, ProveOptions,
 };
+pub use settings::{solve_with, Hooks, Outcome, Settings, SettingsError, SolveWithError};
 pub use solver::{AsymmetricMode, Method, Solution, SolveError, Solver, DEFAULT_NEIGHBOURS};

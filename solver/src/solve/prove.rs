@@ -61,7 +61,8 @@ impl Default for ProveOptions {
 }
 
 /// Which exact method answered.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "kebab-case")]
 pub enum ExactMethod {
     /// The dynamic programme over subsets.
     DynamicProgramme,

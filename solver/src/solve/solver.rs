@@ -20,7 +20,8 @@ use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
 /// A named solver configuration, as chosen on the command line with `--method`.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
 pub enum Method {
     /// Nearest-neighbour construction only.
     Nearest,
@@ -29,6 +30,7 @@ pub enum Method {
     /// Space-filling-curve construction only (nearest neighbour without geometry).
     Curve,
     /// Restarts of a construction followed by 2-opt and Or-opt over neighbour lists.
+    #[serde(rename = "2opt")]
     TwoOpt,
     /// Iterated Lin–Kernighan-style search: LK moves plus Or-opt, double-bridge kicks, parallel
     /// independent runs (see `crate::methods::lk`). The default.
@@ -36,6 +38,7 @@ pub enum Method {
     /// Ant colony system (see `crate::methods::ants`), ants built in parallel.
     Acs,
     /// MAX–MIN ant system (see `crate::methods::ants`), ants built in parallel.
+    #[serde(rename = "mmas")]
     MaxMin,
     /// Simulated annealing over 2-opt, Or-opt and segment exchanges (see `crate::methods::anneal`),
     /// independent runs per thread.
@@ -162,7 +165,10 @@ pub enum SolveError {
 }
 
 /// How `lk` searches asymmetric costs.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
+#[derive(
+    Clone, Copy, Debug, Default, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize,
+)]
+#[serde(rename_all = "lowercase")]
 pub enum AsymmetricMode {
     /// Lin–Kernighan moves on the symmetric transformation over `2n` nodes (Jonker and
     /// Volgenant 1983; see `crate::transform::twin`), the tour mapped back to the caller's nodes.
@@ -376,16 +382,8 @@ impl<C: Cost> Solver<C> {
     /// assert!(solver.set("no-such-key", "1").is_err());
     /// ```
     pub fn set(mut self, key: &str, value: &str) -> Result<Self, SolveError> {
-        let method = self.method;
-        let result = match method {
-            Method::Acs | Method::MaxMin => self.ants.set(key, value),
-            Method::Anneal => self.annealing.set(key, value),
-            _ => Err(format!("takes no parameters (`{key}` was given)")),
-        };
-        result.map_err(|message| SolveError::Parameter {
-            method: method.name(),
-            message,
-        })?;
+        let (ants, annealing) = (&mut self.ants, &mut self.annealing);
+        set_param(self.method, ants, annealing, key, value)?;
         Ok(self)
     }
 
@@ -971,4 +969,24 @@ impl Solver<MatrixCost> {
     pub fn from_matrix(rows: &[Vec<i64>]) -> Result<Self, SolveError> {
         Ok(Solver::new(MatrixCost::from_rows(rows)?))
     }
+}
+
+/// Sets parameter `key` of `method` from text (the routing of [`Settings::set`] and
+/// [`Solver::set`]).
+pub(crate) fn set_param(
+    method: Method,
+    ants: &mut AntParams,
+    annealing: &mut AnnealParams,
+    key: &str,
+    value: &str,
+) -> Result<(), SolveError> {
+    match method {
+        Method::Acs | Method::MaxMin => ants.set(key, value),
+        Method::Anneal => annealing.set(key, value),
+        _ => Err(format!("takes no parameters (`{key}` was given)")),
+    }
+    .map_err(|message| SolveError::Parameter {
+        method: method.name(),
+        message,
+    })
 }

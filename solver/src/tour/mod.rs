@@ -77,7 +77,8 @@ pub trait TourRepr {
 }
 
 /// Which representation a search edits.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "kebab-case")]
 pub enum Layout {
     /// `ArrayTour` below `TWO_LEVEL_FROM` nodes, `TwoLevelTour` from there on.
     #[default]

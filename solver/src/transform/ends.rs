@@ -38,7 +38,10 @@ use crate::neighbours::{candidates, CandidateSource, Neighbours};
 use crate::tour::Overflow;
 
 /// Which ends a visiting order has. Node ids are the caller's, `0..n`.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
+#[derive(
+    Clone, Copy, Debug, Default, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize,
+)]
+#[serde(rename_all = "kebab-case")]
 pub enum Ends {
     /// A closed tour, returning to its first node (the default).
     #[default]
