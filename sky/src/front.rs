@@ -26,11 +26,12 @@
 
 use std::time::{Duration, Instant};
 
-use rand::{Rng, SeedableRng};
+use rand::Rng;
 use rand_pcg::Pcg64;
+use wend::{run_steps, Step, StepLimits};
 
 use super::plan::{impulses_nms, plan, Plan, PlanFailure, PlanOptions};
-use super::schedule::{Context, Schedule};
+use super::schedule::{Context, PlanError, Schedule};
 use super::slew::cost_matrix_ms;
 use super::{Profile, Target};
 
@@ -363,8 +364,98 @@ fn random_move(order: &[usize], rng: &mut Pcg64) -> Option<(Vec<usize>, usize)> 
     }
 }
 
+/// Index of the local search's generator among the runs of the planner's seed (the planner's
+/// own restarts count up from 0).
+const LOCAL_SEARCH_RUN: u64 = 0x5EED_F00D;
+
+/// Every plan played out so far: the archive, the feasible plans off it, and their count.
+struct Found {
+    archive: Archive,
+    dominated: Vec<Point>,
+    evaluations: usize,
+    /// Plans that schedule fewer observations are left out.
+    min_scheduled: usize,
+}
+
+impl Found {
+    /// Counts a played-out plan and keeps it on the archive or among the dominated plans.
+    fn evaluated(&mut self, s: Schedule) {
+        self.evaluations += 1;
+        if s.observations.len() < self.min_scheduled {
+            return;
+        }
+        let fp = FrontPlan::new(s);
+        let p = fp.point();
+        if !self.archive.insert(fp) {
+            self.dominated.push(p);
+        }
+    }
+}
+
+/// The Pareto local search, one step per archive plan explored: the first plan not yet
+/// explored (else a random one) and [`MOVES_PER_PLAN`] random moves around it.
+struct LocalSearch<'c, 'a> {
+    ctx: &'c Context<'a>,
+    found: Found,
+    /// The error that ended the search.
+    failure: Option<PlanError>,
+}
+
+impl LocalSearch<'_, '_> {
+    fn explore(
+        &mut self,
+        rng: &mut Pcg64,
+        should_stop: &mut dyn FnMut() -> bool,
+    ) -> Result<(), PlanError> {
+        let archive = &mut self.found.archive;
+        let pick = match archive.explored.iter().position(|e| !e) {
+            Some(k) => k,
+            None => rng.gen_range(0..archive.plans.len().max(1)),
+        };
+        let Some(base) = archive.plans.get(pick).cloned() else {
+            return Ok(());
+        };
+        archive.explored[pick] = true;
+        let (_, snaps) = self.ctx.simulate_recording(&base.order, SNAPSHOT_EVERY)?;
+        for _ in 0..MOVES_PER_PLAN {
+            if should_stop() {
+                break;
+            }
+            let Some((order, first)) = random_move(&base.order, rng) else {
+                continue;
+            };
+            let snap = snaps
+                .iter()
+                .rev()
+                .find(|s| s.position() <= first)
+                .or(snaps.first());
+            let s = match snap {
+                Some(snap) if snap.position() <= first => self.ctx.resume(snap, &order)?,
+                _ => self.ctx.simulate(&order)?,
+            };
+            self.found.evaluated(s);
+        }
+        Ok(())
+    }
+}
+
+impl Step for LocalSearch<'_, '_> {
+    fn step(&mut self, rng: &mut Pcg64, should_stop: &mut dyn FnMut() -> bool) {
+        if let Err(e) = self.explore(rng, should_stop) {
+            self.failure = Some(e);
+        }
+    }
+
+    /// After an error, or with nothing to explore.
+    fn finished(&self) -> bool {
+        self.failure.is_some() || self.found.archive.plans.is_empty()
+    }
+}
+
 /// Searches the front of `targets` for `profile` (see the module notes); `progress` hears
-/// about the front at most once a second.
+/// about the front at most once a second. The local search runs under the core's loop owner
+/// ([`wend::run_steps`]): the deadline, the stop handle of the planner's options, a generator
+/// seeded from the planner's seed, and the progress reports come from it.
 pub fn search_front(
     profile: &Profile,
     targets: &[Target],
@@ -389,31 +480,23 @@ pub fn search_front(
     single_options.momentum_weight_s_per_nms = 0.0;
     let single = plan(profile, targets, &single_options)?;
     let min_scheduled = single.schedule.observations.len();
-    let mut archive = Archive::new();
-    let mut dominated: Vec<Point> = Vec::new();
-    let mut evaluations = 0usize;
-    let offer = |archive: &mut Archive, s: Schedule, dominated: &mut Vec<Point>| {
-        if s.observations.len() < min_scheduled {
-            return;
-        }
-        let fp = FrontPlan::new(s);
-        let p = fp.point();
-        if !archive.insert(fp) {
-            dominated.push(p);
-        }
+    let mut found = Found {
+        archive: Archive::new(),
+        dominated: Vec::new(),
+        evaluations: 0,
+        min_scheduled,
     };
     for s in single.alternatives.iter().cloned() {
-        evaluations += 1;
-        offer(&mut archive, s, &mut dominated);
+        found.evaluated(s);
     }
     // The surrogate's scale: the mean step cost over the mean pair impulse, so that the
     // largest weight makes the surrogate several times the time term.
     let scale = surrogate_scale(&ctx, &candidates, options);
     let mut last_report = Instant::now();
-    let report = |archive: &Archive, evaluations: usize, reference: Point| FrontProgress {
-        plans: archive.plans().len(),
-        hypervolume: hypervolume(&archive.points(), reference),
-        evaluations,
+    let report = |found: &Found, reference: Point| FrontProgress {
+        plans: found.archive.plans().len(),
+        hypervolume: hypervolume(&found.archive.points(), reference),
+        evaluations: found.evaluations,
         seconds: began.elapsed().as_secs_f64(),
     };
     for k in 1..weights {
@@ -426,52 +509,39 @@ pub fn search_front(
         o.momentum_weight_s_per_nms = scale * 8.0 * share * share;
         let made = plan(profile, targets, &o)?;
         for s in made.alternatives {
-            evaluations += 1;
-            offer(&mut archive, s, &mut dominated);
+            found.evaluated(s);
         }
         if last_report.elapsed() >= Duration::from_secs(1) {
-            progress(report(&archive, evaluations, nadir(&archive.points())));
+            progress(report(&found, nadir(&found.archive.points())));
             last_report = Instant::now();
         }
     }
-    let scalarised = archive.points();
+    let scalarised = found.archive.points();
     let scalarised_reference = nadir(&scalarised);
-    // Pareto local search.
-    let mut rng = Pcg64::seed_from_u64(options.plan.seed ^ 0x5EED_F00D);
-    while Instant::now() < deadline && !options.plan.stop.is_stopped() {
-        let pick = match archive.explored.iter().position(|e| !e) {
-            Some(k) => k,
-            None => rng.gen_range(0..archive.plans.len().max(1)),
-        };
-        let Some(base) = archive.plans.get(pick).cloned() else {
-            break;
-        };
-        archive.explored[pick] = true;
-        let (_, snaps) = ctx.simulate_recording(&base.order, SNAPSHOT_EVERY)?;
-        for _ in 0..MOVES_PER_PLAN {
-            if Instant::now() >= deadline {
-                break;
-            }
-            let Some((order, first)) = random_move(&base.order, &mut rng) else {
-                continue;
-            };
-            let snap = snaps
-                .iter()
-                .rev()
-                .find(|s| s.position() <= first)
-                .or(snaps.first());
-            let s = match snap {
-                Some(snap) if snap.position() <= first => ctx.resume(snap, &order)?,
-                _ => ctx.simulate(&order)?,
-            };
-            evaluations += 1;
-            offer(&mut archive, s, &mut dominated);
-        }
-        if last_report.elapsed() >= Duration::from_secs(1) {
-            progress(report(&archive, evaluations, scalarised_reference));
-            last_report = Instant::now();
-        }
+    let mut local = LocalSearch {
+        ctx: &ctx,
+        found,
+        failure: None,
+    };
+    let limits = StepLimits {
+        run: LOCAL_SEARCH_RUN,
+        deadline: Some(deadline),
+        stop: options.plan.stop.clone(),
+        report_every: Duration::from_secs(1),
+        ..StepLimits::new(options.plan.seed)
+    };
+    run_steps(&limits, &mut local, &mut |l| {
+        progress(report(&l.found, scalarised_reference));
+    });
+    if let Some(e) = local.failure {
+        return Err(e.into());
     }
+    let Found {
+        archive,
+        dominated,
+        evaluations,
+        ..
+    } = local.found;
     let all = archive.sorted();
     let all_points: Vec<Point> = all.iter().map(FrontPlan::point).collect();
     let both: Vec<Point> = all_points.iter().chain(&scalarised).copied().collect();
@@ -561,6 +631,7 @@ mod tests {
     use crate::testing::{shuffled, sky_profile, sky_targets};
     use crate::Epoch;
     use proptest::prelude::*;
+    use rand::SeedableRng;
 
     const START: Epoch = Epoch { jd: 2_461_465.5 };
 

@@ -74,6 +74,14 @@ pub enum StopReason {
     StallLimit,
 }
 
+/// A pool of `threads` worker threads, or none when it cannot be built.
+fn pool(threads: usize) -> Option<rayon::ThreadPool> {
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(threads.max(1))
+        .build()
+        .ok()
+}
+
 /// Runs `worker` once on each of `threads` threads (on this thread alone when `threads <= 1` or
 /// no pool can be built); workers share their work through atomics, so how many run only
 /// changes the speed.
@@ -82,11 +90,21 @@ pub(crate) fn on_threads(threads: usize, worker: &(dyn Fn() + Sync)) {
         worker();
         return;
     }
-    match rayon::ThreadPoolBuilder::new().num_threads(threads).build() {
-        Ok(pool) => {
+    match pool(threads) {
+        Some(pool) => {
             pool.broadcast(|_| worker());
         }
-        Err(_) => worker(),
+        None => worker(),
+    }
+}
+
+/// Runs `work` once, with `threads` threads (at least one) for the parallel work inside it: its
+/// parallel iterators run on a pool of that many threads (on the caller's pool when none can be
+/// built).
+pub(crate) fn within_threads<R: Send>(threads: usize, work: impl FnOnce() -> R + Send) -> R {
+    match pool(threads) {
+        Some(pool) => pool.install(work),
+        None => work(),
     }
 }
 

@@ -29,6 +29,44 @@
 //! assert_eq!(s.length, 17);
 //! ```
 //!
+//! Any other iterative search can run under the loop owner of the crate's own methods,
+//! [`run_steps`]: a state does one unit of work per [`Step::step`]; the loop owner keeps the
+//! deadline, the [`StopHandle`] and a step budget, seeds the generator from (seed, run) and
+//! reports progress at most once per interval.
+//!
+//! ```
+//! use rand::Rng;
+//! use wend::{run_steps, Step, StepLimits, StopReason};
+//!
+//! /// Random probes for the smallest value of x² − 6x over 0..100.
+//! struct Probe {
+//!     best: i64,
+//! }
+//!
+//! impl Step for Probe {
+//!     fn step(&mut self, rng: &mut rand_pcg::Pcg64, _should_stop: &mut dyn FnMut() -> bool) {
+//!         let x: i64 = rng.gen_range(0..100);
+//!         self.best = self.best.min(x * x - 6 * x);
+//!     }
+//!     fn finished(&self) -> bool {
+//!         self.best == -9 // x = 3 is the best there is
+//!     }
+//! }
+//!
+//! let limits = StepLimits {
+//!     steps: Some(20),
+//!     ..StepLimits::new(7)
+//! };
+//! let mut probe = Probe { best: i64::MAX };
+//! let out = run_steps(&limits, &mut probe, &mut |p| println!("best so far {}", p.best));
+//! // Twenty probes unless one hit x = 3 first; the same seed gives the same probes.
+//! assert!(out.steps == 20 && out.stop_reason == Some(StopReason::IterationBudget)
+//!     || probe.best == -9 && out.stop_reason.is_none());
+//! let mut again = Probe { best: i64::MAX };
+//! assert_eq!(run_steps(&limits, &mut again, &mut |_| {}), out);
+//! assert_eq!(again.best, probe.best);
+//! ```
+//!
 //! The crate is built in families of modules, each using only those below it: `control` (stop
 //! handle, deadlines, seeds, threads) and `cost` at the bottom; `tour`; `neighbours` (candidate
 //! lists); `construct` (starting tours); `moves` (2-opt, Or-opt); `methods` (the iterated
@@ -65,7 +103,9 @@ pub use control::{Improvement, StopHandle, StopReason};
 pub use cost::{CoordCost, Cost, CostError, FnCost, Geometry, MatrixCost, Metric};
 pub use exact::{dynamic_programme, optimal_path, DpError, DpTour, DEFAULT_DP_MEMORY, DP_LIMIT};
 pub use memory::MemoryError;
-pub use methods::{AnnealParams, AntLocalSearch, AntParams, CoolingSchedule};
+pub use methods::{
+    run_steps, AnnealParams, AntLocalSearch, AntParams, CoolingSchedule, Step, StepLimits, Stepped,
+};
 pub use neighbours::{candidates, CandidateSource, ListError, Neighbours};
 pub use solve::{
     lower_bound, prove_optimal, AsymmetricMode, Certificate, ExactMethod, LowerBoundError, Method,

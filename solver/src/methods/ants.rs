@@ -1026,6 +1026,9 @@ impl<'a, C: Cost + ?Sized> Colony<'a, C> {
 }
 
 impl<C: Cost + ?Sized> Iterative for Colony<'_, C> {
+    /// A generation builds its ants in parallel.
+    const PARALLEL_STEPS: bool = true;
+
     fn step(&mut self, rng: &mut Pcg64, should_stop: &mut dyn FnMut() -> bool) {
         if self.finished() {
             return;

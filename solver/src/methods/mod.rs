@@ -1,7 +1,7 @@
 //! The iterated search methods and the loop that runs them: [`drive`] owns the loop (threads,
-//! deadline, stop requests, reports); [`lk`] (Lin–Kernighan-style moves with kicks), [`ants`]
-//! (ant colony system and MAX–MIN ant system) and [`anneal`] (simulated annealing) are its
-//! steps.
+//! deadline, stop requests, reports; the loop itself is public as [`run_steps`]); [`lk`]
+//! (Lin–Kernighan-style moves with kicks), [`ants`] (ant colony system and MAX–MIN ant system)
+//! and [`anneal`] (simulated annealing) are its steps.
 
 pub(crate) mod anneal;
 pub(crate) mod ants;
@@ -13,4 +13,5 @@ pub use anneal::{AnnealParams, CoolingSchedule};
 pub use ants::{AntLocalSearch, AntParams};
 pub(crate) use ants::{AntVariant, Colony, DENSE_TRAILS_UP_TO, MAX_COLONY};
 pub(crate) use drive::{drive, Iterative, LoopPlan};
+pub use drive::{run_steps, Step, StepLimits, Stepped};
 pub(crate) use lk::{default_kicks, iterated, LkParams, LkPlan};

@@ -13,7 +13,7 @@
 
 use crate::bounds::{branch_and_bound, BranchOptions};
 use crate::bounds::{held_karp_bound, AscentOptions, BoundError};
-use crate::control::StopHandle;
+use crate::control::{self, StopHandle};
 use crate::cost::Cost;
 use crate::exact::{optimal_path, DpError, DEFAULT_DP_MEMORY, DP_LIMIT};
 use crate::solve::{Method, SolveError, Solver};
@@ -206,15 +206,9 @@ pub fn prove_optimal<C: Cost + ?Sized>(
     }
     if method == ExactMethod::DynamicProgramme {
         let mut should_stop = || stop.is_stopped() || deadline.is_some_and(|d| Instant::now() >= d);
-        let pool = opts.threads.and_then(|t| {
-            rayon::ThreadPoolBuilder::new()
-                .num_threads(t.max(1))
-                .build()
-                .ok()
-        });
         let mut run = || optimal_path(cost, opts.ends, opts.dp_memory_bytes, &mut should_stop);
-        let dp = match pool {
-            Some(pool) => pool.install(run),
+        let dp = match opts.threads {
+            Some(t) => control::within_threads(t, run),
             None => run(),
         };
         return match dp {

@@ -819,20 +819,10 @@ impl<C: Cost> Solver<C> {
                     } else {
                         AntVariant::MaxMin
                     };
-                    // One colony at a time; its ants are built on the threads.
-                    let limits = LoopPlan {
-                        threads: 1,
-                        ..limits
-                    };
-                    let run = || {
-                        drive(&limits, began, observe, |_, rng, should_stop| {
-                            Colony::start(cost, &nb, variant, &self.ants, rng, should_stop)
-                        })
-                    };
-                    match rayon::ThreadPoolBuilder::new().num_threads(threads).build() {
-                        Ok(pool) => pool.install(run),
-                        Err(_) => run(),
-                    }
+                    // One colony at a time; its ants are built on the loop's threads.
+                    drive(&limits, began, observe, |_, rng, should_stop| {
+                        Colony::start(cost, &nb, variant, &self.ants, rng, should_stop)
+                    })
                 }
                 Method::Anneal => drive(&limits, began, observe, |r, rng, should_stop| {
                     let order = start_tour(cost, &nb, Start::NearestNeighbour, r, rng, should_stop);
