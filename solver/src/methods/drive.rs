@@ -361,7 +361,7 @@ where
             } else {
                 since_better += 1;
             }
-            !plan.stall.is_some_and(|s| since_better >= s)
+            plan.stall.is_none_or(|s| since_better < s)
         });
         if matches!(ended, Ended::Watch) {
             stalled.store(true, Ordering::Relaxed);
