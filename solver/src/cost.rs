@@ -50,41 +50,29 @@ pub struct Geometry<'a> {
     pub dims: usize,
 }
 
-impl<T: Cost + ?Sized> Cost for &T {
-    fn len(&self) -> usize {
-        (**self).len()
-    }
-    fn cost(&self, from: usize, to: usize) -> i64 {
-        (**self).cost(from, to)
-    }
-    fn is_symmetric(&self) -> bool {
-        (**self).is_symmetric()
-    }
-    fn geometry(&self) -> Option<Geometry<'_>> {
-        (**self).geometry()
-    }
-    fn max_cost_hint(&self) -> Option<i64> {
-        (**self).max_cost_hint()
-    }
+/// References and boxes of a cost are costs: every method forwards to the cost inside.
+macro_rules! forward_cost {
+    ($($outer:ty),*) => {$(
+        impl<T: Cost + ?Sized> Cost for $outer {
+            fn len(&self) -> usize {
+                (**self).len()
+            }
+            fn cost(&self, from: usize, to: usize) -> i64 {
+                (**self).cost(from, to)
+            }
+            fn is_symmetric(&self) -> bool {
+                (**self).is_symmetric()
+            }
+            fn geometry(&self) -> Option<Geometry<'_>> {
+                (**self).geometry()
+            }
+            fn max_cost_hint(&self) -> Option<i64> {
+                (**self).max_cost_hint()
+            }
+        }
+    )*};
 }
-
-impl<T: Cost + ?Sized> Cost for Box<T> {
-    fn len(&self) -> usize {
-        (**self).len()
-    }
-    fn cost(&self, from: usize, to: usize) -> i64 {
-        (**self).cost(from, to)
-    }
-    fn is_symmetric(&self) -> bool {
-        (**self).is_symmetric()
-    }
-    fn geometry(&self) -> Option<Geometry<'_>> {
-        (**self).geometry()
-    }
-    fn max_cost_hint(&self) -> Option<i64> {
-        (**self).max_cost_hint()
-    }
-}
+forward_cost!(&T, Box<T>);
 
 /// Why a cost oracle could not be built.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]

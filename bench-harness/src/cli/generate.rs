@@ -63,36 +63,44 @@ pub fn run(a: GenerateArgs) -> Result<(), CliError> {
             )));
         }
         let rows = uniform_matrix(a.nodes, a.max_cost, a.seed);
-        let comment = format!(
-            "{} nodes, asymmetric costs uniform in 1..={}, seed {}, written by wend {}",
-            a.nodes,
-            a.max_cost,
-            a.seed,
-            env!("CARGO_PKG_VERSION")
+        let what = format!(
+            "{} nodes, asymmetric costs uniform in 1..={}",
+            a.nodes, a.max_cost
         );
-        write_file(&a.out, |w| write_matrix(&name, &comment, &rows, w))?;
-        println!(
-            "{}: {} nodes, asymmetric costs in 1..={}",
-            a.out.display(),
-            a.nodes,
-            a.max_cost
-        );
-        return Ok(());
+        let told = format!("{} nodes, asymmetric costs in 1..={}", a.nodes, a.max_cost);
+        return written(&a, &what, &told, |w, comment| {
+            write_matrix(&name, comment, &rows, w)
+        });
     }
     let points = uniform_square(a.nodes, a.side, a.seed);
-    let comment = format!(
-        "{} uniform random points in [0, {}) squared, seed {}, written by wend {}",
-        a.nodes,
-        a.side,
-        a.seed,
-        env!("CARGO_PKG_VERSION")
+    let what = format!(
+        "{} uniform random points in [0, {}) squared",
+        a.nodes, a.side
     );
-    write_file(&a.out, |w| write_points(&name, &comment, &points, w))?;
-    println!(
-        "{}: {} points; an optimal tour is about {:.0} long (0.7124 * sqrt(n * area))",
-        a.out.display(),
+    let told = format!(
+        "{} points; an optimal tour is about {:.0} long (0.7124 * sqrt(n * area))",
         a.nodes,
         expected_tour_length(a.nodes, a.side)
     );
+    written(&a, &what, &told, |w, comment| {
+        write_points(&name, comment, &points, w)
+    })
+}
+
+/// Writes the instance to `--out` with a comment saying `what` it is, its seed and the
+/// version, then prints `told` after the file's name.
+fn written(
+    a: &GenerateArgs,
+    what: &str,
+    told: &str,
+    write: impl FnOnce(&mut std::io::BufWriter<std::fs::File>, &str) -> std::io::Result<()>,
+) -> Result<(), CliError> {
+    let comment = format!(
+        "{what}, seed {}, written by wend {}",
+        a.seed,
+        env!("CARGO_PKG_VERSION")
+    );
+    write_file(&a.out, |w| write(w, &comment))?;
+    println!("{}: {told}", a.out.display());
     Ok(())
 }

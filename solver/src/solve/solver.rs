@@ -736,20 +736,24 @@ impl<C: Cost> Solver<C> {
     ) -> Raw {
         let n = cost.len();
         let searches = self.method == Method::TwoOpt || self.method.iterates();
-        if n <= exact::ENUMERATION_LIMIT && searches {
-            let order = exact::enumerate(cost).unwrap_or_else(|| (0..n).collect());
+        // One tour made in one go (every order tried, or a construction): reported and done.
+        let single = |order: Vec<usize>, stop_reason: StopReason| {
             let length = closed_length(cost, &order).unwrap_or(i64::MAX);
             observe(Improvement {
                 seconds: began.elapsed().as_secs_f64(),
                 length,
                 restart: 0,
             });
-            return Raw {
+            Raw {
                 order,
                 restarts: 1,
                 iterations: 0,
-                stop_reason: StopReason::Exhaustive,
-            };
+                stop_reason,
+            }
+        };
+        if n <= exact::ENUMERATION_LIMIT && searches {
+            let order = exact::enumerate(cost).unwrap_or_else(|| (0..n).collect());
+            return single(order, StopReason::Exhaustive);
         }
 
         let Some(nb) = nb() else {
@@ -776,19 +780,7 @@ impl<C: Cost> Solver<C> {
             _ => Start::Mixed,
         };
         if !searches {
-            let order = construction(start_kind);
-            let length = closed_length(cost, &order).unwrap_or(i64::MAX);
-            observe(Improvement {
-                seconds: began.elapsed().as_secs_f64(),
-                length,
-                restart: 0,
-            });
-            return Raw {
-                order,
-                restarts: 1,
-                iterations: 0,
-                stop_reason: StopReason::Constructed,
-            };
+            return single(construction(start_kind), StopReason::Constructed);
         }
         if self.method.iterates() {
             let bounded = self.kicks.is_some() || self.time_limit.is_none();
