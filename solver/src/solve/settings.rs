@@ -611,7 +611,7 @@ impl AntParams {
     /// Checks every range; the error names the first key out of range and what it takes.
     ///
     /// ```
-    /// let p = wend::ants::AntParams { greed: 1.5, ..Default::default() };
+    /// let p = wend::AntParams { greed: 1.5, ..Default::default() };
     /// assert_eq!(p.check().unwrap_err(), "greed: expected a number in [0, 1], got `1.5`");
     /// ```
     pub fn check(&self) -> Result<(), String> {
@@ -623,7 +623,7 @@ impl AnnealParams {
     /// Checks every range; the error names the first key out of range and what it takes.
     ///
     /// ```
-    /// let p = wend::anneal::AnnealParams { cooling: 1.0, ..Default::default() };
+    /// let p = wend::AnnealParams { cooling: 1.0, ..Default::default() };
     /// assert_eq!(p.check().unwrap_err(), "cooling: expected a number in (0, 1), got '1'");
     /// ```
     pub fn check(&self) -> Result<(), String> {
