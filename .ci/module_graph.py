@@ -29,6 +29,7 @@ CRATES = {
     "solver": "solver/src",
     "sky": "sky/src",
     "tsplib": "bench-harness/tsplib/src",
+    "charts": "bench-harness/charts/src",
     "harness": "bench-harness/src",
     "python": "python/src",
 }

@@ -20,12 +20,13 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 use std::f64::consts::{PI, SQRT_2};
 use std::path::Path;
+use wend_charts::frame::Framed;
 use wend_charts::legend::{Key, LegendEntry, LegendKey, LegendLayout};
 use wend_charts::style::{
     AXIS_TITLE_PX, BLUE, FONT, GREEN, GRID, INK, LEGEND_PX, ORANGE, OUTLINE, PURPLE, SOFT_TEXT,
     VERMILLION,
 };
-use wend_charts::text::{boxed_text, em, text_width, Framed};
+use wend_charts::text::{boxed_text, em, text_width};
 use wend_charts::{linear_chart, number_label, write_checked, Area, DrawResult};
 
 pub use wend_charts::DrawError;

@@ -14,6 +14,7 @@
 #![cfg_attr(not(test), deny(clippy::unwrap_used, clippy::expect_used))]
 
 pub mod axes;
+pub mod frame;
 pub mod labels;
 pub mod legend;
 pub mod style;
@@ -21,6 +22,7 @@ pub mod svg;
 pub mod text;
 
 pub use axes::{linear_chart, LinearChart};
+pub use frame::Framed;
 pub use labels::{log_ticks, number_label, seconds_label};
 pub use legend::{
     draw_legend, legend_height, legend_lines, legend_width, Key, LegendEntry, LegendKey,
@@ -28,4 +30,4 @@ pub use legend::{
 };
 pub use style::Colours;
 pub use svg::{placeholder, render_svg, write_checked, Area, DrawError, DrawResult};
-pub use text::{draw_caution, draw_centred, em, line_step, text_fits, wrap, Framed};
+pub use text::{draw_caution, draw_centred, em, line_step, text_fits, wrap};
