@@ -9,6 +9,9 @@
 //!
 //! Node numbers are 1-based in files and 0-based everywhere in this API.
 
+// User files reach almost every path here: failures are errors, never `unwrap`/`expect` panics.
+#![cfg_attr(not(test), deny(clippy::unwrap_used, clippy::expect_used))]
+
 mod error;
 mod header;
 mod lex;
