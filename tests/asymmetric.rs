@@ -278,7 +278,7 @@ fn measure_asymmetric_modes() {
                     .unwrap();
                 println!(
                     "RUN {name} {mode:?} seed {seed} length {} kicks {} runs {}",
-                    s.length, s.iterations, s.restarts
+                    s.length, s.iterations, s.runs
                 );
             }
         }

@@ -118,7 +118,7 @@ fn nature_inspired_methods_reach_published_optima_within_fixed_budgets() {
             .method(Method::MaxMin)
             .seed(0)
             .iterations(30)
-            .target_length(optimum)
+            .target(optimum)
             .solve()
             .unwrap();
         assert_eq!(colony.length, optimum, "{name}: MAX-MIN ant system with LK");

@@ -30,7 +30,7 @@ proptest! {
             c.cost(i, j) + if asym && i != j { ((i * 31 + j * 7) % 50) as i64 } else { 0 }
         }).collect()).collect();
         let m = MatrixCost::from_rows(&rows).unwrap();
-        let sol = Solver::new(&m).seed(seed).restarts(2).threads(2).solve().unwrap();
+        let sol = Solver::new(&m).seed(seed).runs(2).threads(2).solve().unwrap();
         let tour = Tour::new(sol.tour.order().to_vec(), n);
         prop_assert!(tour.is_ok());
         prop_assert_eq!(tour.unwrap().length(&m).unwrap(), sol.length);
@@ -43,7 +43,7 @@ proptest! {
         let pts = points(n, seed);
         let c = CoordCost::plane(Metric::Euc2d, &pts).unwrap();
         let greedy = Solver::new(&c).method(Method::Greedy).solve().unwrap();
-        let improved = Solver::new(&c).restarts(1).solve().unwrap();
+        let improved = Solver::new(&c).runs(1).solve().unwrap();
         prop_assert!(improved.length <= greedy.length);
     }
 }

@@ -63,7 +63,7 @@ fn solver_never_beats_the_published_optimum() {
         let sol = Solver::new(inst.cost())
             .method(Method::TwoOpt)
             .seed(3)
-            .restarts(4)
+            .runs(4)
             .threads(2)
             .solve()
             .unwrap();
@@ -103,11 +103,7 @@ fn small_symmetric_instances_are_near_optimal() {
         "gr120.tsp",
     ] {
         let inst = read_instance(&instance(name)).unwrap();
-        let sol = Solver::new(inst.cost())
-            .seed(1)
-            .restarts(16)
-            .solve()
-            .unwrap();
+        let sol = Solver::new(inst.cost()).seed(1).runs(16).solve().unwrap();
         let opt = optima[&inst.name];
         let gap = (sol.length - opt) as f64 / opt as f64;
         assert!(gap <= 0.10, "{name}: gap {:.1} %", 100.0 * gap);
@@ -165,7 +161,7 @@ fn same_seed_same_tour_across_thread_counts() {
     let run = |threads| {
         Solver::new(inst.cost())
             .seed(11)
-            .restarts(6)
+            .runs(6)
             .threads(threads)
             .solve()
             .unwrap()
@@ -175,11 +171,7 @@ fn same_seed_same_tour_across_thread_counts() {
     let c = run(2);
     assert_eq!(a.tour, b.tour);
     assert_eq!(b.tour, c.tour);
-    let other = Solver::new(inst.cost())
-        .seed(12)
-        .restarts(6)
-        .solve()
-        .unwrap();
+    let other = Solver::new(inst.cost()).seed(12).runs(6).solve().unwrap();
     assert!(other.length >= 2579); // a280 optimum, TSPLIB 95 list
 }
 
@@ -201,11 +193,7 @@ fn time_limit_returns_a_valid_tour() {
 fn asymmetric_instances_keep_direction() {
     let inst = read_instance(&instance("ftv33.atsp")).unwrap();
     assert!(!inst.cost().is_symmetric());
-    let sol = Solver::new(inst.cost())
-        .seed(5)
-        .restarts(4)
-        .solve()
-        .unwrap();
+    let sol = Solver::new(inst.cost()).seed(5).runs(4).solve().unwrap();
     let order = sol.tour.order();
     let mut len = 0;
     for k in 0..order.len() {

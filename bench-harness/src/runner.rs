@@ -108,10 +108,10 @@ impl MethodSpec {
             ..Settings::default()
         };
         if let Some(c) = self.candidates {
-            settings.candidates = c;
+            settings.neighbour_lists = c;
         }
         if let Some(k) = self.neighbours {
-            settings.neighbours = k;
+            settings.neighbour_count = k;
         }
         for (k, v) in &self.settings {
             settings.set(k, v)?;
@@ -488,7 +488,7 @@ fn run_one(
         ends: spec.ends.ends(inst.dimension),
         runs: plan.restarts,
         iterations: plan.kicks,
-        target_length: optimum.filter(|_| plan.stop_at_optimum),
+        target: optimum.filter(|_| plan.stop_at_optimum),
         ..spec.method.settings().map_err(|e| failed(e.to_string()))?
     };
     let hooks = Hooks {
@@ -558,7 +558,7 @@ fn run_one(
             .ok()
             .and_then(|v| v.as_str().map(str::to_string))
             .unwrap_or_default(),
-        restarts: search.restarts,
+        restarts: search.runs,
         kicks: search.iterations,
         trace: search.trace.iter().map(|t| (t.seconds, t.length)).collect(),
         tour_file: Some(format!("tours/{tour_name}")),

@@ -156,7 +156,7 @@ fn the_json_keys_of_solve_stay_the_same() {
             "method",
             "nodes",
             "proven_gap_percent",
-            "restarts",
+            "runs",
             "seconds",
             "seed",
             "start",

@@ -25,7 +25,7 @@ fuzz_target!(|data: &[u8]| {
         let solved = Solver::new(cost)
             .method(Method::TwoOpt)
             .threads(1)
-            .restarts(1)
+            .runs(1)
             .solve();
         if let Ok(sol) = solved {
             let mut seen = sol.tour.order().to_vec();

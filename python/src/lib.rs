@@ -238,7 +238,7 @@ fn outcome_dict<'py>(py: Python<'py>, out: &Outcome) -> Result<Bound<'py, PyDict
         .unwrap_or_default();
     d.set_item("stop_reason", reason).map_err(fail)?;
     d.set_item("seconds", out.seconds).map_err(fail)?;
-    d.set_item("restarts", search.restarts).map_err(fail)?;
+    d.set_item("runs", search.runs).map_err(fail)?;
     d.set_item("iterations", search.iterations).map_err(fail)?;
     let method = out.method.map_or("exact", Method::name);
     d.set_item("method", method).map_err(fail)?;

@@ -254,7 +254,7 @@ def _result(d: dict) -> TourResult:
         seconds=float(d["seconds"]),
         method=d["method"],
         ends=d["ends"],
-        restarts=int(d["restarts"]),
+        restarts=int(d["runs"]),
         iterations=int(d["iterations"]),
         trace=d["trace"],
     )

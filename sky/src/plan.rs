@@ -234,7 +234,7 @@ fn search_matrix(
             };
             let mut solver = Solver::from_matrix(m)?
                 .ends(ends)
-                .restarts(SEARCH_RUNS)
+                .runs(SEARCH_RUNS)
                 .iterations(search_iterations(n))
                 .method(options.method)
                 .seed(options.seed)

@@ -57,8 +57,8 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         .on_improvement(|imp| eprintln!("  {:>6.3} s  {}", imp.seconds, imp.length))
         .solve()?;
     println!(
-        "picks:  length {:>6}  {} restarts in {:.2} s, stopped by {:?}",
-        warehouse.length, warehouse.restarts, warehouse.seconds, warehouse.stop_reason
+        "picks:  length {:>6}  {} runs in {:.2} s, stopped by {:?}",
+        warehouse.length, warehouse.runs, warehouse.seconds, warehouse.stop_reason
     );
     Ok(())
 }

@@ -67,7 +67,7 @@ pub fn run(a: DemoArgs) -> Result<(), CliError> {
             .stop_handle(super::interrupt::handle());
         if let Some(o) = opt {
             // Stop at the published optimum: the time column then shows how long it took.
-            solver = solver.target_length(o);
+            solver = solver.target(o);
         }
         let sol = solver
             .solve()

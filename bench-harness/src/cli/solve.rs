@@ -188,9 +188,9 @@ fn settings_of(a: &SolveArgs) -> Result<Settings, CliError> {
         runs: a.restarts,
         iterations: a.iterations,
         stall_limit: a.stall_limit,
-        target_length: a.target,
-        neighbours: a.neighbours,
-        candidates,
+        target: a.target,
+        neighbour_count: a.neighbours,
+        neighbour_lists: candidates,
         layout,
         bound: a.bound,
         bound_time: a.bound_time,
@@ -312,7 +312,7 @@ fn print_summary(inst: &wend_tsplib::Instance, settings: &Settings, out: &Outcom
     println!(
         "time       {:.3} s, {} run(s), {} {}, stopped: {}",
         out.seconds,
-        search.restarts,
+        search.runs,
         search.iterations,
         match method {
             Method::Acs | Method::MaxMin => "generation(s)",

@@ -888,7 +888,7 @@ mod tests {
             Solver::new(&c)
                 .method(crate::Method::Lk)
                 .seed(4)
-                .restarts(3)
+                .runs(3)
                 .kicks(300)
                 .threads(threads)
                 .solve()
@@ -919,7 +919,7 @@ mod tests {
             let run = |layout| {
                 Solver::new(&c)
                     .seed(3)
-                    .restarts(2)
+                    .runs(2)
                     .kicks(400)
                     .threads(1)
                     .layout(layout)
@@ -940,7 +940,7 @@ mod tests {
         // A target every tour meets ends the search after the first local optimum.
         let s = Solver::new(&c)
             .seed(1)
-            .target_length(i64::MAX)
+            .target(i64::MAX)
             .time_limit(Duration::from_secs(30))
             .solve()
             .unwrap();
@@ -950,12 +950,12 @@ mod tests {
         let s = Solver::new(&c)
             .method(Method::TwoOpt)
             .threads(1)
-            .target_length(i64::MAX)
+            .target(i64::MAX)
             .time_limit(Duration::from_secs(30))
             .solve()
             .unwrap();
         assert_eq!(s.stop_reason, StopReason::TargetReached);
-        assert_eq!(s.restarts, 1);
+        assert_eq!(s.runs, 1);
         let stop = StopHandle::new();
         stop.stop();
         let s = Solver::new(&c)

@@ -255,7 +255,7 @@ pub fn prove_optimal<C: Cost + ?Sized>(
     let mut s = Solver::new(cost)
         .seed(opts.seed)
         .method(Method::Lk)
-        .restarts(2)
+        .runs(2)
         .kicks(n as u64)
         .stop_handle(stop.clone());
     if let Some(t) = opts.threads {

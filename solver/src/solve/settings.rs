@@ -70,11 +70,14 @@ pub struct Settings {
     /// End a run after this many steps in a row without a shorter tour.
     pub stall_limit: Option<u64>,
     /// Stop as soon as a tour of at most this length is found.
-    pub target_length: Option<i64>,
-    /// Width of the neighbour lists.
-    pub neighbours: usize,
+    #[serde(alias = "target_length")]
+    pub target: Option<i64>,
+    /// Width of the neighbour lists: how many neighbours each node's list holds.
+    #[serde(alias = "neighbours")]
+    pub neighbour_count: usize,
     /// Where the neighbour lists come from (`quadrant`, `nearest`, `alpha`).
-    pub candidates: CandidateSource,
+    #[serde(alias = "candidates")]
+    pub neighbour_lists: CandidateSource,
     /// Tour representation `lk` edits (`auto`, `array`, `two-level`).
     pub layout: Layout,
     /// A closed tour or a path ([`Ends`]), with 0-based node ids.
@@ -112,9 +115,9 @@ impl Default for Settings {
             runs: None,
             iterations: None,
             stall_limit: None,
-            target_length: None,
-            neighbours: DEFAULT_NEIGHBOURS,
-            candidates: CandidateSource::default(),
+            target: None,
+            neighbour_count: DEFAULT_NEIGHBOURS,
+            neighbour_lists: CandidateSource::default(),
             layout: Layout::default(),
             ends: Ends::Closed,
             asymmetric_mode: AsymmetricMode::default(),
@@ -215,8 +218,8 @@ impl Settings {
         let mut s = Solver::new(cost)
             .method(self.method)
             .seed(self.seed)
-            .neighbours(self.neighbours)
-            .candidates(self.candidates)
+            .neighbour_count(self.neighbour_count)
+            .neighbour_lists(self.neighbour_lists)
             .layout(self.layout)
             .ends(self.ends)
             .asymmetric_mode(self.asymmetric_mode)
@@ -229,7 +232,7 @@ impl Settings {
             s = s.threads(t);
         }
         if let Some(r) = self.runs {
-            s = s.restarts(r);
+            s = s.runs(r);
         }
         if let Some(k) = self.iterations {
             s = s.iterations(k);
@@ -237,8 +240,8 @@ impl Settings {
         if let Some(k) = self.stall_limit {
             s = s.stall_limit(k);
         }
-        if let Some(t) = self.target_length {
-            s = s.target_length(t);
+        if let Some(t) = self.target {
+            s = s.target(t);
         }
         if let Some(m) = self.memory_limit {
             s = s.memory_limit(m);
@@ -267,8 +270,8 @@ pub struct Hooks {
 /// What the search found, besides the tour ([`Outcome::search`]).
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct SearchFacts {
-    /// Restarts or independent runs completed.
-    pub restarts: usize,
+    /// Independent runs completed (every method; a restart of `2opt` is a run).
+    pub runs: usize,
     /// Steps of an iterative method over all runs (kicks, generations, batches of moves).
     pub iterations: u64,
     /// Why the search ended.
@@ -353,7 +356,7 @@ impl Outcome {
         Outcome {
             method: Some(sol.method),
             search: Some(SearchFacts {
-                restarts: sol.restarts,
+                runs: sol.runs,
                 iterations: sol.iterations,
                 stop_reason: sol.stop_reason,
                 trace: sol.trace,
@@ -662,9 +665,9 @@ mod tests {
             runs: Some(4),
             iterations: Some(40),
             stall_limit: Some(9),
-            target_length: Some(1234),
-            neighbours: 7,
-            candidates: CandidateSource::Nearest,
+            target: Some(1234),
+            neighbour_count: 7,
+            neighbour_lists: CandidateSource::Nearest,
             layout: Layout::TwoLevel,
             ends: Ends::StartEnd(2, 5),
             asymmetric_mode: AsymmetricMode::Direct,
@@ -729,7 +732,7 @@ mod tests {
         assert_eq!(s.method, Method::Anneal);
         assert_eq!((s.runs, s.iterations), (Some(3), Some(20)));
         assert_eq!(s.ends, Ends::StartEnd(0, 4));
-        assert_eq!(s.candidates, CandidateSource::Alpha);
+        assert_eq!(s.neighbour_lists, CandidateSource::Alpha);
         assert_eq!(s.layout, Layout::Array);
         assert_eq!(s.exact_method, Some(ExactMethod::DynamicProgramme));
         assert_eq!(s.ants.colony_size, None);

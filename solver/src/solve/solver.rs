@@ -192,8 +192,8 @@ pub struct Solution {
     pub ends: Ends,
     /// Wall-clock seconds the solve took, including neighbour lists.
     pub seconds: f64,
-    /// Restarts completed (for `lk`: independent runs started).
-    pub restarts: usize,
+    /// Independent runs completed (a restart of `2opt` is a run; for `lk`: runs started).
+    pub runs: usize,
     /// Steps of an iterative method over all runs: kicks for `lk`, generations for the ant
     /// colonies, batches of moves for `anneal` (zero for the other methods).
     pub iterations: u64,
@@ -223,13 +223,13 @@ pub struct Solver<C> {
     time_limit: Option<Duration>,
     seed: u64,
     threads: Option<usize>,
-    restarts: Option<usize>,
+    runs: Option<usize>,
     kicks: Option<u64>,
     stall_limit: Option<u64>,
-    target_length: Option<i64>,
+    target: Option<i64>,
     method: Method,
-    neighbours: usize,
-    candidates: CandidateSource,
+    neighbour_count: usize,
+    neighbour_lists: CandidateSource,
     layout: Layout,
     ends: Ends,
     asymmetric_mode: AsymmetricMode,
@@ -298,13 +298,13 @@ impl<C: Cost> Solver<C> {
             time_limit: None,
             seed: 0,
             threads: None,
-            restarts: None,
+            runs: None,
             kicks: None,
             stall_limit: None,
-            target_length: None,
+            target: None,
             method: Method::Lk,
-            neighbours: DEFAULT_NEIGHBOURS,
-            candidates: CandidateSource::default(),
+            neighbour_count: DEFAULT_NEIGHBOURS,
+            neighbour_lists: CandidateSource::default(),
             layout: Layout::default(),
             ends: Ends::Closed,
             asymmetric_mode: AsymmetricMode::default(),
@@ -335,12 +335,13 @@ impl<C: Cost> Solver<C> {
         self
     }
 
-    /// Number of restarts (construction plus local search). Without a time limit the default
-    /// is `DEFAULT_RESTARTS`; with one, restarts continue until it unless this is set.
+    /// Number of independent runs (for `2opt`: restarts, each a construction plus local
+    /// search). Without a time limit the default is `DEFAULT_RESTARTS`; with one, runs
+    /// continue until it unless this is set.
     /// For `lk` this is the number of independent runs (default `DEFAULT_LK_RUNS` without a
     /// time limit or with a kick budget; otherwise runs follow one another until the limit).
-    pub fn restarts(mut self, restarts: usize) -> Self {
-        self.restarts = Some(restarts.max(1));
+    pub fn runs(mut self, runs: usize) -> Self {
+        self.runs = Some(runs.max(1));
         self
     }
 
@@ -396,8 +397,8 @@ impl<C: Cost> Solver<C> {
 
     /// Stops `lk` and `2opt` as soon as a tour of at most this length is found (for example a known
     /// optimum). Which tour is returned then depends on thread timing.
-    pub fn target_length(mut self, length: i64) -> Self {
-        self.target_length = Some(length);
+    pub fn target(mut self, length: i64) -> Self {
+        self.target = Some(length);
         self
     }
 
@@ -416,15 +417,15 @@ impl<C: Cost> Solver<C> {
     }
 
     /// Width of the neighbour lists the moves look at.
-    pub fn neighbours(mut self, k: usize) -> Self {
-        self.neighbours = k.max(1);
+    pub fn neighbour_count(mut self, k: usize) -> Self {
+        self.neighbour_count = k.max(1);
         self
     }
 
     /// Where the neighbour lists come from (quadrant lists by default, which help on clustered
     /// instances; nearest lists are the plain alternative).
-    pub fn candidates(mut self, source: CandidateSource) -> Self {
-        self.candidates = source;
+    pub fn neighbour_lists(mut self, source: CandidateSource) -> Self {
+        self.neighbour_lists = source;
         self
     }
 
@@ -471,7 +472,7 @@ impl<C: Cost> Solver<C> {
     /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
     /// let stop = StopHandle::new();
     /// stop.stop(); // already asked to stop: the solve returns the first tour at hand
-    /// let solution = Solver::new(square).stop_handle(stop).restarts(100).solve().unwrap();
+    /// let solution = Solver::new(square).stop_handle(stop).runs(100).solve().unwrap();
     /// assert_eq!(solution.tour.len(), 4);
     /// ```
     pub fn stop_handle(mut self, stop: StopHandle) -> Self {
@@ -532,7 +533,7 @@ impl<C: Cost> Solver<C> {
         } else {
             n
         };
-        let k = self.neighbours.max(1);
+        let k = self.neighbour_count.max(1);
         let lists = if asymmetric { 2 } else { 1 };
         // Lists of u32 plus their positions; a point and a tree slot for the k-d tree.
         let shared = nodes.saturating_mul(k.saturating_mul(8).saturating_mul(lists) + 48);
@@ -604,7 +605,7 @@ impl<C: Cost> Solver<C> {
                 length,
                 ends,
                 seconds: began.elapsed().as_secs_f64(),
-                restarts: raw.restarts,
+                runs: raw.runs,
                 iterations: raw.iterations,
                 stop_reason: raw.stop_reason,
                 trace: std::mem::take(&mut *trace.lock().unwrap_or_else(|e| e.into_inner())),
@@ -624,13 +625,14 @@ impl<C: Cost> Solver<C> {
                 });
                 Raw {
                     order,
-                    restarts: 1,
+                    runs: 1,
                     iterations: 0,
                     stop_reason: StopReason::Exhaustive,
                 }
             } else {
-                let nb = || candidates_until(cost, self.neighbours, self.candidates, &over);
-                self.search_maybe_twinned(cost, nb, twin, self.target_length, began, &observe)?
+                let nb =
+                    || candidates_until(cost, self.neighbour_count, self.neighbour_lists, &over);
+                self.search_maybe_twinned(cost, nb, twin, self.target, began, &observe)?
             };
             return finish(raw.order.clone(), raw, &trace);
         }
@@ -640,10 +642,10 @@ impl<C: Cost> Solver<C> {
                 observe(Improvement { length, ..imp });
             }
         };
-        let target = self.target_length.and_then(|t| ended.tour_length_of(t));
+        let target = self.target.and_then(|t| ended.tour_length_of(t));
         let nb = || {
-            candidates_until(cost, self.neighbours, self.candidates, &over)
-                .map(|lists| ended.neighbours(&lists, self.candidates))
+            candidates_until(cost, self.neighbour_count, self.neighbour_lists, &over)
+                .map(|lists| ended.neighbours(&lists, self.neighbour_lists))
         };
         let raw = self.search_maybe_twinned(&ended, nb, twin, target, began, &observe_ended)?;
         finish(ended.path_from_tour(&raw.order), raw, &trace)
@@ -687,7 +689,7 @@ impl<C: Cost> Solver<C> {
             }
         };
         let target = target.and_then(|t| twinned.transformed_length(t));
-        let nb = || Some(twinned.neighbours(&lists, self.candidates));
+        let nb = || Some(twinned.neighbours(&lists, self.neighbour_lists));
         let raw = self.search(&twinned, nb, start, target, began, &observe_twinned);
         let (order, _repaired) = twinned.tour_back(&raw.order);
         Ok(Raw { order, ..raw })
@@ -713,7 +715,7 @@ impl<C: Cost> Solver<C> {
         });
         Raw {
             order,
-            restarts: 0,
+            runs: 0,
             iterations: 0,
             stop_reason: if self.stop.is_stopped() {
                 StopReason::Cancelled
@@ -746,7 +748,7 @@ impl<C: Cost> Solver<C> {
             });
             Raw {
                 order,
-                restarts: 1,
+                runs: 1,
                 iterations: 0,
                 stop_reason,
             }
@@ -787,7 +789,7 @@ impl<C: Cost> Solver<C> {
             let limits = LoopPlan {
                 seed: self.seed,
                 threads,
-                runs: match self.restarts {
+                runs: match self.runs {
                     Some(r) => Some(r),
                     None if bounded => Some(default_runs(self.method)),
                     None => None,
@@ -835,7 +837,7 @@ impl<C: Cost> Solver<C> {
             );
             return Raw {
                 order: out.order,
-                restarts: out.runs,
+                runs: out.runs,
                 iterations: out.iterations,
                 stop_reason: out.stop_reason,
             };
@@ -843,7 +845,7 @@ impl<C: Cost> Solver<C> {
         let limits = LoopPlan {
             seed: self.seed,
             threads,
-            runs: match (self.restarts, self.time_limit) {
+            runs: match (self.runs, self.time_limit) {
                 (Some(r), _) => Some(r),
                 (None, Some(_)) => None,
                 (None, None) => Some(DEFAULT_RESTARTS),
@@ -860,7 +862,7 @@ impl<C: Cost> Solver<C> {
         debug_assert!(out.length == i64::MAX || closed_length(cost, &out.order) == Ok(out.length));
         Raw {
             order: out.order,
-            restarts: out.runs,
+            runs: out.runs,
             iterations: 0,
             stop_reason: match out.stop_reason {
                 StopReason::IterationBudget => StopReason::RestartBudget,
@@ -917,7 +919,7 @@ impl Iterative for Restart {
 /// What a search on some costs (the caller's, or transformed ones) found.
 struct Raw {
     order: Vec<usize>,
-    restarts: usize,
+    runs: usize,
     iterations: u64,
     stop_reason: StopReason,
 }
