@@ -25,6 +25,8 @@ use numpy::{PyArray1, PyArray2, PyReadonlyArray2, PyUntypedArrayMethods};
 use pyo3::exceptions::{PyOSError, PyRuntimeError, PyValueError};
 use pyo3::prelude::*;
 use pyo3::types::{PyDict, PyList};
+use serde::de::DeserializeOwned;
+use serde_json::{json, Map, Value};
 
 use wend::{solve_with, CoordCost, Cost, Ends, Hooks, MatrixCost, Method, Metric, Outcome};
 use wend::{Settings, StopHandle};
@@ -148,108 +150,206 @@ fn run_watched<T: Send>(
     })
 }
 
-/// The options of a solve, from the dictionary the Python wrapper passes.
-#[derive(FromPyObject)]
-#[pyo3(from_item_all)]
-struct SolveOptions {
-    method: String,
-    time_limit: Option<f64>,
-    seed: u64,
-    threads: Option<usize>,
-    iterations: Option<u64>,
-    restarts: Option<usize>,
-    open: bool,
-    start: Option<usize>,
-    end: Option<usize>,
-    lower_bound: bool,
-    bound_time: f64,
-    settings: Vec<(String, String)>,
+/// A solve as the Python functions ask for it: the core's [`Settings`], read with serde from the
+/// options under their Python names (the same names as the fields), and the tour file, which
+/// only a front end writes.
+struct SolveRequest {
+    settings: Settings,
+    /// Where to write the tour as a TSPLIB TOUR file.
+    tour_out: Option<PathBuf>,
 }
 
-impl SolveOptions {
-    /// The settings these options ask for, checked (0-based ends, checked against the
-    /// instance by the solver).
-    fn settings(&self) -> Result<Settings, Fail> {
-        let method = Method::from_name(&self.method).ok_or_else(|| {
-            let names: Vec<&str> = Method::ALL.iter().map(|m| m.name()).collect();
-            Fail::Input(format!(
-                "unknown method {:?}; choose one of: {}",
-                self.method,
-                names.join(", ")
-            ))
-        })?;
-        let ends = match (self.start, self.end) {
-            (Some(s), Some(e)) => Ends::StartEnd(s, e),
-            (Some(s), None) => Ends::Start(s),
-            (None, Some(e)) => Ends::End(e),
-            (None, None) if self.open => Ends::Open,
-            (None, None) => Ends::Closed,
-        };
-        let mut settings = Settings {
-            method,
-            time_limit: self.time_limit,
-            seed: self.seed,
-            threads: self.threads,
-            runs: self.restarts,
-            iterations: self.iterations,
-            ends,
-            bound: self.lower_bound,
-            bound_time: self.bound_time,
-            ..Settings::default()
-        };
-        settings.check().map_err(input)?;
-        for (key, value) in &self.settings {
-            settings.set(key.trim(), value.trim()).map_err(input)?;
-        }
-        Ok(settings)
+/// Takes `key` out of the options and reads it (absent or `None`: the type's default), the
+/// error naming the option.
+fn take<T: DeserializeOwned + Default>(map: &mut Map<String, Value>, key: &str) -> Result<T, Fail> {
+    match map.remove(key) {
+        None | Some(Value::Null) => Ok(T::default()),
+        Some(v) => serde_json::from_value(v).map_err(|e| Fail::Input(format!("{key}: {e}"))),
     }
 }
 
-/// Solves over `cost` as `wend solve` does with the same options, watching for Ctrl-C.
+/// The settings the remaining options give, every absent one at the core's default. serde's
+/// message does not say which option it refused, so on an error each option is read alone and
+/// the first that fails is named.
+fn settings_of(map: Map<String, Value>) -> Result<Settings, Fail> {
+    serde_json::from_value(Value::Object(map.clone())).map_err(|whole| {
+        let named = map.into_iter().find_map(|(key, value)| {
+            let alone = Value::Object(Map::from_iter([(key.clone(), value)]));
+            serde_json::from_value::<Settings>(alone)
+                .err()
+                .map(|e| format!("{key}: {e}"))
+        });
+        Fail::Input(named.unwrap_or_else(|| whole.to_string()))
+    })
+}
+
+impl SolveRequest {
+    /// Reads the options, a JSON object under the names of the Python functions: the fields of
+    /// [`Settings`] as they are, and `open`, `start`, `end` (0-based), `params` (the method's
+    /// parameters, applied with [`Settings::set`]) and `tour_out`. Checked as the core checks
+    /// them; the ends are checked against the instance by the solve.
+    fn from_json(text: &str) -> Result<SolveRequest, Fail> {
+        let mut map: Map<String, Value> = serde_json::from_str(text)
+            .map_err(|e| Fail::Input(format!("the solve options are not a JSON object: {e}")))?;
+        let open: bool = take(&mut map, "open")?;
+        let start: Option<usize> = take(&mut map, "start")?;
+        let end: Option<usize> = take(&mut map, "end")?;
+        let params: Map<String, Value> = take(&mut map, "params")?;
+        let tour_out: Option<PathBuf> = take(&mut map, "tour_out")?;
+        map.retain(|_, v| !v.is_null());
+        let mut settings = settings_of(map)?;
+        settings.ends = match (start, end) {
+            (Some(s), Some(e)) => Ends::StartEnd(s, e),
+            (Some(s), None) => Ends::Start(s),
+            (None, Some(e)) => Ends::End(e),
+            (None, None) if open => Ends::Open,
+            (None, None) => Ends::Closed,
+        };
+        for (key, value) in params {
+            let text = match value {
+                Value::String(s) => s,
+                other => other.to_string(),
+            };
+            settings.set(key.trim(), text.trim()).map_err(input)?;
+        }
+        settings.check().map_err(input)?;
+        Ok(SolveRequest { settings, tour_out })
+    }
+}
+
+/// What a result says of the costs it was solved over.
+struct Source<'a> {
+    /// The TSPLIB file, when the costs came from one (its errors are prefixed with it).
+    file: Option<&'a Path>,
+    /// The instance's name (from the file).
+    instance: Option<&'a str>,
+    /// `TSP` or `ATSP`.
+    kind: &'static str,
+}
+
+impl Source<'_> {
+    /// Costs given directly: `TSP` when symmetric.
+    fn direct(cost: &dyn Cost) -> Source<'static> {
+        let kind = if cost.is_symmetric() { "TSP" } else { "ATSP" };
+        Source {
+            file: None,
+            instance: None,
+            kind,
+        }
+    }
+}
+
+/// Solves over `cost` as `wend solve` does with the same options, watching for Ctrl-C, and
+/// writes the tour file when asked.
 fn solve_cost<'py>(
     py: Python<'py>,
     cost: &dyn Cost,
-    o: &SolveOptions,
+    req: &SolveRequest,
+    source: &Source<'_>,
 ) -> Result<Bound<'py, PyDict>, Fail> {
-    let settings = o.settings()?;
+    let settings = &req.settings;
     let stop = StopHandle::new();
     let hooks = Hooks {
         stop: stop.clone(),
         ..Hooks::default()
     };
-    let out = run_watched(py, &stop, move || solve_with(cost, &settings, hooks))?.map_err(input)?;
-    outcome_dict(py, &out)
+    let out = run_watched(py, &stop, move || solve_with(cost, settings, hooks))?.map_err(|e| {
+        Fail::Input(match source.file {
+            Some(p) => format!("{}: {e}", p.display()),
+            None => e.to_string(),
+        })
+    })?;
+    if let Some(path) = &req.tour_out {
+        write_result_tour(path, source, settings, &out)?;
+    }
+    outcome_dict(py, cost, req, source, &out)
 }
 
-fn outcome_dict<'py>(py: Python<'py>, out: &Outcome) -> Result<Bound<'py, PyDict>, Fail> {
+/// Writes the tour of `out` as a TSPLIB TOUR file named after the instance (or the file), its
+/// comment `wend VERSION METHOD seed SEED length LENGTH`.
+fn write_result_tour(
+    path: &Path,
+    source: &Source<'_>,
+    settings: &Settings,
+    out: &Outcome,
+) -> Result<(), Fail> {
+    let stem = path.file_stem().map(|s| s.to_string_lossy());
+    let name = match (source.instance, stem) {
+        (Some(name), _) => format!("{name}.tour"),
+        (None, Some(stem)) => format!("{stem}.tour"),
+        (None, None) => "tour".to_string(),
+    };
+    let comment = format!(
+        "wend {} {} seed {} length {}",
+        env!("CARGO_PKG_VERSION"),
+        out.method.map_or("exact", Method::name),
+        settings.seed,
+        out.length
+    );
+    let mut bytes = Vec::new();
+    tsplib::write_tour(&name, &comment, out.tour.order(), &mut bytes)
+        .map_err(|e| Fail::Internal(e.to_string()))?;
+    write_file_bytes(path, &bytes)
+}
+
+/// The result: `json`, the outcome serialised as the command prints it (without the tour and
+/// the trace) with the keys only a front end knows added; `order`, the tour as an `int64`
+/// array; `trace`, every new best as a `(seconds, length)` row (none for an exact proof).
+fn outcome_dict<'py>(
+    py: Python<'py>,
+    cost: &dyn Cost,
+    req: &SolveRequest,
+    source: &Source<'_>,
+    out: &Outcome,
+) -> Result<Bound<'py, PyDict>, Fail> {
+    let internal = |e: &dyn std::fmt::Display| Fail::Internal(e.to_string());
+    let mut value = serde_json::to_value(out).map_err(|e| internal(&e))?;
+    let Value::Object(keys) = &mut value else {
+        return Err(Fail::Internal("the outcome is not a JSON object".into()));
+    };
+    keys.remove("tour");
+    keys.remove("trace");
+    let s = &req.settings;
+    let threads = s.threads.unwrap_or_else(|| {
+        std::thread::available_parallelism()
+            .map(|t| t.get())
+            .unwrap_or(1)
+    });
+    let mut own = json!({
+        "file": source.file.map(|p| p.display().to_string()),
+        "instance": source.instance,
+        "type": source.kind,
+        "nodes": cost.len(),
+        "seed": s.seed,
+        "threads": threads,
+        "time_limit": s.time_limit,
+        "tour_out": req.tour_out.as_ref().map(|p| p.display().to_string()),
+    });
+    if out.proof.is_none() {
+        own["start"] = json!(s.ends.start());
+        own["end"] = json!(match s.ends {
+            Ends::StartEnd(_, e) | Ends::End(e) => Some(e),
+            _ => None,
+        });
+    }
+    if let Value::Object(own) = own {
+        // What the core reports wins over what is worked out here.
+        for (key, v) in own {
+            keys.entry(key).or_insert(v);
+        }
+    }
     let d = PyDict::new(py);
     let fail = |e: PyErr| Fail::Internal(e.to_string());
-    let Some(search) = &out.search else {
-        return Err(Fail::Internal("the search reported nothing".into()));
-    };
+    d.set_item("json", value.to_string()).map_err(fail)?;
     let order: Vec<i64> = out.tour.order().iter().map(|&v| v as i64).collect();
     d.set_item("order", PyArray1::from_vec(py, order))
         .map_err(fail)?;
-    d.set_item("length", out.length).map_err(fail)?;
-    d.set_item("lower_bound", out.lower_bound).map_err(fail)?;
-    let reason = serde_json::to_value(search.stop_reason)
-        .ok()
-        .and_then(|v| v.as_str().map(str::to_string))
-        .unwrap_or_default();
-    d.set_item("stop_reason", reason).map_err(fail)?;
-    d.set_item("seconds", out.seconds).map_err(fail)?;
-    d.set_item("runs", search.runs).map_err(fail)?;
-    d.set_item("iterations", search.iterations).map_err(fail)?;
-    let method = out.method.map_or("exact", Method::name);
-    d.set_item("method", method).map_err(fail)?;
-    d.set_item("ends", out.ends.name()).map_err(fail)?;
-    let mut trace = Vec::with_capacity(search.trace.len() * 2);
-    for t in &search.trace {
-        trace.push(t.seconds);
-        trace.push(t.length as f64);
-    }
-    let trace = Array2::from_shape_vec((search.trace.len(), 2), trace)
-        .map_err(|e| Fail::Internal(e.to_string()))?;
+    let steps = out.search.as_ref().map_or(&[][..], |s| &s.trace[..]);
+    let flat: Vec<f64> = steps
+        .iter()
+        .flat_map(|t| [t.seconds, t.length as f64])
+        .collect();
+    let trace = Array2::from_shape_vec((steps.len(), 2), flat).map_err(|e| internal(&e))?;
     d.set_item("trace", PyArray2::from_owned_array(py, trace))
         .map_err(fail)?;
     Ok(d)
@@ -310,16 +410,18 @@ fn matrix_cost(matrix: &PyReadonlyArray2<'_, i64>) -> Result<MatrixCost, Fail> {
     MatrixCost::from_row_major(n, weights).map_err(input)
 }
 
-/// Solves over points under a TSPLIB distance.
+/// Solves over points under a TSPLIB distance; `options` is the JSON object of
+/// [`SolveRequest::from_json`].
 #[pyfunction]
 fn solve_points<'py>(
     py: Python<'py>,
     points: PyReadonlyArray2<'py, f64>,
     metric: &str,
-    options: SolveOptions,
+    options: &str,
 ) -> PyResult<Bound<'py, PyDict>> {
+    let req = SolveRequest::from_json(options)?;
     let cost = coord_cost(&points, metric)?;
-    Ok(solve_cost(py, &cost, &options)?)
+    Ok(solve_cost(py, &cost, &req, &Source::direct(&cost))?)
 }
 
 /// Solves over a square integer cost matrix (symmetric or not).
@@ -327,10 +429,11 @@ fn solve_points<'py>(
 fn solve_matrix<'py>(
     py: Python<'py>,
     matrix: PyReadonlyArray2<'py, i64>,
-    options: SolveOptions,
+    options: &str,
 ) -> PyResult<Bound<'py, PyDict>> {
+    let req = SolveRequest::from_json(options)?;
     let cost = matrix_cost(&matrix)?;
-    Ok(solve_cost(py, &cost, &options)?)
+    Ok(solve_cost(py, &cost, &req, &Source::direct(&cost))?)
 }
 
 fn load_instance(path: &Path) -> Result<Instance, Fail> {
@@ -341,22 +444,15 @@ fn load_instance(path: &Path) -> Result<Instance, Fail> {
 
 /// Solves a TSPLIB file.
 #[pyfunction]
-fn solve_file<'py>(
-    py: Python<'py>,
-    path: PathBuf,
-    options: SolveOptions,
-) -> PyResult<Bound<'py, PyDict>> {
+fn solve_file<'py>(py: Python<'py>, path: PathBuf, options: &str) -> PyResult<Bound<'py, PyDict>> {
+    let req = SolveRequest::from_json(options)?;
     let inst = load_instance(&path)?;
-    let named = |e: PyErr| -> PyErr {
-        if e.is_instance_of::<PyValueError>(py) {
-            PyValueError::new_err(format!("{}: {}", path.display(), e.value(py)))
-        } else {
-            e
-        }
+    let source = Source {
+        file: Some(&path),
+        instance: Some(&inst.name),
+        kind: inst.kind.keyword(),
     };
-    solve_cost(py, inst.cost(), &options)
-        .map_err(PyErr::from)
-        .map_err(named)
+    Ok(solve_cost(py, inst.cost(), &req, &source)?)
 }
 
 /// A TSPLIB problem file as a dictionary.
