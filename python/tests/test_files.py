@@ -48,10 +48,10 @@ def test_points_round_trip_and_the_command_line_agrees(wend_cli, tmp_path):
     back = wend.read_tsplib(path)
     assert np.array_equal(back.points, pts)
     assert back.name == "r60" and back.comments == ["sixty points"]
-    r = wend.solve_points(pts, seed=4, iterations=50, restarts=2, threads=2)
+    r = wend.solve_points(pts, seed=4, iterations=50, runs=2, threads=2)
     # Reference: the command line on the written file, same seed and budget.
     out = run_cli(wend_cli, "solve", str(path), "--json", "--seed", "4", "--iterations", "50",
-                  "--restarts", "2", "--threads", "2", "--tour-out", str(tmp_path / "t.tour"))
+                  "--runs", "2", "--threads", "2", "--tour-out", str(tmp_path / "t.tour"))
     assert json.loads(out.stdout)["length"] == r.length
     assert parse_tour_file(tmp_path / "t.tour") == r.order.tolist()
 

@@ -33,17 +33,17 @@ def cli_solve(exe, tmp_path, path, *args):
 @pytest.mark.parametrize(
     "name, py_opts, cli_args",
     [
-        ("berlin52.tsp", dict(seed=3, threads=2, iterations=200, restarts=2),
-         ["--seed", "3", "--threads", "2", "--iterations", "200", "--restarts", "2"]),
-        ("kroA100.tsp", dict(method="2opt", seed=5, threads=1, restarts=4),
-         ["--method", "2opt", "--seed", "5", "--threads", "1", "--restarts", "4"]),
-        ("ft53.atsp", dict(seed=1, threads=2, iterations=100, restarts=2),
-         ["--seed", "1", "--threads", "2", "--iterations", "100", "--restarts", "2"]),
-        ("st70.tsp", dict(seed=2, threads=2, iterations=100, restarts=2, start=4, end=9),
-         ["--seed", "2", "--threads", "2", "--iterations", "100", "--restarts", "2",
+        ("berlin52.tsp", dict(seed=3, threads=2, iterations=200, runs=2),
+         ["--seed", "3", "--threads", "2", "--iterations", "200", "--runs", "2"]),
+        ("kroA100.tsp", dict(method="2opt", seed=5, threads=1, runs=4),
+         ["--method", "2opt", "--seed", "5", "--threads", "1", "--runs", "4"]),
+        ("ft53.atsp", dict(seed=1, threads=2, iterations=100, runs=2),
+         ["--seed", "1", "--threads", "2", "--iterations", "100", "--runs", "2"]),
+        ("st70.tsp", dict(seed=2, threads=2, iterations=100, runs=2, start=4, end=9),
+         ["--seed", "2", "--threads", "2", "--iterations", "100", "--runs", "2",
           "--start", "5", "--end", "10"]),
-        ("eil51.tsp", dict(seed=0, threads=2, iterations=100, restarts=2, open=True),
-         ["--seed", "0", "--threads", "2", "--iterations", "100", "--restarts", "2", "--open"]),
+        ("eil51.tsp", dict(seed=0, threads=2, iterations=100, runs=2, open=True),
+         ["--seed", "0", "--threads", "2", "--iterations", "100", "--runs", "2", "--open"]),
     ],
 )
 def test_same_tour_as_the_command_line(wend_cli, tmp_path, name, py_opts, cli_args):
@@ -65,7 +65,7 @@ COORD_INSTANCES = ["berlin52", "att48", "eil51", "st70", "burma14", "ulysses16",
 def test_tours_are_never_shorter_than_the_optimum(name):
     path = INSTANCES / f"{name}.tsp"
     kind, coords = parse_coords(path)
-    r = wend.solve_file(path, seed=7, iterations=50, restarts=1, threads=1)
+    r = wend.solve_file(path, seed=7, iterations=50, runs=1, threads=1)
     order = r.order.tolist()
     assert r.order.dtype == np.int64
     assert sorted(order) == list(range(len(coords)))
@@ -79,8 +79,8 @@ def test_points_give_the_file_s_tour():
     path = INSTANCES / "kroA100.tsp"
     kind, coords = parse_coords(path)
     pts = np.array(coords)
-    a = wend.solve_points(pts, "EUC_2D", seed=11, iterations=100, restarts=2, threads=2)
-    b = wend.solve_file(path, seed=11, iterations=100, restarts=2, threads=2)
+    a = wend.solve_points(pts, "EUC_2D", seed=11, iterations=100, runs=2, threads=2)
+    b = wend.solve_file(path, seed=11, iterations=100, runs=2, threads=2)
     assert a.order.tolist() == b.order.tolist()
     assert a.length == tour_length(kind, coords, a.order.tolist())
     assert a.length >= parse_optima()["kroA100"]
@@ -144,8 +144,8 @@ def test_open_path_and_fixed_ends():
 
 def test_lower_bound_brackets_the_optimum():
     # Reference: TSPLIB's published optimum of berlin52 (instances/optima.txt).
-    r = wend.solve_file(INSTANCES / "berlin52.tsp", seed=0, iterations=100, restarts=1,
-                        lower_bound=True, bound_time=5.0)
+    r = wend.solve_file(INSTANCES / "berlin52.tsp", seed=0, iterations=100, runs=1,
+                        bound=True, bound_time=5.0)
     opt = parse_optima()["berlin52"]
     assert r.lower_bound is not None
     assert 0 < r.lower_bound <= opt <= r.length
@@ -155,7 +155,7 @@ def test_lower_bound_brackets_the_optimum():
 
 def test_trace_is_the_anytime_curve():
     path = INSTANCES / "kroA100.tsp"
-    r = wend.solve_file(path, seed=2, iterations=300, restarts=2, threads=1)
+    r = wend.solve_file(path, seed=2, iterations=300, runs=2, threads=1)
     t = r.trace
     assert t.ndim == 2 and t.shape[1] == 2 and t.shape[0] >= 1
     assert np.all(np.diff(t[:, 0]) >= 0)
@@ -224,7 +224,7 @@ def test_bad_matrices_raise_value_error(matrix, words):
 
 def test_bad_options_raise_value_error():
     pts = np.array([[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0]])
-    with pytest.raises(ValueError, match="unknown method"):
+    with pytest.raises(ValueError, match="method: unknown variant .no-such-method."):
         wend.solve_points(pts, method="no-such-method")
     with pytest.raises(ValueError, match="unknown distance"):
         wend.solve_points(pts, "EUC_4D")
@@ -237,7 +237,7 @@ def test_bad_options_raise_value_error():
     with pytest.raises(ValueError, match="out of range"):
         wend.solve_points(pts, start=4)
     with pytest.raises(ValueError, match="lk"):
-        wend.solve_points(pts, settings={"no_such_key": 1})
+        wend.solve_points(pts, params={"no_such_key": 1})
     with pytest.raises(ValueError, match="n x 3"):
         wend.solve_points(pts, "EUC_3D")
 
@@ -266,9 +266,9 @@ def test_same_tour_as_the_command_line_on_10000_nodes(wend_cli, tmp_path):
     # tour layout), same seed, threads and kick budget.
     path = tmp_path / "u10k.tsp"
     run_cli(wend_cli, "generate", "--nodes", "10000", "--seed", "1", "--out", str(path))
-    args = dict(seed=0, threads=2, iterations=300, restarts=2)
+    args = dict(seed=0, threads=2, iterations=300, runs=2)
     r = wend.solve_file(path, **args)
     summary, cli_order = cli_solve(wend_cli, tmp_path, path, "--seed", "0", "--threads", "2",
-                                   "--iterations", "300", "--restarts", "2")
+                                   "--iterations", "300", "--runs", "2")
     assert r.order.tolist() == cli_order
     assert r.length == summary["length"]

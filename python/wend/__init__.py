@@ -2,9 +2,10 @@
 
 Solving
     :func:`solve_points` (coordinates under a TSPLIB distance), :func:`solve_matrix` (a square
-    integer cost matrix, symmetric or not) and :func:`solve_file` (a TSPLIB file) return a
-    :class:`TourResult`: the order of the nodes (0-based), its length, the lower bound when
-    asked, the stop reason and the improvement trace.
+    integer cost matrix, symmetric or not) and :func:`solve_file` (a TSPLIB file) take the
+    options of ``wend solve`` under the same names (``time_limit`` for ``--time-limit``, ...)
+    and return a :class:`TourResult` with the keys of ``wend solve --json``, the order of the
+    nodes (0-based) and the improvement trace.
 
 Files
     :func:`read_tsplib`, :func:`write_tsplib`, :func:`read_tour`, :func:`write_tour`.
@@ -19,22 +20,32 @@ The core runs with the GIL released. Ctrl-C (KeyboardInterrupt) during a solve o
 the core and returns the best result found so far, with ``stop_reason == "cancelled"`` (for a
 plan: ``SkyPlan.cancelled``); the KeyboardInterrupt is not raised again.
 
-Bad input raises :class:`ValueError` with the core's message (``file:line: ...`` for files);
-a file that cannot be read or written raises :class:`OSError`.
+Bad input raises :class:`ValueError` with the core's message (``file:line: ...`` for files,
+``option: ...`` for an option the core refuses); a file that cannot be read or written raises
+:class:`OSError`.
 """
 
 from __future__ import annotations
 
-import io
-import json
-import math
-import os
-from dataclasses import dataclass, field
-from typing import Any, List, Mapping, Optional, Sequence, Tuple, Union
+import dataclasses as _dc
+import inspect as _inspect
+import io as _io
+import json as _json
+import math as _math
+import os as _os
+import typing as _t
+import warnings as _warnings
 
-import numpy as np
+import numpy as _np
 
 from . import _native
+
+# Names the sky planner's code below (SkyPlan, plan_sky) uses as they are; dir(wend) does not
+# show them (see __dir__ at the end of the module).
+import json
+import os
+from dataclasses import dataclass
+from typing import Any, Optional
 
 __all__ = [
     "CAUTION",
@@ -56,11 +67,17 @@ __all__ = [
 
 __version__: str = _native.VERSION
 
+
+def __dir__() -> _t.List[str]:
+    """The package's API (PEP 562): what ``__all__`` exports and ``__version__``."""
+    return sorted([*__all__, "__version__"])
+
+
 #: The caution every observing plan carries.
 CAUTION: str = _native.CAUTION
 
-#: The TSPLIB distance names :func:`solve_points` accepts.
-DISTANCES: Tuple[str, ...] = (
+#: The TSPLIB distance names :func:`solve_points` accepts as its ``metric``.
+DISTANCES: _t.Tuple[str, ...] = (
     "EUC_2D",
     "EUC_3D",
     "CEIL_2D",
@@ -72,53 +89,108 @@ DISTANCES: Tuple[str, ...] = (
     "MAX_3D",
 )
 
-PathLike = Union[str, "os.PathLike[str]"]
+PathLike = _t.Union[str, "os.PathLike[str]"]
 
 
-@dataclass(frozen=True)
 class TourResult:
-    """What a solve returns.
+    """What a solve returns: one attribute per key of ``wend solve --json`` (with
+    ``exact=True``, of ``wend solve --exact --json``), plus ``order`` and ``trace``.
 
-    Attributes:
+    :meth:`keys` lists the attributes a result has and :meth:`to_dict` gives them as a
+    dictionary. Node numbers are 0-based (``start``, ``end``, ``order``), where the command's
+    are the file's, from 1.
+
+    Attributes of every result:
         order: the nodes in visiting order, 0-based (``numpy.int64``). A closed tour starts at
             node 0 (or the fixed start); a path runs from its first node to its last.
+        trace: every new best tour as a row ``(seconds, length)``, shape ``(k, 2)``: the
+            anytime curve of the search (no rows for an exact proof).
         length: its exact length on the given costs (with the return step for a closed tour,
             without it for a path).
-        lower_bound: a lower bound on every tour (or path with the same ends) when asked for
-            with ``lower_bound=True`` (Held–Karp for symmetric costs, the assignment bound for
-            asymmetric ones), else ``None``.
+        lower_bound: a lower bound on every tour (or path with the same ends), from
+            ``bound=True`` (Held–Karp for symmetric costs, the assignment bound for asymmetric
+            ones) or from the proof, else ``None``.
+        proven_gap_percent: ``100 (length - lower_bound) / lower_bound``, else ``None``.
+        method: the method that ran (``exact`` for an exact proof).
+        ends: ``closed``, ``open``, ``start``, ``end`` or ``start-end``.
+        seconds: wall-clock seconds of the search or proof (without the bound).
+        seed, threads, time_limit: the seed, the worker threads used and the time limit.
+        file, instance: the TSPLIB file and its instance name (``None`` for points and
+            matrices).
+        type: ``TSP`` or ``ATSP`` (for points and matrices: by the costs' symmetry).
+        nodes: how many nodes.
+        tour_out: the TOUR file written, else ``None``.
+
+    Of a heuristic search:
+        runs: independent runs completed (restarts for ``2opt``; formerly ``restarts``).
+        iterations: steps of an iterative method over all runs (kicks for ``lk``).
         stop_reason: why the search ended: ``iteration_budget``, ``restart_budget``,
             ``time_limit``, ``cancelled`` (Ctrl-C), ``exhaustive``, ``constructed``,
             ``target_reached`` or ``stall_limit``.
-        seconds: wall-clock seconds of the search.
-        method: the method that ran.
-        ends: ``closed``, ``open``, ``start``, ``end`` or ``start-end``.
-        restarts: runs or restarts completed.
-        iterations: steps of an iterative method over all runs (kicks for ``lk``).
-        trace: every new best tour as a row ``(seconds, length)``, shape ``(k, 2)``: the
-            anytime curve of the run.
+        start, end: the fixed first and last node asked for, else ``None``.
+
+    Of an exact proof (``exact=True``):
+        exact_method: ``dynamic-programme`` or ``branch-and-bound``.
+        proven_optimal: ``True`` when the tour is proven optimal.
+        subproblems: branch-and-bound subproblems evaluated.
+        first_tour_length: the length of the branch and bound's first tour, else ``None``.
+
+    Keys the core adds later (``gap_note``, say) appear as attributes without a change here.
     """
 
-    order: np.ndarray = field(repr=False)
-    length: int
-    lower_bound: Optional[int]
-    stop_reason: str
-    seconds: float
-    method: str
-    ends: str
-    restarts: int
-    iterations: int
-    trace: np.ndarray = field(repr=False)
+    __slots__ = ("_keys",)
+
+    def __init__(self, keys: _t.Mapping[str, _t.Any]) -> None:
+        object.__setattr__(self, "_keys", dict(keys))
+
+    def __getattr__(self, name: str) -> _t.Any:
+        if name == "_keys":
+            raise AttributeError(name)
+        try:
+            return self._keys[name]
+        except KeyError:
+            raise AttributeError(f"TourResult has no attribute {name!r}") from None
+
+    def __setattr__(self, name: str, value: _t.Any) -> None:
+        raise AttributeError("TourResult is read-only")
+
+    def __reduce__(self) -> _t.Tuple[_t.Any, ...]:
+        return (TourResult, (self._keys,))
+
+    def __dir__(self) -> _t.List[str]:
+        return sorted(set(self._keys) | {"gap_percent", "keys", "to_dict"})
+
+    def __repr__(self) -> str:
+        shown = ", ".join(
+            f"{k}={v!r}" for k, v in sorted(self._keys.items()) if k not in ("order", "trace")
+        )
+        return f"TourResult({shown})"
+
+    def keys(self) -> _t.List[str]:
+        """The names of this result's attributes, sorted (``order`` and ``trace`` included)."""
+        return sorted(self._keys)
+
+    def to_dict(self) -> _t.Dict[str, _t.Any]:
+        """The attributes as a new dictionary (the arrays are not copied)."""
+        return dict(self._keys)
 
     @property
-    def gap_percent(self) -> Optional[float]:
-        """How far above the lower bound the length is, in percent (``None`` without a bound)."""
-        if self.lower_bound is None or self.lower_bound <= 0:
-            return None
-        return 100.0 * (self.length - self.lower_bound) / self.lower_bound
+    def gap_percent(self) -> _t.Optional[float]:
+        """The same as :attr:`proven_gap_percent` (the name of earlier releases)."""
+        return self._keys.get("proven_gap_percent")
+
+    @property
+    def restarts(self) -> int:
+        """Deprecated: the name of earlier releases for :attr:`runs`."""
+        _warnings.warn(
+            "TourResult.restarts is deprecated; use TourResult.runs",
+            DeprecationWarning,
+            stacklevel=2,
+        )
+        return self.runs
 
 
-@dataclass(frozen=True)
+@_dc.dataclass(frozen=True)
 class Problem:
     """A TSPLIB problem file.
 
@@ -132,25 +204,25 @@ class Problem:
     """
 
     name: str
-    comments: List[str]
+    comments: _t.List[str]
     kind: str
     dimension: int
     edge_weight_type: str
-    edge_weight_format: Optional[str]
-    points: Optional[np.ndarray] = field(repr=False)
-    metric: Optional[str]
-    matrix: Optional[np.ndarray] = field(repr=False)
-    display: Optional[np.ndarray] = field(repr=False)
+    edge_weight_format: _t.Optional[str]
+    points: _t.Optional[_np.ndarray] = _dc.field(repr=False)
+    metric: _t.Optional[str]
+    matrix: _t.Optional[_np.ndarray] = _dc.field(repr=False)
+    display: _t.Optional[_np.ndarray] = _dc.field(repr=False)
 
 
-@dataclass(frozen=True)
+@_dc.dataclass(frozen=True)
 class TourData:
     """A TSPLIB TOUR file: its name, comments, dimension (or ``None``) and the 0-based order."""
 
     name: str
-    comments: List[str]
-    dimension: Optional[int]
-    order: np.ndarray = field(repr=False)
+    comments: _t.List[str]
+    dimension: _t.Optional[int]
+    order: _np.ndarray = _dc.field(repr=False)
 
 
 @dataclass(frozen=True)
@@ -184,17 +256,17 @@ class SkyPlan:
     caution: str = CAUTION
 
 
-def methods() -> List[Tuple[str, str]]:
+def methods() -> _t.List[_t.Tuple[str, str]]:
     """The methods :func:`solve_points` and friends accept, as ``(name, description)``."""
     return [tuple(m) for m in _native.methods()]  # type: ignore[misc]
 
 
-def _int_option(name: str, value: Any, low: int, optional: bool = True) -> Optional[int]:
+def _int_option(name: str, value: _t.Any, low: int, optional: bool = True) -> _t.Optional[int]:
     if value is None:
         if optional:
             return None
         raise ValueError(f"{name} must be given")
-    if isinstance(value, bool) or not isinstance(value, (int, np.integer)):
+    if isinstance(value, bool) or not isinstance(value, (int, _np.integer)):
         raise ValueError(f"{name} must be an integer, got {value!r}")
     v = int(value)
     if v < low or v >= 2**64:
@@ -202,249 +274,293 @@ def _int_option(name: str, value: Any, low: int, optional: bool = True) -> Optio
     return v
 
 
-def _float_option(name: str, value: Any) -> Optional[float]:
+def _float_option(name: str, value: _t.Any) -> _t.Optional[float]:
     if value is None:
         return None
-    if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)):
+    if isinstance(value, bool) or not isinstance(
+        value, (int, float, _np.integer, _np.floating)
+    ):
         raise ValueError(f"{name} must be a number of seconds, got {value!r}")
     return float(value)
 
 
-def _options(
-    method: str,
-    time_limit: Optional[float],
-    seed: int,
-    threads: Optional[int],
-    iterations: Optional[int],
-    restarts: Optional[int],
-    open: bool,
-    start: Optional[int],
-    end: Optional[int],
-    lower_bound: bool,
-    bound_time: float,
-    settings: Optional[Mapping[str, Any]],
-) -> dict:
-    if not isinstance(method, str):
-        raise ValueError(f"method must be a method name, got {method!r}")
-    pairs = []
-    for k, v in (settings or {}).items():
-        pairs.append((str(k), str(v)))
-    return {
-        "method": method,
-        "time_limit": _float_option("time_limit", time_limit),
-        "seed": _int_option("seed", seed, 0, optional=False),
-        "threads": _int_option("threads", threads, 1),
-        "iterations": _int_option("iterations", iterations, 0),
-        "restarts": _int_option("restarts", restarts, 1),
-        "open": bool(open),
-        "start": _int_option("start", start, 0),
-        "end": _int_option("end", end, 0),
-        "lower_bound": bool(lower_bound),
-        "bound_time": float(_float_option("bound_time", bound_time) or 0.0),
-        "settings": pairs,
-    }
+# The options of the solve functions: the options of `wend solve` under the same names, with
+# underscores for hyphens, their defaults and their types. `None` leaves an option to the core.
+_OPTIONS: _t.Tuple[_t.Tuple[str, _t.Any, str], ...] = (
+    ("method", "lk", "str"),
+    ("time_limit", None, "Optional[float]"),
+    ("seed", 0, "int"),
+    ("threads", None, "Optional[int]"),
+    ("runs", None, "Optional[int]"),
+    ("iterations", None, "Optional[int]"),
+    ("stall_limit", None, "Optional[int]"),
+    ("params", None, "Optional[Mapping[str, Any]]"),
+    ("target", None, "Optional[int]"),
+    ("neighbour_count", None, "Optional[int]"),
+    ("neighbour_lists", None, "Optional[str]"),
+    ("layout", None, "Optional[str]"),
+    ("bound", False, "bool"),
+    ("bound_time", None, "Optional[float]"),
+    ("exact", False, "bool"),
+    ("exact_method", None, "Optional[str]"),
+    ("open", False, "bool"),
+    ("start", None, "Optional[int]"),
+    ("end", None, "Optional[int]"),
+    ("tour_out", None, "Optional[PathLike]"),
+)
+_DEFAULTS = {name: default for name, default, _ in _OPTIONS}
+
+# Keywords of earlier releases, still read (with a DeprecationWarning) for one release.
+_RENAMED = {"lower_bound": "bound", "settings": "params", "restarts": "runs"}
+
+# Options an exact proof does not use, as the command refuses them beside --exact.
+_NOT_WITH_EXACT = ("method", "runs", "iterations", "stall_limit", "params", "target",
+                   "neighbour_count", "neighbour_lists", "layout", "bound")
 
 
-def _result(d: dict) -> TourResult:
-    return TourResult(
-        order=d["order"],
-        length=int(d["length"]),
-        lower_bound=None if d["lower_bound"] is None else int(d["lower_bound"]),
-        stop_reason=d["stop_reason"],
-        seconds=float(d["seconds"]),
-        method=d["method"],
-        ends=d["ends"],
-        restarts=int(d["runs"]),
-        iterations=int(d["iterations"]),
-        trace=d["trace"],
+def _renamed(function: str, old: str, new: str) -> None:
+    _warnings.warn(
+        f"{function}(): {old}= is deprecated and will be removed in the next release; "
+        f"use {new}=",
+        DeprecationWarning,
+        stacklevel=4,
     )
 
 
-def _points_array(points: Any) -> np.ndarray:
+def _json_value(name: str, value: _t.Any) -> _t.Any:
+    """`value` as plain JSON data (NumPy scalars as Python numbers), or a ValueError naming
+    the option; the core checks the types and ranges."""
+    if isinstance(value, _np.generic):
+        value = value.item()
+    if name == "tour_out":
+        return _os.fspath(value)
+    if name == "params":
+        if not isinstance(value, _t.Mapping):
+            raise ValueError(
+                f"params must be a mapping of parameter names to values, got {value!r}"
+            )
+        return {str(k): _json_value(f"params[{k!r}]", v) for k, v in value.items()}
+    if isinstance(value, float) and not _math.isfinite(value):
+        raise ValueError(f"{name} must be a finite number, got {value!r}")
     try:
-        a = np.asarray(points)
+        _json.dumps(value, allow_nan=False)
+    except (TypeError, ValueError) as e:
+        raise ValueError(f"{name}: {e}") from None
+    return value
+
+
+def _options_json(function: str, given: _t.Mapping[str, _t.Any]) -> str:
+    """The options of a solve call as the JSON object the extension module reads."""
+    options = dict(_DEFAULTS)
+    for name, value in given.items():
+        new = _RENAMED.get(name)
+        if new is not None:
+            _renamed(function, name, new)
+            if new in given:
+                raise TypeError(f"{function}() got both {name}= and {new}=")
+            name = new
+        elif name not in options:
+            raise TypeError(f"{function}() got an unexpected keyword argument {name!r}")
+        options[name] = value
+    changed = [k for k in _NOT_WITH_EXACT if options[k] != _DEFAULTS[k]]
+    if options["exact"] and changed:
+        raise ValueError(f"exact=True cannot be combined with {', '.join(changed)}")
+    if not options["exact"] and options["exact_method"] is not None:
+        raise ValueError("exact_method needs exact=True")
+    plain = {k: _json_value(k, v) for k, v in options.items() if v is not None}
+    return _json.dumps(plain)
+
+
+def _result(d: _t.Mapping[str, _t.Any]) -> TourResult:
+    keys = _json.loads(d["json"])
+    keys["order"] = d["order"]
+    keys["trace"] = d["trace"]
+    return TourResult(keys)
+
+
+def _points_array(points: _t.Any) -> _np.ndarray:
+    try:
+        a = _np.asarray(points)
     except Exception as e:  # ragged lists and the like
         raise ValueError(f"points must be an n x 2 or n x 3 array of numbers: {e}") from None
     if a.dtype == object or not (
-        np.issubdtype(a.dtype, np.floating) or np.issubdtype(a.dtype, np.integer)
-    ) or a.dtype == np.bool_:
+        _np.issubdtype(a.dtype, _np.floating) or _np.issubdtype(a.dtype, _np.integer)
+    ) or a.dtype == _np.bool_:
         raise ValueError(f"points must be an array of numbers, got dtype {a.dtype}")
     if a.ndim != 2 or a.shape[1] not in (2, 3):
         raise ValueError(f"points must be an n x 2 or n x 3 array, got shape {a.shape}")
     if a.shape[0] == 0:
         raise ValueError("points is empty: give at least one node")
-    a = np.ascontiguousarray(a, dtype=np.float64)
-    bad = ~np.isfinite(a)
+    a = _np.ascontiguousarray(a, dtype=_np.float64)
+    bad = ~_np.isfinite(a)
     if bad.any():
-        i, k = np.argwhere(bad)[0]
+        i, k = _np.argwhere(bad)[0]
         raise ValueError(f"node {i}: coordinate {k} is not a finite number ({a[i, k]})")
     return a
 
 
-def _matrix_array(matrix: Any) -> np.ndarray:
+def _matrix_array(matrix: _t.Any) -> _np.ndarray:
     try:
-        a = np.asarray(matrix)
+        a = _np.asarray(matrix)
     except Exception as e:
         raise ValueError(f"the cost matrix must be a square array of integers: {e}") from None
     if a.ndim != 2 or a.shape[0] != a.shape[1]:
         raise ValueError(f"the cost matrix must be square, got shape {a.shape}")
     if a.shape[0] == 0:
         raise ValueError("the cost matrix is empty: give at least one node")
-    if a.dtype == np.bool_ or a.dtype == object:
+    if a.dtype == _np.bool_ or a.dtype == object:
         raise ValueError(f"the cost matrix must hold integers, got dtype {a.dtype}")
-    if np.issubdtype(a.dtype, np.integer):
-        if a.dtype == np.uint64 and a.size and a.max() > np.iinfo(np.int64).max:
+    if _np.issubdtype(a.dtype, _np.integer):
+        if a.dtype == _np.uint64 and a.size and a.max() > _np.iinfo(_np.int64).max:
             raise ValueError("the cost matrix has entries too large for 64-bit integers")
-        return np.ascontiguousarray(a, dtype=np.int64)
-    if np.issubdtype(a.dtype, np.floating):
-        bad = ~np.isfinite(a)
+        return _np.ascontiguousarray(a, dtype=_np.int64)
+    if _np.issubdtype(a.dtype, _np.floating):
+        bad = ~_np.isfinite(a)
         if bad.any():
-            i, j = np.argwhere(bad)[0]
+            i, j = _np.argwhere(bad)[0]
             raise ValueError(f"cost matrix entry ({i}, {j}) is not a finite number ({a[i, j]})")
-        whole = a == np.round(a)
+        whole = a == _np.round(a)
         if not whole.all():
-            i, j = np.argwhere(~whole)[0]
+            i, j = _np.argwhere(~whole)[0]
             raise ValueError(
                 f"cost matrix entry ({i}, {j}) = {a[i, j]} is not a whole number; "
                 "costs are integers (scale and round them first)"
             )
-        if a.size and np.abs(a).max() >= 2.0**63:
+        if a.size and _np.abs(a).max() >= 2.0**63:
             raise ValueError("the cost matrix has entries too large for 64-bit integers")
-        return np.ascontiguousarray(a, dtype=np.int64)
+        return _np.ascontiguousarray(a, dtype=_np.int64)
     raise ValueError(f"the cost matrix must hold integers, got dtype {a.dtype}")
 
 
 _SOLVE_DOC = """
-    Options (the same meaning as the ``wend solve`` options of the same idea):
-        method: ``lk`` (default), ``2opt``, ``or-opt``, ``acs``, ``mmas``, ``anneal``, ...
+    Options: those of ``wend solve``, under the same names with underscores for hyphens
+    (``time_limit`` for ``--time-limit``), all keyword-only:
+        method: ``lk`` (default), ``2opt``, ``acs``, ``mmas``, ``anneal``, ``greedy``, ...
             (see :func:`methods`).
         time_limit: stop after this many seconds and return the best tour so far.
-        seed: seed of all random choices; the same seed, restarts and iterations give the same
-            tour on any number of threads.
+        seed: seed of all random choices (default 0); the same seed, runs and iterations give
+            the same tour on any number of threads.
         threads: worker threads (default: one per core).
-        iterations: steps per run (kicks for ``lk``, generations for the ant colonies); with
-            such a budget the result does not depend on timing.
-        restarts: independent runs (``lk``, ``anneal``, colonies) or restarts (``2opt``).
+        runs: independent runs (``lk``, ``anneal``, colonies of ``acs`` and ``mmas``) or
+            restarts (``2opt``).
+        iterations: steps per run: kicks (``lk``), generations (``acs``, ``mmas``), batches of
+            moves at one temperature (``anneal``); with such a budget the result does not
+            depend on timing.
+        stall_limit: end a run after this many steps in a row without a shorter tour.
+        params: the method's parameters as ``{"key": value}`` (the command's
+            ``--params KEY=VALUE``; :func:`methods` names the methods, ``wend solve
+            --list-methods`` their keys).
+        target: stop as soon as a tour of at most this length is found.
+        neighbour_count: width of the neighbour lists the moves look at (default 10).
+        neighbour_lists: where they come from: ``quadrant`` (default), ``nearest`` or
+            ``alpha``.
+        layout: the tour representation ``lk`` edits: ``auto`` (default), ``array`` or
+            ``two-level``; the tour is the same, only the speed differs.
+        bound: also compute a lower bound (``lower_bound``, ``proven_gap_percent``):
+            Held–Karp for symmetric costs, the assignment bound for asymmetric ones.
+        bound_time: seconds for the lower bound's ascent (default 10).
+        exact: prove the tour optimal instead (the dynamic programme for small instances, else
+            branch and bound; symmetric costs for the latter); with ``time_limit``, the best
+            tour and bound when time runs out. Not with the search's options above.
+        exact_method: with ``exact``: ``dynamic-programme`` or ``branch-and-bound``.
         open: find an open path (no return to the first node) instead of a closed tour.
         start, end: fix the first and/or last node of the path (0-based); with the same node
             for both, a closed tour starting there.
-        lower_bound: also compute a lower bound (:attr:`TourResult.lower_bound`), for at most
-            ``bound_time`` seconds.
-        settings: method parameters by name, as ``{"key": value}``.
+        tour_out: also write the tour to this file in TSPLIB TOUR format, with the comment
+            ``wend VERSION METHOD seed SEED length LENGTH``.
 
-    Ctrl-C stops the search and returns the best tour so far (``stop_reason == "cancelled"``).
-    Raises ValueError for bad input, with the core's message.
+    Keywords of earlier releases still work for one release, with a DeprecationWarning:
+    ``lower_bound`` (now ``bound``), ``settings`` (now ``params``), ``restarts`` (now
+    ``runs``).
+
+    Returns a :class:`TourResult`. Ctrl-C stops the search and returns the best tour so far
+    (``stop_reason == "cancelled"``). Raises ValueError for bad input, with the core's message
+    naming the option; TypeError for an unknown keyword.
 """
 
 
-def solve_points(
-    points: Any,
-    distance: str = "EUC_2D",
-    *,
-    method: str = "lk",
-    time_limit: Optional[float] = None,
-    seed: int = 0,
-    threads: Optional[int] = None,
-    iterations: Optional[int] = None,
-    restarts: Optional[int] = None,
-    open: bool = False,
-    start: Optional[int] = None,
-    end: Optional[int] = None,
-    lower_bound: bool = False,
-    bound_time: float = 10.0,
-    settings: Optional[Mapping[str, Any]] = None,
-) -> TourResult:
+def _with_options(*leading: _inspect.Parameter) -> _t.Callable[[_t.Any], _t.Any]:
+    """Gives a solve function the signature of its leading parameters and the options, and
+    the options' documentation."""
+
+    def dress(f: _t.Any) -> _t.Any:
+        options = [
+            _inspect.Parameter(name, _inspect.Parameter.KEYWORD_ONLY, default=d, annotation=a)
+            for name, d, a in _OPTIONS
+        ]
+        f.__signature__ = _inspect.Signature(
+            [*leading, *options], return_annotation="TourResult"
+        )
+        f.__doc__ = (f.__doc__ or "") + _SOLVE_DOC
+        return f
+
+    return dress
+
+
+def _positional(name: str, default: _t.Any = _inspect.Parameter.empty) -> _inspect.Parameter:
+    return _inspect.Parameter(name, _inspect.Parameter.POSITIONAL_OR_KEYWORD, default=default)
+
+
+@_with_options(_positional("points"), _positional("metric", "EUC_2D"))
+def solve_points(points: _t.Any, metric: str = "EUC_2D", **options: _t.Any) -> TourResult:
     """A short tour through points: an ``n x 2`` (or ``n x 3``) array of coordinates under a
-    TSPLIB distance (``EUC_2D`` by default; see :data:`DISTANCES`), with TSPLIB's rounding to
-    integer costs.
+    TSPLIB distance ``metric`` (``EUC_2D`` by default; see :data:`DISTANCES`), with TSPLIB's
+    rounding to integer costs. ``distance=`` is the deprecated name of ``metric``.
     """
+    if "distance" in options:
+        _renamed("solve_points", "distance", "metric")
+        if "metric" in options or metric != "EUC_2D":
+            raise TypeError("solve_points() got both distance= and metric=")
+        metric = options.pop("distance")
     a = _points_array(points)
-    if not isinstance(distance, str):
-        raise ValueError(f"distance must be a TSPLIB distance name, got {distance!r}")
-    opts = _options(method, time_limit, seed, threads, iterations, restarts, open, start, end,
-                    lower_bound, bound_time, settings)
-    return _result(_native.solve_points(a, distance, opts))
+    if not isinstance(metric, str):
+        raise ValueError(f"metric must be a TSPLIB distance name, got {metric!r}")
+    return _result(_native.solve_points(a, metric, _options_json("solve_points", options)))
 
 
-def solve_matrix(
-    matrix: Any,
-    *,
-    method: str = "lk",
-    time_limit: Optional[float] = None,
-    seed: int = 0,
-    threads: Optional[int] = None,
-    iterations: Optional[int] = None,
-    restarts: Optional[int] = None,
-    open: bool = False,
-    start: Optional[int] = None,
-    end: Optional[int] = None,
-    lower_bound: bool = False,
-    bound_time: float = 10.0,
-    settings: Optional[Mapping[str, Any]] = None,
-) -> TourResult:
+@_with_options(_positional("matrix"))
+def solve_matrix(matrix: _t.Any, **options: _t.Any) -> TourResult:
     """A short tour over a square cost matrix (``matrix[i, j]`` is the cost of going from ``i``
     to ``j``; symmetric or not). Entries must be integers (an integer array, or a float array
     of whole numbers).
     """
     a = _matrix_array(matrix)
-    opts = _options(method, time_limit, seed, threads, iterations, restarts, open, start, end,
-                    lower_bound, bound_time, settings)
-    return _result(_native.solve_matrix(a, opts))
+    return _result(_native.solve_matrix(a, _options_json("solve_matrix", options)))
 
 
-def solve_file(
-    path: PathLike,
-    *,
-    method: str = "lk",
-    time_limit: Optional[float] = None,
-    seed: int = 0,
-    threads: Optional[int] = None,
-    iterations: Optional[int] = None,
-    restarts: Optional[int] = None,
-    open: bool = False,
-    start: Optional[int] = None,
-    end: Optional[int] = None,
-    lower_bound: bool = False,
-    bound_time: float = 10.0,
-    settings: Optional[Mapping[str, Any]] = None,
-) -> TourResult:
+@_with_options(_positional("path"))
+def solve_file(path: PathLike, **options: _t.Any) -> TourResult:
     """A short tour through a TSPLIB problem file (TYPE TSP or ATSP). With the same options it
     finds the same tour as ``wend solve`` (node numbers here are 0-based: ``start=0`` is the
     command's ``--start 1``).
     """
-    opts = _options(method, time_limit, seed, threads, iterations, restarts, open, start, end,
-                    lower_bound, bound_time, settings)
-    return _result(_native.solve_file(os.fspath(path), opts))
-
-
-for _f in (solve_points, solve_matrix, solve_file):
-    _f.__doc__ = (_f.__doc__ or "") + _SOLVE_DOC
+    return _result(_native.solve_file(_os.fspath(path), _options_json("solve_file", options)))
 
 
 def read_tsplib(path: PathLike) -> Problem:
     """Reads a TSPLIB problem file (TYPE TSP or ATSP). Raises ValueError naming the file and
     line for a malformed file, OSError when it cannot be read."""
-    d = _native.read_tsplib(os.fspath(path))
+    d = _native.read_tsplib(_os.fspath(path))
     return Problem(**d)
 
 
 def write_tsplib(
     path: PathLike,
     *,
-    points: Any = None,
+    points: _t.Any = None,
     distance: str = "EUC_2D",
-    matrix: Any = None,
-    name: Optional[str] = None,
-    comments: Sequence[str] = (),
+    matrix: _t.Any = None,
+    name: _t.Optional[str] = None,
+    comments: _t.Sequence[str] = (),
 ) -> None:
     """Writes a TSPLIB problem file from either ``points`` under ``distance`` (TYPE TSP) or a
     square integer ``matrix`` (TYPE TSP when symmetric, else ATSP, as a FULL_MATRIX).
     Coordinates are written exactly: reading the file back gives the same points and costs.
     ``name`` defaults to the file name without its extension.
     """
-    p = os.fspath(path)
+    p = _os.fspath(path)
     if name is None:
-        name = os.path.splitext(os.path.basename(p))[0] or "problem"
+        name = _os.path.splitext(_os.path.basename(p))[0] or "problem"
     comments = [str(c) for c in comments]
     if (points is None) == (matrix is None):
         raise ValueError("give either points or matrix")
@@ -456,47 +572,47 @@ def write_tsplib(
 
 def read_tour(path: PathLike) -> TourData:
     """Reads a TSPLIB TOUR file; the order comes back 0-based."""
-    return TourData(**_native.read_tour(os.fspath(path)))
+    return TourData(**_native.read_tour(_os.fspath(path)))
 
 
 def write_tour(
-    path: PathLike, order: Any, *, name: Optional[str] = None, comment: str = ""
+    path: PathLike, order: _t.Any, *, name: _t.Optional[str] = None, comment: str = ""
 ) -> None:
     """Writes a 0-based order (a permutation of ``0..n``) as a TSPLIB TOUR file."""
-    p = os.fspath(path)
-    a = np.asarray(order)
-    if a.ndim != 1 or not (np.issubdtype(a.dtype, np.integer)) or a.dtype == np.bool_:
+    p = _os.fspath(path)
+    a = _np.asarray(order)
+    if a.ndim != 1 or not (_np.issubdtype(a.dtype, _np.integer)) or a.dtype == _np.bool_:
         raise ValueError(f"order must be a 1-d array of integers, got shape {a.shape}, "
                          f"dtype {a.dtype}")
     if name is None:
-        name = os.path.splitext(os.path.basename(p))[0] + ".tour"
+        name = _os.path.splitext(_os.path.basename(p))[0] + ".tour"
     _native.write_tour(p, [int(v) for v in a], name, str(comment))
 
 
 _TARGET_COLUMNS = ("id", "ra_deg", "dec_deg", "duration_s", "instrument")
 
 
-def _cell(v: Any) -> str:
+def _cell(v: _t.Any) -> str:
     if v is None:
         return ""
-    if isinstance(v, (float, np.floating)):
+    if isinstance(v, (float, _np.floating)):
         f = float(v)
-        if math.isnan(f):
+        if _math.isnan(f):
             return "nan"
         return repr(f)
-    if isinstance(v, (np.integer,)):
+    if isinstance(v, (_np.integer,)):
         return str(int(v))
     return str(v)
 
 
-def _targets_csv(targets: Any) -> str:
+def _targets_csv(targets: _t.Any) -> str:
     """The targets table as the text of a targets CSV (the core checks every value)."""
     if hasattr(targets, "to_dict") and hasattr(targets, "columns"):
         columns = [str(c) for c in targets.columns]
         data = {str(c): list(targets[c]) for c in targets.columns}
-    elif isinstance(targets, Mapping):
+    elif isinstance(targets, _t.Mapping):
         columns = [str(c) for c in targets.keys()]
-        data = {str(c): list(np.asarray(v, dtype=object).ravel()) for c, v in targets.items()}
+        data = {str(c): list(_np.asarray(v, dtype=object).ravel()) for c, v in targets.items()}
     else:
         raise ValueError(
             "targets must be a pandas DataFrame or a dict of arrays with the columns "
@@ -507,7 +623,7 @@ def _targets_csv(targets: Any) -> str:
         raise ValueError(f"the target columns have different lengths: {sorted(lengths)}")
     import csv
 
-    out = io.StringIO()
+    out = _io.StringIO()
     w = csv.writer(out, lineterminator="\n")
     w.writerow(columns)
     n = lengths.pop() if lengths else 0
@@ -518,7 +634,7 @@ def _targets_csv(targets: Any) -> str:
             v = data[c][i]
             # An empty cell of a text column (NaN or None in pandas) stays empty: for the
             # instrument, the profile's first.
-            if c in text_columns and (v is None or (isinstance(v, float) and math.isnan(v))):
+            if c in text_columns and (v is None or (isinstance(v, float) and _math.isnan(v))):
                 row.append("")
             else:
                 row.append(_cell(v))
