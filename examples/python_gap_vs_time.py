@@ -48,7 +48,7 @@ for name in NAMES:
             runs.append((name, method, seed, r.trace[:, 0], gap, r))
             print(f"{name:8} {method:5} seed {seed}: length {r.length} "
                   f"({100.0 * (r.length - optima[name]) / optima[name]:.2f} % above the optimum), "
-                  f"{len(r.trace)} improvements, {r.seconds:.2f} s, {r.stop_reason}")
+                  f"{len(r.trace)} improvements, {r.runs} run(s), {r.seconds:.2f} s, {r.stop_reason}")
 
 # %% Plot: one panel per instance, gap (log scale) against time, one line per run.
 fig, axes = plt.subplots(1, len(NAMES), figsize=(4 * len(NAMES), 3.6), sharey=True)

@@ -2,9 +2,9 @@
 
     python python/scripts/bench_vs_cli.py INSTANCE.tsp --iterations K [--repeats 5]
 
-Runs `wend solve INSTANCE --seed 0 --threads 2 --iterations K --restarts 2 --tour-out F`
+Runs `wend solve INSTANCE --seed 0 --threads 2 --iterations K --runs 2 --tour-out F`
 (with `--json` when asked) and
-`wend.solve_file(INSTANCE, seed=0, threads=2, iterations=K, restarts=2)` alternately, checks
+`wend.solve_file(INSTANCE, seed=0, threads=2, iterations=K, runs=2)` alternately, checks
 that every run gives the same tour, and prints the median wall times and their ratio. The
 command's time is the whole process (reading the file included); the Python time is the call
 (reading the file included), in an interpreter that has already imported wend.
@@ -40,7 +40,7 @@ def main() -> int:
                     help="run the command with --json (no progress lines on stderr)")
     a = ap.parse_args()
     common = ["--seed", "0", "--threads", str(a.threads), "--iterations", str(a.iterations),
-              "--restarts", "2"] + (["--json"] if a.json else [])
+              "--runs", "2"] + (["--json"] if a.json else [])
     cli_times, py_times = [], []
     reference = None
     with tempfile.TemporaryDirectory() as tmp:
@@ -54,7 +54,7 @@ def main() -> int:
 
             t0 = time.perf_counter()
             r = wend.solve_file(a.instance, seed=0, threads=a.threads,
-                                iterations=a.iterations, restarts=2)
+                                iterations=a.iterations, runs=2)
             py_times.append(time.perf_counter() - t0)
             py_tour = r.order.tolist()
 
