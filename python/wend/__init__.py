@@ -497,11 +497,15 @@ def _with_options(*leading: _inspect.Parameter) -> _t.Callable[[_t.Any], _t.Any]
     return dress
 
 
-def _positional(name: str, default: _t.Any = _inspect.Parameter.empty) -> _inspect.Parameter:
-    return _inspect.Parameter(name, _inspect.Parameter.POSITIONAL_OR_KEYWORD, default=default)
+def _positional(
+    name: str, annotation: str, default: _t.Any = _inspect.Parameter.empty
+) -> _inspect.Parameter:
+    return _inspect.Parameter(
+        name, _inspect.Parameter.POSITIONAL_OR_KEYWORD, default=default, annotation=annotation
+    )
 
 
-@_with_options(_positional("points"), _positional("metric", "EUC_2D"))
+@_with_options(_positional("points", "Any"), _positional("metric", "str", "EUC_2D"))
 def solve_points(points: _t.Any, metric: str = "EUC_2D", **options: _t.Any) -> TourResult:
     """A short tour through points: an ``n x 2`` (or ``n x 3``) array of coordinates under a
     TSPLIB distance ``metric`` (``EUC_2D`` by default; see :data:`DISTANCES`), with TSPLIB's
@@ -518,7 +522,7 @@ def solve_points(points: _t.Any, metric: str = "EUC_2D", **options: _t.Any) -> T
     return _result(_native.solve_points(a, metric, _options_json("solve_points", options)))
 
 
-@_with_options(_positional("matrix"))
+@_with_options(_positional("matrix", "Any"))
 def solve_matrix(matrix: _t.Any, **options: _t.Any) -> TourResult:
     """A short tour over a square cost matrix (``matrix[i, j]`` is the cost of going from ``i``
     to ``j``; symmetric or not). Entries must be integers (an integer array, or a float array
@@ -528,7 +532,7 @@ def solve_matrix(matrix: _t.Any, **options: _t.Any) -> TourResult:
     return _result(_native.solve_matrix(a, _options_json("solve_matrix", options)))
 
 
-@_with_options(_positional("path"))
+@_with_options(_positional("path", "PathLike"))
 def solve_file(path: PathLike, **options: _t.Any) -> TourResult:
     """A short tour through a TSPLIB problem file (TYPE TSP or ATSP). With the same options it
     finds the same tour as ``wend solve`` (node numbers here are 0-based: ``start=0`` is the
