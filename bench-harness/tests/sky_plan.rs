@@ -411,7 +411,7 @@ fn demo_plans_keep_every_observation_inside_the_elongation_band() {
     check_reference();
     let targets = read_targets(&demo_targets_path());
     let band = demo_band();
-    assert_eq!(band, (80.0, 140.0), "the demo band (demo profile)");
+    assert_eq!(band, (97.0, 153.0), "the demo band (demo profile)");
     let root = tempfile::tempdir().unwrap();
     for seed in ["0", "1", "2"] {
         let dir = root.path().join(format!("seed{seed}"));

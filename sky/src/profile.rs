@@ -57,7 +57,7 @@ use super::targets::{escape_controls, shown};
 
 /// The longest time any one step of a plan may take, seconds (about 32 years, far beyond the
 /// longest horizon of ten years): settling, a setup change, a momentum dump, the thermal
-/// settling after the largest change of solar pitch (180°) and the slowest slew (180°) must
+/// settling after the largest change of solar elongation (180°) and the slowest slew (180°) must
 /// each fit in it. Longer values can only be typing errors, and would make transition costs
 /// overflow the planner's integer milliseconds (common practice: refuse what no plan can use).
 pub const MAX_STEP_S: f64 = 1.0e9;
@@ -573,9 +573,9 @@ slew_rate_deg_s = 0.2
 slew_accel_deg_s2 = 0.004
 thermal_warm_s_per_deg = 9
 thermal_cool_s_per_deg = 3.5
-elongation_min_deg = 85
-elongation_max_deg = 135.5
-shield_area_m2 = 120
+elongation_min_deg = 97
+elongation_max_deg = 153.5
+shield_area_m2 = 66
 shield_normal = [0, 3, 4]
 specular_reflectivity = 0.6
 diffuse_reflectivity = 0.25
@@ -675,9 +675,9 @@ time_s = 20
                     },
                 ],
                 setup_s: vec![vec![0.0, 100.0], vec![20.0, 0.0]],
-                elongation_min_deg: 85.0,
-                elongation_max_deg: 135.5,
-                shield_area_m2: 120.0,
+                elongation_min_deg: 97.0,
+                elongation_max_deg: 153.5,
+                shield_area_m2: 66.0,
                 shield_normal: [0.0, 0.6, 0.8],
                 specular_reflectivity: 0.6,
                 diffuse_reflectivity: 0.25,
@@ -895,12 +895,12 @@ time_s = 20
             "{shown}"
         );
         let shown = error_at(
-            &with("elongation_max_deg", "elongation_max_deg = 85"),
+            &with("elongation_max_deg", "elongation_max_deg = 97"),
             "elongation_max_deg",
             8,
         );
         assert!(
-            shown.contains("must be greater than elongation_min_deg (85), found 85"),
+            shown.contains("must be greater than elongation_min_deg (97), found 97"),
             "{shown}"
         );
     }
