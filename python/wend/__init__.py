@@ -551,7 +551,7 @@ def plan_sky(
     profile: Optional[PathLike] = None,
     front: bool = False,
 ) -> SkyPlan:
-    """Plans an observing sequence for a sunshield observatory, as ``wend sky plan`` does.
+    """Plans observations for a sun-shaded observatory far from Earth, as ``wend sky plan`` does.
 
     **Caution:** plans are planning proposals to be confirmed by the operations team's
     validated tools. Spacecraft operations can damage hardware.

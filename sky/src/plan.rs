@@ -4,7 +4,7 @@
 //! every plan says how much the search saved.
 //!
 //! The order is searched on the cost matrix of the Sun at the plan start (the costs change
-//! slowly with the Sun, about a degree of solar pitch a day); the simulation then uses the
+//! slowly with the Sun, about a degree of solar elongation a day); the simulation then uses the
 //! Sun of each moment.
 //!
 //! **Caution.** A planning aid: plans are proposals to be confirmed by the operations team's

@@ -9,25 +9,25 @@
 //! anywhere. Integers are accepted where a number is expected. `instances/sky/demo-profile.toml`
 //! is a commented example.
 //!
-//! | key                      | unit / range                                              |
-//! |--------------------------|-----------------------------------------------------------|
-//! | `name`                   | text, not empty                                           |
-//! | `slew_rate_deg_s`        | degrees per second, > 0 (rate limit ω)                    |
-//! | `slew_accel_deg_s2`      | degrees per second squared, > 0 (acceleration limit a)    |
-//! | `thermal_warm_s_per_deg` | seconds per degree of solar pitch gained, ≥ 0 (k_warm)    |
-//! | `thermal_cool_s_per_deg` | seconds per degree of solar pitch lost, ≥ 0 (k_cool)      |
-//! | `elongation_min_deg`     | degrees, 0 ≤ min < max                                    |
-//! | `elongation_max_deg`     | degrees, min < max ≤ 180                                  |
-//! | `shield_area_m2`         | square metres, > 0 (S)                                    |
-//! | `shield_normal`          | body-frame vector `[x, y, z]`, non-zero; scaled to unit length |
-//! | `specular_reflectivity`  | 0 to 1 (ρs)                                               |
-//! | `diffuse_reflectivity`   | 0 to 1 (ρd), with ρs + ρd ≤ 1                             |
-//! | `pressure_offset_m`      | body-frame vector `[x, y, z]`, metres (r_cp)              |
-//! | `wheel_limit_nms`        | newton metre seconds, > 0 (H_max)                         |
-//! | `wheel_margin`           | share of the wheel limit planning may use, in (0, 1]      |
-//! | `thruster_arm_m`         | metres, > 0 (L)                                           |
-//! | `thruster_isp_s`         | seconds, > 0 (Isp)                                        |
-//! | `dump_s`                 | seconds one momentum dump takes, ≥ 0                      |
+//! | key                      | unit / range                                                              |
+//! |--------------------------|---------------------------------------------------------------------------|
+//! | `name`                   | text, not empty                                                           |
+//! | `slew_rate_deg_s`        | degrees per second, > 0 (rate limit ω)                                    |
+//! | `slew_accel_deg_s2`      | degrees per second squared, > 0 (acceleration limit a)                    |
+//! | `thermal_warm_s_per_deg` | seconds per degree of elongation lost (toward the Sun), ≥ 0 (k_warm)      |
+//! | `thermal_cool_s_per_deg` | seconds per degree of elongation gained (away from the Sun), ≥ 0 (k_cool) |
+//! | `elongation_min_deg`     | degrees, 0 ≤ min < max                                                    |
+//! | `elongation_max_deg`     | degrees, min < max ≤ 180                                                  |
+//! | `shield_area_m2`         | square metres, > 0 (S)                                                    |
+//! | `shield_normal`          | body-frame vector `[x, y, z]`, non-zero; scaled to unit length            |
+//! | `specular_reflectivity`  | 0 to 1 (ρs)                                                               |
+//! | `diffuse_reflectivity`   | 0 to 1 (ρd), with ρs + ρd ≤ 1                                             |
+//! | `pressure_offset_m`      | body-frame vector `[x, y, z]`, metres (r_cp)                              |
+//! | `wheel_limit_nms`        | newton metre seconds, > 0 (H_max)                                         |
+//! | `wheel_margin`           | share of the wheel limit planning may use, in (0, 1]                      |
+//! | `thruster_arm_m`         | metres, > 0 (L)                                                           |
+//! | `thruster_isp_s`         | seconds, > 0 (Isp)                                                        |
+//! | `dump_s`                 | seconds one momentum dump takes, ≥ 0                                      |
 //!
 //! Instruments, at least one, in `[[instrument]]` tables (the first is the default for targets
 //! that name none): `name` (unique, not empty, no leading or trailing spaces) and `settle_s`

@@ -1,4 +1,4 @@
-//! `wend sky`: observing plans for a sunshield observatory.
+//! `wend sky`: observing plans for a sun-shaded observatory far from Earth.
 //!
 //! **Caution.** Plans are planning proposals to be confirmed by the operations team's
 //! validated tools.
