@@ -323,11 +323,11 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
             );
         }
         println!(
-            "  hypervolume {:.1} h·g {} (the {} reported plans); every plan found {:.1} h·g; \
+            "  hypervolume of the {} reported plans {:.1} h·g {}; every plan found {:.1} h·g; \
              weighted runs alone {:.1} h·g",
+            front.plans.len(),
             hour_grams(front.hypervolume),
             reference_text(front.reference),
-            front.plans.len(),
             hour_grams(front.archive_hypervolume),
             hour_grams(front.scalarised_hypervolume)
         );
