@@ -803,9 +803,17 @@ fn every_output_file_carries_the_caution() {
 fn same_seed_and_one_thread_give_the_same_plan_files() {
     let root = tempfile::tempdir().unwrap();
     let (a, b) = (root.path().join("a"), root.path().join("b"));
-    // Default time limit: the demo's search ends on its iteration count well before it.
-    run_demo(&a, &["--seed", "7", "--threads", "1"]);
-    run_demo(&b, &["--seed", "7", "--threads", "1"]);
+    // The time limit is shared among the whole-horizon path and the searches of each day, so
+    // the default (2 s) leaves a day's search as little as 0.05 s, which a loaded machine can
+    // cut. With 60 s every search ends on its kick budget, and the plan says so.
+    let args = ["--seed", "7", "--threads", "1", "--time-limit", "60"];
+    for dir in [&a, &b] {
+        run_demo(dir, &args);
+        let summary: serde_json::Value =
+            serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap())
+                .unwrap();
+        assert_eq!(summary["stop_reason"], "searches_done", "{summary}");
+    }
     for name in ["plan.csv", "unscheduled.csv"] {
         let (x, y) = (
             std::fs::read(a.join(name)).unwrap(),

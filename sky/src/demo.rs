@@ -9,7 +9,10 @@
 //! `instances/sky/demo-targets.csv`, written by `instances/sky/make_demo_targets.py` (fixed
 //! seed): ids `LDS-001` to `LDS-072`, dwells of 13 min to 2 h, about three quarters of the
 //! targets inside the 97°–153° elongation band on 2027-03-01 (the plan start the script
-//! assumes) and the rest spread over the sky.
+//! assumes) and the rest spread over the sky. The band and the shield area (64 m²) are
+//! invented for the demo and match no flown or planned observatory: a sun-shaded telescope
+//! must keep its shield between the Sun and the optics, so the band starts a little beyond a
+//! quarter turn from the Sun and stops well short of the anti-Sun direction.
 
 use crate::{Profile, Target};
 
