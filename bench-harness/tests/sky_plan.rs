@@ -411,7 +411,7 @@ fn demo_plans_keep_every_observation_inside_the_elongation_band() {
     check_reference();
     let targets = read_targets(&demo_targets_path());
     let band = demo_band();
-    assert_eq!(band, (80.0, 140.0), "the demo band (demo profile)");
+    assert_eq!(band, (97.0, 153.0), "the demo band (demo profile)");
     let root = tempfile::tempdir().unwrap();
     for seed in ["0", "1", "2"] {
         let dir = root.path().join(format!("seed{seed}"));
@@ -531,7 +531,8 @@ fn demo_plan_accounting_adds_up() {
             "elongation_end_deg",
             "slew_deg",
             "slew_s",
-            "overhead_s",
+            "wait_before_s",
+            "busy_before_s",
             "momentum_nms",
             "dump"
         ]
@@ -560,11 +561,18 @@ fn demo_plan_accounting_adds_up() {
             (lasted - dwell).abs() <= 1.0,
             "{what}: {start} to {end} is {lasted} s, duration_s {dwell}"
         );
-        // Overhead is everything from the previous end (the plan start for the first row).
-        let overhead = num(row, "overhead_s");
+        // Waiting and busy time add up to everything from the previous end (the plan start
+        // for the first row): within 1 s for the whole-second times at both ends and 0.1 s
+        // for the two columns' rounding to 0.1 s.
+        let (wait, busy) = (num(row, "wait_before_s"), num(row, "busy_before_s"));
         assert!(
-            (overhead - gap).abs() <= 1.0,
-            "{what}: overhead_s {overhead}, but {gap} s from {prev_end} to {start}"
+            wait >= 0.0 && busy >= 0.0,
+            "{what}: wait {wait}, busy {busy}"
+        );
+        assert!(
+            (wait + busy - gap).abs() <= 1.1 + 1e-6,
+            "{what}: wait_before_s {wait} + busy_before_s {busy}, but {gap} s from {prev_end} \
+             to {start}"
         );
         // The slew time follows the model page's bang–coast–bang formula (section 5) with the
         // demo profile's rate and acceleration; slew_deg has 3 decimals, slew_s 1.
@@ -582,8 +590,8 @@ fn demo_plan_accounting_adds_up() {
             "{what}: slew_s {slew} for {phi}°, model {expect:.2}"
         );
         assert!(
-            overhead + 0.1 >= slew,
-            "{what}: overhead {overhead} < slew {slew}"
+            busy + 0.1 >= slew,
+            "{what}: busy_before_s {busy} < slew {slew}"
         );
         // The wheels stay under the planning threshold (demo profile: 20 × 0.8).
         let h = num(row, "momentum_nms");
@@ -641,7 +649,9 @@ fn json_summary_matches_the_files_and_the_propellant_formula() {
     for key in [
         "targets",
         "scheduled",
-        "overhead_s",
+        "elapsed_s",
+        "busy_overhead_s",
+        "wait_s",
         "propellant_kg",
         "dumps",
         "elongation_band_deg",
@@ -679,7 +689,9 @@ fn json_summary_matches_the_files_and_the_propellant_formula() {
         "targets",
         "dumps",
         "propellant_kg",
-        "overhead_s",
+        "elapsed_s",
+        "busy_overhead_s",
+        "wait_s",
     ] {
         assert_eq!(
             summary[key], v[key],
@@ -687,14 +699,36 @@ fn json_summary_matches_the_files_and_the_propellant_formula() {
         );
     }
 
-    // overhead_s is the sum of the rows' overheads (each rounded to 0.1 s in plan.csv).
-    let sum: f64 = plan.rows.iter().map(|r| num(r, "overhead_s")).sum();
+    // busy_overhead_s and wait_s are the sums of the rows' busy and waiting times (each
+    // rounded to 0.1 s in plan.csv).
     let n = plan.rows.len() as f64;
+    for (total, column) in [
+        ("busy_overhead_s", "busy_before_s"),
+        ("wait_s", "wait_before_s"),
+    ] {
+        let sum: f64 = plan.rows.iter().map(|r| num(r, column)).sum();
+        assert!(
+            (f(total) - sum).abs() <= 0.05 * n + 1e-6,
+            "{total} {} vs the sum of {column}, {sum}",
+            f(total)
+        );
+    }
+    // elapsed_s runs from the plan start to the last row's end (whole seconds in plan.csv).
+    let last_end = field(plan.rows.last().unwrap(), "end_utc");
+    let elapsed = seconds_between(DEMO_START, last_end);
     assert!(
-        (f("overhead_s") - sum).abs() <= 0.05 * n + 1e-6,
-        "overhead_s {} vs the rows' sum {sum}",
-        f("overhead_s")
+        (f("elapsed_s") - elapsed).abs() <= 1.0,
+        "elapsed_s {} vs {elapsed} s from {DEMO_START} to {last_end}",
+        f("elapsed_s")
     );
+    // The nearest-neighbour block uses the same names.
+    for key in ["elapsed_s", "busy_overhead_s", "wait_s"] {
+        assert!(
+            v["nearest_neighbour"][key].is_number(),
+            "nearest_neighbour.{key}"
+        );
+    }
+    assert!(v.get("overhead_s").is_none() && v["nearest_neighbour"].get("overhead_s").is_none());
 
     // Dumps: at least one per row marked with a dump, and each removes at most the planning
     // threshold (demo profile: 20 N·m·s × 0.8), since the wheels are dumped before passing it.
@@ -769,9 +803,17 @@ fn every_output_file_carries_the_caution() {
 fn same_seed_and_one_thread_give_the_same_plan_files() {
     let root = tempfile::tempdir().unwrap();
     let (a, b) = (root.path().join("a"), root.path().join("b"));
-    // Default time limit: the demo's search ends on its iteration count well before it.
-    run_demo(&a, &["--seed", "7", "--threads", "1"]);
-    run_demo(&b, &["--seed", "7", "--threads", "1"]);
+    // The time limit is shared among the whole-horizon path and the searches of each day, so
+    // the default (2 s) leaves a day's search as little as 0.05 s, which a loaded machine can
+    // cut. With 60 s every search ends on its kick budget, and the plan says so.
+    let args = ["--seed", "7", "--threads", "1", "--time-limit", "60"];
+    for dir in [&a, &b] {
+        run_demo(dir, &args);
+        let summary: serde_json::Value =
+            serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap())
+                .unwrap();
+        assert_eq!(summary["stop_reason"], "searches_done", "{summary}");
+    }
     for name in ["plan.csv", "unscheduled.csv"] {
         let (x, y) = (
             std::fs::read(a.join(name)).unwrap(),
@@ -880,14 +922,14 @@ fn every_front_plan_passes_the_band_check_and_the_front_is_non_dominated() {
     let j: serde_json::Value = serde_json::from_slice(&o.stdout).expect("one JSON object");
     let rows = j["front"].as_array().expect("front rows");
     assert!(rows.len() >= 2, "{} plans", rows.len());
-    assert!(j["hypervolume"].as_f64().unwrap() > 0.0);
+    assert!(j["hypervolume_h_g"].as_f64().unwrap() > 0.0);
     // front.csv holds the same rows; no plan dominates another (minimising both columns).
     let table = Table::read(&dir.join("front.csv"));
     assert_eq!(table.rows.len(), rows.len());
     let pts: Vec<(f64, f64)> = table
         .rows
         .iter()
-        .map(|r| (num(r, "overhead_s"), num(r, "propellant_kg")))
+        .map(|r| (num(r, "busy_overhead_s"), num(r, "propellant_kg")))
         .collect();
     for (i, a) in pts.iter().enumerate() {
         for (k, b) in pts.iter().enumerate() {
@@ -900,9 +942,9 @@ fn every_front_plan_passes_the_band_check_and_the_front_is_non_dominated() {
             );
         }
     }
-    // The fastest end is no slower than the single-objective plan (overhead without waiting,
-    // the front's time objective; front.csv rounds to 0.1 s).
-    let single = j["overhead_s"].as_f64().unwrap() - j["wait_s"].as_f64().unwrap();
+    // The fastest end is no slower than the single-objective plan (busy overhead, the
+    // front's time objective; front.csv rounds to 0.1 s).
+    let single = j["busy_overhead_s"].as_f64().unwrap();
     assert!(pts[0].0 <= single + 0.05, "{} > {single}", pts[0].0);
     // Every plan passes the same independent check as single plans, and schedules as many
     // observations as front.csv says.
@@ -917,4 +959,195 @@ fn every_front_plan_passes_the_band_check_and_the_front_is_non_dominated() {
     }
     let html = std::fs::read_to_string(dir.join("report.html")).unwrap();
     assert!(html.contains("operations team") && html.contains("front.svg"));
+}
+
+// ---------------------------------------------------------------------------------------------
+// 7. The keys of the outputs are those of docs/output-keys.md
+// ---------------------------------------------------------------------------------------------
+
+/// The rows of the table under `heading` in docs/output-keys.md: (key, present), where the key
+/// is the first cell without its backticks and present is "always" or "when ...".
+fn documented_keys(heading: &str) -> Vec<(String, String)> {
+    let path = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../docs/output-keys.md");
+    let text = std::fs::read_to_string(&path).unwrap();
+    let mut lines = text.lines().skip_while(|l| l.trim() != heading).skip(1);
+    let mut rows = Vec::new();
+    for line in lines.by_ref() {
+        let line = line.trim();
+        if line.starts_with("## ") {
+            break;
+        }
+        let cells: Vec<&str> = line.split('|').map(str::trim).collect();
+        // "| `key` | present | unit | meaning |" splits into 6 cells, the outer two empty.
+        if cells.len() < 6 || !cells[1].starts_with('`') {
+            continue;
+        }
+        let key = cells[1].trim_matches('`').to_string();
+        let present = cells[2].to_string();
+        assert!(
+            present == "always" || present.starts_with("when "),
+            "{heading}: {key}: present must be 'always' or 'when ...', not {present:?}"
+        );
+        rows.push((key, present));
+    }
+    assert!(
+        !rows.is_empty(),
+        "no table under {heading} in {}",
+        path.display()
+    );
+    rows
+}
+
+/// Checks that `seen` holds every key the table under `heading` marks "always" and no key
+/// the table lacks.
+fn check_keys(heading: &str, seen: &[String], what: &str) {
+    let rows = documented_keys(heading);
+    let table: HashSet<&str> = rows.iter().map(|(k, _)| k.as_str()).collect();
+    for key in seen {
+        assert!(
+            table.contains(key.as_str()),
+            "{what}: {key} is not in the table '{heading}' of docs/output-keys.md"
+        );
+    }
+    for (key, present) in &rows {
+        if present == "always" {
+            assert!(
+                seen.iter().any(|k| k == key),
+                "{what}: {key} is always present by docs/output-keys.md, but missing"
+            );
+        }
+    }
+}
+
+/// The keys of the JSON summary, with the keys of the objects `nearest_neighbour`,
+/// `hypervolume_reference` and `extremes` as `object.key` (the table lists them so).
+fn json_keys(v: &serde_json::Value) -> Vec<String> {
+    let obj = v.as_object().expect("a JSON object");
+    let mut keys = Vec::new();
+    for (k, value) in obj {
+        keys.push(k.clone());
+        if ["nearest_neighbour", "hypervolume_reference", "extremes"].contains(&k.as_str()) {
+            if let Some(inner) = value.as_object() {
+                keys.extend(inner.keys().map(|i| format!("{k}.{i}")));
+            }
+        }
+    }
+    keys
+}
+
+#[test]
+fn output_keys_and_columns_are_those_of_the_documented_tables() {
+    let root = tempfile::tempdir().unwrap();
+    // A single plan: no front keys.
+    let single = root.path().join("single");
+    let o = run_demo(&single, &["--json", "--time-limit", "1"]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let keys = json_keys(&v);
+    check_keys("## sky plan", &keys, "wend sky plan --json");
+    assert!(
+        !keys.iter().any(|k| k == "front"),
+        "front keys without --front"
+    );
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(single.join("summary.json")).unwrap())
+            .unwrap();
+    check_keys("## sky plan", &json_keys(&summary), "summary.json");
+    check_keys(
+        "## sky plan.csv",
+        &Table::read(&single.join("plan.csv")).header,
+        "plan.csv",
+    );
+
+    // The front: its keys as well, front.csv, plan-K.csv and the JSON front rows.
+    let front = root.path().join("front");
+    let o = run_demo(&front, &["--front", "--json", "--time-limit", "3"]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let keys = json_keys(&v);
+    check_keys("## sky plan", &keys, "wend sky plan --front --json");
+    for key in [
+        "front",
+        "hypervolume_h_g",
+        "hypervolume_reference.busy_overhead_h",
+    ] {
+        assert!(keys.iter().any(|k| k == key), "--front: no {key}");
+    }
+    let csv = Table::read(&front.join("front.csv"));
+    check_keys("## sky front.csv", &csv.header, "front.csv");
+    let rows = v["front"].as_array().unwrap();
+    assert_eq!(rows.len(), csv.rows.len());
+    for row in rows {
+        let row_keys: Vec<String> = row.as_object().unwrap().keys().cloned().collect();
+        check_keys("## sky front.csv", &row_keys, "a row of the JSON front");
+    }
+    for k in 1..=csv.rows.len() {
+        let name = format!("plan-{k}.csv");
+        check_keys(
+            "## sky plan.csv",
+            &Table::read(&front.join(&name)).header,
+            &name,
+        );
+    }
+}
+
+// ---------------------------------------------------------------------------------------------
+// 8. The caution once on the terminal; why the search stopped
+// ---------------------------------------------------------------------------------------------
+
+#[test]
+fn the_caution_is_printed_once_on_stdout_and_never_on_stderr() {
+    // The rule (README, sky section): the caution reaches the terminal once, on stdout (the
+    // first line of the text summary, or the `caution` key of the JSON); stderr carries
+    // progress only.
+    let o = wend(&["sky", "plan", "--time-limit", "1"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let out = String::from_utf8(o.stdout.clone()).unwrap();
+    assert_eq!(out.matches("CAUTION").count(), 1, "{out}");
+    assert!(out.starts_with("CAUTION: "), "{out}");
+    assert!(out.contains("operations team"));
+    assert!(!stderr(&o).contains("CAUTION"), "stderr: {}", stderr(&o));
+    assert!(!stderr(&o).contains("operations team"), "{}", stderr(&o));
+
+    let o = wend(&["sky", "plan", "--time-limit", "1", "--json"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert!(v["caution"].as_str().unwrap().contains("operations team"));
+    let out = String::from_utf8(o.stdout.clone()).unwrap();
+    assert_eq!(out.matches("operations team").count(), 1, "{out}");
+    assert!(!stderr(&o).contains("operations team"), "{}", stderr(&o));
+}
+
+#[test]
+fn a_search_says_why_it_stopped() {
+    // Far too little time for the demo's searches (the whole-horizon path gets two fifths of
+    // it): at least one is cut, and the plan says so.
+    let o = wend(&["sky", "plan", "--time-limit", "0.001", "--json"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["stop_reason"], "time_limit", "{v}");
+    // Ample time: the demo's searches end on their kick budgets long before it, and the plan
+    // says that more time would not change it.
+    let o = wend(&[
+        "sky",
+        "plan",
+        "--time-limit",
+        "60",
+        "--json",
+        "--threads",
+        "2",
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert!(v["seconds"].as_f64().unwrap() < 30.0, "{v}");
+    assert_eq!(v["stop_reason"], "searches_done", "{v}");
+    assert!(v["stop_explanation"]
+        .as_str()
+        .unwrap()
+        .contains("more time would not change"));
+    // The text summary gives the same reason in words.
+    let o = wend(&["sky", "plan", "--time-limit", "60", "--threads", "2"]);
+    let out = String::from_utf8(o.stdout).unwrap();
+    assert!(
+        out.contains("ended because every order search ended"),
+        "{out}"
+    );
 }

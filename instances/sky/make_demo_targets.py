@@ -4,8 +4,8 @@
 Deterministic (fixed seed, Python's Mersenne Twister), standard library only. Run from this
 folder:  python3 make_demo_targets.py > demo-targets.csv
 
-About three quarters of the targets are drawn inside the demo elongation band (85 to 135
-degrees from the Sun, a little inside 80-140 so that their dwells fit) as seen on the
+About three quarters of the targets are drawn inside the demo elongation band (102 to 148
+degrees from the Sun, a little inside 97-153 so that their dwells fit) as seen on the
 plan's start date, 2027-03-01; the rest are spread uniformly over the sky and many of them
 are outside the band. The Sun comes from the low-precision formula of the sky model page,
 referred to J2000 axes. Ids, positions, durations and instruments are all invented.
@@ -18,7 +18,7 @@ SEED = 20270301
 COUNT = 72
 PLAN_START_JD = 2461465.5  # 2027-03-01 00:00 TT
 IN_BAND_SHARE = 0.75
-BAND_DEG = (85.0, 135.0)
+BAND_DEG = (102.0, 148.0)
 INSTRUMENTS = [("wide_imager", 0.5), ("slit_spectrograph", 0.3), ("fast_photometer", 0.2)]
 
 

@@ -635,7 +635,8 @@ fn schedule_columns<'py>(
     d.set_item("elongation_end_deg", col(&|o| o.elongation_end_deg))?;
     d.set_item("slew_deg", col(&|o| o.slew_deg))?;
     d.set_item("slew_s", col(&|o| o.slew_s))?;
-    d.set_item("overhead_s", col(&|o| o.overhead_s))?;
+    d.set_item("wait_before_s", col(&|o| o.wait_s))?;
+    d.set_item("busy_before_s", col(&|o| o.overhead_s - o.wait_s))?;
     d.set_item("momentum_nms", col(&|o| o.momentum_nms))?;
     d.set_item(
         "dump",
@@ -680,41 +681,39 @@ fn front_dict<'py>(
     py: Python<'py>,
     targets: &[Target],
     front: &Front,
+    start: wend_sky::Epoch,
 ) -> PyResult<Bound<'py, PyDict>> {
     let d = PyDict::new(py);
     let rows = PyDict::new(py);
-    let p = &front.plans;
-    rows.set_item("plan", (1..=p.len()).collect::<Vec<usize>>())?;
-    rows.set_item(
-        "overhead_s",
-        p.iter().map(|x| x.overhead_s).collect::<Vec<_>>(),
-    )?;
-    rows.set_item(
-        "propellant_kg",
-        p.iter().map(|x| x.propellant_kg).collect::<Vec<_>>(),
-    )?;
-    rows.set_item(
-        "dumps",
-        p.iter().map(|x| x.schedule.dumps).collect::<Vec<_>>(),
-    )?;
-    rows.set_item(
-        "scheduled",
-        p.iter()
-            .map(|x| x.schedule.observations.len())
-            .collect::<Vec<_>>(),
-    )?;
-    rows.set_item(
-        "wait_s",
-        p.iter().map(|x| x.schedule.wait_s).collect::<Vec<_>>(),
-    )?;
+    let lines = wend_sky::output::front_lines(front, start);
+    let col = |f: &dyn Fn(&wend_sky::output::FrontLine) -> f64| -> Vec<f64> {
+        lines.iter().map(f).collect()
+    };
+    let count = |f: &dyn Fn(&wend_sky::output::FrontLine) -> usize| -> Vec<usize> {
+        lines.iter().map(f).collect()
+    };
+    rows.set_item("plan", count(&|r| r.plan))?;
+    rows.set_item("busy_overhead_s", col(&|r| r.busy_overhead_s))?;
+    rows.set_item("wait_s", col(&|r| r.wait_s))?;
+    rows.set_item("elapsed_s", col(&|r| r.elapsed_s))?;
+    rows.set_item("propellant_kg", col(&|r| r.propellant_kg))?;
+    rows.set_item("dumps", count(&|r| r.dumps))?;
+    rows.set_item("scheduled", count(&|r| r.scheduled))?;
     d.set_item("rows", rows)?;
     let plans = PyList::empty(py);
-    for x in p {
+    for x in &front.plans {
         plans.append(schedule_columns(py, targets, &x.schedule)?)?;
     }
     d.set_item("plans", plans)?;
     d.set_item("knee", front.knee.map(|k| k + 1))?;
-    d.set_item("hypervolume", front.hypervolume)?;
+    d.set_item(
+        "hypervolume_h_g",
+        wend_sky::output::hour_grams(front.hypervolume),
+    )?;
+    let reference = PyDict::new(py);
+    reference.set_item("busy_overhead_h", front.reference.0 / 3600.0)?;
+    reference.set_item("propellant_g", front.reference.1 * 1000.0)?;
+    d.set_item("hypervolume_reference", reference)?;
     Ok(d)
 }
 
@@ -808,7 +807,10 @@ fn plan_sky<'py>(
         })?
         .map_err(Fail::Input)?
     };
-    let summary = plan_json(&profile, &targets, &made, epoch, horizon_days);
+    let mut summary = plan_json(&profile, &targets, &made, epoch, horizon_days);
+    if let (Some(f), Some(obj)) = (&found, summary.as_object_mut()) {
+        obj.extend(wend_sky::output::front_json(f, epoch));
+    }
     let d = PyDict::new(py);
     d.set_item("caution", CAUTION)?;
     d.set_item("summary_json", summary.to_string())?;
@@ -818,7 +820,7 @@ fn plan_sky<'py>(
         unscheduled_columns(py, &targets, &made.schedule)?,
     )?;
     match &found {
-        Some(f) => d.set_item("front", front_dict(py, &targets, f)?)?,
+        Some(f) => d.set_item("front", front_dict(py, &targets, f, epoch)?)?,
         None => d.set_item("front", py.None())?,
     }
     d.set_item("cancelled", stop.is_stopped())?;

@@ -22,7 +22,8 @@ DECIMALS = {
     "elongation_end_deg": 4,
     "slew_deg": 3,
     "slew_s": 1,
-    "overhead_s": 1,
+    "wait_before_s": 1,
+    "busy_before_s": 1,
     "momentum_nms": 4,
 }
 
@@ -94,11 +95,11 @@ def test_empty_instrument_cells_mean_the_first_instrument(wend_cli, tmp_path):
 def test_front_is_non_dominated():
     p = wend.plan_sky(seed=0, threads=2, front=True, time_limit=4.0)
     f = p.front
-    assert list(f.columns) == ["plan", "overhead_s", "propellant_kg", "dumps", "scheduled",
-                               "wait_s"]
+    assert list(f.columns) == ["plan", "busy_overhead_s", "wait_s", "elapsed_s",
+                               "propellant_kg", "dumps", "scheduled"]
     assert f.attrs["caution"] == p.caution
     assert len(p.front_plans) == len(f) > 0
-    pts = f[["overhead_s", "propellant_kg"]].to_numpy()
+    pts = f[["busy_overhead_s", "propellant_kg"]].to_numpy()
     # No plan of a front is at least as good in both objectives and better in one than another.
     for i in range(len(pts)):
         for j in range(len(pts)):
@@ -106,6 +107,22 @@ def test_front_is_non_dominated():
                 assert not (np.all(pts[i] <= pts[j]) and np.any(pts[i] < pts[j]))
     for k, plan in enumerate(p.front_plans):
         assert len(plan) == f["scheduled"].iloc[k]
+    # The summary names the hypervolume's unit and reference point, as the command does.
+    assert p.summary["hypervolume_h_g"] > 0
+    assert set(p.summary["hypervolume_reference"]) == {"busy_overhead_h", "propellant_g"}
+    assert "hypervolume" not in p.summary
+
+
+def test_summary_time_words_match_the_plan_rows():
+    # Reference: the plan's own rows, which the summary's totals must add up to.
+    p = wend.plan_sky(seed=0, threads=2)
+    s = p.summary
+    assert "overhead_s" not in s
+    assert abs(s["busy_overhead_s"] - p.plan["busy_before_s"].sum()) < 1e-6
+    assert abs(s["wait_s"] - p.plan["wait_before_s"].sum()) < 1e-6
+    elapsed = (p.plan["end_utc"].iloc[-1] - pd.Timestamp(START)).total_seconds()
+    assert abs(s["elapsed_s"] - elapsed) <= 1.0
+    assert s["stop_reason"] in ("searches_done", "time_limit", "cancelled")
 
 
 def test_bad_targets_raise_value_error():

@@ -233,13 +233,16 @@ class SkyPlan:
     Attributes:
         plan: one row per observation in time order, the columns of ``plan.csv``:
             position, id, start_utc, end_utc, elongation_start_deg, elongation_end_deg,
-            slew_deg, slew_s, overhead_s, momentum_nms, dump.
+            slew_deg, slew_s, wait_before_s, busy_before_s, momentum_nms, dump.
         unscheduled: one row per target left out, the columns of ``unscheduled.csv``: id,
             reason, explanation, min_elongation_deg, max_elongation_deg.
-        summary: the JSON summary of ``wend sky plan --json`` as a dictionary.
-        front: with ``front=True``, one row per plan of the front of overhead against
-            propellant, the columns of ``front.csv`` (plan, overhead_s, propellant_kg, dumps,
-            scheduled, wait_s); else ``None``.
+        summary: the JSON summary of ``wend sky plan --json`` as a dictionary (``elapsed_s``:
+            until the last observation ends, waiting included; ``busy_overhead_s``: slews,
+            settles, thermal, setups and dumps, no waiting; ``wait_s``; with ``front=True``
+            also ``hypervolume_h_g`` and its ``hypervolume_reference``).
+        front: with ``front=True``, one row per plan of the front of busy overhead against
+            propellant, the columns of ``front.csv`` (plan, busy_overhead_s, wait_s,
+            elapsed_s, propellant_kg, dumps, scheduled); else ``None``.
         front_plans: with ``front=True``, each front plan's table (like ``plan``), in the
             order of ``front``; else an empty list.
         cancelled: ``True`` when Ctrl-C stopped the search (the plan is then made from the best
@@ -671,7 +674,7 @@ def plan_sky(
     profile: Optional[PathLike] = None,
     front: bool = False,
 ) -> SkyPlan:
-    """Plans an observing sequence for a sunshield observatory, as ``wend sky plan`` does.
+    """Plans observations for a sun-shaded observatory far from Earth, as ``wend sky plan`` does.
 
     **Caution:** plans are planning proposals to be confirmed by the operations team's
     validated tools. Spacecraft operations can damage hardware.
@@ -689,7 +692,8 @@ def plan_sky(
         seed: seed of the order search.
         threads: worker threads (default: one per core).
         profile: an observatory profile TOML file (default: the demo profile).
-        front: also search the front of plans over overhead time and propellant.
+        front: also search the front of plans over busy overhead (waiting excluded) and
+            propellant.
 
     Returns:
         a :class:`SkyPlan` whose DataFrames (``plan``, ``unscheduled``, ``front``) carry the

@@ -11,7 +11,7 @@ than 0.01 degrees, and times are rounded to whole seconds). Prints the worst mar
     python3 -m venv /tmp/astro && /tmp/astro/bin/pip install astropy
     wend sky plan --out /tmp/demo-plan
     /tmp/astro/bin/python sky/scripts/check_plan.py instances/sky/demo-targets.csv \
-        /tmp/demo-plan/plan.csv --band 80 140
+        /tmp/demo-plan/plan.csv --band 97 153
 
 Plans are planning proposals to be confirmed by the operations team's validated tools; this
 check is one of the planner's own tests, not a substitute for them.
@@ -40,7 +40,7 @@ def main():
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("targets")
     ap.add_argument("plan")
-    ap.add_argument("--band", nargs=2, type=float, default=[80.0, 140.0])
+    ap.add_argument("--band", nargs=2, type=float, default=[97.0, 153.0])
     ap.add_argument("--tolerance", type=float, default=0.02)
     args = ap.parse_args()
     lo, hi = args.band

@@ -8,8 +8,11 @@
 //! `instances/sky/demo-profile.toml` (every key commented with its unit) and
 //! `instances/sky/demo-targets.csv`, written by `instances/sky/make_demo_targets.py` (fixed
 //! seed): ids `LDS-001` to `LDS-072`, dwells of 13 min to 2 h, about three quarters of the
-//! targets inside the 80°–140° elongation band on 2027-03-01 (the plan start the script
-//! assumes) and the rest spread over the sky.
+//! targets inside the 97°–153° elongation band on 2027-03-01 (the plan start the script
+//! assumes) and the rest spread over the sky. The band and the shield area (64 m²) are
+//! invented for the demo and match no flown or planned observatory: a sun-shaded telescope
+//! must keep its shield between the Sun and the optics, so the band starts a little beyond a
+//! quarter turn from the Sun and stops well short of the anti-Sun direction.
 
 use crate::{Profile, Target};
 
@@ -62,8 +65,8 @@ mod tests {
     fn the_demo_profile_has_the_model_pages_demo_values() {
         let p = demo_profile();
         assert_eq!(p.name, "Lantern Deep-Sky Observatory");
-        assert_eq!((p.elongation_min_deg, p.elongation_max_deg), (80.0, 140.0));
-        assert_eq!(p.shield_area_m2, 150.0);
+        assert_eq!((p.elongation_min_deg, p.elongation_max_deg), (97.0, 153.0));
+        assert_eq!(p.shield_area_m2, 64.0);
         assert_eq!(p.pressure_offset_m, [0.0, 0.2, 1.5]);
         assert_eq!(p.shield_normal, [1.0, 0.0, 0.0]);
         assert_eq!(
@@ -136,8 +139,8 @@ mod tests {
             t[0],
             Target {
                 id: "LDS-001".to_string(),
-                ra_deg: 106.05,
-                dec_deg: -3.6175,
+                ra_deg: 118.5657,
+                dec_deg: -0.8963,
                 duration_s: 3120.0,
                 instrument: 2,
             }

@@ -1096,29 +1096,33 @@ mod tests {
 
     #[test]
     fn cells_are_forbidden_outside_the_band() {
-        let band = (80.0, 140.0);
+        let band = (97.0, 153.0);
         let grid = zone_grid(&[unit_vector(0.0, 0.0)], band);
-        // Beside the Sun: elongation about 2° < 80.
+        // Beside the Sun: elongation about 2° < 97.
         assert_eq!(zone_at(&grid, 1.0, 1.0), Zone::Always);
-        // A quarter turn away: about 91.5°, inside the band.
-        assert_eq!(zone_at(&grid, 90.5, 0.5), Zone::Allowed);
-        assert_eq!(zone_at(&grid, 270.5, 0.5), Zone::Allowed);
-        // Opposite the Sun: about 178.5° > 140.
+        // A third of a turn away: about 120°, inside the band.
+        assert_eq!(zone_at(&grid, 120.5, 0.5), Zone::Allowed);
+        assert_eq!(zone_at(&grid, 240.5, 0.5), Zone::Allowed);
+        // A quarter turn away: about 91.5° < 97.
+        assert_eq!(zone_at(&grid, 90.5, 0.5), Zone::Always);
+        // Opposite the Sun: about 178.5° > 153.
         assert_eq!(zone_at(&grid, 178.5, 0.5), Zone::Always);
-        // Near the pole: about 88.5° from the Sun.
-        assert_eq!(zone_at(&grid, 200.0, 89.0), Zone::Allowed);
+        // Near the pole: about 88.5° from the Sun, below the band.
+        assert_eq!(zone_at(&grid, 200.0, 89.0), Zone::Always);
 
         // The Sun moves from RA 0° to RA 90° on the equator.
         let suns = [unit_vector(0.0, 0.0), unit_vector(90.0, 0.0)];
         let grid = zone_grid(&suns, band);
         // 45° from both Suns: forbidden throughout.
         assert_eq!(zone_at(&grid, 45.5, 0.5), Zone::Always);
-        // 91.5° from the first, 1.5° from the second.
-        assert_eq!(zone_at(&grid, 90.5, 0.5), Zone::Sometimes);
-        // 178.5° from the first, 88.5° from the second.
-        assert_eq!(zone_at(&grid, 178.5, 0.5), Zone::Sometimes);
-        // Near the pole both are about 90° away.
-        assert_eq!(zone_at(&grid, 300.0, 89.0), Zone::Allowed);
+        // 159.5° from the first (beyond the band), 110.5° from the second (inside).
+        assert_eq!(zone_at(&grid, 200.5, 0.5), Zone::Sometimes);
+        // 120.5° from the first (inside), 30.5° from the second.
+        assert_eq!(zone_at(&grid, 120.5, 0.5), Zone::Sometimes);
+        // 178.5° from the first, 88.5° from the second: outside both times.
+        assert_eq!(zone_at(&grid, 178.5, 0.5), Zone::Always);
+        // About 135° from both: inside throughout.
+        assert_eq!(zone_at(&grid, 225.5, 0.5), Zone::Allowed);
     }
 
     #[test]
@@ -1182,7 +1186,7 @@ mod tests {
             scheduled,
             sequence,
             sun_path_deg: sun,
-            band_deg: (85.0, 135.0),
+            band_deg: (102.0, 148.0),
             caution,
         }
     }
@@ -1397,7 +1401,7 @@ mod tests {
             &path,
             "caution",
         );
-        for band in [(140.0, 80.0), (-1.0, 90.0), (80.0, 181.0), (f64::NAN, 90.0)] {
+        for band in [(153.0, 97.0), (-1.0, 90.0), (97.0, 181.0), (f64::NAN, 90.0)] {
             let mut m = sky_map("", &good, &sched, &[0], &sun, CAUTION);
             m.band_deg = band;
             refused(go(&m), &path, "band");

@@ -5,7 +5,7 @@
 //! where neither objective can improve without the other getting worse:
 //!
 //! - **objectives** (both minimised, both measured by the full simulation with real times and
-//!   dumps, [`Context::simulate`]): overhead without waiting, seconds (slews, settling,
+//!   dumps, [`Context::simulate`]): busy overhead (no waiting), seconds (slews, settling,
 //!   thermal, setups, dumps; waiting is set by when targets enter the band and is time the
 //!   plan leaves free, so it is reported but not traded), and propellant, kilograms;
 //! - **scalarised runs**: the planner of [`super::plan`] over a spread of weights of a pairwise
@@ -17,7 +17,9 @@
 //! - an **archive** that keeps only non-dominated plans that schedule at least as many
 //!   observations as the single-objective plan, duplicates removed.
 //!
-//! Reported with the exact two-dimensional hypervolume against a stated reference point, the
+//! Reported with the exact two-dimensional hypervolume against a stated reference point (1.1
+//! times the largest value of each objective on the front of the weighted runs, fixed when they
+//! end and used by every later report; the local search keeps only plans inside it), the
 //! two extreme plans and a knee plan (largest distance to the line joining the extremes, in
 //! objectives normalised by the extremes).
 //!
@@ -35,7 +37,7 @@ use super::schedule::{Context, PlanError, Schedule};
 use super::slew::cost_matrix_ms;
 use super::{Profile, Target};
 
-/// Objective values `(overhead without waiting in seconds, propellant in kilograms)`.
+/// Objective values `(busy overhead without waiting in seconds, propellant in kilograms)`.
 pub type Point = (f64, f64);
 
 /// True when `a` dominates `b`: no worse in both objectives and better in one (minimising).
@@ -100,7 +102,7 @@ pub struct FrontPlan {
     /// The plan played out.
     pub schedule: Schedule,
     /// Overhead without waiting, seconds (time objective).
-    pub overhead_s: f64,
+    pub busy_overhead_s: f64,
     /// Propellant, kilograms (propellant objective).
     pub propellant_kg: f64,
 }
@@ -109,7 +111,7 @@ impl FrontPlan {
     fn new(schedule: Schedule) -> FrontPlan {
         FrontPlan {
             order: schedule.observations.iter().map(|o| o.target).collect(),
-            overhead_s: schedule.overhead_s - schedule.wait_s,
+            busy_overhead_s: schedule.overhead_s - schedule.wait_s,
             propellant_kg: schedule.propellant_kg,
             schedule,
         }
@@ -117,7 +119,7 @@ impl FrontPlan {
 
     /// The plan's objective values.
     pub fn point(&self) -> Point {
-        (self.overhead_s, self.propellant_kg)
+        (self.busy_overhead_s, self.propellant_kg)
     }
 }
 
@@ -183,7 +185,7 @@ impl Archive {
     /// The plans sorted by the time objective (so by propellant, descending).
     pub fn sorted(&self) -> Vec<FrontPlan> {
         let mut v = self.plans.clone();
-        v.sort_by(|a, b| a.overhead_s.total_cmp(&b.overhead_s));
+        v.sort_by(|a, b| a.busy_overhead_s.total_cmp(&b.busy_overhead_s));
         v
     }
 }
@@ -227,8 +229,12 @@ pub const SNAPSHOT_EVERY: usize = 8;
 pub struct FrontProgress {
     /// Plans on the front.
     pub plans: usize,
-    /// Its hypervolume against the reference of the scalarised runs, s·kg.
-    pub hypervolume: f64,
+    /// Its hypervolume against [`FrontProgress::reference`], s·kg; `None` while the
+    /// scalarised runs, which fix the reference, are still going.
+    pub hypervolume: Option<f64>,
+    /// The reference point of the hypervolume, the same as [`Front::reference`] (`None`
+    /// before it is fixed).
+    pub reference: Option<Point>,
     /// Plans played out so far.
     pub evaluations: usize,
     /// Seconds since the start.
@@ -253,7 +259,10 @@ pub struct Front {
     pub scalarised_hypervolume: f64,
     /// Plans on the front of the scalarised runs alone.
     pub scalarised_plans: usize,
-    /// The reference point: 1.1 times the largest value of each objective over both fronts.
+    /// The reference point: 1.1 times the largest value of each objective over the front of
+    /// the scalarised runs, fixed when they end, so that the progress reports of the Pareto
+    /// local search and the final figures are measured against the same point. The local
+    /// search keeps only plans strictly better than it in both objectives.
     pub reference: Point,
     /// Objective values of every feasible plan evaluated that is not on the front (capped
     /// at [`MAX_DOMINATED_KEPT`], evenly thinned), for pictures.
@@ -375,6 +384,9 @@ struct Found {
     evaluations: usize,
     /// Plans that schedule fewer observations are left out.
     min_scheduled: usize,
+    /// Once set (the reference point), plans not strictly better than it in both objectives
+    /// are left out: they would add nothing to the hypervolume.
+    bounds: Option<Point>,
 }
 
 impl Found {
@@ -386,6 +398,9 @@ impl Found {
         }
         let fp = FrontPlan::new(s);
         let p = fp.point();
+        if self.bounds.is_some_and(|r| !(p.0 < r.0 && p.1 < r.1)) {
+            return;
+        }
         if !self.archive.insert(fp) {
             self.dominated.push(p);
         }
@@ -485,6 +500,7 @@ pub fn search_front(
         dominated: Vec::new(),
         evaluations: 0,
         min_scheduled,
+        bounds: None,
     };
     for s in single.alternatives.iter().cloned() {
         found.evaluated(s);
@@ -493,9 +509,10 @@ pub fn search_front(
     // largest weight makes the surrogate several times the time term.
     let scale = surrogate_scale(&ctx, &candidates, options);
     let mut last_report = Instant::now();
-    let report = |found: &Found, reference: Point| FrontProgress {
+    let report = |found: &Found, reference: Option<Point>| FrontProgress {
         plans: found.archive.plans().len(),
-        hypervolume: hypervolume(&found.archive.points(), reference),
+        hypervolume: reference.map(|r| hypervolume(&found.archive.points(), r)),
+        reference,
         evaluations: found.evaluations,
         seconds: began.elapsed().as_secs_f64(),
     };
@@ -512,12 +529,13 @@ pub fn search_front(
             found.evaluated(s);
         }
         if last_report.elapsed() >= Duration::from_secs(1) {
-            progress(report(&found, nadir(&found.archive.points())));
+            progress(report(&found, None));
             last_report = Instant::now();
         }
     }
     let scalarised = found.archive.points();
-    let scalarised_reference = nadir(&scalarised);
+    let reference = nadir(&scalarised);
+    found.bounds = Some(reference);
     let mut local = LocalSearch {
         ctx: &ctx,
         found,
@@ -531,7 +549,7 @@ pub fn search_front(
         ..StepLimits::new(options.plan.seed)
     };
     run_steps(&limits, &mut local, &mut |l| {
-        progress(report(&l.found, scalarised_reference));
+        progress(report(&l.found, Some(reference)));
     });
     if let Some(e) = local.failure {
         return Err(e.into());
@@ -544,8 +562,6 @@ pub fn search_front(
     } = local.found;
     let all = archive.sorted();
     let all_points: Vec<Point> = all.iter().map(FrontPlan::point).collect();
-    let both: Vec<Point> = all_points.iter().chain(&scalarised).copied().collect();
-    let reference = nadir(&both);
     let archive_plans = all.len();
     let plans = spread(all, MAX_FRONT_PLANS);
     let points: Vec<Point> = plans.iter().map(FrontPlan::point).collect();
@@ -704,7 +720,7 @@ mod tests {
                 momentum_trace: Vec::new(),
                 dump_times_s: Vec::new(),
             },
-            overhead_s: point.0,
+            busy_overhead_s: point.0,
             propellant_kg: point.1,
         }
     }

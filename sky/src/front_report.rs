@@ -39,8 +39,9 @@ use super::draw::{framed, DrawError};
 pub struct FrontRow {
     /// 1-based plan number K (files plan-K.csv, plan-K-sky-map.svg, plan-K-momentum.svg).
     pub plan: usize,
-    /// Time objective: overhead without waiting, seconds.
-    pub overhead_s: f64,
+    /// Time objective: busy overhead (slews, settles, thermal, setups, dumps; no waiting),
+    /// seconds.
+    pub busy_overhead_s: f64,
     /// Waiting, seconds (reported, not an objective).
     pub wait_s: f64,
     /// Propellant objective, kilograms.
@@ -68,12 +69,12 @@ pub struct FrontReport<'a> {
     pub front: &'a [FrontRow],
     /// Index into `front` of the knee plan, if any.
     pub knee: Option<usize>,
-    /// Objective values (overhead_s, propellant_kg) of evaluated plans that are not on the
+    /// Objective values (busy_overhead_s, propellant_kg) of evaluated plans that are not on the
     /// front: drawn faint.
     pub dominated: &'a [(f64, f64)],
     /// Hypervolume of the front against `reference`, s·kg (shown in h·g too).
     pub hypervolume: f64,
-    /// The reference point (overhead_s, propellant_kg).
+    /// The reference point (busy_overhead_s, propellant_kg).
     pub reference: (f64, f64),
     /// Free lines shown under the title (settings, timing, the single-objective comparison),
     /// plain text: they are escaped here.
@@ -189,7 +190,7 @@ fn check(r: &FrontReport) -> Result<Ranges, String> {
             ));
         }
         for (what, v, unit) in [
-            ("overhead", row.overhead_s, "s"),
+            ("overhead", row.busy_overhead_s, "s"),
             ("waiting", row.wait_s, "s"),
             ("propellant", row.propellant_kg, "kg"),
         ] {
@@ -203,15 +204,15 @@ fn check(r: &FrontReport) -> Result<Ranges, String> {
         }
         if i > 0 {
             let prev = &r.front[i - 1];
-            if row.overhead_s < prev.overhead_s {
+            if row.busy_overhead_s < prev.busy_overhead_s {
                 return Err(format!(
                     "the front is not sorted by overhead: row {i} (plan {}, {} s) comes after \
                      row {} (plan {}, {} s)",
                     row.plan,
-                    row.overhead_s,
+                    row.busy_overhead_s,
                     i - 1,
                     prev.plan,
-                    prev.overhead_s
+                    prev.busy_overhead_s
                 ));
             }
             if row.propellant_kg > prev.propellant_kg {
@@ -259,7 +260,7 @@ fn check(r: &FrontReport) -> Result<Ranges, String> {
     let points = r
         .front
         .iter()
-        .map(|row| (row.overhead_s, row.propellant_kg))
+        .map(|row| (row.busy_overhead_s, row.propellant_kg))
         .chain(r.dominated.iter().copied())
         .chain(std::iter::once(r.reference))
         .map(|(o, p)| (hours(o), grams(p)));
@@ -411,7 +412,11 @@ fn front_legend(r: &FrontReport) -> Vec<LegendEntry<FrontKey>> {
     ));
     entries.push(e(
         FrontKey::Reference,
-        format!("reference point ({} h, {} g)", fmt_h(ro), fmt_g(rp)),
+        format!(
+            "reference point ({} h busy overhead, {} g)",
+            fmt_h(ro),
+            fmt_g(rp)
+        ),
     ));
     if n > 0 {
         entries.push(e(
@@ -423,7 +428,7 @@ fn front_legend(r: &FrontReport) -> Vec<LegendEntry<FrontKey>> {
         ));
         entries.push(e(
             FrontKey::Kit(Key::Note),
-            "Lower is less propellant, left is less overhead: no plan of the front is \
+            "Lower is less propellant, left is less busy overhead: no plan of the front is \
              better than another in both."
                 .into(),
         ));
@@ -507,7 +512,7 @@ fn render_front(r: &FrontReport, ranges: Ranges) -> DrawResult<String> {
     let pts: Vec<(f64, f64)> = r
         .front
         .iter()
-        .map(|row| (hours(row.overhead_s), grams(row.propellant_kg)))
+        .map(|row| (hours(row.busy_overhead_s), grams(row.propellant_kg)))
         .collect();
     let reference = (hours(r.reference.0), grams(r.reference.1));
 
@@ -524,7 +529,7 @@ fn render_front(r: &FrontReport, ranges: Ranges) -> DrawResult<String> {
             chart_area,
             (x_lo, x_hi),
             (y_lo, y_hi),
-            "overhead without waiting (h)",
+            "busy overhead, waiting excluded (h)",
             "momentum-dump propellant (g)",
         )?;
         let plot = chart.plotting_area();
@@ -785,7 +790,7 @@ fn page_rows(r: &FrontReport) -> Vec<PageRow> {
                     "plan {} costs {} h more than the fastest (plan {}) and saves {} g of \
                      propellant",
                     row.plan,
-                    fixed(hours(row.overhead_s - fastest.overhead_s), 2),
+                    fixed(hours(row.busy_overhead_s - fastest.busy_overhead_s), 2),
                     fastest.plan,
                     fixed(grams(fastest.propellant_kg - row.propellant_kg), 1),
                 )
@@ -794,7 +799,7 @@ fn page_rows(r: &FrontReport) -> Vec<PageRow> {
             };
             PageRow {
                 plan: row.plan,
-                overhead: fmt_h(row.overhead_s),
+                overhead: fmt_h(row.busy_overhead_s),
                 wait: fmt_h(row.wait_s),
                 propellant: fmt_g(row.propellant_kg),
                 dumps: row.dumps,
@@ -813,10 +818,10 @@ fn page_rows(r: &FrontReport) -> Vec<PageRow> {
 fn render_html(r: &FrontReport) -> Result<String, minijinja::Error> {
     let n = r.front.len();
     let alt = if n == 0 {
-        "Chart of propellant against overhead: no plan on the front.".to_string()
+        "Chart of propellant against busy overhead: no plan on the front.".to_string()
     } else {
         format!(
-            "Chart of propellant in grams against overhead in hours: the {n} plans of the \
+            "Chart of propellant in grams against busy overhead in hours: the {n} plans of the \
              front as numbered blue dots joined by a staircase{}, {} other plans evaluated as \
              grey dots, and the reference point as a cross.",
             r.knee
@@ -866,10 +871,10 @@ mod tests {
     const CAUTION: &str = "Plans are planning proposals to be confirmed by the operations \
                            team's validated tools. Spacecraft operations can damage hardware.";
 
-    fn row(plan: usize, overhead_s: f64, wait_s: f64, propellant_kg: f64) -> FrontRow {
+    fn row(plan: usize, busy_overhead_s: f64, wait_s: f64, propellant_kg: f64) -> FrontRow {
         FrontRow {
             plan,
-            overhead_s,
+            busy_overhead_s,
             wait_s,
             propellant_kg,
             dumps: 3,
@@ -977,10 +982,10 @@ mod tests {
         }
         let legend = legend.concat().join(" ");
         assert!(legend.contains("knee, plan 2: the most balanced trade"));
-        assert!(legend.contains("reference point (15.00 h, 60.0 g)"));
+        assert!(legend.contains("reference point (15.00 h busy overhead, 60.0 g)"));
         assert!(legend.contains("hypervolume 2000.0 h·g"));
         assert!(legend.contains("other plan evaluated, beaten in both (4)"));
-        assert!(svg.contains("overhead without waiting (h)"));
+        assert!(svg.contains("busy overhead, waiting excluded (h)"));
         assert!(svg.contains("momentum-dump propellant (g)"));
         for line in wrap(CAUTION, CAUTION_PX, FRONT_W - 2 * PAD as u32) {
             assert!(svg.contains(&svg_escaped(&line)), "{line}");
@@ -1025,9 +1030,8 @@ mod tests {
         // Fastest first, then by overhead.
         assert!(html.find(row5) < html.find(row2) && html.find(row2) < html.find(row7));
         // Hypervolume in h·g with its reference.
-        assert!(
-            html.contains("2000.0 h·g against the reference point (15.00 h of overhead, 60.0 g")
-        );
+        assert!(html
+            .contains("2000.0 h·g against the reference point (15.00 h of busy overhead, 60.0 g"));
 
         assert!(html.contains("<img src=\"front.svg\" alt=\"Chart of propellant"));
         for k in [5, 2, 7] {
@@ -1141,7 +1145,7 @@ mod tests {
         };
 
         let mut bad = good.clone();
-        bad[1].overhead_s = f64::NAN;
+        bad[1].busy_overhead_s = f64::NAN;
         check_both(&report("t", &bad, &[]), "row 1 (plan 2) has overhead NaN");
         let mut bad = good.clone();
         bad[2].propellant_kg = f64::INFINITY;

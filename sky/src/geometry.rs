@@ -78,12 +78,6 @@ pub fn elongation_deg(u: &Vec3, s: &Vec3) -> f64 {
     separation_deg(u, s)
 }
 
-/// Solar pitch of the boresight `u` with the Sun at `s`: `p = θ − 90°` with `θ` the solar
-/// elongation, degrees in [−90, 90] (positive when the boresight is more than 90° from the Sun).
-pub fn solar_pitch_deg(u: &Vec3, s: &Vec3) -> f64 {
-    elongation_deg(u, s) - 90.0
-}
-
 /// An attitude: the body axes as unit vectors on inertial (ICRS) axes, dimensionless. The
 /// attitude matrix `A = [x y z]` has these as columns and turns body vectors into inertial
 /// ones (`v_inertial = A v_body`).
@@ -243,9 +237,9 @@ mod tests {
                 assert!((got[k] - want[k]).abs() < 1e-15);
             }
         }
-        // Sun 30° from the boresight in the x–z plane: solar pitch 30° − 90° = −60°.
+        // Sun 30° from the boresight in the x–z plane: solar elongation 30°.
         let s = [0.5, 0.0, 3f64.sqrt() / 2.0];
-        assert!((solar_pitch_deg(&[0.0, 0.0, 1.0], &s) + 60.0).abs() < 1e-12);
+        assert!((elongation_deg(&[0.0, 0.0, 1.0], &s) - 30.0).abs() < 1e-12);
     }
 
     #[test]

@@ -1,5 +1,5 @@
 //! The sky adapter: from a pool of targets to asymmetric slew costs, momentum and observing
-//! sequences for a sunshield observatory at the Sun–Earth L2 point.
+//! sequences for a sun-shaded observatory far from Earth (placed at the Sun–Earth L2 point).
 //!
 //! **Caution.** Spacecraft operations can damage hardware. Everything here is a planning aid:
 //! a plan it makes is a proposal that the operations team's validated flight-dynamics and

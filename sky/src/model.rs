@@ -29,7 +29,7 @@ pub struct Target {
 pub struct Instrument {
     /// Name, as targets refer to it.
     pub name: String,
-    /// Fine-guidance acquisition and settling at the destination of a slew that ends with
+    /// Guide-star acquisition and settling at the destination of a slew that ends with
     /// this instrument, seconds.
     pub settle_s: f64,
 }
@@ -44,11 +44,11 @@ pub struct Profile {
     pub slew_rate_deg_s: f64,
     /// Slew acceleration limit about the eigen-axis, degrees per second squared (a).
     pub slew_accel_deg_s2: f64,
-    /// Thermal settling per degree of solar pitch gained (attitude turning hotter), seconds
-    /// per degree (`k_warm`).
+    /// Thermal settling per degree of solar elongation lost (boresight turning toward the Sun,
+    /// the warm direction), seconds per degree (`k_warm`).
     pub thermal_warm_s_per_deg: f64,
-    /// Thermal settling per degree of solar pitch lost (attitude turning cooler), seconds per
-    /// degree (`k_cool`).
+    /// Thermal settling per degree of solar elongation gained (boresight turning away from the
+    /// Sun, the cool direction), seconds per degree (`k_cool`).
     pub thermal_cool_s_per_deg: f64,
     /// The instruments; targets name one of them.
     pub instruments: Vec<Instrument>,

@@ -179,7 +179,7 @@ mod tests {
             ([0.6, 0.0, 0.8], [0.0, 0.0, 1.0]),
             ([1.0, 0.0, 0.0], [0.5, 0.5, 0.7]),
         ] {
-            let f = flat_plate_force_n(4.54e-6, 150.0, &n, &s, 0.5, 0.1);
+            let f = flat_plate_force_n(4.54e-6, 64.0, &n, &s, 0.5, 0.1);
             assert!(dot(&f, &s) < 0.0 && dot(&f, &n) < 0.0);
         }
     }
@@ -196,8 +196,8 @@ mod tests {
                 settle_s: 0.0,
             }],
             setup_s: vec![vec![0.0]],
-            elongation_min_deg: 80.0,
-            elongation_max_deg: 140.0,
+            elongation_min_deg: 97.0,
+            elongation_max_deg: 153.0,
             shield_area_m2: 1.0,
             shield_normal: [1.0, 0.0, 0.0],
             specular_reflectivity: 0.0,

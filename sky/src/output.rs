@@ -10,10 +10,18 @@
 //! One row per observation, in time order: `position` (1-based), `id`, `start_utc` and
 //! `end_utc` (ISO 8601, UTC, whole seconds), `elongation_start_deg` and
 //! `elongation_end_deg` (solar elongation at the start and end of the dwell), `slew_deg`
-//! (eigen-axis angle from the previous target), `slew_s`, `overhead_s` (everything between the
-//! end of the previous observation and this start: waiting, dump, slew, settle, thermal,
+//! (eigen-axis angle from the previous target), `slew_s`, `wait_before_s` (time between the
+//! end of the previous observation, or the plan start, and this start spent waiting for the
+//! target's window), `busy_before_s` (the rest of that time: dump, slew, settle, thermal,
 //! setup), `momentum_nms` (`|H|` after the observation) and `dump` (1 when a momentum dump
-//! precedes the observation, else 0).
+//! precedes the observation, else 0). The two `_before_s` columns add up to the whole gap.
+//!
+//! # Time words
+//!
+//! One meaning per name in every output: `elapsed_s` is the time from the plan start until the
+//! last observation ends, waiting included (the model's time objective); `busy_overhead_s` is
+//! the slews, settles, thermal settles, setups and dumps between observations, without
+//! waiting; `wait_s` is the waiting.
 //!
 //! # `unscheduled.csv`
 //!
@@ -24,6 +32,7 @@
 use std::io::Write;
 use std::path::Path;
 
+use crate::front::{Front, Point};
 use crate::plan::Plan;
 use crate::schedule::{Schedule, Unscheduled};
 use crate::{Epoch, Profile, Target};
@@ -93,7 +102,8 @@ pub fn write_plan_csv<W: Write>(
         "elongation_end_deg",
         "slew_deg",
         "slew_s",
-        "overhead_s",
+        "wait_before_s",
+        "busy_before_s",
         "momentum_nms",
         "dump",
     ])
@@ -108,7 +118,8 @@ pub fn write_plan_csv<W: Write>(
             format!("{:.4}", o.elongation_end_deg),
             format!("{:.3}", o.slew_deg),
             format!("{:.1}", o.slew_s),
-            format!("{:.1}", o.overhead_s),
+            format!("{:.1}", o.wait_s),
+            format!("{:.1}", o.overhead_s - o.wait_s),
             format!("{:.4}", o.momentum_nms),
             u8::from(o.dump).to_string(),
         ])
@@ -146,11 +157,26 @@ pub fn write_unscheduled_csv<W: Write>(
     w.flush()
 }
 
-fn totals(s: &Schedule) -> serde_json::Value {
+/// Seconds from `start` until the last observation of `s` ends, waiting included (the time
+/// objective); 0 when nothing is scheduled.
+pub fn elapsed_s(s: &Schedule, start: Epoch) -> f64 {
+    if s.observations.is_empty() {
+        return 0.0;
+    }
+    ((s.end.jd - start.jd) * 86_400.0).max(0.0)
+}
+
+/// Slews, settles, thermal settles, setups and dumps of `s`, seconds, without waiting.
+pub fn busy_overhead_s(s: &Schedule) -> f64 {
+    s.overhead_s - s.wait_s
+}
+
+fn totals(s: &Schedule, start: Epoch) -> serde_json::Value {
     json!({
         "scheduled": s.observations.len(),
         "unscheduled": s.unscheduled.len(),
-        "overhead_s": s.overhead_s,
+        "elapsed_s": elapsed_s(s, start),
+        "busy_overhead_s": busy_overhead_s(s),
         "wait_s": s.wait_s,
         "slew_deg": s.slew_deg,
         "dumps": s.dumps,
@@ -161,15 +187,14 @@ fn totals(s: &Schedule) -> serde_json::Value {
     })
 }
 
-/// Overhead without waiting (slews, settling, thermal, setups, dumps) per scheduled
+/// Busy overhead (slews, settling, thermal, setups, dumps; no waiting) per scheduled
 /// observation, of the plan over that of the nearest-neighbour baseline: below 1 when the plan
 /// is better. Waiting is left out because it is set by when targets enter the band, not by the
 /// order; with it, two plans that end waiting for the same late target look alike. `None` when
 /// either schedules nothing.
-pub fn overhead_ratio(plan: &Plan) -> Option<f64> {
+pub fn busy_overhead_ratio(plan: &Plan) -> Option<f64> {
     let per = |s: &Schedule| {
-        (!s.observations.is_empty())
-            .then(|| (s.overhead_s - s.wait_s) / s.observations.len() as f64)
+        (!s.observations.is_empty()).then(|| busy_overhead_s(s) / s.observations.len() as f64)
     };
     match (per(&plan.schedule), per(&plan.baseline)) {
         (Some(a), Some(b)) if b > 0.0 => Some(a / b),
@@ -200,7 +225,8 @@ pub fn plan_json(
         "scheduled": s.observations.len(),
         "unscheduled": s.unscheduled.len(),
         "unscheduled_reasons": reasons,
-        "overhead_s": s.overhead_s,
+        "elapsed_s": elapsed_s(s, start),
+        "busy_overhead_s": busy_overhead_s(s),
         "wait_s": s.wait_s,
         "slew_deg": s.slew_deg,
         "propellant_kg": s.propellant_kg,
@@ -213,14 +239,142 @@ pub fn plan_json(
         "end_utc": format_utc(s.end),
         "horizon_days": horizon_days,
         "order_cost_s": plan.order_cost_s,
-        "nearest_neighbour": totals(&plan.baseline),
+        "nearest_neighbour": totals(&plan.baseline, start),
         "nearest_neighbour_order_cost_s": plan.baseline_cost_s,
-        "overhead_ratio": overhead_ratio(plan),
+        "busy_overhead_ratio": busy_overhead_ratio(plan),
         "strategy": plan.strategy.name(),
         "polished": plan.polished,
+        "stop_reason": plan.stop_reason.name(),
+        "stop_explanation": plan.stop_reason.explain(),
         "search_seconds": plan.search_seconds,
         "seconds": plan.seconds,
     })
+}
+
+/// A hypervolume in s·kg (the front's objectives) in the unit every output shows it in, hours
+/// × grams (divided by 3600, times 1000).
+pub fn hour_grams(s_kg: f64) -> f64 {
+    s_kg / 3.6
+}
+
+/// The front's reference point as the outputs write it, in hours of busy overhead and grams
+/// of propellant: `{"busy_overhead_h": .., "propellant_g": ..}`.
+pub fn reference_json(reference: Point) -> serde_json::Value {
+    json!({
+        "busy_overhead_h": reference.0 / 3600.0,
+        "propellant_g": reference.1 * 1000.0,
+    })
+}
+
+/// The column names of `front.csv`, in order; the JSON `front` rows have the same keys.
+pub const FRONT_COLUMNS: [&str; 7] = [
+    "plan",
+    "busy_overhead_s",
+    "wait_s",
+    "elapsed_s",
+    "propellant_kg",
+    "dumps",
+    "scheduled",
+];
+
+/// One plan of the front as `front.csv` and the JSON `front` rows show it (the fields are the
+/// columns of [`FRONT_COLUMNS`]).
+#[derive(Clone, Copy, Debug, PartialEq, serde::Serialize)]
+pub struct FrontLine {
+    /// Plan number, from 1 (the fastest) along the front.
+    pub plan: usize,
+    /// Busy overhead (the front's time objective), seconds.
+    pub busy_overhead_s: f64,
+    /// Waiting, seconds.
+    pub wait_s: f64,
+    /// From the plan start until the last observation ends, seconds.
+    pub elapsed_s: f64,
+    /// Propellant of the dumps, kilograms.
+    pub propellant_kg: f64,
+    /// Momentum dumps.
+    pub dumps: usize,
+    /// Observations scheduled.
+    pub scheduled: usize,
+}
+
+/// One [`FrontLine`] per plan of the front, in its order.
+pub fn front_lines(front: &Front, start: Epoch) -> Vec<FrontLine> {
+    front
+        .plans
+        .iter()
+        .enumerate()
+        .map(|(k, p)| FrontLine {
+            plan: k + 1,
+            busy_overhead_s: p.busy_overhead_s,
+            wait_s: p.schedule.wait_s,
+            elapsed_s: elapsed_s(&p.schedule, start),
+            propellant_kg: p.propellant_kg,
+            dumps: p.schedule.dumps,
+            scheduled: p.schedule.observations.len(),
+        })
+        .collect()
+}
+
+/// Writes `front.csv` (the columns of [`FRONT_COLUMNS`]).
+pub fn write_front_csv<W: Write>(out: &mut W, front: &Front, start: Epoch) -> std::io::Result<()> {
+    writeln!(out, "# CAUTION: {CAUTION}")?;
+    writeln!(out, "{}", FRONT_COLUMNS.join(","))?;
+    for r in front_lines(front, start) {
+        writeln!(
+            out,
+            "{},{:.1},{:.1},{:.1},{:.6},{},{}",
+            r.plan, r.busy_overhead_s, r.wait_s, r.elapsed_s, r.propellant_kg, r.dumps, r.scheduled
+        )?;
+    }
+    Ok(())
+}
+
+/// The keys the front adds to the JSON summary: `front` (the rows of `front.csv`),
+/// `front_objectives`, the hypervolumes in h·g against `hypervolume_reference`, the knee, the
+/// extremes and the search's effort.
+pub fn front_json(front: &Front, start: Epoch) -> serde_json::Map<String, serde_json::Value> {
+    let rows = front_lines(front, start);
+    let ratio = (front.scalarised_hypervolume > 0.0)
+        .then(|| front.archive_hypervolume / front.scalarised_hypervolume);
+    let extremes = match (front.plans.first(), front.plans.last()) {
+        (Some(first), Some(last)) => json!({
+            "fastest_plan": 1,
+            "most_sparing_plan": front.plans.len(),
+            "propellant_ratio_sparing_to_fastest": (first.propellant_kg > 0.0)
+                .then(|| last.propellant_kg / first.propellant_kg),
+        }),
+        _ => serde_json::Value::Null,
+    };
+    let mut m = serde_json::Map::new();
+    m.insert("front".into(), json!(rows));
+    m.insert(
+        "front_objectives".into(),
+        json!("busy_overhead_s (seconds, waiting excluded), propellant_kg"),
+    );
+    m.insert(
+        "hypervolume_h_g".into(),
+        json!(hour_grams(front.hypervolume)),
+    );
+    m.insert(
+        "hypervolume_reference".into(),
+        reference_json(front.reference),
+    );
+    m.insert(
+        "scalarised_hypervolume_h_g".into(),
+        json!(hour_grams(front.scalarised_hypervolume)),
+    );
+    m.insert("scalarised_plans".into(), json!(front.scalarised_plans));
+    m.insert("archive_plans".into(), json!(front.archive_plans));
+    m.insert(
+        "archive_hypervolume_h_g".into(),
+        json!(hour_grams(front.archive_hypervolume)),
+    );
+    m.insert("hypervolume_ratio".into(), json!(ratio));
+    m.insert("knee_plan".into(), json!(front.knee.map(|k| k + 1)));
+    m.insert("extremes".into(), extremes);
+    m.insert("front_evaluations".into(), json!(front.evaluations));
+    m.insert("front_seconds".into(), json!(front.seconds));
+    m
 }
 
 /// `n` random targets for benchmarks and tests (not the demo): directions uniform on the

@@ -4,7 +4,7 @@
 //! every plan says how much the search saved.
 //!
 //! The order is searched on the cost matrix of the Sun at the plan start (the costs change
-//! slowly with the Sun, about a degree of solar pitch a day); the simulation then uses the
+//! slowly with the Sun, about a degree of solar elongation a day); the simulation then uses the
 //! Sun of each moment.
 //!
 //! **Caution.** A planning aid: plans are proposals to be confirmed by the operations team's
@@ -18,7 +18,8 @@ use super::schedule::{Context, PlanError, Runner, Schedule};
 use super::slew::{cost_matrix_ms, Pointing};
 use super::sun::sun_j2000;
 use super::{Epoch, Profile, Target};
-use wend::{Ends, Method, SolveError, Solver, StopHandle};
+use std::cell::Cell;
+use wend::{Ends, Method, SolveError, Solver, StopHandle, StopReason};
 
 /// How to plan.
 #[derive(Clone, Debug)]
@@ -125,6 +126,51 @@ pub struct Plan {
     pub search_seconds: f64,
     /// Wall-clock seconds of the whole planning.
     pub seconds: f64,
+    /// Why the planning ended when it did.
+    pub stop_reason: PlanStop,
+}
+
+/// Why a planning ended when it did: the order searches (the whole-horizon path, the stages
+/// of the rolling searches and of the polish) each have a share of the time limit.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum PlanStop {
+    /// Every order search ended before its share of the time: each of its runs used up its
+    /// kicks ([`search_iterations`]) or found no improvement left; more time would not
+    /// change the plan.
+    SearchesDone,
+    /// At least one order search was cut by its share of the time limit; more time might
+    /// give a better plan.
+    TimeLimit,
+    /// The stop handle asked for it (Ctrl-C): the plan is made from the best orders so far.
+    Cancelled,
+}
+
+impl PlanStop {
+    /// The name in the JSON summary: `searches_done`, `time_limit` or `cancelled`.
+    pub fn name(self) -> &'static str {
+        match self {
+            PlanStop::SearchesDone => "searches_done",
+            PlanStop::TimeLimit => "time_limit",
+            PlanStop::Cancelled => "cancelled",
+        }
+    }
+
+    /// A sentence for people.
+    pub fn explain(self) -> &'static str {
+        match self {
+            PlanStop::SearchesDone => {
+                "every order search ended before its share of the time limit (all runs used \
+                 up their kicks or found no improvement left), so more time would not change \
+                 the plan"
+            }
+            PlanStop::TimeLimit => {
+                "at least one order search used up its share of the time limit (the limit is \
+                 shared among the whole-horizon path and the searches of each day); more time \
+                 might find a better plan"
+            }
+            PlanStop::Cancelled => "stopped on request; the plan uses the best orders so far",
+        }
+    }
 }
 
 /// Length of a stage of the rolling planner, days: after this much plan time the remaining
@@ -158,6 +204,21 @@ impl Strategy {
             Strategy::Rolling => "rolling",
             Strategy::RollingNear => "rolling-near",
             Strategy::Nearest => "nearest",
+        }
+    }
+
+    /// How the strategy makes an order, in plain words for the text summary.
+    pub fn describe(self) -> &'static str {
+        match self {
+            Strategy::Whole => "one path through every target on the costs of the plan start",
+            Strategy::Rolling => {
+                "a day at a time from where the telescope is, the targets leaving the band \
+                 soonest first"
+            }
+            Strategy::RollingNear => {
+                "a day at a time from where the telescope is, the targets cheapest to reach first"
+            }
+            Strategy::Nearest => "each time the cheapest target that fits now",
         }
     }
 }
@@ -220,6 +281,7 @@ fn search_matrix(
     fixed_first: bool,
     limit: Duration,
     options: &PlanOptions,
+    cut: &Cell<bool>,
 ) -> Result<Vec<usize>, PlanFailure> {
     Ok(match m.len() {
         0 => Vec::new(),
@@ -243,7 +305,11 @@ fn search_matrix(
             if let Some(t) = options.threads {
                 solver = solver.threads(t);
             }
-            solver.solve()?.tour.order().to_vec()
+            let found = solver.solve()?;
+            if found.stop_reason == StopReason::TimeLimit {
+                cut.set(true);
+            }
+            found.tour.order().to_vec()
         }
     })
 }
@@ -257,6 +323,7 @@ fn search_path(
     fixed_first: bool,
     limit: Duration,
     options: &PlanOptions,
+    cut: &Cell<bool>,
 ) -> Result<Vec<usize>, PlanFailure> {
     let subset: Vec<Target> = nodes.iter().map(|&i| ctx.targets()[i].clone()).collect();
     let m = weighted_matrix(
@@ -265,7 +332,7 @@ fn search_path(
         at,
         options.momentum_weight_s_per_nms,
     )?;
-    let local = search_matrix(&m, fixed_first, limit, options)?;
+    let local = search_matrix(&m, fixed_first, limit, options, cut)?;
     Ok(local.iter().map(|&k| nodes[k]).collect())
 }
 
@@ -314,6 +381,7 @@ fn rolling(
     options: &PlanOptions,
     limit: Duration,
     selection: Selection,
+    cut: &Cell<bool>,
 ) -> Result<Schedule, PlanFailure> {
     let targets = ctx.targets();
     let stages = (options.horizon_days / STAGE_DAYS).ceil().max(1.0);
@@ -352,7 +420,7 @@ fn rolling(
             dwell_days += targets[j].duration_s / 86_400.0;
         }
         let fixed = run.last().is_some();
-        let path = search_path(ctx, &nodes, now, fixed, stage_limit, options)?;
+        let path = search_path(ctx, &nodes, now, fixed, stage_limit, options, cut)?;
         let queue: Vec<usize> = if fixed { path[1..].to_vec() } else { path };
         let until = now.jd + STAGE_DAYS;
         let before = run.scheduled();
@@ -431,6 +499,7 @@ fn polish(
     schedule: &Schedule,
     options: &PlanOptions,
     limit: Duration,
+    cut: &Cell<bool>,
 ) -> Result<Schedule, PlanFailure> {
     let obs = &schedule.observations;
     let stages = (options.horizon_days / STAGE_DAYS).ceil().max(1.0);
@@ -446,7 +515,7 @@ fn polish(
             nodes.push(obs[k].target);
             k += 1;
         }
-        let path = search_path(ctx, &nodes, at, fixed, stage_limit, options)?;
+        let path = search_path(ctx, &nodes, at, fixed, stage_limit, options, cut)?;
         order.extend(if fixed { &path[1..] } else { &path[..] });
     }
     Ok(ctx.simulate(&order)?)
@@ -497,6 +566,7 @@ pub fn plan(
         .time_limit
         .unwrap_or_else(|| default_time_limit(candidates.len()));
     let searched = Instant::now();
+    let cut = Cell::new(false);
     // The costs of the plan start over every candidate: for the whole-horizon path, the
     // nearest neighbour in time and the comparison of their path costs.
     let pool: Vec<Target> = candidates.iter().map(|&i| targets[i].clone()).collect();
@@ -513,7 +583,7 @@ pub fn plan(
     // shared by the two rolling searches, one fifth to polish.
     let share = limit / 5;
     let (whole, order) = if whole_fits {
-        let local = search_matrix(&m, false, share * 2, options)?;
+        let local = search_matrix(&m, false, share * 2, options, &cut)?;
         let order: Vec<usize> = local.iter().map(|&k| candidates[k]).collect();
         (Some(ctx.simulate(&order)?), local)
     } else {
@@ -528,8 +598,16 @@ pub fn plan(
         options,
         rolling_limit,
         Selection::Closing,
+        &cut,
     )?;
-    let near = rolling(&ctx, &candidates, options, rolling_limit, Selection::Near)?;
+    let near = rolling(
+        &ctx,
+        &candidates,
+        options,
+        rolling_limit,
+        Selection::Near,
+        &cut,
+    )?;
     let first = whole
         .iter()
         .chain(std::iter::once(&staged))
@@ -557,7 +635,7 @@ pub fn plan(
         }
     }
     let (mut schedule, strategy) = tried[best].clone();
-    let again = polish(&ctx, &schedule, options, share)?;
+    let again = polish(&ctx, &schedule, options, share, &cut)?;
     let polished = better(&again, &schedule);
     tried.push((again.clone(), strategy));
     if polished {
@@ -583,6 +661,13 @@ pub fn plan(
         alternatives,
         search_seconds,
         seconds: began.elapsed().as_secs_f64(),
+        stop_reason: if options.stop.is_stopped() {
+            PlanStop::Cancelled
+        } else if cut.get() {
+            PlanStop::TimeLimit
+        } else {
+            PlanStop::SearchesDone
+        },
     })
 }
 

@@ -9,25 +9,25 @@
 //! anywhere. Integers are accepted where a number is expected. `instances/sky/demo-profile.toml`
 //! is a commented example.
 //!
-//! | key                      | unit / range                                              |
-//! |--------------------------|-----------------------------------------------------------|
-//! | `name`                   | text, not empty                                           |
-//! | `slew_rate_deg_s`        | degrees per second, > 0 (rate limit ω)                    |
-//! | `slew_accel_deg_s2`      | degrees per second squared, > 0 (acceleration limit a)    |
-//! | `thermal_warm_s_per_deg` | seconds per degree of solar pitch gained, ≥ 0 (k_warm)    |
-//! | `thermal_cool_s_per_deg` | seconds per degree of solar pitch lost, ≥ 0 (k_cool)      |
-//! | `elongation_min_deg`     | degrees, 0 ≤ min < max                                    |
-//! | `elongation_max_deg`     | degrees, min < max ≤ 180                                  |
-//! | `shield_area_m2`         | square metres, > 0 (S)                                    |
-//! | `shield_normal`          | body-frame vector `[x, y, z]`, non-zero; scaled to unit length |
-//! | `specular_reflectivity`  | 0 to 1 (ρs)                                               |
-//! | `diffuse_reflectivity`   | 0 to 1 (ρd), with ρs + ρd ≤ 1                             |
-//! | `pressure_offset_m`      | body-frame vector `[x, y, z]`, metres (r_cp)              |
-//! | `wheel_limit_nms`        | newton metre seconds, > 0 (H_max)                         |
-//! | `wheel_margin`           | share of the wheel limit planning may use, in (0, 1]      |
-//! | `thruster_arm_m`         | metres, > 0 (L)                                           |
-//! | `thruster_isp_s`         | seconds, > 0 (Isp)                                        |
-//! | `dump_s`                 | seconds one momentum dump takes, ≥ 0                      |
+//! | key                      | unit / range                                                              |
+//! |--------------------------|---------------------------------------------------------------------------|
+//! | `name`                   | text, not empty                                                           |
+//! | `slew_rate_deg_s`        | degrees per second, > 0 (rate limit ω)                                    |
+//! | `slew_accel_deg_s2`      | degrees per second squared, > 0 (acceleration limit a)                    |
+//! | `thermal_warm_s_per_deg` | seconds per degree of elongation lost (toward the Sun), ≥ 0 (k_warm)      |
+//! | `thermal_cool_s_per_deg` | seconds per degree of elongation gained (away from the Sun), ≥ 0 (k_cool) |
+//! | `elongation_min_deg`     | degrees, 0 ≤ min < max                                                    |
+//! | `elongation_max_deg`     | degrees, min < max ≤ 180                                                  |
+//! | `shield_area_m2`         | square metres, > 0 (S)                                                    |
+//! | `shield_normal`          | body-frame vector `[x, y, z]`, non-zero; scaled to unit length            |
+//! | `specular_reflectivity`  | 0 to 1 (ρs)                                                               |
+//! | `diffuse_reflectivity`   | 0 to 1 (ρd), with ρs + ρd ≤ 1                                             |
+//! | `pressure_offset_m`      | body-frame vector `[x, y, z]`, metres (r_cp)                              |
+//! | `wheel_limit_nms`        | newton metre seconds, > 0 (H_max)                                         |
+//! | `wheel_margin`           | share of the wheel limit planning may use, in (0, 1]                      |
+//! | `thruster_arm_m`         | metres, > 0 (L)                                                           |
+//! | `thruster_isp_s`         | seconds, > 0 (Isp)                                                        |
+//! | `dump_s`                 | seconds one momentum dump takes, ≥ 0                                      |
 //!
 //! Instruments, at least one, in `[[instrument]]` tables (the first is the default for targets
 //! that name none): `name` (unique, not empty, no leading or trailing spaces) and `settle_s`
@@ -57,7 +57,7 @@ use super::targets::{escape_controls, shown};
 
 /// The longest time any one step of a plan may take, seconds (about 32 years, far beyond the
 /// longest horizon of ten years): settling, a setup change, a momentum dump, the thermal
-/// settling after the largest change of solar pitch (180°) and the slowest slew (180°) must
+/// settling after the largest change of solar elongation (180°) and the slowest slew (180°) must
 /// each fit in it. Longer values can only be typing errors, and would make transition costs
 /// overflow the planner's integer milliseconds (common practice: refuse what no plan can use).
 pub const MAX_STEP_S: f64 = 1.0e9;
@@ -573,9 +573,9 @@ slew_rate_deg_s = 0.2
 slew_accel_deg_s2 = 0.004
 thermal_warm_s_per_deg = 9
 thermal_cool_s_per_deg = 3.5
-elongation_min_deg = 85
-elongation_max_deg = 135.5
-shield_area_m2 = 120
+elongation_min_deg = 97
+elongation_max_deg = 153.5
+shield_area_m2 = 66
 shield_normal = [0, 3, 4]
 specular_reflectivity = 0.6
 diffuse_reflectivity = 0.25
@@ -675,9 +675,9 @@ time_s = 20
                     },
                 ],
                 setup_s: vec![vec![0.0, 100.0], vec![20.0, 0.0]],
-                elongation_min_deg: 85.0,
-                elongation_max_deg: 135.5,
-                shield_area_m2: 120.0,
+                elongation_min_deg: 97.0,
+                elongation_max_deg: 153.5,
+                shield_area_m2: 66.0,
                 shield_normal: [0.0, 0.6, 0.8],
                 specular_reflectivity: 0.6,
                 diffuse_reflectivity: 0.25,
@@ -895,12 +895,12 @@ time_s = 20
             "{shown}"
         );
         let shown = error_at(
-            &with("elongation_max_deg", "elongation_max_deg = 85"),
+            &with("elongation_max_deg", "elongation_max_deg = 97"),
             "elongation_max_deg",
             8,
         );
         assert!(
-            shown.contains("must be greater than elongation_min_deg (85), found 85"),
+            shown.contains("must be greater than elongation_min_deg (97), found 97"),
             "{shown}"
         );
     }

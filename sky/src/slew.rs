@@ -2,14 +2,15 @@
 //!
 //! The slew is rest-to-rest about the eigen-axis with a rate limit ω and an acceleration limit
 //! `a` (bang–coast–bang). The directed cost adds the destination instrument's settling, a
-//! thermal term that depends on the direction of the change in solar pitch, and the
+//! thermal term that depends on the direction of the change in solar elongation (the Sun angle
+//! on the shield), and the
 //! instrument-change time (sky model, sections 5 and 6). Costs are asymmetric because of the
 //! last two. Angles are degrees, times seconds.
 
 use rayon::prelude::*;
 use thiserror::Error;
 
-use super::geometry::{eigen_axis_angle_deg, solar_pitch_deg, unit_vector, Attitude, Vec3};
+use super::geometry::{eigen_axis_angle_deg, elongation_deg, unit_vector, Attitude, Vec3};
 use super::sun::sun_j2000;
 use super::{Epoch, Profile, Target};
 
@@ -100,17 +101,18 @@ pub fn slew_time_s(angle_deg: f64, rate_deg_s: f64, accel_deg_s2: f64) -> Option
     }
 }
 
-/// Thermal settling for a change of solar pitch from `from_pitch_deg` to `to_pitch_deg`
-/// (degrees), seconds: `k_warm · max(0, p_j − p_i) + k_cool · max(0, p_i − p_j)` with
-/// `warm_s_per_deg` (`k_warm`) and `cool_s_per_deg` (`k_cool`) in seconds per degree.
+/// Thermal settling for a change of solar elongation from `from_elongation_deg` (θ_i) to
+/// `to_elongation_deg` (θ_j), degrees, in seconds: `k_warm · max(0, θ_i − θ_j) + k_cool ·
+/// max(0, θ_j − θ_i)` with `warm_s_per_deg` (`k_warm`) and `cool_s_per_deg` (`k_cool`) in
+/// seconds per degree. Turning toward the Sun (elongation falling) is the warm direction.
 pub fn thermal_s(
-    from_pitch_deg: f64,
-    to_pitch_deg: f64,
+    from_elongation_deg: f64,
+    to_elongation_deg: f64,
     warm_s_per_deg: f64,
     cool_s_per_deg: f64,
 ) -> f64 {
-    let rise = to_pitch_deg - from_pitch_deg;
-    warm_s_per_deg * rise.max(0.0) + cool_s_per_deg * (-rise).max(0.0)
+    let toward_sun = from_elongation_deg - to_elongation_deg;
+    warm_s_per_deg * toward_sun.max(0.0) + cool_s_per_deg * (-toward_sun).max(0.0)
 }
 
 /// A target's pointing at one Sun position: what the directed cost needs.
@@ -118,8 +120,8 @@ pub fn thermal_s(
 pub struct Pointing {
     /// Nominal-roll attitude (boresight on the target, Sun in the body x–z plane, +x side).
     pub attitude: Attitude,
-    /// Solar pitch `θ − 90°`, degrees.
-    pub pitch_deg: f64,
+    /// Solar elongation `θ` of the boresight, degrees.
+    pub elongation_deg: f64,
     /// Index of the instrument into [`Profile::instruments`].
     pub instrument: usize,
 }
@@ -133,7 +135,7 @@ impl Pointing {
         let attitude = Attitude::nominal(&u, sun)?;
         Some(Pointing {
             attitude,
-            pitch_deg: solar_pitch_deg(&u, sun),
+            elongation_deg: elongation_deg(&u, sun),
             instrument: target.instrument,
         })
     }
@@ -178,8 +180,8 @@ pub(crate) fn cost_checked_s(profile: &Profile, from: &Pointing, to: &Pointing) 
         slew_time_s(angle, profile.slew_rate_deg_s, profile.slew_accel_deg_s2).unwrap_or(f64::NAN);
     let settle = profile.instruments[to.instrument].settle_s;
     let thermal = thermal_s(
-        from.pitch_deg,
-        to.pitch_deg,
+        from.elongation_deg,
+        to.elongation_deg,
         profile.thermal_warm_s_per_deg,
         profile.thermal_cool_s_per_deg,
     );
@@ -188,8 +190,9 @@ pub(crate) fn cost_checked_s(profile: &Profile, from: &Pointing, to: &Pointing) 
 }
 
 /// The directed cost of going from pointing `from` (i) to pointing `to` (j), seconds:
-/// `c(i→j) = t_slew(φ_ij) + settle(inst_j) + k_warm · max(0, p_j − p_i) +
-/// k_cool · max(0, p_i − p_j) + setup[inst_i][inst_j]`, with `φ_ij` the eigen-axis angle.
+/// `c(i→j) = t_slew(φ_ij) + settle(inst_j) + k_warm · max(0, θ_i − θ_j) +
+/// k_cool · max(0, θ_j − θ_i) + setup[inst_i][inst_j]`, with `φ_ij` the eigen-axis angle and
+/// `θ` the solar elongation.
 /// Errors when the profile is invalid or an instrument index is out of range (reported with
 /// index 0 and an empty identifier, as pointings carry none).
 pub fn transition_cost_s(
@@ -305,9 +308,9 @@ mod tests {
                 },
             ],
             setup_s: setup,
-            elongation_min_deg: 80.0,
-            elongation_max_deg: 140.0,
-            shield_area_m2: 150.0,
+            elongation_min_deg: 97.0,
+            elongation_max_deg: 153.0,
+            shield_area_m2: 64.0,
             shield_normal: [1.0, 0.0, 0.0],
             specular_reflectivity: 0.5,
             diffuse_reflectivity: 0.1,
@@ -366,18 +369,19 @@ mod tests {
 
     #[test]
     fn thermal_depends_on_direction() {
-        // k_warm = 3 s/°, k_cool = 1 s/°: 10° up costs 30 s, 10° down 10 s.
-        assert_eq!(thermal_s(-20.0, -10.0, 3.0, 1.0), 30.0);
-        assert_eq!(thermal_s(-10.0, -20.0, 3.0, 1.0), 10.0);
-        assert_eq!(thermal_s(5.0, 5.0, 3.0, 1.0), 0.0);
+        // k_warm = 3 s/°, k_cool = 1 s/°: from elongation 120° to 100° (toward the Sun, the
+        // warm direction) costs 3 · 20 = 60 s; back, away from the Sun, 1 · 20 = 20 s.
+        assert_eq!(thermal_s(120.0, 100.0, 3.0, 1.0), 60.0);
+        assert_eq!(thermal_s(100.0, 120.0, 3.0, 1.0), 20.0);
+        assert_eq!(thermal_s(95.0, 95.0, 3.0, 1.0), 0.0);
     }
 
     #[test]
     fn cost_by_hand() {
-        // Sun along +x. Target 1 at the north pole (elongation 90°, pitch 0°), target 2 on the
-        // equator at RA 90° (elongation 90°, pitch 0°). Nominal roll keeps x on the Sun for both,
+        // Sun along +x. Target 1 at the north pole (elongation 90°), target 2 on the equator
+        // at RA 90° (elongation 90°). Nominal roll keeps x on the Sun for both,
         // so the rotation is 90° about x: slew 90 / 0.5 + 0.5 / 0.01 = 230 s. Settle of
-        // instrument b 7 s, setup a→b 11 s, no thermal term (equal pitch): 248 s.
+        // instrument b 7 s, setup a→b 11 s, no thermal term (equal elongation): 248 s.
         let p = profile(3.0, 1.0, vec![vec![0.0, 11.0], vec![13.0, 0.0]], [5.0, 7.0]);
         let sun = [1.0, 0.0, 0.0];
         let (Some(a), Some(b)) = (
@@ -395,15 +399,38 @@ mod tests {
 
     #[test]
     fn matrix_asymmetric_by_thermal_term() {
-        // Sun along +x; targets at elongation 60° and 120° (pitch −30° and +30°), one
-        // instrument used. Going up costs k_warm · 60 = 180 s of thermal settling, down
-        // k_cool · 60 = 60 s: the two directions differ by exactly 120 s = 120000 ms.
+        // Sun along +x; targets at elongation 60° and 120°, one instrument used. Turning
+        // toward the Sun (120° → 60°) costs k_warm · 60 = 180 s of thermal settling, away
+        // (60° → 120°) k_cool · 60 = 60 s: the two directions differ by exactly 120 s.
         let p = profile(3.0, 1.0, vec![vec![0.0, 0.0], vec![0.0, 0.0]], [5.0, 5.0]);
-        let targets = [target("cool", 60.0, 0.0, 0), target("warm", 120.0, 0.0, 0)];
+        let targets = [target("near", 60.0, 0.0, 0), target("far", 120.0, 0.0, 0)];
         let m = cost_matrix_ms_with_sun(&p, &targets, &[1.0, 0.0, 0.0]);
         let Ok(m) = m else { panic!("{m:?}") };
         assert_eq!(m[0][0], 0);
-        assert_eq!(m[0][1] - m[1][0], 120_000);
+        assert_eq!(m[1][0] - m[0][1], 120_000);
+    }
+
+    #[test]
+    fn turning_toward_the_sun_costs_the_warm_rate() {
+        // Sun along +x; both targets on the equator, at elongation 120° (RA 120°) and 100°
+        // (RA 100°). Nominal roll keeps x in the equatorial plane for both, so the slew is
+        // 20° about the pole: triangular (20° < ω²/a = 25°), 2 √(20 / 0.01) = 89.4427191 s.
+        // Settle 7 s (instrument b), no setup, and 120° → 100° turns toward the Sun:
+        // k_warm · 20 = 3 · 20 = 60 s. Total 156.4427191 s. The way back costs k_cool · 20 =
+        // 20 s of thermal settling instead.
+        let p = profile(3.0, 1.0, vec![vec![0.0, 0.0], vec![0.0, 0.0]], [7.0, 7.0]);
+        let sun = [1.0, 0.0, 0.0];
+        let (Some(from), Some(to)) = (
+            Pointing::new(&target("far", 120.0, 0.0, 1), &sun),
+            Pointing::new(&target("near", 100.0, 0.0, 1), &sun),
+        ) else {
+            panic!("defined")
+        };
+        let slew = 2.0 * 2000f64.sqrt();
+        let c = transition_cost_s(&p, &from, &to).unwrap_or(f64::NAN);
+        assert!((c - (slew + 7.0 + 60.0)).abs() < 1e-9, "{c}");
+        let back = transition_cost_s(&p, &to, &from).unwrap_or(f64::NAN);
+        assert!((back - (slew + 7.0 + 20.0)).abs() < 1e-9, "{back}");
     }
 
     #[test]

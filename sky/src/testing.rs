@@ -13,8 +13,8 @@ pub(crate) fn shuffled(n: usize, seed: u64) -> Vec<usize> {
     v
 }
 
-/// An observatory with the sky model page's *demo* values (S = 150 m², r_cp = (0, 0.2, 1.5) m,
-/// ρs = 0.5, ρd = 0.1, H_max = 20 N·m·s, band 80°–140°) and two instruments with asymmetric
+/// An observatory with the sky model page's *demo* values (S = 64 m², r_cp = (0, 0.2, 1.5) m,
+/// ρs = 0.5, ρd = 0.1, H_max = 20 N·m·s, band 97°–153°) and two instruments with asymmetric
 /// setup times: the same numbers as `instances/sky/demo-profile.toml` where both have them.
 pub(crate) fn sky_profile() -> crate::Profile {
     use crate::{Instrument, Profile};
@@ -35,9 +35,9 @@ pub(crate) fn sky_profile() -> crate::Profile {
             },
         ],
         setup_s: vec![vec![0.0, 240.0], vec![60.0, 0.0]],
-        elongation_min_deg: 80.0,
-        elongation_max_deg: 140.0,
-        shield_area_m2: 150.0,
+        elongation_min_deg: 97.0,
+        elongation_max_deg: 153.0,
+        shield_area_m2: 64.0,
         shield_normal: [1.0, 0.0, 0.0],
         specular_reflectivity: 0.5,
         diffuse_reflectivity: 0.1,

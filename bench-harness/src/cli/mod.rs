@@ -45,7 +45,7 @@ enum Command {
     Generate(generate::GenerateArgs),
     /// Run a seeded sweep of methods over instances and report gaps and times.
     Bench(bench::BenchArgs),
-    /// Observing plans for a sunshield space telescope: `wend sky plan` (planning proposals
+    /// Observing plans for a sun-shaded observatory far from Earth: `wend sky plan` (planning proposals
     /// to be confirmed by the operations team's validated tools).
     Sky(sky::SkyArgs),
 }

@@ -1,11 +1,10 @@
-//! `wend sky`: observing plans for a sunshield observatory.
+//! `wend sky`: observing plans for a sun-shaded observatory far from Earth.
 //!
 //! **Caution.** Plans are planning proposals to be confirmed by the operations team's
 //! validated tools.
 
 use super::{write_file, CliError};
 use clap::{Args, Subcommand};
-use serde_json::json;
 use std::path::{Path, PathBuf};
 use std::time::Duration;
 use wend::Method;
@@ -13,7 +12,8 @@ use wend_sky::draw::{write_momentum_chart, write_sky_map, MomentumTrace, SkyMap}
 use wend_sky::front::{search_front, Front, FrontOptions, FrontProgress};
 use wend_sky::front_report::{write_front_svg, write_report_html, FrontReport, FrontRow};
 use wend_sky::output::{
-    self, format_utc, overhead_ratio, parse_utc, plan_json, CAUTION, DEMO_START_UTC,
+    self, busy_overhead_ratio, busy_overhead_s, elapsed_s, format_utc, front_json, hour_grams,
+    parse_utc, plan_json, CAUTION, DEMO_START_UTC,
 };
 use wend_sky::plan::{plan, PlanOptions, DEFAULT_HORIZON_DAYS};
 use wend_sky::schedule::Schedule;
@@ -64,11 +64,13 @@ pub struct PlanArgs {
     /// Worker threads of the search (default: one per core).
     #[arg(long)]
     threads: Option<usize>,
-    /// Print one JSON object on stdout instead of the text summary.
+    /// Print one JSON object on stdout instead of the text summary (the caution is its
+    /// `caution` key).
     #[arg(long)]
     json: bool,
-    /// Search the Pareto front of plans over overhead time and propellant (for --time-limit
-    /// seconds, default 30) and write front.csv, plan-K.csv, front.svg and report.html.
+    /// Search the Pareto front of plans over busy overhead (waiting excluded) and propellant
+    /// (for --time-limit seconds, default 30) and write front.csv, plan-K.csv, front.svg and
+    /// report.html.
     #[arg(long)]
     front: bool,
 }
@@ -183,8 +185,9 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
     options.threads = a.threads;
     options.method = Method::Lk;
     options.stop = super::interrupt::handle();
+    // The caution reaches the terminal once: on stdout, first line of the text summary or the
+    // `caution` key of the JSON; stderr carries progress only.
     if !a.json {
-        eprintln!("CAUTION: {CAUTION}");
         eprintln!(
             "planning {} targets of {} from {} over {} days ...",
             targets.len(),
@@ -200,14 +203,23 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
         }
         let quiet = a.json;
         let progress = move |p: FrontProgress| {
-            if !quiet {
-                eprintln!(
-                    "front: {} plans, hypervolume {:.3} h·g, {} plans played, {:.0} s",
+            if quiet {
+                return;
+            }
+            match (p.hypervolume, p.reference) {
+                (Some(hv), Some(r)) => eprintln!(
+                    "front: {} plans, hypervolume {:.1} h·g {}, {} plans played, {:.0} s",
                     p.plans,
-                    p.hypervolume / 3600.0 * 1000.0,
+                    hour_grams(hv),
+                    reference_text(r),
                     p.evaluations,
                     p.seconds
-                );
+                ),
+                _ => eprintln!(
+                    "front: {} plans from the weighted runs (the hypervolume follows once they \
+                     fix its reference), {} plans played, {:.0} s",
+                    p.plans, p.evaluations, p.seconds
+                ),
             }
         };
         let front =
@@ -220,8 +232,8 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
         )
     };
     let mut summary = plan_json(&profile, &targets, &made, start, a.horizon_days);
-    if let Some(front) = &front {
-        add_front_to_summary(&mut summary, front);
+    if let (Some(front), Some(obj)) = (&front, summary.as_object_mut()) {
+        obj.extend(front_json(front, start));
     }
     if let Some(dir) = &a.out {
         write_outputs(dir, &profile, &targets, &made, &summary, start)?;
@@ -250,8 +262,10 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
         reasons_text(s)
     );
     println!(
-        "overhead {:.2} h (waiting {:.2} h), slewing {:.1} deg, {} dumps, propellant {:.4} kg, {} repairs",
-        s.overhead_s / 3600.0,
+        "elapsed {:.2} h until the last observation ends (busy overhead {:.2} h, waiting {:.2} h), \
+         slewing {:.1} deg, {} dumps, propellant {:.4} kg, {} repairs",
+        elapsed_s(s, start) / 3600.0,
+        busy_overhead_s(s) / 3600.0,
         s.wait_s / 3600.0,
         s.slew_deg,
         s.dumps,
@@ -259,21 +273,33 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
         s.repairs
     );
     println!(
-        "nearest neighbour in time: scheduled {}, overhead {:.2} h, {} dumps, propellant {:.4} kg",
+        "nearest neighbour in time: scheduled {}, elapsed {:.2} h (busy overhead {:.2} h, \
+         waiting {:.2} h), {} dumps, propellant {:.4} kg",
         b.observations.len(),
-        b.overhead_s / 3600.0,
+        elapsed_s(b, start) / 3600.0,
+        busy_overhead_s(b) / 3600.0,
+        b.wait_s / 3600.0,
         b.dumps,
         b.propellant_kg
     );
-    if let Some(r) = overhead_ratio(&made) {
-        println!("overhead without waiting per observation, plan / nearest neighbour: {r:.3}");
+    if let Some(r) = busy_overhead_ratio(&made) {
+        println!("busy overhead per observation, plan / nearest neighbour: {r:.3}");
     }
     println!(
-        "{:.2} s ({} strategy{}; searches and simulations {:.2} s)",
-        made.seconds,
+        "order made by the {} strategy ({}); {}",
         made.strategy.name(),
-        if made.polished { ", polished" } else { "" },
-        made.search_seconds
+        made.strategy.describe(),
+        if made.polished {
+            "re-searching it a day at a time then improved it"
+        } else {
+            "re-searching it a day at a time found nothing better"
+        }
+    );
+    println!(
+        "planning took {:.2} s (searches and simulations {:.2} s) and ended because {}",
+        made.seconds,
+        made.search_seconds,
+        made.stop_reason.explain()
     );
     if let Some(front) = &front {
         println!(
@@ -288,22 +314,23 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
         );
         if let (Some(f), Some(l)) = (front.plans.first(), front.plans.last()) {
             println!(
-                "  fastest (plan 1): {:.2} h overhead without waiting, {:.1} g; most sparing (plan {}): {:.2} h, {:.1} g",
-                f.overhead_s / 3600.0,
+                "  fastest (plan 1): {:.2} h busy overhead, {:.1} g; most sparing (plan {}): {:.2} h busy overhead, {:.1} g",
+                f.busy_overhead_s / 3600.0,
                 f.propellant_kg * 1000.0,
                 front.plans.len(),
-                l.overhead_s / 3600.0,
+                l.busy_overhead_s / 3600.0,
                 l.propellant_kg * 1000.0
             );
         }
-        if front.scalarised_hypervolume > 0.0 {
-            println!(
-                "  hypervolume {:.1} h·g; scalarised runs alone {:.1} h·g (ratio {:.3})",
-                front.archive_hypervolume / 3.6,
-                front.scalarised_hypervolume / 3.6,
-                front.archive_hypervolume / front.scalarised_hypervolume
-            );
-        }
+        println!(
+            "  hypervolume of the {} reported plans {:.1} h·g {}; every plan found {:.1} h·g; \
+             weighted runs alone {:.1} h·g",
+            front.plans.len(),
+            hour_grams(front.hypervolume),
+            reference_text(front.reference),
+            hour_grams(front.archive_hypervolume),
+            hour_grams(front.scalarised_hypervolume)
+        );
     }
     if let Some(dir) = &a.out {
         println!(
@@ -317,6 +344,16 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
         );
     }
     Ok(())
+}
+
+/// "against the reference (X h busy overhead, Y g)", the hypervolume's reference point as every
+/// line shows it.
+fn reference_text(r: (f64, f64)) -> String {
+    format!(
+        "against the reference ({:.2} h busy overhead, {:.1} g)",
+        r.0 / 3600.0,
+        r.1 * 1000.0
+    )
 }
 
 fn reasons_text(s: &wend_sky::schedule::Schedule) -> String {
@@ -442,7 +479,7 @@ fn write_plan_files(
     .map_err(draw_error)
 }
 
-/// One row of front.csv and of the JSON `front` array for each plan of the front.
+/// The front's plans as the report shows them.
 fn front_rows(front: &Front) -> Vec<FrontRow> {
     front
         .plans
@@ -450,72 +487,13 @@ fn front_rows(front: &Front) -> Vec<FrontRow> {
         .enumerate()
         .map(|(k, p)| FrontRow {
             plan: k + 1,
-            overhead_s: p.overhead_s,
+            busy_overhead_s: p.busy_overhead_s,
             wait_s: p.schedule.wait_s,
             propellant_kg: p.propellant_kg,
             dumps: p.schedule.dumps,
             scheduled: p.schedule.observations.len(),
         })
         .collect()
-}
-
-/// Adds the front to the JSON summary: `front` (the rows of front.csv), `hypervolume` and its
-/// reference point, the scalarised runs' hypervolume and their ratio, the knee, the extremes.
-fn add_front_to_summary(summary: &mut serde_json::Value, front: &Front) {
-    let rows: Vec<serde_json::Value> = front_rows(front)
-        .iter()
-        .map(|r| {
-            json!({
-                "plan": r.plan,
-                "overhead_s": r.overhead_s,
-                "propellant_kg": r.propellant_kg,
-                "dumps": r.dumps,
-                "scheduled": r.scheduled,
-                "wait_s": r.wait_s,
-            })
-        })
-        .collect();
-    let ratio = (front.scalarised_hypervolume > 0.0)
-        .then(|| front.archive_hypervolume / front.scalarised_hypervolume);
-    let extremes = (!front.plans.is_empty()).then(|| {
-        let last = front.plans.len() - 1;
-        json!({
-            "fastest_plan": 1,
-            "most_sparing_plan": last + 1,
-            "propellant_ratio_sparing_to_fastest": if front.plans[0].propellant_kg > 0.0 {
-                Some(front.plans[last].propellant_kg / front.plans[0].propellant_kg)
-            } else {
-                None
-            },
-        })
-    });
-    if let Some(obj) = summary.as_object_mut() {
-        obj.insert("front".into(), json!(rows));
-        obj.insert(
-            "front_objectives".into(),
-            json!("overhead_s without waiting (seconds), propellant_kg"),
-        );
-        obj.insert("hypervolume".into(), json!(front.hypervolume));
-        obj.insert(
-            "hypervolume_reference".into(),
-            json!([front.reference.0, front.reference.1]),
-        );
-        obj.insert(
-            "scalarised_hypervolume".into(),
-            json!(front.scalarised_hypervolume),
-        );
-        obj.insert("scalarised_plans".into(), json!(front.scalarised_plans));
-        obj.insert("archive_plans".into(), json!(front.archive_plans));
-        obj.insert(
-            "archive_hypervolume".into(),
-            json!(front.archive_hypervolume),
-        );
-        obj.insert("hypervolume_ratio".into(), json!(ratio));
-        obj.insert("knee_plan".into(), json!(front.knee.map(|k| k + 1)));
-        obj.insert("extremes".into(), json!(extremes));
-        obj.insert("front_evaluations".into(), json!(front.evaluations));
-        obj.insert("front_seconds".into(), json!(front.seconds));
-    }
 }
 
 /// front.csv, plan-K.csv (with plan-K-sky-map.svg and plan-K-momentum.svg), front.svg and
@@ -530,17 +508,7 @@ fn write_front_files(
     remove_old_plan_files(dir)?;
     let rows = front_rows(front);
     write_file(&dir.join("front.csv"), |w| {
-        use std::io::Write;
-        writeln!(w, "# CAUTION: {CAUTION}")?;
-        writeln!(w, "plan,overhead_s,propellant_kg,dumps,scheduled,wait_s")?;
-        for r in &rows {
-            writeln!(
-                w,
-                "{},{:.1},{:.6},{},{},{:.1}",
-                r.plan, r.overhead_s, r.propellant_kg, r.dumps, r.scheduled, r.wait_s
-            )?;
-        }
-        Ok(())
+        output::write_front_csv(w, front, start)
     })?;
     for (k, p) in front.plans.iter().enumerate() {
         let names = [
@@ -559,7 +527,7 @@ fn write_front_files(
         )?;
     }
     let title = format!(
-        "{}: {} targets from {}, the front of overhead against propellant",
+        "{}: {} targets from {}, the front of busy overhead against propellant",
         profile.name,
         targets.len(),
         format_utc(start)
@@ -567,22 +535,23 @@ fn write_front_files(
     let single = &front.single.schedule;
     let notes = vec![
         format!(
-            "Time objective: overhead without waiting (slews, settling, thermal, setups, dumps); waiting is reported apart. Every plan schedules at least {} observations, as many as the single-objective plan.",
+            "Time objective: busy overhead (slews, settling, thermal settling, setups, dumps), waiting excluded; waiting is reported apart. Every plan schedules at least {} observations, as many as the single-objective plan.",
             front.min_scheduled
         ),
         format!(
-            "Single-objective plan (wend sky plan without --front): overhead without waiting {:.2} h, propellant {:.1} g.",
-            (single.overhead_s - single.wait_s) / 3600.0,
+            "Single-objective plan (wend sky plan without --front): busy overhead {:.2} h, propellant {:.1} g.",
+            busy_overhead_s(single) / 3600.0,
             single.propellant_kg * 1000.0
         ),
         format!(
-            "Hypervolume against the same reference: scalarised runs alone {:.1} h·g ({} plans); with the Pareto local search {:.1} h·g ({} non-dominated plans, of which this report shows {} spread along the front, {:.1} h·g).",
-            front.scalarised_hypervolume / 3.6,
+            "Hypervolume {} (1.1 times the largest busy overhead and propellant of the weighted runs): weighted runs alone {:.1} h·g ({} plans); with the Pareto local search {:.1} h·g ({} non-dominated plans, of which this report shows {} spread along the front, {:.1} h·g).",
+            reference_text(front.reference),
+            hour_grams(front.scalarised_hypervolume),
             front.scalarised_plans,
-            front.archive_hypervolume / 3.6,
+            hour_grams(front.archive_hypervolume),
             front.archive_plans,
             front.plans.len(),
-            front.hypervolume / 3.6
+            hour_grams(front.hypervolume)
         ),
         format!(
             "{} plans played out in {:.1} s.",
