@@ -40,13 +40,6 @@ import numpy as _np
 
 from . import _native
 
-# Names the sky planner's code below (SkyPlan, plan_sky) uses as they are; dir(wend) does not
-# show them (see __dir__ at the end of the module).
-import json
-import os
-from dataclasses import dataclass
-from typing import Any, Optional
-
 __all__ = [
     "CAUTION",
     "DISTANCES",
@@ -89,7 +82,7 @@ DISTANCES: _t.Tuple[str, ...] = (
     "MAX_3D",
 )
 
-PathLike = _t.Union[str, "os.PathLike[str]"]
+PathLike = _t.Union[str, "_os.PathLike[str]"]
 
 
 class TourResult:
@@ -225,7 +218,7 @@ class TourData:
     order: _np.ndarray = _dc.field(repr=False)
 
 
-@dataclass(frozen=True)
+@_dc.dataclass(frozen=True)
 class SkyPlan:
     """An observing plan. **Caution:** plans are planning proposals to be confirmed by the
     operations team's validated tools.
@@ -250,10 +243,10 @@ class SkyPlan:
         caution: the caution the plan carries (also in every DataFrame's ``attrs["caution"]``).
     """
 
-    plan: Any
-    unscheduled: Any
+    plan: _t.Any
+    unscheduled: _t.Any
     summary: dict
-    front: Any
+    front: _t.Any
     front_plans: list
     cancelled: bool
     caution: str = CAUTION
@@ -291,25 +284,25 @@ def _float_option(name: str, value: _t.Any) -> _t.Optional[float]:
 # underscores for hyphens, their defaults and their types. `None` leaves an option to the core.
 _OPTIONS: _t.Tuple[_t.Tuple[str, _t.Any, str], ...] = (
     ("method", "lk", "str"),
-    ("time_limit", None, "Optional[float]"),
+    ("time_limit", None, "_t.Optional[float]"),
     ("seed", 0, "int"),
-    ("threads", None, "Optional[int]"),
-    ("runs", None, "Optional[int]"),
-    ("iterations", None, "Optional[int]"),
-    ("stall_limit", None, "Optional[int]"),
-    ("params", None, "Optional[Mapping[str, Any]]"),
-    ("target", None, "Optional[int]"),
-    ("neighbour_count", None, "Optional[int]"),
-    ("neighbour_lists", None, "Optional[str]"),
-    ("layout", None, "Optional[str]"),
+    ("threads", None, "_t.Optional[int]"),
+    ("runs", None, "_t.Optional[int]"),
+    ("iterations", None, "_t.Optional[int]"),
+    ("stall_limit", None, "_t.Optional[int]"),
+    ("params", None, "_t.Optional[Mapping[str, _t.Any]]"),
+    ("target", None, "_t.Optional[int]"),
+    ("neighbour_count", None, "_t.Optional[int]"),
+    ("neighbour_lists", None, "_t.Optional[str]"),
+    ("layout", None, "_t.Optional[str]"),
     ("bound", False, "bool"),
-    ("bound_time", None, "Optional[float]"),
+    ("bound_time", None, "_t.Optional[float]"),
     ("exact", False, "bool"),
-    ("exact_method", None, "Optional[str]"),
+    ("exact_method", None, "_t.Optional[str]"),
     ("open", False, "bool"),
-    ("start", None, "Optional[int]"),
-    ("end", None, "Optional[int]"),
-    ("tour_out", None, "Optional[PathLike]"),
+    ("start", None, "_t.Optional[int]"),
+    ("end", None, "_t.Optional[int]"),
+    ("tour_out", None, "_t.Optional[PathLike]"),
 )
 _DEFAULTS = {name: default for name, default, _ in _OPTIONS}
 
@@ -508,7 +501,7 @@ def _positional(
     )
 
 
-@_with_options(_positional("points", "Any"), _positional("metric", "str", "EUC_2D"))
+@_with_options(_positional("points", "_t.Any"), _positional("metric", "str", "EUC_2D"))
 def solve_points(points: _t.Any, metric: str = "EUC_2D", **options: _t.Any) -> TourResult:
     """A short tour through points: an ``n x 2`` (or ``n x 3``) array of coordinates under a
     TSPLIB distance ``metric`` (``EUC_2D`` by default; see :data:`DISTANCES`), with TSPLIB's
@@ -525,7 +518,7 @@ def solve_points(points: _t.Any, metric: str = "EUC_2D", **options: _t.Any) -> T
     return _result(_native.solve_points(a, metric, _options_json("solve_points", options)))
 
 
-@_with_options(_positional("matrix", "Any"))
+@_with_options(_positional("matrix", "_t.Any"))
 def solve_matrix(matrix: _t.Any, **options: _t.Any) -> TourResult:
     """A short tour over a square cost matrix (``matrix[i, j]`` is the cost of going from ``i``
     to ``j``; symmetric or not). Entries must be integers (an integer array, or a float array
@@ -649,7 +642,7 @@ def _targets_csv(targets: _t.Any) -> str:
     return out.getvalue()
 
 
-def _start_text(start: Any) -> Optional[str]:
+def _start_text(start: _t.Any) -> _t.Optional[str]:
     if start is None or isinstance(start, str):
         return start
     import datetime as _dt
@@ -664,14 +657,14 @@ def _start_text(start: Any) -> Optional[str]:
 
 
 def plan_sky(
-    targets: Any = None,
+    targets: _t.Any = None,
     *,
-    start: Any = None,
+    start: _t.Any = None,
     horizon_days: float = 14.0,
-    time_limit: Optional[float] = None,
+    time_limit: _t.Optional[float] = None,
     seed: int = 0,
-    threads: Optional[int] = None,
-    profile: Optional[PathLike] = None,
+    threads: _t.Optional[int] = None,
+    profile: _t.Optional[PathLike] = None,
     front: bool = False,
 ) -> SkyPlan:
     """Plans observations for a sun-shaded observatory far from Earth, as ``wend sky plan`` does.
@@ -708,7 +701,7 @@ def plan_sky(
     d = _native.plan_sky(
         csv_text,
         "targets",
-        None if profile is None else os.fspath(profile),
+        None if profile is None else _os.fspath(profile),
         _start_text(start),
         float(horizon_days),
         _float_option("time_limit", time_limit),
@@ -730,7 +723,7 @@ def plan_sky(
     return SkyPlan(
         plan=frame(d["plan"]),
         unscheduled=frame(d["unscheduled"]),
-        summary=json.loads(d["summary_json"]),
+        summary=_json.loads(d["summary_json"]),
         front=None if f is None else frame(f["rows"]),
         front_plans=[] if f is None else [frame(p) for p in f["plans"]],
         cancelled=bool(d["cancelled"]),
