@@ -227,7 +227,7 @@ pub struct SweepPlan {
     /// `(k, n)`: run only the k-th (1-based) of n slices.
     pub shard: Option<(usize, usize)>,
     /// Known optimal lengths by instance name.
-    pub optima: BTreeMap<String, i64>,
+    pub known_lengths: BTreeMap<String, i64>,
     /// End a run as soon as it reaches the instance's known optimal length (nothing shorter
     /// exists, so the result is the same; the sweep just finishes sooner).
     pub until_known: bool,
@@ -469,8 +469,8 @@ pub fn run_sweep(
     Ok(outcome)
 }
 
-/// The `COMMENT` of a tour file: `wend VERSION HEAD length LENGTH TAIL`, and for a path
-/// ` KIND path FIRST to LAST` in the file's node numbers (`head` names the method and seed,
+/// The `COMMENT` of a tour file: `wend VERSION HEAD length LENGTH TAIL`, and for a path (any
+/// kind: free or fixed ends) ` open path FIRST to LAST` in the file's node numbers (`head` names the method and seed,
 /// `tail` is what follows the length, e.g. ` proven optimal`).
 pub fn tour_comment(head: &str, length: i64, tail: &str, ends: Ends, order: &[usize]) -> String {
     let mut comment = format!(
@@ -478,12 +478,7 @@ pub fn tour_comment(head: &str, length: i64, tail: &str, ends: Ends, order: &[us
         env!("CARGO_PKG_VERSION")
     );
     if let (true, Some(first), Some(last)) = (ends.is_path(), order.first(), order.last()) {
-        comment.push_str(&format!(
-            " {} path {} to {}",
-            ends.name(),
-            first + 1,
-            last + 1
-        ));
+        comment.push_str(&format!(" open path {} to {}", first + 1, last + 1));
     }
     comment
 }
@@ -501,7 +496,11 @@ fn run_one(
     };
     // Known optima are of closed tours; a path has none.
     let closed = spec.ends == EndsChoice::Closed;
-    let optimum = plan.optima.get(&spec.instance).copied().filter(|_| closed);
+    let optimum = plan
+        .known_lengths
+        .get(&spec.instance)
+        .copied()
+        .filter(|_| closed);
     let settings = Settings {
         seed: spec.seed,
         threads: Some(plan.threads_per_run),
@@ -600,7 +599,7 @@ mod tests {
             threads_per_run: 1,
             jobs: 1,
             shard,
-            optima: BTreeMap::new(),
+            known_lengths: BTreeMap::new(),
             until_known: false,
             stop: StopHandle::new(),
             out: "out".into(),
@@ -617,6 +616,15 @@ mod tests {
         assert_eq!(
             tour_comment("lk seed 1", 30, "", Ends::Open, &[2, 0, 6]),
             format!("wend {v} lk seed 1 length 30 open path 3 to 7")
+        );
+        assert_eq!(
+            tour_comment("lk seed 1", 30, "", Ends::StartEnd(2, 6), &[2, 0, 6]),
+            format!("wend {v} lk seed 1 length 30 open path 3 to 7")
+        );
+        // A closed tour from a fixed node is no path.
+        assert_eq!(
+            tour_comment("lk seed 1", 30, "", Ends::StartEnd(2, 2), &[2, 0, 6]),
+            format!("wend {v} lk seed 1 length 30")
         );
         assert_eq!(
             tour_comment(

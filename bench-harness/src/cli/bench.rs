@@ -6,10 +6,10 @@ use indicatif::{ProgressBar, ProgressStyle};
 use serde::Deserialize;
 use std::collections::{BTreeMap, HashMap};
 use std::path::{Path, PathBuf};
+use wend::CandidateSource;
 use wend_bench::record::{read_runs, RunKey, RunRecord};
 use wend_bench::runner::{run_sweep, SweepPlan};
 use wend_bench::runner::{EndsChoice, MethodSpec};
-use wend::CandidateSource;
 use wend_tsplib::{read_instance, read_optima, read_tour};
 
 #[derive(Args, Debug)]
@@ -178,7 +178,11 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
         // As `wend solve` does without --method.
         method_names.push(wend::Settings::default().method.name().to_string());
     }
-    let neighbour_lists = match a.neighbour_lists.as_ref().or(suite.neighbour_lists.as_ref()) {
+    let neighbour_lists = match a
+        .neighbour_lists
+        .as_ref()
+        .or(suite.neighbour_lists.as_ref())
+    {
         None => None,
         Some(name) => Some(CandidateSource::from_name(name).ok_or_else(|| {
             let names: Vec<&str> = CandidateSource::ALL.iter().map(|s| s.name()).collect();
@@ -262,7 +266,7 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
     if files.is_empty() {
         return Err(CliError::Input("no instance files left to run".into()));
     }
-    let optima = match a
+    let known_lengths = match a
         .known_lengths
         .clone()
         .or_else(|| suite.known_lengths.as_deref().map(rel))
@@ -297,7 +301,7 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
         threads_per_run,
         jobs,
         shard,
-        optima,
+        known_lengths,
         until_known: a.until_known || suite.until_known.unwrap_or(false),
         out: out.clone(),
         stop: super::interrupt::handle(),

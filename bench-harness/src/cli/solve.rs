@@ -58,7 +58,12 @@ pub struct SolveArgs {
     /// Where the neighbour lists come from: quadrant (the nearest few in each quadrant around a
     /// node, topped up with the nearest; helps on clustered instances), nearest, or alpha
     /// (alpha-nearness from a short Held–Karp ascent; symmetric, up to 20,000 nodes, O(n²)).
-    #[arg(long, alias = "candidates", default_value = "quadrant", value_name = "SOURCE")]
+    #[arg(
+        long,
+        alias = "candidates",
+        default_value = "quadrant",
+        value_name = "SOURCE"
+    )]
     neighbour_lists: String,
     /// Tour representation lk edits: auto (array below 10,000 nodes, two-level list from
     /// there), array or two-level. The tour is the same; only the speed differs.
