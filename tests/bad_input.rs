@@ -761,7 +761,7 @@ fn crlf_and_bom_copies_of_berlin52_solve_alike() {
             "1",
             "--iterations",
             "30",
-            "--restarts",
+            "--runs",
             "1",
         ]
         .iter()

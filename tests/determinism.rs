@@ -2,7 +2,7 @@
 //! run twice as separate `wend` processes, writes the same files bit for bit, and the same
 //! JSON once fields that measure time (or name the machine) are taken out.
 //!
-//! Budgets (`--restarts`, `--iterations`) and not time limits end every search here, since a
+//! Budgets (`--runs`, `--iterations`) and not time limits end every search here, since a
 //! search cut by the clock stops wherever the clock finds it (common practice for reproducible
 //! benchmarks: fix the work, not the time).
 
@@ -95,7 +95,7 @@ fn solve_repeats_across_processes() {
             "2",
             "--iterations",
             iterations,
-            "--restarts",
+            "--runs",
             "2",
             "--tour-out",
             "A.tour",
@@ -182,7 +182,7 @@ fn bench_repeats_across_processes() {
         "anneal",
         "--seeds",
         "2",
-        "--restarts",
+        "--runs",
         "2",
         "--iterations",
         "50",
@@ -206,7 +206,7 @@ fn bench_repeats_across_processes() {
             .map(|l| {
                 json_without(
                     l,
-                    &["seconds", "time_to_best", "trace", "machine", "git_commit"],
+                    &["seconds", "time_to_best", "trace", "machine", "commit"],
                 )
             })
             .collect();
@@ -224,7 +224,7 @@ fn bench_repeats_across_processes() {
     }
     assert!(a
         .iter()
-        .all(|r| r["stop_reason"] == "iteration_budget" || r["stop_reason"] == "restart_budget"));
+        .all(|r| r["stop_reason"] == "iteration_budget" || r["stop_reason"] == "run_budget"));
     for r in &a {
         let tour = r["tour_file"].as_str().expect("tour_file");
         same_file(&dirs[0].join("out"), &dirs[1].join("out"), tour);
@@ -239,7 +239,7 @@ fn bench_repeats_across_processes() {
             "time_to_best",
             "trace_points",
             "machine",
-            "git_commit",
+            "commit",
         ];
         let keep: Vec<usize> = (0..header.len())
             .filter(|&k| !skip.contains(&header[k].as_str()))

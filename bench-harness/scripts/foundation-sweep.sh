@@ -36,13 +36,13 @@ for line in open(sys.argv[2]):
     if ':' in line and not line.startswith('#'):
         k, v = line.split(':'); opt[k.strip()] = int(v)
 gaps = []
-print(f"{'instance':<10} {'nodes':>5} {'optimum':>9} {'length':>9} {'gap %':>6} {'restarts':>8}")
+print(f"{'instance':<10} {'nodes':>5} {'optimum':>9} {'length':>9} {'gap %':>6} {'runs':>8}")
 for r, m in zip(runs, measured):
     assert m['length'] == r['length'], (r, m)
     o = opt[r['instance']]
     g = 100.0 * (r['length'] - o) / o
     gaps.append(g)
-    print(f"{r['instance']:<10} {r['nodes']:>5} {o:>9} {r['length']:>9} {g:>6.2f} {r['restarts']:>8}")
+    print(f"{r['instance']:<10} {r['nodes']:>5} {o:>9} {r['length']:>9} {g:>6.2f} {r['runs']:>8}")
 print(f"\n{len(gaps)} instances, every tour valid; mean gap {sum(gaps)/len(gaps):.2f} %, worst {max(gaps):.2f} %")
 PY
 rm -f "$out" "$out.tour" "$out.err"

@@ -4,7 +4,7 @@ in wend's runs.jsonl schema, so that `wend bench --report` puts them in the same
 
     pip install -r bench-harness/scripts/requirements.txt
     python3 bench-harness/scripts/networkx_reference.py --out DIR --seeds 3 --time-limit 1 \
-        --optima instances/optima.txt instances/kroA100.tsp ...
+        --known-lengths instances/optima.txt instances/kroA100.tsp ...
 
 Each tour is written as a TSPLIB TOUR file and its length is computed by `wend measure`, so both
 programs' lengths come from the same distance code. networkx's methods have no time limit;
@@ -72,7 +72,8 @@ def main():
     ap.add_argument("--out", required=True)
     ap.add_argument("--seeds", type=int, default=1)
     ap.add_argument("--time-limit", type=float, default=1.0)
-    ap.add_argument("--optima")
+    ap.add_argument("--known-lengths", "--optima", dest="known_lengths",
+                    help="file of known optimal lengths (--optima: the old spelling)")
     ap.add_argument("--wend", default="target/release/wend")
     ap.add_argument("--christofides-max", type=int, default=400)
     ap.add_argument("--methods",
@@ -81,7 +82,7 @@ def main():
     args = ap.parse_args()
 
     os.makedirs(os.path.join(args.out, "tours"), exist_ok=True)
-    optima = read_optima(args.optima)
+    optima = read_optima(args.known_lengths)
     mach = machine()
     runs_path = os.path.join(args.out, "runs.jsonl")
     methods = {
@@ -127,9 +128,9 @@ def main():
                         "threads": 1, "length": length, "optimum": opt,
                         "gap_percent": None if not opt else 100.0 * (length - opt) / opt,
                         "seconds": seconds, "time_to_best": seconds, "lower_bound": None,
-                        "stop_reason": "finished", "restarts": 1, "trace": [[seconds, length]],
+                        "stop_reason": "finished", "runs": 1, "iterations": 0, "trace": [[seconds, length]],
                         "tour_file": tour_rel, "version": f"networkx {nx.__version__}",
-                        "git_commit": "n/a", "machine": mach,
+                        "commit": "n/a", "machine": mach,
                     }
                     out.write(json.dumps(rec) + "\n")
                     out.flush()

@@ -9,7 +9,11 @@ use clap::Parser;
 use std::process::ExitCode;
 
 fn main() -> ExitCode {
-    let args = cli::Args::parse();
+    let argv: Vec<std::ffi::OsString> = std::env::args_os().collect();
+    let args = cli::Args::parse_from(&argv);
+    for line in cli::deprecations(&argv) {
+        eprintln!("wend: {line}");
+    }
     cli::interrupt::install();
     match cli::run(args) {
         // The command finished with what it had when Ctrl-C came: say so in the exit code.

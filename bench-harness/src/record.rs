@@ -44,21 +44,27 @@ pub struct RunRecord {
     pub time_to_best: f64,
     /// Proven lower bound, when the method gives one.
     pub lower_bound: Option<i64>,
-    /// Why the run stopped (`time_limit`, `restart_budget`, ...).
+    /// Why the run stopped (`time_limit`, `run_budget`, ...; older files' `restart_budget` is
+    /// read as `run_budget`).
+    #[serde(deserialize_with = "stop_reason")]
     pub stop_reason: String,
-    /// Restarts completed (for `lk`: independent runs).
-    pub restarts: usize,
-    /// Kicks tried (`lk`; zero for other methods and in older files).
-    #[serde(default)]
-    pub kicks: u64,
+    /// Independent runs completed inside this run (every method). Older files: `restarts`.
+    #[serde(alias = "restarts")]
+    pub runs: usize,
+    /// Iterations over those runs (a kick of `lk`, a generation of `acs` and `mmas`, a batch
+    /// of moves of `anneal`; zero for the other methods). Older files: `kicks`, or nothing.
+    #[serde(default, alias = "kicks")]
+    pub iterations: u64,
     /// Every new best tour as `[seconds, length]`: the run's anytime curve.
     pub trace: Vec<(f64, i64)>,
     /// The best tour, as a TOUR file relative to the output folder.
     pub tour_file: Option<String>,
     /// Version of `wend` that ran.
     pub version: String,
-    /// Git commit the binary was built from (`unknown` outside a checkout).
-    pub git_commit: String,
+    /// Git commit the binary was built from (`unknown` outside a checkout). Older files:
+    /// `git_commit`.
+    #[serde(alias = "git_commit")]
+    pub commit: String,
     /// Machine description: cores, CPU model, memory, operating system.
     pub machine: String,
 }
@@ -80,6 +86,15 @@ pub struct RunKey {
 
 fn closed() -> String {
     "closed".into()
+}
+
+/// A stop reason, with the words of older files read as today's.
+fn stop_reason<'de, D: serde::Deserializer<'de>>(d: D) -> Result<String, D::Error> {
+    let reason = String::deserialize(d)?;
+    Ok(match reason.as_str() {
+        "restart_budget" => "run_budget".into(),
+        _ => reason,
+    })
 }
 
 impl RunRecord {
@@ -191,12 +206,12 @@ pub(crate) fn sample(instance: &str, method: &str, seed: u64, length: i64) -> Ru
         time_to_best: 0.5,
         lower_bound: None,
         stop_reason: "time_limit".into(),
-        restarts: 10,
-        kicks: 0,
+        runs: 10,
+        iterations: 0,
         trace: vec![(0.01, length + 50), (0.5, length)],
         tour_file: None,
         version: "0.1.0".into(),
-        git_commit: "unknown".into(),
+        commit: "unknown".into(),
         machine: "test".into(),
     }
 }

@@ -23,20 +23,20 @@ pub struct MethodSpec {
     /// The method.
     pub method: Method,
     /// Where neighbour lists come from (default: the solver's).
-    pub candidates: Option<CandidateSource>,
-    /// Width of the neighbour lists (default: the solver's).
-    pub neighbours: Option<usize>,
+    pub neighbour_lists: Option<CandidateSource>,
+    /// How many neighbours each list holds (default: the solver's).
+    pub neighbour_count: Option<usize>,
     /// Method parameters as `(key, value)`, set in order ([`Settings::set`]).
-    pub settings: Vec<(String, String)>,
+    pub params: Vec<(String, String)>,
 }
 
 impl From<Method> for MethodSpec {
     fn from(method: Method) -> Self {
         MethodSpec {
             method,
-            candidates: None,
-            neighbours: None,
-            settings: Vec::new(),
+            neighbour_lists: None,
+            neighbour_count: None,
+            params: Vec::new(),
         }
     }
 }
@@ -47,12 +47,12 @@ impl MethodSpec {
     pub fn parse(text: &str) -> Result<MethodSpec, String> {
         let mut pieces = text.split('+');
         let head = pieces.next().unwrap_or_default();
-        let mut settings = Vec::new();
+        let mut params = Vec::new();
         for piece in pieces {
             let (k, v) = piece.split_once('=').ok_or_else(|| {
                 format!("{piece:?} in {text:?} is not KEY=VALUE; write METHOD+KEY=VALUE")
             })?;
-            settings.push((k.trim().to_string(), v.trim().to_string()));
+            params.push((k.trim().to_string(), v.trim().to_string()));
         }
         let mut parts = head.split(':');
         let name = parts.next().unwrap_or_default();
@@ -63,24 +63,24 @@ impl MethodSpec {
                 names.join(", ")
             )
         })?;
-        let candidates = match parts.next() {
+        let neighbour_lists = match parts.next() {
             None => None,
             Some(src) => Some(CandidateSource::from_name(src).ok_or_else(|| {
                 let names: Vec<&str> = CandidateSource::ALL.iter().map(|s| s.name()).collect();
                 format!(
-                    "unknown candidate source {src:?} in {text:?}; choose from: {}",
+                    "unknown source of neighbour lists {src:?} in {text:?}; choose from: {}",
                     names.join(", ")
                 )
             })?),
         };
-        let neighbours = match parts.next() {
+        let neighbour_count = match parts.next() {
             None => None,
             Some(k) => match k.parse::<usize>() {
                 Ok(k) if k >= 1 => Some(k),
                 _ => {
                     return Err(format!(
-                    "neighbour-list width {k:?} in {text:?} must be a whole number of at least 1"
-                ))
+                        "neighbour count {k:?} in {text:?} must be a whole number of at least 1"
+                    ))
                 }
             },
         };
@@ -91,9 +91,9 @@ impl MethodSpec {
         }
         let spec = MethodSpec {
             method,
-            candidates,
-            neighbours,
-            settings,
+            neighbour_lists,
+            neighbour_count,
+            params,
         };
         // Checked now, so that a bad key stops the sweep before its first run.
         spec.settings().map_err(|e| format!("{text:?}: {e}"))?;
@@ -107,13 +107,13 @@ impl MethodSpec {
             method: self.method,
             ..Settings::default()
         };
-        if let Some(c) = self.candidates {
+        if let Some(c) = self.neighbour_lists {
             settings.neighbour_lists = c;
         }
-        if let Some(k) = self.neighbours {
+        if let Some(k) = self.neighbour_count {
             settings.neighbour_count = k;
         }
-        for (k, v) in &self.settings {
+        for (k, v) in &self.params {
             settings.set(k, v)?;
         }
         Ok(settings)
@@ -122,18 +122,18 @@ impl MethodSpec {
     /// The canonical text of the variant, as records and reports name it.
     pub fn label(&self) -> String {
         let mut s = self.method.name().to_string();
-        if let Some(c) = self.candidates {
+        if let Some(c) = self.neighbour_lists {
             s.push(':');
             s.push_str(c.name());
         }
-        if let Some(k) = self.neighbours {
-            if self.candidates.is_none() {
+        if let Some(k) = self.neighbour_count {
+            if self.neighbour_lists.is_none() {
                 s.push(':');
                 s.push_str(CandidateSource::default().name());
             }
             s.push_str(&format!(":{k}"));
         }
-        for (k, v) in &self.settings {
+        for (k, v) in &self.params {
             s.push_str(&format!("+{k}={v}"));
         }
         s
@@ -214,10 +214,12 @@ pub struct SweepPlan {
     pub seeds: Vec<u64>,
     /// Time limit of each run, in seconds.
     pub time_limit: f64,
-    /// Restart budget of each run; with one, runs are repeatable to the bit.
-    pub restarts: Option<usize>,
-    /// Kick budget of each `lk` run; with one (and a run count), runs are repeatable to the bit.
-    pub kicks: Option<u64>,
+    /// Runs inside each sweep run (the solver's `runs`); with a count, runs are repeatable to
+    /// the bit.
+    pub runs: Option<usize>,
+    /// Iterations of each run of an iterative method; with a budget (and a run count), runs
+    /// are repeatable to the bit.
+    pub iterations: Option<u64>,
     /// Threads inside each run.
     pub threads_per_run: usize,
     /// Runs at the same time.
@@ -225,10 +227,10 @@ pub struct SweepPlan {
     /// `(k, n)`: run only the k-th (1-based) of n slices.
     pub shard: Option<(usize, usize)>,
     /// Known optimal lengths by instance name.
-    pub optima: BTreeMap<String, i64>,
-    /// End a run as soon as it reaches the instance's known optimum (nothing shorter exists,
-    /// so the result is the same; the sweep just finishes sooner).
-    pub stop_at_optimum: bool,
+    pub known_lengths: BTreeMap<String, i64>,
+    /// End a run as soon as it reaches the instance's known optimal length (nothing shorter
+    /// exists, so the result is the same; the sweep just finishes sooner).
+    pub until_known: bool,
     /// Output folder.
     pub out: PathBuf,
     /// Ends the sweep early: the run under way is dropped (not recorded, so a resumed sweep
@@ -467,6 +469,20 @@ pub fn run_sweep(
     Ok(outcome)
 }
 
+/// The `COMMENT` of a tour file: `wend VERSION HEAD length LENGTH TAIL`, and for a path (any
+/// kind: free or fixed ends) ` open path FIRST to LAST` in the file's node numbers (`head` names the method and seed,
+/// `tail` is what follows the length, e.g. ` proven optimal`).
+pub fn tour_comment(head: &str, length: i64, tail: &str, ends: Ends, order: &[usize]) -> String {
+    let mut comment = format!(
+        "wend {} {head} length {length}{tail}",
+        env!("CARGO_PKG_VERSION")
+    );
+    if let (true, Some(first), Some(last)) = (ends.is_path(), order.first(), order.last()) {
+        comment.push_str(&format!(" open path {} to {}", first + 1, last + 1));
+    }
+    comment
+}
+
 /// One run, or `None` when the stop handle cut it short (such a run is not recorded).
 fn run_one(
     plan: &SweepPlan,
@@ -480,15 +496,19 @@ fn run_one(
     };
     // Known optima are of closed tours; a path has none.
     let closed = spec.ends == EndsChoice::Closed;
-    let optimum = plan.optima.get(&spec.instance).copied().filter(|_| closed);
+    let optimum = plan
+        .known_lengths
+        .get(&spec.instance)
+        .copied()
+        .filter(|_| closed);
     let settings = Settings {
         seed: spec.seed,
         threads: Some(plan.threads_per_run),
         time_limit: Some(plan.time_limit),
         ends: spec.ends.ends(inst.dimension),
-        runs: plan.restarts,
-        iterations: plan.kicks,
-        target: optimum.filter(|_| plan.stop_at_optimum),
+        runs: plan.runs,
+        iterations: plan.iterations,
+        target: optimum.filter(|_| plan.until_known),
         ..spec.method.settings().map_err(|e| failed(e.to_string()))?
     };
     let hooks = Hooks {
@@ -514,17 +534,12 @@ fn run_one(
         plan.time_limit
     );
     let tour_path = plan.out.join("tours").join(&tour_name);
-    let comment = format!(
-        "{}length {} found by wend {} (method {}, seed {})",
-        if closed {
-            String::new()
-        } else {
-            format!("{} path, no return step: ", spec.ends.name())
-        },
+    let comment = tour_comment(
+        &format!("{} seed {}", spec.method.label(), spec.seed),
         out.length,
-        env!("CARGO_PKG_VERSION"),
-        spec.method.label(),
-        spec.seed
+        "",
+        out.ends,
+        out.tour.order(),
     );
     std::fs::File::create(&tour_path)
         .and_then(|f| {
@@ -558,12 +573,12 @@ fn run_one(
             .ok()
             .and_then(|v| v.as_str().map(str::to_string))
             .unwrap_or_default(),
-        restarts: search.runs,
-        kicks: search.iterations,
+        runs: search.runs,
+        iterations: search.iterations,
         trace: search.trace.iter().map(|t| (t.seconds, t.length)).collect(),
         tour_file: Some(format!("tours/{tour_name}")),
         version: env!("CARGO_PKG_VERSION").to_string(),
-        git_commit: env!("WEND_GIT_COMMIT").to_string(),
+        commit: env!("WEND_GIT_COMMIT").to_string(),
         machine: machine.to_string(),
     }))
 }
@@ -579,16 +594,48 @@ mod tests {
             ends: Vec::new(),
             seeds: vec![0, 1, 2],
             time_limit: 1.0,
-            restarts: None,
-            kicks: None,
+            runs: None,
+            iterations: None,
             threads_per_run: 1,
             jobs: 1,
             shard,
-            optima: BTreeMap::new(),
-            stop_at_optimum: false,
+            known_lengths: BTreeMap::new(),
+            until_known: false,
             stop: StopHandle::new(),
             out: "out".into(),
         }
+    }
+
+    #[test]
+    fn tour_comments_name_version_method_seed_length_and_path() {
+        let v = env!("CARGO_PKG_VERSION");
+        assert_eq!(
+            tour_comment("lk seed 1", 7542, "", Ends::Closed, &[0, 1, 2]),
+            format!("wend {v} lk seed 1 length 7542")
+        );
+        assert_eq!(
+            tour_comment("lk seed 1", 30, "", Ends::Open, &[2, 0, 6]),
+            format!("wend {v} lk seed 1 length 30 open path 3 to 7")
+        );
+        assert_eq!(
+            tour_comment("lk seed 1", 30, "", Ends::StartEnd(2, 6), &[2, 0, 6]),
+            format!("wend {v} lk seed 1 length 30 open path 3 to 7")
+        );
+        // A closed tour from a fixed node is no path.
+        assert_eq!(
+            tour_comment("lk seed 1", 30, "", Ends::StartEnd(2, 2), &[2, 0, 6]),
+            format!("wend {v} lk seed 1 length 30")
+        );
+        assert_eq!(
+            tour_comment(
+                "exact dynamic-programme",
+                39,
+                " proven optimal",
+                Ends::Closed,
+                &[0, 1]
+            ),
+            format!("wend {v} exact dynamic-programme length 39 proven optimal")
+        );
     }
 
     #[test]

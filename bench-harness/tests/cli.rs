@@ -79,7 +79,7 @@ fn same_seed_and_restarts_give_the_same_tour_file() {
             inst.to_str().unwrap(),
             "--seed",
             "9",
-            "--restarts",
+            "--runs",
             "5",
             "--threads",
             threads,
@@ -169,20 +169,20 @@ fn every_candidate_source_reaches_the_published_optimum_of_berlin52() {
         let o = wend(&[
             "solve",
             &file,
-            "--candidates",
+            "--neighbour-lists",
             source,
             "--json",
-            "--kicks",
+            "--iterations",
             "2000",
         ]);
         assert!(o.status.success(), "{}", stderr(&o));
         let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
         assert_eq!(v["length"], 7542, "{source}");
     }
-    let o = wend(&["solve", &file, "--candidates", "closest"]);
+    let o = wend(&["solve", &file, "--neighbour-lists", "closest"]);
     assert_eq!(o.status.code(), Some(2));
     assert!(
-        stderr(&o).contains("unknown candidate source"),
+        stderr(&o).contains("unknown source of neighbour lists"),
         "{}",
         stderr(&o)
     );
@@ -202,7 +202,7 @@ fn bound_is_below_the_optimum_and_solve_reports_the_gap_it_proves() {
     let o = wend(&[
         "solve",
         &file,
-        "--kicks",
+        "--iterations",
         "2000",
         "--bound",
         "--bound-time",
@@ -236,10 +236,10 @@ fn asymmetric_instances_get_the_assignment_bound() {
         let o = wend(&["bound", &file, "--json"]);
         assert!(o.status.success(), "{}", stderr(&o));
         let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
-        assert_eq!(v["bound"], "assignment", "{v}");
+        assert_eq!(v["bound_method"], "assignment", "{v}");
         let b = v["lower_bound"].as_i64().unwrap();
         assert!(b <= optimum, "{name}: {v}");
-        let o = wend(&["solve", &file, "--kicks", "200", "--bound", "--json"]);
+        let o = wend(&["solve", &file, "--iterations", "200", "--bound", "--json"]);
         assert!(o.status.success(), "{}", stderr(&o));
         let s: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
         assert_eq!(s["lower_bound"], b, "{name}: {s}");
@@ -268,7 +268,7 @@ fn asymmetric_instances_get_the_assignment_bound() {
     let o = wend(&[
         "solve",
         &a.display().to_string(),
-        "--kicks",
+        "--iterations",
         "500",
         "--bound",
         "--json",
@@ -337,7 +337,7 @@ fn solve_path(inst: &Path, extra: &[&str], dir: &Path) -> (serde_json::Value, Ve
     let mut args = vec![
         "solve",
         inst.to_str().unwrap(),
-        "--kicks",
+        "--iterations",
         "200",
         "--json",
         "--tour-out",
@@ -465,9 +465,9 @@ fn methods_take_parameters_by_name_and_refuse_bad_ones_with_exit_2() {
         inst,
         "--method",
         "mmas",
-        "--set",
+        "--params",
         "local-search=2opt",
-        "--set",
+        "--params",
         "colony-size=4",
         "--iterations",
         "3",
@@ -482,10 +482,13 @@ fn methods_take_parameters_by_name_and_refuse_bad_ones_with_exit_2() {
     // berlin52: 7542, TSPLIB list of optimal solutions.
     assert!(v["length"].as_i64().unwrap() >= 7542);
     for (args, needle) in [
-        (vec!["--method", "anneal", "--set", "cooling=2"], "cooling"),
-        (vec!["--method", "acs", "--set", "greed"], "KEY=VALUE"),
         (
-            vec!["--method", "2opt", "--set", "cooling=0.5"],
+            vec!["--method", "anneal", "--params", "cooling=2"],
+            "cooling",
+        ),
+        (vec!["--method", "acs", "--params", "greed"], "KEY=VALUE"),
+        (
+            vec!["--method", "2opt", "--params", "cooling=0.5"],
             "takes no parameters",
         ),
     ] {
@@ -503,9 +506,255 @@ fn methods_take_parameters_by_name_and_refuse_bad_ones_with_exit_2() {
         "mmas",
         "acs",
         "anneal",
-        "--set evaporation=",
-        "--set schedule=",
+        "--params evaporation=",
+        "--params schedule=",
     ] {
         assert!(listed.contains(needle), "{needle} not in\n{listed}");
     }
+}
+
+#[test]
+fn solve_needs_a_path_but_lists_methods_without_one() {
+    let o = wend(&["solve"]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(stderr(&o).contains("<PATH>"), "{}", stderr(&o));
+    let help = String::from_utf8(wend(&["solve", "--help"]).stdout).unwrap();
+    assert!(help.contains("wend solve [OPTIONS] <PATH>"), "{help}");
+    let o = wend(&["solve", "--list-methods"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let list = String::from_utf8(o.stdout).unwrap();
+    assert!(list.lines().any(|l| l.starts_with("lk ")), "{list}");
+    assert!(list.contains("--params cooling="), "{list}");
+}
+
+#[test]
+fn a_bound_of_zero_gets_a_line_saying_it_proves_no_gap() {
+    // br17's costs have zero-cost cycles: its assignment bound is 0 (its optimum is 39, TSPLIB
+    // 95 list), so no gap in percent can be proven.
+    let inst = instances().join("br17.atsp");
+    let file = inst.to_str().unwrap();
+    let args = [
+        "solve",
+        file,
+        "--bound",
+        "--iterations",
+        "20",
+        "--runs",
+        "1",
+    ];
+    let o = wend(&args);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let text = String::from_utf8(o.stdout).unwrap();
+    let line = text
+        .lines()
+        .find(|l| l.starts_with("bound "))
+        .unwrap_or_default();
+    assert!(
+        line.contains("lower bound is 0") && line.contains("no gap"),
+        "{text}"
+    );
+    let mut json = args.to_vec();
+    json.push("--json");
+    let v: serde_json::Value = serde_json::from_slice(&wend(&json).stdout).unwrap();
+    assert_eq!(v["lower_bound"], 0, "{v}");
+    assert!(v["proven_gap_percent"].is_null(), "{v}");
+    assert!(v["gap_note"].as_str().unwrap().contains("no gap"), "{v}");
+    // A positive bound proves a gap and needs no note.
+    let inst = instances().join("berlin52.tsp");
+    let v: serde_json::Value = serde_json::from_slice(
+        &wend(&[
+            "solve",
+            inst.to_str().unwrap(),
+            "--bound",
+            "--iterations",
+            "20",
+            "--json",
+        ])
+        .stdout,
+    )
+    .unwrap();
+    assert!(
+        v["proven_gap_percent"].is_f64() && v["gap_note"].is_null(),
+        "{v}"
+    );
+}
+
+#[test]
+fn threads_are_reported_as_used() {
+    let inst = instances().join("berlin52.tsp");
+    let file = inst.to_str().unwrap();
+    let json = |extra: &[&str]| -> serde_json::Value {
+        let mut args = vec!["solve", file, "--iterations", "10", "--json"];
+        args.extend_from_slice(extra);
+        serde_json::from_slice(&wend(&args).stdout).unwrap()
+    };
+    let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
+    assert_eq!(json(&[])["threads"], cores);
+    assert_eq!(json(&["--threads", "3"])["threads"], 3);
+    let exact = wend(&["solve", file, "--exact", "--threads", "1", "--json"]);
+    let exact: serde_json::Value = serde_json::from_slice(&exact.stdout).unwrap();
+    assert_eq!(exact["threads"], 1, "{exact}");
+}
+
+#[test]
+fn short_options_mean_the_same_long_options_everywhere() {
+    let dir = tempfile::tempdir().unwrap();
+    let inst = instances().join("berlin52.tsp");
+    let file = inst.to_str().unwrap();
+    let tour = dir.path().join("t.tour");
+    let long = wend(&[
+        "solve",
+        file,
+        "--time-limit",
+        "30",
+        "--seed",
+        "4",
+        "--threads",
+        "1",
+        "--iterations",
+        "30",
+        "--json",
+    ]);
+    let short = wend(&[
+        "solve",
+        file,
+        "-t",
+        "30",
+        "-s",
+        "4",
+        "-j",
+        "1",
+        "--iterations",
+        "30",
+        "--json",
+        "-o",
+        tour.to_str().unwrap(),
+    ]);
+    let (a, b): (serde_json::Value, serde_json::Value) = (
+        serde_json::from_slice(&long.stdout).unwrap(),
+        serde_json::from_slice(&short.stdout).unwrap(),
+    );
+    for key in [
+        "length",
+        "seed",
+        "threads",
+        "time_limit",
+        "runs",
+        "iterations",
+    ] {
+        assert_eq!(a[key], b[key], "{key}: {a} {b}");
+    }
+    assert_eq!(b["tour_out"], tour.to_str().unwrap());
+    assert!(tour.is_file());
+    let generated = dir.path().join("g.tsp");
+    let o = wend(&[
+        "generate",
+        "--nodes",
+        "12",
+        "-s",
+        "3",
+        "-o",
+        generated.to_str().unwrap(),
+    ]);
+    assert!(o.status.success() && generated.is_file(), "{}", stderr(&o));
+    let o = wend(&["bound", file, "-t", "1", "--json"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let out = dir.path().join("bench");
+    let o = wend(&[
+        "bench",
+        "--instances",
+        file,
+        "--methods",
+        "greedy",
+        "-t",
+        "5",
+        "-o",
+        out.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert!(out.join("runs.jsonl").is_file());
+}
+
+#[test]
+fn bench_without_methods_runs_lk() {
+    let dir = tempfile::tempdir().unwrap();
+    let inst = instances().join("burma14.tsp");
+    let out = dir.path().display().to_string();
+    let o = wend(&[
+        "bench",
+        "--instances",
+        inst.to_str().unwrap(),
+        "--time-limit",
+        "5",
+        "--iterations",
+        "10",
+        "--runs",
+        "1",
+        "--out",
+        &out,
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let text = std::fs::read_to_string(dir.path().join("runs.jsonl")).unwrap();
+    let r: serde_json::Value = serde_json::from_str(text.lines().next().unwrap()).unwrap();
+    assert_eq!(r["method"], "lk", "{r}");
+}
+
+#[test]
+fn bound_help_names_both_bounds() {
+    let help = String::from_utf8(wend(&["--help"]).stdout).unwrap();
+    let line = help
+        .lines()
+        .find(|l| l.trim_start().starts_with("bound"))
+        .unwrap();
+    assert!(
+        line.contains("asymmetric") || line.contains("assignment"),
+        "{line}"
+    );
+    let help = String::from_utf8(wend(&["bound", "--help"]).stdout).unwrap();
+    assert!(help.contains("assignment bound"), "{help}");
+}
+
+#[test]
+fn tour_files_say_version_method_seed_and_length() {
+    let dir = tempfile::tempdir().unwrap();
+    let inst = instances().join("burma14.tsp");
+    let file = inst.to_str().unwrap();
+    let tour = dir.path().join("t.tour");
+    let t = tour.to_str().unwrap();
+    let comment = |args: &[&str]| -> String {
+        let o = wend(args);
+        assert!(o.status.success(), "{}", stderr(&o));
+        let text = std::fs::read_to_string(&tour).unwrap();
+        text.lines()
+            .find_map(|l| l.strip_prefix("COMMENT : "))
+            .unwrap()
+            .to_string()
+    };
+    let v = env!("CARGO_PKG_VERSION");
+    // burma14's optimum is 3323 (TSPLIB 95 list of optimal tour lengths).
+    assert_eq!(
+        comment(&["solve", file, "--seed", "2", "--iterations", "50", "-o", t]),
+        format!("wend {v} lk seed 2 length 3323")
+    );
+    assert_eq!(
+        comment(&["solve", file, "--exact", "-o", t]),
+        format!("wend {v} exact dynamic-programme length 3323 proven optimal")
+    );
+    let open = comment(&[
+        "solve",
+        file,
+        "--start",
+        "3",
+        "--end",
+        "7",
+        "--iterations",
+        "50",
+        "-o",
+        t,
+    ]);
+    assert!(
+        open.starts_with(&format!("wend {v} lk seed 0 length "))
+            && open.ends_with(" open path 3 to 7"),
+        "{open}"
+    );
 }

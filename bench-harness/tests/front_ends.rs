@@ -20,7 +20,7 @@ fn instance(name: &str) -> String {
         .to_string()
 }
 
-/// `(method spec for the sweep, method, --set pairs, settings as JSON)`.
+/// `(method spec for the sweep, method, --params pairs, settings as JSON)`.
 fn variants() -> Vec<(&'static str, &'static str, Vec<&'static str>, &'static str)> {
     vec![
         (
@@ -39,7 +39,7 @@ fn variants() -> Vec<(&'static str, &'static str, Vec<&'static str>, &'static st
             "lk:nearest:6",
             "lk",
             vec![],
-            r#"{"method": "lk", "candidates": "nearest", "neighbours": 6}"#,
+            r#"{"method": "lk", "neighbour_lists": "nearest", "neighbour_count": 6}"#,
         ),
     ]
 }
@@ -55,7 +55,7 @@ fn command_sweep_and_library_give_the_same_length() {
     args.extend_from_slice(&[
         "--seeds",
         "2",
-        "--restarts",
+        "--runs",
         "1",
         "--iterations",
         "6",
@@ -92,7 +92,7 @@ fn command_sweep_and_library_give_the_same_length() {
                 &seed_text,
                 "--threads",
                 "1",
-                "--restarts",
+                "--runs",
                 "1",
                 "--iterations",
                 "6",
@@ -101,10 +101,10 @@ fn command_sweep_and_library_give_the_same_length() {
                 "--json",
             ];
             if spec.contains(":nearest:6") {
-                args.extend_from_slice(&["--candidates", "nearest", "--neighbours", "6"]);
+                args.extend_from_slice(&["--neighbour-lists", "nearest", "--neighbour-count", "6"]);
             }
             for p in &pairs {
-                args.extend_from_slice(&["--set", p]);
+                args.extend_from_slice(&["--params", p]);
             }
             let o = wend(&args);
             assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
@@ -149,6 +149,7 @@ fn the_json_keys_of_solve_stay_the_same() {
             "end",
             "ends",
             "file",
+            "gap_note",
             "instance",
             "iterations",
             "length",
@@ -178,6 +179,7 @@ fn the_json_keys_of_solve_stay_the_same() {
             "exact_method",
             "file",
             "first_tour_length",
+            "gap_note",
             "instance",
             "length",
             "lower_bound",

@@ -38,7 +38,7 @@ fn sweep(out: &Path, seeds: &str, extra: &[&str]) -> Output {
         "greedy",
         "--seeds",
         seeds,
-        "--restarts",
+        "--runs",
         "3",
         "--time-limit",
         "60",
@@ -128,7 +128,7 @@ fn gaps_come_from_the_optima_file_and_impossible_tours_are_flagged() {
     let optima = tmp.path().join("optima.txt");
     std::fs::write(&optima, "# test optima\nberlin52 : 7542\nst70 : 100000\n").unwrap();
     let d = tmp.path().join("s");
-    let o = sweep(&d, "1", &["--optima", optima.to_str().unwrap()]);
+    let o = sweep(&d, "1", &["--known-lengths", optima.to_str().unwrap()]);
     for r in runs(&d) {
         let len = r["length"].as_i64().unwrap() as f64;
         match r["instance"].as_str().unwrap() {
@@ -235,7 +235,7 @@ fn runs_of_one_job_never_overlap() {
         "2",
         "--jobs",
         "1",
-        "--stop-at-optimum",
+        "--until-known",
         "--out",
         &out,
     ]);
@@ -263,9 +263,9 @@ fn method_variants_run_with_their_own_neighbour_lists() {
         "--methods",
         "lk:nearest:5",
         "lk:alpha:5",
-        "--restarts",
+        "--runs",
         "1",
-        "--kicks",
+        "--iterations",
         "3",
         "--time-limit",
         "60",
@@ -282,13 +282,13 @@ fn method_variants_run_with_their_own_neighbour_lists() {
         let o = wend(&[
             "solve",
             &file,
-            "--candidates",
+            "--neighbour-lists",
             source,
-            "--neighbours",
+            "--neighbour-count",
             "5",
-            "--restarts",
+            "--runs",
             "1",
-            "--kicks",
+            "--iterations",
             "3",
             "--json",
         ]);
@@ -337,9 +337,9 @@ fn paths_and_atsp_runs_are_kept_apart_from_closed_tours() {
         "closed",
         "open",
         "start-end",
-        "--kicks",
+        "--iterations",
         "200",
-        "--restarts",
+        "--runs",
         "1",
         "--time-limit",
         "60",

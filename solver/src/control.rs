@@ -53,11 +53,13 @@ pub struct Improvement {
 }
 
 /// Why a search stopped.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum StopReason {
-    /// All requested restarts ran to a local optimum.
-    RestartBudget,
+    /// All requested runs ran to their end (each `2opt` run to a local optimum). Records of
+    /// earlier versions call it `restart_budget`, read as this.
+    #[serde(alias = "restart_budget")]
+    RunBudget,
     /// The time limit was reached.
     TimeLimit,
     /// A [`StopHandle`] asked for it.

@@ -6,6 +6,7 @@ use indicatif::{ProgressBar, ProgressStyle};
 use serde::Deserialize;
 use std::collections::{BTreeMap, HashMap};
 use std::path::{Path, PathBuf};
+use wend::CandidateSource;
 use wend_bench::record::{read_runs, RunKey, RunRecord};
 use wend_bench::runner::{run_sweep, SweepPlan};
 use wend_bench::runner::{EndsChoice, MethodSpec};
@@ -21,10 +22,18 @@ pub struct BenchArgs {
     #[arg(long, num_args = 1.., value_name = "PATH")]
     instances: Vec<String>,
     /// Methods to run (see `wend solve --list-methods`), each optionally with the source and
-    /// width of its neighbour lists and with parameters: `lk`, `lk:alpha`, `lk:nearest:5`,
-    /// `mmas+local-search=2opt`.
+    /// count of its neighbour lists and with parameters: `lk`, `lk:alpha`, `lk:nearest:5`,
+    /// `mmas+local-search=2opt` [default: lk]
     #[arg(long, num_args = 1.., value_name = "NAME")]
     methods: Vec<String>,
+    /// Where the neighbour lists come from (quadrant, nearest, alpha), for every method that
+    /// does not name its own (`lk:nearest`).
+    #[arg(long, alias = "candidates", value_name = "SOURCE")]
+    neighbour_lists: Option<String>,
+    /// How many neighbours each list holds, for every method that does not give its own
+    /// (`lk:nearest:5`).
+    #[arg(long, alias = "neighbours", value_name = "K")]
+    neighbour_count: Option<usize>,
     /// What each run is asked for: closed (tours), open (paths with free ends), start (paths
     /// from the file's first node), end (paths to it), start-end (paths from the first node to
     /// the last). Several give runs of each; paths are reported apart from tours, and their gap
@@ -35,15 +44,15 @@ pub struct BenchArgs {
     #[arg(long, value_name = "N")]
     seeds: Option<u64>,
     /// Time limit of each run, in seconds.
-    #[arg(long, value_name = "SECONDS")]
+    #[arg(long, short = 't', value_name = "SECONDS")]
     time_limit: Option<f64>,
-    /// Restart budget of each run, which makes runs repeatable to the bit (the time limit
-    /// still caps them).
-    #[arg(long, value_name = "N")]
-    restarts: Option<usize>,
-    /// Steps of each run of an iterative method: kicks (lk), generations (acs, mmas), batches of
-    /// moves (anneal). With --restarts, runs repeat to the bit.
-    #[arg(long, visible_alias = "kicks", value_name = "N")]
+    /// Independent runs inside each run of the sweep (as `wend solve --runs`), which makes
+    /// them repeatable to the bit (the time limit still caps them).
+    #[arg(long, alias = "restarts", value_name = "N")]
+    runs: Option<usize>,
+    /// Iterations of each run of an iterative method: kicks (lk), generations (acs, mmas),
+    /// batches of moves (anneal). With --runs, runs repeat to the bit.
+    #[arg(long, alias = "kicks", value_name = "N")]
     iterations: Option<u64>,
     /// Threads inside each run.
     #[arg(long, value_name = "N")]
@@ -54,13 +63,14 @@ pub struct BenchArgs {
     /// Run only the K-th of N fixed slices of the run list (for several machines).
     #[arg(long, value_name = "K/N")]
     shard: Option<String>,
-    /// File of known optima (`name : length` lines). Default: `optima.txt` beside each instance.
-    #[arg(long, value_name = "FILE")]
-    optima: Option<PathBuf>,
-    /// End each run when it reaches the known optimum (the result is the same, the sweep
-    /// finishes sooner; time-to-best figures are unchanged).
-    #[arg(long)]
-    stop_at_optimum: bool,
+    /// File of known optimal lengths (`name : length` lines). Default: `optima.txt` beside
+    /// each instance.
+    #[arg(long, alias = "optima", value_name = "FILE")]
+    known_lengths: Option<PathBuf>,
+    /// End each run when it reaches the known optimal length (the result is the same, the
+    /// sweep finishes sooner; time-to-best figures are unchanged).
+    #[arg(long, alias = "stop-at-optimum")]
+    until_known: bool,
     /// Only instances with at least this many nodes.
     #[arg(long, value_name = "N")]
     min_nodes: Option<usize>,
@@ -68,7 +78,7 @@ pub struct BenchArgs {
     #[arg(long, value_name = "N")]
     max_nodes: Option<usize>,
     /// Output folder for runs.jsonl, runs.csv, summary.md and the plots.
-    #[arg(long, value_name = "DIR")]
+    #[arg(long, short = 'o', value_name = "DIR")]
     out: Option<PathBuf>,
     /// Do not sweep: rebuild the report from the runs.jsonl files of these folders (merged),
     /// written to --out (default: the first folder).
@@ -76,22 +86,39 @@ pub struct BenchArgs {
     report: Vec<PathBuf>,
 }
 
+/// Old names of suite keys, `(old, new)`, read for one release with a line on stderr.
+const OLD_SUITE_KEYS: [(&str, &str); 6] = [
+    ("restarts", "runs"),
+    ("kicks", "iterations"),
+    ("optima", "known_lengths"),
+    ("stop_at_optimum", "until_known"),
+    ("candidates", "neighbour_lists"),
+    ("neighbours", "neighbour_count"),
+];
+
 /// A suite file: the same settings as the command-line options.
 #[derive(Debug, Default, Deserialize)]
 #[serde(deny_unknown_fields)]
 struct Suite {
     instances: Option<Vec<String>>,
     methods: Option<Vec<String>>,
+    #[serde(alias = "candidates")]
+    neighbour_lists: Option<String>,
+    #[serde(alias = "neighbours")]
+    neighbour_count: Option<usize>,
     ends: Option<Vec<String>>,
     seeds: Option<u64>,
     time_limit: Option<f64>,
-    restarts: Option<usize>,
+    #[serde(alias = "restarts")]
+    runs: Option<usize>,
     #[serde(alias = "kicks")]
     iterations: Option<u64>,
     threads_per_run: Option<usize>,
     jobs: Option<usize>,
-    optima: Option<String>,
-    stop_at_optimum: Option<bool>,
+    #[serde(alias = "optima")]
+    known_lengths: Option<String>,
+    #[serde(alias = "stop_at_optimum")]
+    until_known: Option<bool>,
     min_nodes: Option<usize>,
     max_nodes: Option<usize>,
     out: Option<String>,
@@ -109,6 +136,16 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
             let s: Suite = toml::from_str(&text).map_err(|e| {
                 CliError::Input(format!("{}: {}", p.display(), one_line(&e.to_string())))
             })?;
+            if let Ok(table) = toml::from_str::<toml::Table>(&text) {
+                for (old, new) in OLD_SUITE_KEYS {
+                    if table.contains_key(old) {
+                        eprintln!(
+                            "wend: {}: the key {old} is deprecated; use {new}",
+                            p.display()
+                        );
+                    }
+                }
+            }
             (s, p.parent().map(Path::to_path_buf).unwrap_or_default())
         }
         None => (Suite::default(), PathBuf::new()),
@@ -132,20 +169,44 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
             "no instances: give --instances PATH... or a --suite file".into(),
         ));
     }
-    let method_names = if !a.methods.is_empty() {
+    let mut method_names = if !a.methods.is_empty() {
         a.methods.clone()
     } else {
         suite.methods.clone().unwrap_or_default()
     };
     if method_names.is_empty() {
+        // As `wend solve` does without --method.
+        method_names.push(wend::Settings::default().method.name().to_string());
+    }
+    let neighbour_lists = match a
+        .neighbour_lists
+        .as_ref()
+        .or(suite.neighbour_lists.as_ref())
+    {
+        None => None,
+        Some(name) => Some(CandidateSource::from_name(name).ok_or_else(|| {
+            let names: Vec<&str> = CandidateSource::ALL.iter().map(|s| s.name()).collect();
+            CliError::Input(format!(
+                "unknown source of neighbour lists {name:?}; choose one of: {}",
+                names.join(", ")
+            ))
+        })?),
+    };
+    let neighbour_count = a.neighbour_count.or(suite.neighbour_count);
+    if neighbour_count == Some(0) {
         return Err(CliError::Input(
-            "no methods: give --methods NAME... (see wend solve --list-methods)".into(),
+            "--neighbour-count must be at least 1".into(),
         ));
     }
     let methods = method_names
         .iter()
-        .map(|n| MethodSpec::parse(n).map_err(CliError::Input))
-        .collect::<Result<Vec<_>, _>>()?;
+        .map(|n| {
+            let mut spec = MethodSpec::parse(n).map_err(CliError::Input)?;
+            spec.neighbour_lists = spec.neighbour_lists.or(neighbour_lists);
+            spec.neighbour_count = spec.neighbour_count.or(neighbour_count);
+            Ok(spec)
+        })
+        .collect::<Result<Vec<_>, CliError>>()?;
     let ends_names = if !a.ends.is_empty() {
         a.ends.clone()
     } else {
@@ -205,10 +266,10 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
     if files.is_empty() {
         return Err(CliError::Input("no instance files left to run".into()));
     }
-    let optima = match a
-        .optima
+    let known_lengths = match a
+        .known_lengths
         .clone()
-        .or_else(|| suite.optima.as_deref().map(rel))
+        .or_else(|| suite.known_lengths.as_deref().map(rel))
     {
         Some(p) => read_optima(&p)?,
         None => {
@@ -235,13 +296,13 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
         ends,
         seeds: (0..seeds).collect(),
         time_limit,
-        restarts: a.restarts.or(suite.restarts),
-        kicks: a.iterations.or(suite.iterations),
+        runs: a.runs.or(suite.runs),
+        iterations: a.iterations.or(suite.iterations),
         threads_per_run,
         jobs,
         shard,
-        optima,
-        stop_at_optimum: a.stop_at_optimum || suite.stop_at_optimum.unwrap_or(false),
+        known_lengths,
+        until_known: a.until_known || suite.until_known.unwrap_or(false),
         out: out.clone(),
         stop: super::interrupt::handle(),
     };

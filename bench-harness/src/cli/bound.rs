@@ -13,8 +13,9 @@ pub struct BoundArgs {
     /// TSPLIB instance file. Symmetric costs get the Held–Karp bound, asymmetric ones the
     /// assignment bound (the cheapest cover of the nodes by cycles).
     path: PathBuf,
-    /// Stop the ascent after this many seconds and report the best bound so far.
-    #[arg(long, value_name = "SECONDS", default_value_t = 10.0)]
+    /// Stop the ascent after this many seconds and report the best bound so far (the
+    /// assignment bound of asymmetric costs is computed in one go).
+    #[arg(long, short = 't', value_name = "SECONDS", default_value_t = 10.0)]
     time_limit: f64,
     /// Length of a known tour: sets the ascent's step size and ends it once reached.
     #[arg(long, value_name = "LENGTH")]
@@ -49,7 +50,7 @@ pub fn run(a: BoundArgs) -> Result<(), CliError> {
                 "instance": inst.name,
                 "file": a.path.display().to_string(),
                 "nodes": inst.dimension,
-                "bound": "held-karp",
+                "bound_method": "held-karp",
                 "lower_bound": asc.lower_bound,
                 "optimal_tour_found": asc.tree_is_tour,
                 "iterations": asc.iterations,
@@ -86,7 +87,7 @@ fn assignment(a: &BoundArgs, inst: &wend_tsplib::Instance) -> Result<(), CliErro
                 "instance": inst.name,
                 "file": a.path.display().to_string(),
                 "nodes": inst.dimension,
-                "bound": "assignment",
+                "bound_method": "assignment",
                 "lower_bound": b.lower_bound,
                 "optimal_tour_found": b.cycles == 1,
                 "cycles": b.cycles,

@@ -28,10 +28,10 @@ const OPTIMA: &str = include_str!("../../../instances/optima.txt");
 #[derive(Args, Debug)]
 pub struct DemoArgs {
     /// Seconds per instance.
-    #[arg(long, default_value_t = 1.0, value_name = "SECONDS")]
+    #[arg(long, short = 't', default_value_t = 1.0, value_name = "SECONDS")]
     time_limit: f64,
     /// Seed of all random choices.
-    #[arg(long, default_value_t = 0)]
+    #[arg(long, short = 's', default_value_t = 0)]
     seed: u64,
 }
 
@@ -51,8 +51,8 @@ pub fn run(a: DemoArgs) -> Result<(), CliError> {
     );
     println!();
     println!(
-        "{:<10} {:>5} {:<5} {:>10} {:>10} {:>7} {:>9} {:>7}",
-        "instance", "nodes", "type", "optimum", "length", "gap %", "kicks", "seconds"
+        "{:<10} {:>5} {:<5} {:>10} {:>10} {:>7} {:>10} {:>7}",
+        "instance", "nodes", "type", "optimum", "length", "gap %", "iterations", "seconds"
     );
     let mut gaps = Vec::new();
     for (file, text) in DEMO {
@@ -77,7 +77,7 @@ pub fn run(a: DemoArgs) -> Result<(), CliError> {
             gaps.push(g);
         }
         println!(
-            "{:<10} {:>5} {:<5} {:>10} {:>10} {:>7} {:>9} {:>7.2}",
+            "{:<10} {:>5} {:<5} {:>10} {:>10} {:>7} {:>10} {:>7.2}",
             inst.name,
             inst.dimension,
             inst.kind.keyword(),

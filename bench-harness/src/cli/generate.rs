@@ -28,13 +28,13 @@ pub struct GenerateArgs {
     #[arg(long, default_value_t = 1_000_000, value_name = "SIDE")]
     side: u64,
     /// Seed of the generator; the same seed gives the same file.
-    #[arg(long, default_value_t = 0)]
+    #[arg(long, short = 's', default_value_t = 0)]
     seed: u64,
     /// Instance name written in the file (default: the file name without extension).
     #[arg(long)]
     name: Option<String>,
     /// Output file.
-    #[arg(long, value_name = "FILE")]
+    #[arg(long, short = 'o', value_name = "FILE")]
     out: PathBuf,
 }
 

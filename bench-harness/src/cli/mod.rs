@@ -39,7 +39,8 @@ enum Command {
     Measure(measure::MeasureArgs),
     /// Solve the built-in demo instances and compare with their published optima.
     Demo(demo::DemoArgs),
-    /// Compute the Held–Karp lower bound on every tour of a symmetric instance.
+    /// Compute a lower bound on every tour: Held–Karp for symmetric costs, the assignment bound
+    /// for asymmetric ones.
     Bound(bound::BoundArgs),
     /// Write a seeded random instance (uniform points in a square) as a TSPLIB file.
     Generate(generate::GenerateArgs),
@@ -48,6 +49,37 @@ enum Command {
     /// Observing plans for a sun-shaded observatory far from Earth: `wend sky plan` (planning proposals
     /// to be confirmed by the operations team's validated tools).
     Sky(sky::SkyArgs),
+}
+
+/// Old spellings of options, `(old, new)`, accepted as hidden aliases for one release.
+pub const OLD_OPTIONS: [(&str, &str); 7] = [
+    ("--restarts", "--runs"),
+    ("--kicks", "--iterations"),
+    ("--set", "--params"),
+    ("--neighbours", "--neighbour-count"),
+    ("--candidates", "--neighbour-lists"),
+    ("--optima", "--known-lengths"),
+    ("--stop-at-optimum", "--until-known"),
+];
+
+/// One line for each old spelling of an option in `argv` (the command line clap accepted),
+/// naming the new one; nothing after `--`.
+pub fn deprecations(argv: &[std::ffi::OsString]) -> Vec<String> {
+    let mut lines = Vec::new();
+    for arg in argv.iter().skip(1) {
+        let arg = arg.to_string_lossy();
+        if arg == "--" {
+            break;
+        }
+        let name = arg.split_once('=').map_or(&*arg, |(name, _)| name);
+        if let Some((old, new)) = OLD_OPTIONS.iter().find(|(old, _)| *old == name) {
+            let line = format!("{old} is deprecated; use {new}");
+            if !lines.contains(&line) {
+                lines.push(line);
+            }
+        }
+    }
+    lines
 }
 
 /// Runs one command.

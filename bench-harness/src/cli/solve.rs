@@ -14,49 +14,57 @@ use wend::{
 #[derive(Args, Debug)]
 pub struct SolveArgs {
     /// TSPLIB instance file (TYPE TSP or ATSP).
-    #[arg(required_unless_present = "list_methods")]
+    #[arg(required = true)]
     path: Option<PathBuf>,
     /// Stop after this many seconds and report the best tour so far.
-    #[arg(long, value_name = "SECONDS")]
+    #[arg(long, short = 't', value_name = "SECONDS")]
     time_limit: Option<f64>,
-    /// Seed of all random choices; the same seed and restart count give the same tour.
-    #[arg(long, default_value_t = 0)]
+    /// Seed of all random choices; the same seed, run count and iteration budget give the same
+    /// tour.
+    #[arg(long, short = 's', default_value_t = 0)]
     seed: u64,
     /// Worker threads (default: one per core).
-    #[arg(long)]
+    #[arg(long, short = 'j', value_name = "N")]
     threads: Option<usize>,
-    /// Independent runs (lk, anneal, colonies of acs and mmas) or restarts (2opt). Default
-    /// without a time limit: 2 runs (1 colony) or 8 restarts; with one, as many as fit.
-    #[arg(long)]
-    restarts: Option<usize>,
-    /// Steps per run: kicks (lk), generations (acs, mmas), batches of moves at one temperature
-    /// (anneal). With such a budget the same seed gives the same tour on any number of threads
-    /// (default without a time limit: lk the number of nodes within 1,000-10,000; acs and mmas
-    /// 100; anneal 500).
-    #[arg(long, visible_alias = "kicks", value_name = "N")]
+    /// Independent runs, each from a start tour of its own (every method; a run of acs or mmas
+    /// is one colony). Default without a time limit: 2 runs (1 for acs and mmas, 8 for 2opt);
+    /// with one, as many as fit.
+    #[arg(long, alias = "restarts", value_name = "N")]
+    runs: Option<usize>,
+    /// Iterations per run. One iteration is a kick and its repair (lk), a generation of ants
+    /// (acs, mmas), or a batch of moves at one temperature (anneal); 2opt counts none. With
+    /// such a budget the same seed gives the same tour on any number of threads (default
+    /// without a time limit: lk the number of nodes within 1,000-10,000; acs and mmas 100;
+    /// anneal 500).
+    #[arg(long, alias = "kicks", value_name = "N")]
     iterations: Option<u64>,
-    /// End a run after this many steps in a row without a shorter tour (a new run starts while
-    /// time remains).
+    /// End a run after this many iterations in a row without a shorter tour (a new run starts
+    /// while time remains).
     #[arg(long, value_name = "N")]
     stall_limit: Option<u64>,
-    /// Set a parameter of the method, KEY=VALUE; repeat for several. `--list-methods` lists
-    /// each method's keys.
-    #[arg(long = "set", value_name = "KEY=VALUE")]
-    settings: Vec<String>,
+    /// A parameter of the method, KEY=VALUE; repeat for several. `--list-methods` lists each
+    /// method's keys.
+    #[arg(long, alias = "set", value_name = "KEY=VALUE")]
+    params: Vec<String>,
     /// Stop as soon as a tour of at most this length is found.
     #[arg(long, value_name = "LENGTH")]
     target: Option<i64>,
     /// Method to run; see --list-methods.
     #[arg(long, default_value = "lk")]
     method: String,
-    /// Width of the neighbour lists the moves look at.
-    #[arg(long, default_value_t = wend::DEFAULT_NEIGHBOURS)]
-    neighbours: usize,
+    /// How many neighbours each node's list holds: the moves look at these.
+    #[arg(long, alias = "neighbours", value_name = "K", default_value_t = wend::DEFAULT_NEIGHBOURS)]
+    neighbour_count: usize,
     /// Where the neighbour lists come from: quadrant (the nearest few in each quadrant around a
     /// node, topped up with the nearest; helps on clustered instances), nearest, or alpha
     /// (alpha-nearness from a short Held–Karp ascent; symmetric, up to 20,000 nodes, O(n²)).
-    #[arg(long, default_value = "quadrant", value_name = "SOURCE")]
-    candidates: String,
+    #[arg(
+        long,
+        alias = "candidates",
+        default_value = "quadrant",
+        value_name = "SOURCE"
+    )]
+    neighbour_lists: String,
     /// Tour representation lk edits: auto (array below 10,000 nodes, two-level list from
     /// there), array or two-level. The tour is the same; only the speed differs.
     #[arg(long, default_value = "auto", value_name = "LAYOUT")]
@@ -68,7 +76,7 @@ pub struct SolveArgs {
     /// Prove the tour optimal: the dynamic programme up to 16 nodes (24 for asymmetric costs),
     /// else a short lk search and branch and bound on the 1-tree bound (symmetric costs only).
     /// With --time-limit, the best tour and bound when time runs out; JSON `proven_optimal`.
-    #[arg(long, conflicts_with_all = ["bound", "method", "restarts", "iterations", "settings", "stall_limit", "target", "candidates", "layout", "neighbours"])]
+    #[arg(long, conflicts_with_all = ["bound", "method", "runs", "iterations", "params", "stall_limit", "target", "neighbour_lists", "layout", "neighbour_count"])]
     exact: bool,
     /// With --exact: dynamic-programme (up to 24 nodes, either kind of costs) or
     /// branch-and-bound (symmetric costs); default: chosen by size and symmetry.
@@ -89,13 +97,13 @@ pub struct SolveArgs {
     #[arg(long, value_name = "ID")]
     end: Option<usize>,
     /// Write the tour to this file in TSPLIB TOUR format.
-    #[arg(long, value_name = "FILE")]
+    #[arg(long, short = 'o', value_name = "FILE")]
     tour_out: Option<PathBuf>,
     /// Print exactly one JSON object on stdout instead of a summary.
     #[arg(long)]
     json: bool,
-    /// List the methods and exit.
-    #[arg(long)]
+    /// List the methods and their parameters, and exit (no instance file needed).
+    #[arg(long, exclusive = true)]
     list_methods: bool,
 }
 
@@ -104,7 +112,7 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
         for m in Method::ALL {
             println!("{:<10} {}", m.name(), m.describe());
             for (key, meaning) in m.keys() {
-                println!("{:<10}   --set {key}=...  {meaning}", "");
+                println!("{:<10}   --params {key}=...  {meaning}", "");
             }
         }
         return Ok(());
@@ -154,11 +162,11 @@ fn settings_of(a: &SolveArgs) -> Result<Settings, CliError> {
             names.join(", ")
         ))
     })?;
-    let candidates = CandidateSource::from_name(&a.candidates).ok_or_else(|| {
+    let neighbour_lists = CandidateSource::from_name(&a.neighbour_lists).ok_or_else(|| {
         let names: Vec<&str> = CandidateSource::ALL.iter().map(|s| s.name()).collect();
         CliError::Input(format!(
-            "unknown candidate source {:?}; choose one of: {}",
-            a.candidates,
+            "unknown source of neighbour lists {:?}; choose one of: {}",
+            a.neighbour_lists,
             names.join(", ")
         ))
     })?;
@@ -185,12 +193,12 @@ fn settings_of(a: &SolveArgs) -> Result<Settings, CliError> {
         time_limit: a.time_limit,
         seed: a.seed,
         threads: a.threads,
-        runs: a.restarts,
+        runs: a.runs,
         iterations: a.iterations,
         stall_limit: a.stall_limit,
         target: a.target,
-        neighbour_count: a.neighbours,
-        neighbour_lists: candidates,
+        neighbour_count: a.neighbour_count,
+        neighbour_lists,
         layout,
         bound: a.bound,
         bound_time: a.bound_time,
@@ -198,10 +206,10 @@ fn settings_of(a: &SolveArgs) -> Result<Settings, CliError> {
         exact_method,
         ..Settings::default()
     };
-    for setting in &a.settings {
-        let (key, value) = setting
+    for pair in &a.params {
+        let (key, value) = pair
             .split_once('=')
-            .ok_or_else(|| CliError::Input(format!("--set takes KEY=VALUE, got {setting:?}")))?;
+            .ok_or_else(|| CliError::Input(format!("--params takes KEY=VALUE, got {pair:?}")))?;
         settings
             .set(key.trim(), value.trim())
             .map_err(|e| CliError::Input(e.to_string()))?;
@@ -217,37 +225,21 @@ fn settings_of(a: &SolveArgs) -> Result<Settings, CliError> {
 
 /// The comment line of the tour file.
 fn tour_comment(out: &Outcome, settings: &Settings) -> String {
-    let version = env!("CARGO_PKG_VERSION");
-    match &out.proof {
-        None => {
-            let comment = format!(
-                "length {} found by wend {version} (method {}, seed {})",
-                out.length,
-                settings.method.name(),
-                settings.seed
-            );
-            if out.ends.is_path() {
-                format!("open path (no return edge), {}; {comment}", ends_words(out))
-            } else {
-                comment
-            }
-        }
-        Some(p) => format!(
-            "{}length {} found by wend {version} ({}{})",
-            if out.ends.is_path() {
-                format!("{} path, no return step: ", out.ends.name())
-            } else {
-                String::new()
-            },
-            out.length,
-            p.exact_method.name(),
-            if p.proven_optimal {
-                ", proven optimal"
-            } else {
-                ", not proven optimal"
-            }
+    let (head, tail) = match &out.proof {
+        None => (
+            format!("{} seed {}", settings.method.name(), settings.seed),
+            "",
         ),
-    }
+        Some(p) => (
+            format!("exact {}", p.exact_method.name()),
+            if p.proven_optimal {
+                " proven optimal"
+            } else {
+                " not proven optimal"
+            },
+        ),
+    };
+    wend_bench::runner::tour_comment(&head, out.length, tail, out.ends, out.tour.order())
 }
 
 /// The `--json` object: the outcome without its tour and trace, and what only the command
@@ -272,7 +264,6 @@ fn json_object(
         "type": inst.kind.keyword(),
         "nodes": inst.dimension,
         "seed": settings.seed,
-        "threads": settings.threads,
         "time_limit": settings.time_limit,
         "tour_out": a.tour_out.as_ref().map(|p| p.display().to_string()),
     });
@@ -306,19 +297,18 @@ fn print_summary(inst: &wend_tsplib::Instance, settings: &Settings, out: &Outcom
         println!("ends       {}", ends_words(out));
     }
     println!("length     {}", out.length);
-    if let (Some(b), Some(g)) = (out.lower_bound, out.proven_gap_percent) {
-        println!("bound      {b}: the tour is at most {g:.3} % above the optimum");
+    match (out.lower_bound, out.proven_gap_percent, &out.gap_note) {
+        (Some(b), Some(g), _) => {
+            println!("bound      {b}: the tour is at most {g:.3} % above the optimum")
+        }
+        (_, _, Some(note)) => println!("bound      {note}"),
+        _ => {}
     }
     println!(
-        "time       {:.3} s, {} run(s), {} {}, stopped: {}",
+        "time       {:.3} s, {} run(s), {} iteration(s), stopped: {}",
         out.seconds,
         search.runs,
         search.iterations,
-        match method {
-            Method::Acs | Method::MaxMin => "generation(s)",
-            Method::Anneal => "batch(es) of moves",
-            _ => "kick(s)",
-        },
         stop_words(search.stop_reason)
     );
 }
@@ -401,6 +391,7 @@ fn print_proof(c: &Outcome) {
         (false, Some(b), Some(g)) => println!(
             "proof      not finished in time; bound {b}: the tour is at most {g:.3} % above the optimum"
         ),
+        (false, _, Some(note)) => println!("proof      not finished in time; {note}"),
         _ => println!("proof      not finished in time; no bound"),
     }
     println!("time       {:.3} s", c.seconds);
@@ -409,7 +400,7 @@ fn print_proof(c: &Outcome) {
 fn stop_words(r: wend::StopReason) -> &'static str {
     use wend::StopReason::*;
     match r {
-        RestartBudget => "all restarts done",
+        RunBudget => "all runs done",
         TimeLimit => "time limit reached",
         Cancelled => "cancelled",
         Exhaustive => "every tour tried (optimal)",

@@ -5,7 +5,7 @@ use crate::record::RunRecord;
 use std::path::Path;
 
 /// Column names, in order; they follow the JSON field names so both files read the same.
-const HEADER: [&str; 22] = [
+const HEADER: [&str; 23] = [
     "instance",
     "file",
     "type",
@@ -21,11 +21,12 @@ const HEADER: [&str; 22] = [
     "time_to_best",
     "lower_bound",
     "stop_reason",
-    "restarts",
+    "runs",
+    "iterations",
     "trace_points",
     "tour_file",
     "version",
-    "git_commit",
+    "commit",
     "machine",
     "ends",
 ];
@@ -54,7 +55,7 @@ pub(crate) fn write(runs: &[RunRecord], path: &Path) -> Result<(), ReportError> 
     })
 }
 
-fn row(r: &RunRecord) -> [String; 22] {
+fn row(r: &RunRecord) -> [String; 23] {
     [
         r.instance.clone(),
         r.file.clone(),
@@ -71,11 +72,12 @@ fn row(r: &RunRecord) -> [String; 22] {
         float(r.time_to_best),
         opt(r.lower_bound),
         r.stop_reason.clone(),
-        r.restarts.to_string(),
+        r.runs.to_string(),
+        r.iterations.to_string(),
         r.trace.len().to_string(),
         r.tour_file.clone().unwrap_or_default(),
         r.version.clone(),
-        r.git_commit.clone(),
+        r.commit.clone(),
         r.machine.clone(),
         r.ends.clone(),
     ]
@@ -129,7 +131,8 @@ mod tests {
         assert_eq!(last[9], ""); // optimum
         assert_eq!(last[10], ""); // gap_percent
         assert_eq!(last[8], "1100");
-        assert_eq!(last[16], "2"); // trace points of `sample`
+        assert_eq!(last[15], "10"); // runs of `sample`
+        assert_eq!(last[17], "2"); // trace points of `sample`
         let y: Vec<&str> = lines[3].split(',').collect();
         assert_eq!(y[11], ""); // NaN seconds
         assert!(!text.contains("NaN"));

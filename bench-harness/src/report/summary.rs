@@ -335,7 +335,7 @@ fn header(md: &mut String, runs: &[RunRecord]) {
     type Field = fn(&RunRecord) -> &str;
     let seen: [(&str, Field); 3] = [
         ("version", |r| &r.version),
-        ("commit", |r| &r.git_commit),
+        ("commit", |r| &r.commit),
         ("machine", |r| &r.machine),
     ];
     for (what, f) in seen {

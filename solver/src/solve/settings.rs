@@ -26,7 +26,8 @@
 use super::prove::{lower_bound, prove_optimal, ExactMethod, LowerBoundError, ProveError};
 use super::prove::{Certificate, ProveOptions};
 use super::solver::{
-    set_param, AsymmetricMode, Method, Solution, SolveError, Solver, DEFAULT_NEIGHBOURS,
+    default_threads, set_param, AsymmetricMode, Method, Solution, SolveError, Solver,
+    DEFAULT_NEIGHBOURS,
 };
 use crate::control::{Improvement, StopHandle, StopReason};
 use crate::cost::Cost;
@@ -60,11 +61,12 @@ pub struct Settings {
     pub seed: u64,
     /// Worker threads (at least 1); `None`: one per core.
     pub threads: Option<usize>,
-    /// Independent runs (restarts for `2opt`); `None`: the method's default
+    /// Independent runs (every method; for `2opt` each a start and its descent); `None`: the method's default
     /// ([`super::solver::default_runs`]), or as many as the time limit allows.
     #[serde(alias = "restarts")]
     pub runs: Option<usize>,
-    /// Steps per run of an iterative method (kicks, generations, batches of moves).
+    /// Steps per run of an iterative method (a kick of `lk`, a generation of `acs` and `mmas`, a
+    /// batch of moves of `anneal`).
     #[serde(alias = "kicks")]
     pub iterations: Option<u64>,
     /// End a run after this many steps in a row without a shorter tour.
@@ -156,7 +158,7 @@ pub enum SettingsError {
 
 impl Settings {
     /// Sets one parameter of the chosen method by its key and text value (see [`Method::keys`]),
-    /// as the command line's `--set KEY=VALUE` does; set the method first. The value is read as
+    /// as the command line's `--params KEY=VALUE` does; set the method first. The value is read as
     /// the typed field reads it from a file and range-checked; on error nothing changes.
     ///
     /// ```
@@ -270,9 +272,10 @@ pub struct Hooks {
 /// What the search found, besides the tour ([`Outcome::search`]).
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct SearchFacts {
-    /// Independent runs completed (every method; a restart of `2opt` is a run).
+    /// Independent runs completed (every method; for `2opt` a start and its descent).
     pub runs: usize,
-    /// Steps of an iterative method over all runs (kicks, generations, batches of moves).
+    /// Steps of an iterative method over all runs (kicks of `lk`, generations of `acs` and
+    /// `mmas`, batches of moves of `anneal`); zero for the other methods.
     pub iterations: u64,
     /// Why the search ended.
     pub stop_reason: StopReason,
@@ -327,6 +330,11 @@ pub struct Outcome {
     pub lower_bound: Option<i64>,
     /// `100 (length - lower_bound) / lower_bound`, for a positive bound.
     pub proven_gap_percent: Option<f64>,
+    /// Why a bound was asked for (or the proof ran) and yet no gap is proven: a bound of 0 or
+    /// less, or no bound at all; `None` when a gap is proven or no bound was asked for.
+    pub gap_note: Option<String>,
+    /// Worker threads the solve used: the count asked for, or one per core by default.
+    pub threads: usize,
     /// The heuristic search's facts (none for an exact proof).
     #[serde(flatten)]
     pub search: Option<SearchFacts>,
@@ -336,23 +344,35 @@ pub struct Outcome {
 }
 
 impl Outcome {
-    fn new(tour: Tour, length: i64, ends: Ends, seconds: f64, bound: Option<i64>) -> Outcome {
+    /// The outcome of a tour of `length`; `bound` is `None` when no bound was asked for, and
+    /// `Some(None)` when one was but none came.
+    fn new(
+        tour: Tour,
+        length: i64,
+        ends: Ends,
+        seconds: f64,
+        bound: Option<Option<i64>>,
+        threads: usize,
+    ) -> Outcome {
+        let lower_bound = bound.flatten();
         Outcome {
             tour,
             length,
             ends,
             seconds,
             method: None,
-            lower_bound: bound,
-            proven_gap_percent: bound
+            lower_bound,
+            proven_gap_percent: lower_bound
                 .filter(|&b| b > 0)
                 .map(|b| 100.0 * (length - b) as f64 / b as f64),
+            gap_note: bound.and_then(|b| gap_note(length, b)),
+            threads,
             search: None,
             proof: None,
         }
     }
 
-    fn searched(sol: Solution, bound: Option<i64>) -> Outcome {
+    fn searched(sol: Solution, bound: Option<Option<i64>>, threads: usize) -> Outcome {
         Outcome {
             method: Some(sol.method),
             search: Some(SearchFacts {
@@ -361,11 +381,11 @@ impl Outcome {
                 stop_reason: sol.stop_reason,
                 trace: sol.trace,
             }),
-            ..Outcome::new(sol.tour, sol.length, sol.ends, sol.seconds, bound)
+            ..Outcome::new(sol.tour, sol.length, sol.ends, sol.seconds, bound, threads)
         }
     }
 
-    fn proven(c: Certificate, ends: Ends) -> Outcome {
+    fn proven(c: Certificate, ends: Ends, threads: usize) -> Outcome {
         Outcome {
             proof: Some(ProofFacts {
                 exact_method: c.method,
@@ -373,8 +393,30 @@ impl Outcome {
                 subproblems: c.subproblems,
                 first_tour_length: c.first_tour_length,
             }),
-            ..Outcome::new(c.tour, c.length, ends, c.seconds, c.lower_bound)
+            ..Outcome::new(
+                c.tour,
+                c.length,
+                ends,
+                c.seconds,
+                Some(c.lower_bound),
+                threads,
+            )
         }
+    }
+}
+
+/// Why a bound asked for proves no gap in percent, or `None` when it proves one.
+fn gap_note(length: i64, bound: Option<i64>) -> Option<String> {
+    match bound {
+        None => Some("no lower bound: the solve was stopped before one was computed".into()),
+        Some(b) if b > 0 => None,
+        Some(b) if b == length => Some(format!(
+            "the lower bound is {b}, equal to the length: the tour is optimal, but a gap in \
+             percent of a bound of {b} is not defined"
+        )),
+        Some(b) => Some(format!(
+            "the lower bound is {b}, which proves no gap (a gap in percent needs a positive bound)"
+        )),
     }
 }
 
@@ -423,11 +465,12 @@ pub fn solve_with<C: Cost + ?Sized>(
             f();
         }
     };
+    let threads = settings.threads.unwrap_or_else(default_threads);
     if settings.exact {
         let opts = ProveOptions {
             time_limit: settings.limit(),
             seed: settings.seed,
-            threads: settings.threads,
+            threads: Some(threads),
             method: settings.exact_method,
             ends: settings.ends,
             ..ProveOptions::default()
@@ -440,9 +483,12 @@ pub fn solve_with<C: Cost + ?Sized>(
         };
         let certificate = prove_optimal(cost, &opts, &stop);
         done();
-        return Ok(Outcome::proven(certificate?, settings.ends));
+        return Ok(Outcome::proven(certificate?, settings.ends, threads));
     }
-    let mut solver = settings.solver(cost).stop_handle(stop.clone());
+    let mut solver = settings
+        .solver(cost)
+        .threads(threads)
+        .stop_handle(stop.clone());
     if let Some(f) = observer {
         solver = solver.on_improvement(f);
     }
@@ -452,14 +498,14 @@ pub fn solve_with<C: Cost + ?Sized>(
     let bound = if settings.bound {
         let time = Duration::from_secs_f64(settings.bound_time.clamp(0.0, 1.0e9));
         match lower_bound(cost, sol.ends, sol.length, time, &stop) {
-            Ok(b) => Some(b),
-            Err(_) if stop.is_stopped() => None,
+            Ok(b) => Some(Some(b)),
+            Err(_) if stop.is_stopped() => Some(None),
             Err(e) => return Err(e.into()),
         }
     } else {
         None
     };
-    Ok(Outcome::searched(sol, bound))
+    Ok(Outcome::searched(sol, bound, threads))
 }
 
 impl Params for AntParams {
@@ -945,6 +991,7 @@ mod tests {
                 "ends",
                 "exact_method",
                 "first_tour_length",
+                "gap_note",
                 "length",
                 "lower_bound",
                 "method",
@@ -952,6 +999,7 @@ mod tests {
                 "proven_optimal",
                 "seconds",
                 "subproblems",
+                "threads",
                 "tour"
             ]
         );
@@ -967,11 +1015,56 @@ mod tests {
         let v = serde_json::to_value(&o).unwrap();
         assert_eq!(v["method"], "lk");
         assert_eq!(v["ends"], "closed");
-        assert!(
-            v["stop_reason"].is_string() && v["restarts"].is_u64(),
-            "{v}"
-        );
+        assert!(v["stop_reason"].is_string() && v["runs"].is_u64(), "{v}");
         assert!(v.get("proven_optimal").is_none(), "{v}");
+    }
+
+    #[test]
+    fn a_bound_of_zero_says_why_no_gap_is_proven() {
+        // Three nodes, two tours: 0 1 2 costs 0 + 5 + 0 = 5, 0 2 1 costs 0 + 0 + 0 = 0, and
+        // the cheapest cover by cycles (the same two cycles) costs 0.
+        let zero = MatrixCost::from_rows(&[vec![0, 0, 0], vec![0, 0, 5], vec![0, 0, 0]]).unwrap();
+        let asked = Settings {
+            bound: true,
+            bound_time: 1.0,
+            ..Settings::default()
+        };
+        let o = solve_with(&zero, &asked, Hooks::default()).unwrap();
+        assert_eq!((o.length, o.lower_bound), (0, Some(0)));
+        assert_eq!(o.proven_gap_percent, None);
+        let note = o.gap_note.clone().unwrap();
+        assert!(note.contains("lower bound is 0"), "{note}");
+        let v = serde_json::to_value(&o).unwrap();
+        assert!(v["gap_note"].is_string(), "{v}");
+        // 0 1 2 costs 3 + 5 + 0 = 8, 0 2 1 costs 3 + 0 + 0 = 3, and so does the cheapest cover:
+        // a positive bound proves a gap; and no bound asked for means no note.
+        let three = MatrixCost::from_rows(&[vec![0, 3, 3], vec![0, 0, 5], vec![0, 0, 0]]).unwrap();
+        let o = solve_with(&three, &asked, Hooks::default()).unwrap();
+        assert_eq!((o.length, o.lower_bound), (3, Some(3)));
+        assert_eq!((o.proven_gap_percent, o.gap_note), (Some(0.0), None));
+        let o = solve_with(&zero, &Settings::default(), Hooks::default()).unwrap();
+        assert_eq!((o.lower_bound, o.gap_note.clone()), (None, None));
+        let v = serde_json::to_value(&o).unwrap();
+        assert!(v["gap_note"].is_null(), "{v}");
+    }
+
+    #[test]
+    fn the_outcome_names_the_threads_used() {
+        let c = MatrixCost::from_rows(&[vec![0, 1, 2], vec![1, 0, 1], vec![2, 1, 0]]).unwrap();
+        let two = Settings {
+            threads: Some(2),
+            ..Settings::default()
+        };
+        assert_eq!(solve_with(&c, &two, Hooks::default()).unwrap().threads, 2);
+        let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
+        let o = solve_with(&c, &Settings::default(), Hooks::default()).unwrap();
+        assert_eq!(o.threads, cores);
+        let exact = Settings {
+            exact: true,
+            threads: Some(3),
+            ..Settings::default()
+        };
+        assert_eq!(solve_with(&c, &exact, Hooks::default()).unwrap().threads, 3);
     }
 
     #[test]

@@ -84,7 +84,7 @@ impl Method {
             Method::Greedy => "greedy-edge construction, no improvement",
             Method::Curve => "Hilbert space-filling-curve order, no improvement",
             Method::TwoOpt => {
-                "parallel restarts: greedy/curve/nearest starts, 2-opt + Or-opt over 10 nearest \
+                "parallel runs: greedy/curve/nearest starts, 2-opt + Or-opt over 10 nearest \
                  neighbours with don't-look bits (Or-opt only for asymmetric costs)"
             }
             Method::Lk => {
@@ -224,7 +224,7 @@ pub struct Solver<C> {
     seed: u64,
     threads: Option<usize>,
     runs: Option<usize>,
-    kicks: Option<u64>,
+    iterations: Option<u64>,
     stall_limit: Option<u64>,
     target: Option<i64>,
     method: Method,
@@ -252,6 +252,13 @@ pub(crate) const PATCH_LIMIT: usize = 3_000;
 /// See [`PATCH_LIMIT`].
 pub(crate) const PATCH_FROM: usize = 200;
 
+/// Worker threads when none are asked for: one per core (one when the count is unknown).
+pub(crate) fn default_threads() -> usize {
+    std::thread::available_parallelism()
+        .map(|t| t.get())
+        .unwrap_or(1)
+}
+
 /// Independent runs of an iterative method when neither a time limit nor a run count is given,
 /// or when an iteration budget is: one colony for the ant methods, [`DEFAULT_LK_RUNS`] otherwise.
 pub(crate) fn default_runs(method: Method) -> usize {
@@ -272,7 +279,7 @@ pub(crate) fn default_iterations(method: Method, n: usize) -> u64 {
     }
 }
 
-/// Restarts run when neither a time limit nor a restart count is given.
+/// Runs of `2opt` when neither a time limit nor a run count is given.
 pub(crate) const DEFAULT_RESTARTS: usize = 8;
 /// Width of the neighbour lists by default.
 pub const DEFAULT_NEIGHBOURS: usize = 10;
@@ -283,7 +290,7 @@ pub(crate) const DEFAULT_LK_RUNS: usize = 2;
 impl<C: Cost> Solver<C> {
     /// A solver over `cost` with default options: method `lk`, seed 0, one thread per core.
     /// Without a time limit, `lk` makes `DEFAULT_LK_RUNS` runs of `lk::default_kicks` kicks
-    /// each (and `2opt` makes `DEFAULT_RESTARTS` restarts).
+    /// each (and `2opt` makes `DEFAULT_RESTARTS` runs).
     ///
     /// ```
     /// use wend::{CoordCost, Metric, Solver};
@@ -299,7 +306,7 @@ impl<C: Cost> Solver<C> {
             seed: 0,
             threads: None,
             runs: None,
-            kicks: None,
+            iterations: None,
             stall_limit: None,
             target: None,
             method: Method::Lk,
@@ -316,27 +323,26 @@ impl<C: Cost> Solver<C> {
         }
     }
 
-    /// Stop after this long and return the best tour so far. Without a restart count, restarts
+    /// Stop after this long and return the best tour so far. Without a run count, runs
     /// continue until the limit.
     pub fn time_limit(mut self, limit: Duration) -> Self {
         self.time_limit = Some(limit);
         self
     }
 
-    /// Seed of all random choices. The same seed, restart count and costs give the same tour.
+    /// Seed of all random choices. The same seed, run count and costs give the same tour.
     pub fn seed(mut self, seed: u64) -> Self {
         self.seed = seed;
         self
     }
 
-    /// Worker threads for the restarts (default: one per core).
+    /// Worker threads for the runs (default: one per core).
     pub fn threads(mut self, threads: usize) -> Self {
         self.threads = Some(threads.max(1));
         self
     }
 
-    /// Number of independent runs (for `2opt`: restarts, each a construction plus local
-    /// search). Without a time limit the default is `DEFAULT_RESTARTS`; with one, runs
+    /// Number of independent runs (for `2opt` each a construction plus local search). Without a time limit the default is `DEFAULT_RESTARTS`; with one, runs
     /// continue until it unless this is set.
     /// For `lk` this is the number of independent runs (default `DEFAULT_LK_RUNS` without a
     /// time limit or with a kick budget; otherwise runs follow one another until the limit).
@@ -350,7 +356,7 @@ impl<C: Cost> Solver<C> {
     /// (or one long enough), the same seed gives the same tour for any number of threads.
     /// Without a time limit the default is `default_iterations`.
     pub fn iterations(mut self, steps: u64) -> Self {
-        self.kicks = Some(steps);
+        self.iterations = Some(steps);
         self
     }
 
@@ -372,7 +378,7 @@ impl<C: Cost> Solver<C> {
     }
 
     /// Sets one parameter of the chosen method by its key (see [`Method::keys`]), as the
-    /// command line's `--set KEY=VALUE` does. Set the method first.
+    /// command line's `--params KEY=VALUE` does. Set the method first.
     ///
     /// ```
     /// use wend::{Method, Solver};
@@ -761,11 +767,7 @@ impl<C: Cost> Solver<C> {
         let Some(nb) = nb() else {
             return self.unprepared(cost, began, observe);
         };
-        let threads = self.threads.unwrap_or_else(|| {
-            std::thread::available_parallelism()
-                .map(|t| t.get())
-                .unwrap_or(1)
-        });
+        let threads = self.threads.unwrap_or_else(default_threads);
         let construction = |start| {
             let mut rng = <rand_pcg::Pcg64 as rand::SeedableRng>::seed_from_u64(self.seed);
             match start {
@@ -785,7 +787,7 @@ impl<C: Cost> Solver<C> {
             return single(construction(start_kind), StopReason::Constructed);
         }
         if self.method.iterates() {
-            let bounded = self.kicks.is_some() || self.time_limit.is_none();
+            let bounded = self.iterations.is_some() || self.time_limit.is_none();
             let limits = LoopPlan {
                 seed: self.seed,
                 threads,
@@ -794,7 +796,7 @@ impl<C: Cost> Solver<C> {
                     None if bounded => Some(default_runs(self.method)),
                     None => None,
                 },
-                iterations: self.kicks.or(
+                iterations: self.iterations.or(
                     if self.time_limit.is_none() && self.stall_limit.is_none() {
                         Some(default_iterations(self.method, n))
                     } else {
@@ -865,7 +867,7 @@ impl<C: Cost> Solver<C> {
             runs: out.runs,
             iterations: 0,
             stop_reason: match out.stop_reason {
-                StopReason::IterationBudget => StopReason::RestartBudget,
+                StopReason::IterationBudget => StopReason::RunBudget,
                 other => other,
             },
         }

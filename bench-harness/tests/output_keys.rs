@@ -1,0 +1,166 @@
+//! The keys the command writes are the keys docs/output-keys.md lists: every key of a table
+//! whose "present" column starts with "always" is there, and no key outside the table appears.
+
+use std::collections::BTreeSet;
+use std::path::PathBuf;
+use std::process::Command;
+
+fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("..")
+}
+
+fn instance(name: &str) -> String {
+    root().join("instances").join(name).display().to_string()
+}
+
+fn wend(args: &[&str]) -> String {
+    let o = Command::new(env!("CARGO_BIN_EXE_wend"))
+        .args(args)
+        .output()
+        .expect("the wend binary runs");
+    assert!(
+        o.status.success(),
+        "{args:?}: {}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    String::from_utf8(o.stdout).unwrap()
+}
+
+/// The table under `## {section}` of the page: `(key, always present)` for each row.
+fn table(section: &str) -> Vec<(String, bool)> {
+    let page = std::fs::read_to_string(root().join("docs/output-keys.md")).unwrap();
+    let heading = format!("## {section}");
+    let mut lines = page.lines().skip_while(|l| l.trim() != heading);
+    assert!(lines.next().is_some(), "no section {heading:?} in the page");
+    let mut rows = Vec::new();
+    for line in lines.take_while(|l| !l.starts_with("## ")) {
+        let cells: Vec<&str> = line.trim().split('|').map(str::trim).collect();
+        // `| key | present | unit | meaning |` splits into six cells, the outer two empty.
+        if cells.len() != 6 {
+            continue;
+        }
+        let Some(key) = cells[1].strip_prefix('`').and_then(|k| k.strip_suffix('`')) else {
+            continue;
+        };
+        rows.push((key.to_string(), cells[2].starts_with("always")));
+    }
+    assert!(!rows.is_empty(), "the table of {heading:?} is empty");
+    rows
+}
+
+/// Compares the keys an output has with the table of `section`.
+fn check(section: &str, keys: &BTreeSet<String>, what: &str) {
+    let rows = table(section);
+    let listed: BTreeSet<String> = rows.iter().map(|(k, _)| k.clone()).collect();
+    let unlisted: Vec<&String> = keys.difference(&listed).collect();
+    assert!(
+        unlisted.is_empty(),
+        "{what}: keys not in the table {section:?}: {unlisted:?}"
+    );
+    let missing: Vec<&String> = rows
+        .iter()
+        .filter(|(k, always)| *always && !keys.contains(k))
+        .map(|(k, _)| k)
+        .collect();
+    assert!(
+        missing.is_empty(),
+        "{what}: keys the table {section:?} says are always there are missing: {missing:?}"
+    );
+}
+
+fn json_keys(text: &str) -> BTreeSet<String> {
+    let v: serde_json::Value = serde_json::from_str(text.trim()).unwrap();
+    v.as_object().unwrap().keys().cloned().collect()
+}
+
+#[test]
+fn the_page_reads_as_tables() {
+    // The parser itself: a section that exists gives its rows, with the present column read.
+    let rows = table("bound");
+    assert!(
+        rows.contains(&("bound_method".to_string(), true)),
+        "{rows:?}"
+    );
+    assert!(rows.contains(&("cycles".to_string(), false)), "{rows:?}");
+}
+
+#[test]
+fn solve_json_keys_are_the_listed_keys() {
+    let file = instance("berlin52.tsp");
+    let common = [
+        "--iterations",
+        "20",
+        "--runs",
+        "1",
+        "--threads",
+        "1",
+        "--json",
+    ];
+    let mut plain = vec!["solve", file.as_str()];
+    plain.extend_from_slice(&common);
+    check("solve", &json_keys(&wend(&plain)), "wend solve --json");
+    let mut bound = plain.clone();
+    bound.extend_from_slice(&["--bound", "--bound-time", "1"]);
+    check(
+        "solve",
+        &json_keys(&wend(&bound)),
+        "wend solve --bound --json",
+    );
+}
+
+#[test]
+fn solve_exact_json_keys_are_the_listed_keys() {
+    let file = instance("burma14.tsp");
+    let keys = json_keys(&wend(&["solve", &file, "--exact", "--json"]));
+    check("solve --exact", &keys, "wend solve --exact --json");
+    // A proof that runs out of time has the same keys (no bound yet, nothing proven).
+    let file = instance("kroA100.tsp");
+    let args = ["solve", &file, "--exact", "--time-limit", "0.2", "--json"];
+    check(
+        "solve --exact",
+        &json_keys(&wend(&args)),
+        "--exact, out of time",
+    );
+}
+
+#[test]
+fn bound_json_keys_are_the_listed_keys() {
+    for name in ["berlin52.tsp", "ftv38.atsp"] {
+        let file = instance(name);
+        let keys = json_keys(&wend(&["bound", &file, "--time-limit", "1", "--json"]));
+        check("bound", &keys, &format!("wend bound {name} --json"));
+    }
+}
+
+#[test]
+fn bench_record_and_csv_keys_are_the_listed_keys() {
+    let tmp = tempfile::tempdir().unwrap();
+    let out = tmp.path().display().to_string();
+    let file = instance("berlin52.tsp");
+    wend(&[
+        "bench",
+        "--instances",
+        &file,
+        "--methods",
+        "2opt",
+        "--runs",
+        "1",
+        "--time-limit",
+        "60",
+        "--out",
+        &out,
+    ]);
+    let runs = std::fs::read_to_string(tmp.path().join("runs.jsonl")).unwrap();
+    let lines: Vec<&str> = runs.lines().collect();
+    assert_eq!(lines.len(), 1, "{runs}");
+    check("bench record", &json_keys(lines[0]), "runs.jsonl");
+    let csv = std::fs::read_to_string(tmp.path().join("runs.csv")).unwrap();
+    let header: BTreeSet<String> = csv
+        .lines()
+        .next()
+        .unwrap()
+        .split(',')
+        .map(str::to_string)
+        .collect();
+    check("bench runs.csv", &header, "runs.csv");
+}
