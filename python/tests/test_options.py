@@ -63,6 +63,17 @@ def test_distance_warns_and_still_chooses_the_metric():
         wend.solve_points(DIAMOND, "MAN_2D", distance="EUC_2D")
 
 
+def test_write_tsplib_distance_and_the_old_constant_warn_and_still_work(tmp_path):
+    # Reference: the written file's own EDGE_WEIGHT_TYPE line (TSPLIB 95's keyword).
+    path = tmp_path / "d.tsp"
+    with pytest.warns(DeprecationWarning, match="distance= is deprecated.*metric="):
+        wend.write_tsplib(path, points=DIAMOND, distance="MAN_2D")
+    assert "EDGE_WEIGHT_TYPE : MAN_2D" in path.read_text()
+    with pytest.warns(DeprecationWarning, match="DISTANCES is deprecated.*METRICS"):
+        assert wend.DISTANCES == wend.METRICS
+    assert "MAN_2D" in wend.METRICS
+
+
 def test_restarts_warns_and_still_sets_the_runs():
     path = INSTANCES / "kroA100.tsp"
     with pytest.warns(DeprecationWarning, match="restarts= is deprecated.*runs="):
@@ -226,7 +237,7 @@ def test_numpy_scalars_are_read_as_numbers():
 def test_dir_shows_the_api_only():
     # Reference: the API as the package documents it (its __all__) and __version__.
     want = sorted([
-        "CAUTION", "DISTANCES", "Problem", "SkyPlan", "TourData", "TourResult", "__version__",
+        "CAUTION", "METRICS", "Problem", "SkyPlan", "TourData", "TourResult", "__version__",
         "methods", "plan_sky", "read_tour", "read_tsplib", "solve_file", "solve_matrix",
         "solve_points", "write_tour", "write_tsplib",
     ])

@@ -42,7 +42,7 @@ from . import _native
 
 __all__ = [
     "CAUTION",
-    "DISTANCES",
+    "METRICS",
     "Problem",
     "SkyPlan",
     "TourData",
@@ -66,11 +66,25 @@ def __dir__() -> _t.List[str]:
     return sorted([*__all__, "__version__"])
 
 
+def __getattr__(name: str) -> _t.Any:
+    """Names of earlier releases, kept for one release with a ``DeprecationWarning``."""
+    if name == "DISTANCES":
+        _warnings.warn(
+            "wend.DISTANCES is deprecated and will be removed in the next release; "
+            "use wend.METRICS",
+            DeprecationWarning,
+            stacklevel=2,
+        )
+        return METRICS
+    raise AttributeError(f"module 'wend' has no attribute {name!r}")
+
+
 #: The caution every observing plan carries.
 CAUTION: str = _native.CAUTION
 
-#: The TSPLIB distance names :func:`solve_points` accepts as its ``metric``.
-DISTANCES: _t.Tuple[str, ...] = (
+#: The TSPLIB distance names :func:`solve_points` and :func:`write_tsplib` accept as their
+#: ``metric``.
+METRICS: _t.Tuple[str, ...] = (
     "EUC_2D",
     "EUC_3D",
     "CEIL_2D",
@@ -504,7 +518,7 @@ def _positional(
 @_with_options(_positional("points", "_t.Any"), _positional("metric", "str", "EUC_2D"))
 def solve_points(points: _t.Any, metric: str = "EUC_2D", **options: _t.Any) -> TourResult:
     """A short tour through points: an ``n x 2`` (or ``n x 3``) array of coordinates under a
-    TSPLIB distance ``metric`` (``EUC_2D`` by default; see :data:`DISTANCES`), with TSPLIB's
+    TSPLIB distance ``metric`` (``EUC_2D`` by default; see :data:`METRICS`), with TSPLIB's
     rounding to integer costs. ``distance=`` is the deprecated name of ``metric``.
     """
     if "distance" in options:
@@ -548,16 +562,26 @@ def write_tsplib(
     path: PathLike,
     *,
     points: _t.Any = None,
-    distance: str = "EUC_2D",
+    metric: str = "EUC_2D",
     matrix: _t.Any = None,
     name: _t.Optional[str] = None,
     comments: _t.Sequence[str] = (),
+    distance: _t.Optional[str] = None,
 ) -> None:
-    """Writes a TSPLIB problem file from either ``points`` under ``distance`` (TYPE TSP) or a
-    square integer ``matrix`` (TYPE TSP when symmetric, else ATSP, as a FULL_MATRIX).
-    Coordinates are written exactly: reading the file back gives the same points and costs.
-    ``name`` defaults to the file name without its extension.
+    """Writes a TSPLIB problem file from either ``points`` under the TSPLIB distance ``metric``
+    (TYPE TSP) or a square integer ``matrix`` (TYPE TSP when symmetric, else ATSP, as a
+    FULL_MATRIX). Coordinates are written exactly: reading the file back gives the same points
+    and costs. ``name`` defaults to the file name without its extension. ``distance=`` is the
+    deprecated name of ``metric``.
     """
+    if distance is not None:
+        _warnings.warn(
+            "write_tsplib(): distance= is deprecated and will be removed in the next release; "
+            "use metric=",
+            DeprecationWarning,
+            stacklevel=2,
+        )
+        metric = distance
     p = _os.fspath(path)
     if name is None:
         name = _os.path.splitext(_os.path.basename(p))[0] or "problem"
@@ -565,7 +589,7 @@ def write_tsplib(
     if (points is None) == (matrix is None):
         raise ValueError("give either points or matrix")
     if points is not None:
-        _native.write_points(p, _points_array(points), distance, name, comments)
+        _native.write_points(p, _points_array(points), metric, name, comments)
     else:
         _native.write_matrix(p, _matrix_array(matrix), name, comments)
 

@@ -1,5 +1,5 @@
 //! Method parameters read from text: the plumbing that lets a parameter struct be set key by
-//! key (`--set KEY=VALUE`, a sweep file, a Python dictionary) through serde, with one range check
+//! key (`--params KEY=VALUE`, a sweep file, a Python dictionary) through serde, with one range check
 //! per struct and messages that list the known keys. A leaf: it knows no parameter struct.
 
 use serde::de::{DeserializeOwned, Error as _, Visitor};

@@ -53,16 +53,16 @@ pub struct PlanArgs {
     horizon_days: f64,
     /// Directory for plan.csv, unscheduled.csv, sky-map.svg, momentum.svg and summary.json
     /// (created if missing). Without it nothing is written but the summary.
-    #[arg(long, value_name = "DIR")]
+    #[arg(long, short, value_name = "DIR")]
     out: Option<PathBuf>,
     /// Seconds for the order search (default: 2 s, plus 1 s per 100 targets past 200).
-    #[arg(long, value_name = "SECONDS", allow_negative_numbers = true)]
+    #[arg(long, short, value_name = "SECONDS", allow_negative_numbers = true)]
     time_limit: Option<f64>,
     /// Seed of the order search.
-    #[arg(long, default_value_t = 0)]
+    #[arg(long, short, default_value_t = 0)]
     seed: u64,
     /// Worker threads of the search (default: one per core).
-    #[arg(long)]
+    #[arg(long, short = 'j')]
     threads: Option<usize>,
     /// Print one JSON object on stdout instead of the text summary (the caution is its
     /// `caution` key).
@@ -81,7 +81,7 @@ pub struct TargetsArgs {
     #[arg(long, value_name = "N")]
     count: usize,
     /// Seed; the same seed gives the same pool.
-    #[arg(long, default_value_t = 0)]
+    #[arg(long, short, default_value_t = 0)]
     seed: u64,
     /// Profile whose instruments the targets use (default: the demo profile).
     #[arg(long, value_name = "FILE")]

@@ -115,7 +115,7 @@ impl CoolingSchedule {
 /// instances of any cost scale.
 ///
 /// Serialised under the keys of [`AnnealParams::KEYS`]; text values (`"0.5"`, `off`) are read
-/// like numbers and switches, so `--set KEY=VALUE` pairs deserialise too.
+/// like numbers and switches, so `--params KEY=VALUE` pairs deserialise too.
 #[derive(Clone, Debug, PartialEq, serde::Serialize, serde::Deserialize)]
 #[serde(default, deny_unknown_fields, rename_all = "kebab-case")]
 pub struct AnnealParams {

@@ -141,7 +141,7 @@ impl AntLocalSearch {
 /// the method's own default.
 ///
 /// Serialised under the keys of [`AntParams::KEYS`]; `None` fields as `auto` (or `never`). Text
-/// values (`"0.5"`) are read like numbers, so `--set KEY=VALUE` pairs deserialise too.
+/// values (`"0.5"`) are read like numbers, so `--params KEY=VALUE` pairs deserialise too.
 #[derive(Clone, Debug, PartialEq, serde::Serialize, serde::Deserialize)]
 #[serde(default, deny_unknown_fields, rename_all = "kebab-case")]
 pub struct AntParams {
