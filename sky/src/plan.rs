@@ -160,7 +160,7 @@ impl PlanStop {
         match self {
             PlanStop::SearchesDone => {
                 "every order search ended before its share of the time limit (all runs used \
-                 up their kicks or found no improvement left), so more time would not change \
+                 up their iterations or found no improvement left), so more time would not change \
                  the plan"
             }
             PlanStop::TimeLimit => {
