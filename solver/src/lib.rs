@@ -80,6 +80,7 @@
 #![cfg_attr(not(test), deny(clippy::unwrap_used, clippy::expect_used))]
 
 mod bounds;
+pub mod constraints;
 mod construct;
 mod control;
 mod cost;
