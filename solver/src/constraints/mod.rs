@@ -12,6 +12,10 @@
 //! checking it for contradictions, evaluating a sequence against it and searching under it live
 //! in its submodules.
 
+mod check;
+
+pub use check::ConstraintsError;
+
 use serde::{Deserialize, Serialize};
 
 /// One window of service start: service may start at any time in `earliest..=latest`.
