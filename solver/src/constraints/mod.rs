@@ -13,8 +13,10 @@
 //! in its submodules.
 
 mod check;
+mod schedule;
 
 pub use check::ConstraintsError;
+pub use schedule::{evaluate, Evaluation, Row, Violation};
 
 use serde::{Deserialize, Serialize};
 
