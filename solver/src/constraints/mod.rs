@@ -14,9 +14,11 @@
 
 mod check;
 mod schedule;
+mod segment;
 
 pub use check::ConstraintsError;
 pub use schedule::{evaluate, Evaluation, Row, Violation};
+pub use segment::Segment;
 
 use serde::{Deserialize, Serialize};
 
