@@ -75,8 +75,8 @@ impl Segment {
     /// The run of `a` followed, after a step of `travel` from its last stop, by the run of `b`.
     ///
     /// With `a` entered at `x <= a.latest`, `b` is reached at `max(x, a.earliest) + d` where
-    /// `d = a.duration + travel`. That meets `b`'s bound when `max(x, a.earliest) <= b.latest
-    /// - d`, so the joined run has `latest = min(a.latest, b.latest - d)` and is infeasible
+    /// `d = a.duration + travel`. That meets `b`'s bound when
+    /// `max(x, a.earliest) <= b.latest - d`, so the joined run has `latest = min(a.latest, b.latest - d)` and is infeasible
     /// when even `a.earliest` exceeds `b.latest - d`. `b` waits unless it is reached after
     /// `b.earliest`, that is unless `max(x, a.earliest) >= b.earliest - d`: the joined
     /// `earliest` is the larger of `a.earliest` and `b.earliest - d`, but no later than the
