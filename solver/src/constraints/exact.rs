@@ -485,7 +485,7 @@ fn solve_within<C: Cost + ?Sized>(
             let from = kept[index as usize];
             for j in 0..p.n {
                 tries += 1;
-                if tries % POLL_EVERY == 0
+                if tries.is_multiple_of(POLL_EVERY)
                     && (stop.is_stopped() || deadline.is_some_and(|d| Instant::now() >= d))
                 {
                     stopped = true;
@@ -635,17 +635,18 @@ mod tests {
     /// optional stops, precedence and fixed edges.
     fn random_instance(rng: &mut Pcg64, n: usize) -> (Vec<Vec<i64>>, Constraints) {
         let symmetric = rng.gen_bool(0.5);
-        let mut rows = vec![vec![0i64; n]; n];
-        for i in 0..n {
-            for j in 0..n {
-                if i != j && (!symmetric || i < j) {
-                    rows[i][j] = rng.gen_range(0..=20);
-                    if symmetric {
-                        rows[j][i] = rows[i][j];
-                    }
-                }
-            }
-        }
+        let draws: Vec<i64> = (0..n * n).map(|_| rng.gen_range(0..=20)).collect();
+        let rows: Vec<Vec<i64>> = (0..n)
+            .map(|i| {
+                (0..n)
+                    .map(|j| match (i == j, symmetric) {
+                        (true, _) => 0,
+                        (false, true) => draws[i.min(j) * n + i.max(j)],
+                        (false, false) => draws[i * n + j],
+                    })
+                    .collect()
+            })
+            .collect();
         let mut c = Constraints::new(n);
         c.depot = rng.gen_range(0..n);
         c.start_time = rng.gen_range(0..=10);
