@@ -22,6 +22,9 @@ pub use segment::Segment;
 
 use serde::{Deserialize, Serialize};
 
+mod exact;
+pub use exact::{solve_exact, ExactError, ExactOutcome, EXACT_LIMIT};
+
 /// One window of service start: service may start at any time in `earliest..=latest`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
 pub struct Window {
