@@ -121,18 +121,13 @@ fn every_shared_instance_parses() {
             let text = std::fs::read_to_string(&path).unwrap();
             let name = path.file_stem().unwrap().to_string_lossy().to_string();
             let result = read_instance(&path);
-            if name == "linhp318" {
-                // The one library file with a non-empty FIXED_EDGES_SECTION ("1 214"), which
-                // this reader refuses rather than ignore.
-                let e = result.unwrap_err();
-                assert!(
-                    e.message
-                        .starts_with("FIXED_EDGES_SECTION is not supported"),
-                    "{e}"
-                );
-                continue;
-            }
             let inst = result.unwrap_or_else(|e| panic!("{e}"));
+            if name == "linhp318" {
+                // The one library file with a non-empty FIXED_EDGES_SECTION: "1 214".
+                assert_eq!(inst.fixed_edges, vec![(0, 213)], "{name}");
+            } else {
+                assert!(inst.fixed_edges.is_empty(), "{name}");
+            }
             let dim: usize = naive_value(&text, "DIMENSION").unwrap().parse().unwrap();
             assert_eq!(inst.dimension, dim, "{name}");
             assert_eq!(inst.cost().len(), dim, "{name}");
@@ -783,17 +778,68 @@ fn unknown_and_unsupported_keywords() {
 
 #[test]
 fn fixed_edges() {
-    let t = TINY.replace(
+    let with = |section: &str| {
+        TINY.replace(
+            "NODE_COORD_SECTION",
+            &format!("FIXED_EDGES_SECTION\n{section}NODE_COORD_SECTION"),
+        )
+    };
+    let inst = parse_instance(&with("1 2\n5 3\n-1\n"), "t").unwrap();
+    assert_eq!(inst.fixed_edges, vec![(0, 1), (4, 2)]);
+    // Ended by the next keyword instead of -1, and blank lines between edges.
+    let inst = parse_instance(&with("2 4\n\n"), "t").unwrap();
+    assert_eq!(inst.fixed_edges, vec![(1, 3)]);
+    let empty = parse_instance(&with("-1\n"), "t").unwrap();
+    assert_eq!(empty.dimension, 5);
+    assert!(empty.fixed_edges.is_empty());
+    // The section is on line 6, its first edge on line 7.
+    for (section, line, needle) in [
+        (
+            "1 x\n-1\n",
+            7,
+            "expected a node number (1 to 5) in a fixed edge, found \"x\"",
+        ),
+        ("1\n-1\n", 7, "expected a fixed edge \"a b\""),
+        (
+            "1 2 3\n-1\n",
+            7,
+            "one fixed edge \"a b\" per line, found more: \"3\"",
+        ),
+        (
+            "1 2\n0 3\n-1\n",
+            8,
+            "node 0 of a fixed edge is outside 1..=5",
+        ),
+        ("1 6\n-1\n", 7, "node 6 of a fixed edge is outside 1..=5"),
+        ("3 3\n-1\n", 7, "joins a node to itself"),
+        (
+            "1 2\n2 1\n-1\n",
+            8,
+            "fixed edge 2 1 given twice (lines 7 and 8)",
+        ),
+        ("1 2\n-1 4\n", 8, "expected nothing after the -1"),
+        (
+            "-2 4\n-1\n",
+            7,
+            "expected a node number (1 to 5) in a fixed edge, found \"-2\"",
+        ),
+    ] {
+        assert_err(&err(&with(section)), line, needle);
+    }
+    let twice = TINY.replace(
         "NODE_COORD_SECTION",
-        "FIXED_EDGES_SECTION\n1 2\n-1\nNODE_COORD_SECTION",
+        "FIXED_EDGES_SECTION\n1 2\n-1\nFIXED_EDGES_SECTION\n3 4\n-1\nNODE_COORD_SECTION",
     );
-    let e = err(&t);
-    assert_err(&e, 6, "FIXED_EDGES_SECTION is not supported (line 6)");
-    let empty = TINY.replace(
-        "NODE_COORD_SECTION",
-        "FIXED_EDGES_SECTION\n-1\nNODE_COORD_SECTION",
+    assert_err(
+        &err(&twice),
+        9,
+        "FIXED_EDGES_SECTION given twice (lines 6 and 9)",
     );
-    assert_eq!(parse_instance(&empty, "t").unwrap().dimension, 5);
+    let early = "NAME: x\nTYPE: TSP\nFIXED_EDGES_SECTION\n1 2\n-1\nDIMENSION: 2\n";
+    assert_err(&err(early), 3, "FIXED_EDGES_SECTION comes before DIMENSION");
+    // Written back, the edges read the same.
+    let inst = parse_instance(&with("1 2\n5 3\n-1\n"), "t").unwrap();
+    assert_eq!(round_trip(&inst).fixed_edges, vec![(0, 1), (4, 2)]);
 }
 
 #[test]
