@@ -196,6 +196,25 @@ fn shared_optima_list_reads() {
 }
 
 #[test]
+fn shared_time_window_optima_read() {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../../shared/tsptw");
+    let path = dir.join("optima.txt");
+    if !path.is_file() {
+        eprintln!("note: {} is absent; skipping", path.display());
+        return;
+    }
+    let optima = read_optima(&path).unwrap();
+    // Dumas et al. (1995), as quoted in the set's README (from memory there).
+    assert_eq!(optima.get("dumas/n20w20.001"), Some(&378));
+    assert_eq!(optima.get("dumas/n100w20.001"), Some(&738));
+    // Every name is the path of an instance file without ".txt".
+    for name in optima.keys() {
+        assert!(dir.join(format!("{name}.txt")).is_file(), "{name}");
+    }
+    assert!(optima.len() >= 100, "{}", optima.len());
+}
+
+#[test]
 fn explicit_library_layouts() {
     let get =
         |name: &str| shared_file("tsp", &format!("{name}.tsp")).map(|p| read_instance(&p).unwrap());
@@ -1087,10 +1106,35 @@ fn optima_lists() {
     );
     let e = parse_optima("a : 1\na : 2\n", "o").unwrap_err();
     assert_err(&e, 2, "a given twice (lines 1 and 2)");
+    // A name alone: "name length" without a colon is a valid line now, a name without a
+    // length is not.
     assert_err(
-        &parse_optima("a 1\n", "o").unwrap_err(),
+        &parse_optima("a : 1\nb\n", "o").unwrap_err(),
+        2,
+        "expected \"name : length\" or \"name length\", found \"b\"",
+    );
+    assert_err(
+        &parse_optima("a 1 2\n", "o").unwrap_err(),
         1,
-        "expected \"name : length\"",
+        "the length \"1 2\" of a is not an integer",
+    );
+    // The time-window sets' list: "set/name value", comments, no colon.
+    let o = parse_optima(
+        "# optimal travel cost\ndumas/n20w20.001 378\ngendreau/n20w120.001\t267\n",
+        "o",
+    )
+    .unwrap();
+    assert_eq!(
+        o.into_iter().collect::<Vec<_>>(),
+        [
+            ("dumas/n20w20.001".into(), 378),
+            ("gendreau/n20w120.001".into(), 267)
+        ]
+    );
+    assert_err(
+        &parse_optima("dumas/a 1\ndumas/a : 1\n", "o").unwrap_err(),
+        2,
+        "dumas/a given twice (lines 1 and 2)",
     );
     assert_err(
         &parse_optima("a : x\n", "o").unwrap_err(),
@@ -1213,5 +1257,178 @@ proptest! {
             text.push(' ');
         }
         exercise(&text);
+    }
+}
+
+// ---------------------------------------------------------------------------------------------
+// The plain time-window layout.
+
+fn project_file(rel: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../..")
+        .join(rel)
+}
+
+const TW: &str = "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5 10\n20 30\n";
+
+fn tw_err(text: &str) -> TsplibError {
+    match parse_problem(text, "t.txt") {
+        Ok(p) => panic!("expected an error, parsed {} nodes", p.instance.dimension),
+        Err(e) => e,
+    }
+}
+
+#[test]
+fn time_window_instance_from_the_dumas_set() {
+    let p = read_problem(&project_file("instances/tsptw/n20w20.001.txt")).unwrap();
+    let (inst, c) = (&p.instance, &p.constraints);
+    assert_eq!(inst.name, "n20w20.001");
+    assert_eq!(inst.dimension, 21);
+    assert_eq!(c.nodes(), 21);
+    assert!(matches!(inst.weights, Weights::Matrix(_)));
+    let cost = inst.cost();
+    // Read off the file: row 0 starts "0 19 17 34" and ends "13 12"; row 3 is
+    // "34 41 47 0 ..."; row 20 starts "12 31".
+    assert_eq!(cost.cost(0, 1), 19);
+    assert_eq!(cost.cost(0, 3), 34);
+    assert_eq!(cost.cost(0, 20), 12);
+    assert_eq!(cost.cost(3, 2), 47);
+    assert_eq!(cost.cost(20, 1), 31);
+    assert_eq!(cost.cost(7, 7), 0);
+    // Windows: lines "0 408", "62 68", ..., "275 300".
+    let w = |earliest, latest| vec![wend::constraints::Window { earliest, latest }];
+    assert_eq!(c.windows[0], w(0, 408));
+    assert_eq!(c.windows[1], w(62, 68));
+    assert_eq!(c.windows[9], w(3, 23));
+    assert_eq!(c.windows[20], w(275, 300));
+    assert!(c.windows.iter().all(|v| v.len() == 1));
+    assert!(c.service.iter().all(|&s| s == 0));
+    assert!(c.penalty.iter().all(Option::is_none));
+    assert!(c.precedence.is_empty() && c.fixed_edges.is_empty());
+    assert_eq!((c.depot, c.start_time), (0, 0));
+    assert_eq!(c.route, wend::constraints::Route::Closed);
+    assert_eq!(c.objective, wend::constraints::Objective::Travel);
+}
+
+#[test]
+fn time_window_instance_from_the_gendreau_set() {
+    let p = read_problem(&project_file("instances/tsptw/n20w120.001.txt")).unwrap();
+    assert_eq!(p.instance.dimension, 21);
+    let w = &p.constraints.windows;
+    assert_eq!((w[0][0].earliest, w[0][0].latest), (0, 458));
+    assert_eq!((w[1][0].earliest, w[1][0].latest), (12, 118));
+}
+
+#[test]
+fn time_window_layout_is_told_by_its_content() {
+    let p = parse_problem(TW, "t.txt").unwrap();
+    assert_eq!(p.instance.dimension, 3);
+    assert_eq!(p.instance.kind, ProblemKind::Tsp);
+    assert_eq!(p.instance.cost().cost(1, 2), 3);
+    assert_eq!(p.constraints.windows[2][0].latest, 30);
+    // Blank lines, CRLF and trailing spaces are tolerated; an asymmetric matrix is an ATSP.
+    let loose = "\r\n3 \r\n0 1 2\r\n\r\n5 0 3\r\n2 3 0\r\n0 100\r\n5 10\r\n20 30\r\n\r\n";
+    let p = parse_problem(loose, "t.txt").unwrap();
+    assert_eq!(p.instance.kind, ProblemKind::Atsp);
+    assert_eq!(p.instance.cost().cost(1, 0), 5);
+    // TSPLIB text still reads as TSPLIB, with no constraint but its fixed edges.
+    let p = parse_problem(TINY, "t.tsp").unwrap();
+    assert_eq!(p.instance.name, "tiny");
+    assert!(p.constraints.is_unconstrained());
+    let fixed = TINY.replace(
+        "NODE_COORD_SECTION",
+        "FIXED_EDGES_SECTION\n2 3\n-1\nNODE_COORD_SECTION",
+    );
+    let p = parse_problem(&fixed, "t.tsp").unwrap();
+    assert_eq!(p.constraints.fixed_edges, vec![(1, 2)]);
+    assert_eq!(p.constraints.nodes(), 5);
+    // Neither a keyword nor a number first: a TSPLIB error.
+    assert_err(&tw_err("x 3\n"), 1, "expected a keyword line");
+}
+
+#[test]
+fn time_window_errors() {
+    let e = tw_err("0\n");
+    assert_eq!(
+        e.to_string(),
+        "t.txt:1: the number of nodes must be at least 1, found 0"
+    );
+    for (text, line, needle) in [
+        ("3 4\n", 1, "alone on the first line, found also \"4\""),
+        (
+            "99999999999999999999999\n",
+            1,
+            "the number of nodes \"99999999999999999999999\" is too large",
+        ),
+        ("3\n0 1 2\n1 0 3\n", 1, "3 nodes need 6 more lines"),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5 10\n\n",
+            6,
+            "the windows ended after 2 of 3",
+        ),
+        (
+            "3\n0 1 2\n1 0\n2 3 0\n0 100\n5 10\n20 30\n",
+            3,
+            "matrix row 2 has 2 entries, expected 3",
+        ),
+        (
+            "3\n0 1 2\n1 0 3 4\n2 3 0\n0 100\n5 10\n20 30\n",
+            3,
+            "matrix row 2 has more than 3 entries: \"4\" is one too many",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 x 0\n0 100\n5 10\n20 30\n",
+            4,
+            "the travel time from node 2 to node 1 must be an integer, found \"x\"",
+        ),
+        (
+            "3\n0 1 2.5\n1 0 3\n2 3 0\n0 100\n5 10\n20 30\n",
+            2,
+            "must be an integer, found \"2.5\"",
+        ),
+        (
+            "3\n0 1 2\n1 0 -3\n2 3 0\n0 100\n5 10\n20 30\n",
+            3,
+            "the travel time from node 1 to node 2 must not be negative, found -3",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n-5 10\n20 30\n",
+            6,
+            "the earliest time of node 1 must not be negative",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5 10\n30 20\n",
+            7,
+            "the window of node 2 closes at 20 before it opens at 30",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5 10 15\n20 30\n",
+            6,
+            "expected \"earliest latest\" for node 1",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5\n20 30\n",
+            6,
+            "expected \"earliest latest\" for node 1",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 99999999999999999999\n5 10\n20 30\n",
+            5,
+            "the latest time of node 0, \"99999999999999999999\", does not fit a 64-bit integer",
+        ),
+        (
+            "3\n0 1 4611686018427387904\n1 0 3\n2 3 0\n0 100\n5 10\n20 30\n",
+            2,
+            "is too large: sums of times along a tour could overflow",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5 10\n20 30\n\n7 8\n",
+            9,
+            "expected the end of the file after the 3 windows, found \"7 8\"",
+        ),
+    ] {
+        let e = tw_err(text);
+        assert_eq!(e.source_name, "t.txt");
+        assert_err(&e, line, needle);
     }
 }

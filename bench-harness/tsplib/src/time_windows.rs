@@ -57,7 +57,7 @@ fn looks_like_time_windows(text: &str) -> bool {
     parse_key_line(first.text).is_none()
         && Tokens::new(first.text)
             .next()
-            .is_some_and(|t| parse_whole(t).is_ok())
+            .is_some_and(|t| matches!(parse_whole(t), Ok(_) | Err(NumError::Overflow)))
 }
 
 /// Reads the time-window layout (see the module documentation).
