@@ -12,6 +12,7 @@
 // User files reach almost every path here: failures are errors, never `unwrap`/`expect` panics.
 #![cfg_attr(not(test), deny(clippy::unwrap_used, clippy::expect_used))]
 
+mod constraints_csv;
 mod error;
 mod header;
 mod lex;
@@ -27,6 +28,7 @@ mod tests;
 
 use std::path::Path;
 
+pub use constraints_csv::{parse_constraints, read_constraints};
 pub use error::TsplibError;
 pub use optima::{parse_optima, read_optima};
 pub use problem::parse_instance;
