@@ -234,15 +234,17 @@ pub fn parse_constraints(
         .comment(Some(b'#'))
         .from_reader(text.as_bytes());
     let mut records = reader.records();
-    let csv_err = |e: csv::Error| {
-        let line = e.position().map_or(0, |p| p.line() as usize);
-        ctx.err(line, format!("not readable as CSV: {e}"))
+    let mut lines = LineFinder {
+        text,
+        byte: 0,
+        line: 1,
     };
+    let csv_err = |e: csv::Error| ctx.err(0, format!("not readable as CSV: {e}"));
     let header = records
         .next()
         .ok_or_else(|| ctx.err(0, "the file is empty: expected a header such as \"kind,stop,other,earliest,latest,value\""))?
         .map_err(csv_err)?;
-    let header_line = line_of(&header);
+    let header_line = lines.line_of(&header);
     let at = read_header(ctx, &header, header_line)?;
     let width = header.len();
 
@@ -250,7 +252,7 @@ pub fn parse_constraints(
     let mut seen: HashMap<Key, usize> = HashMap::new();
     for record in records {
         let record = record.map_err(csv_err)?;
-        let line = line_of(&record);
+        let line = lines.line_of(&record);
         if record.len() != width {
             return Err(ctx.err(
                 line,
@@ -374,8 +376,48 @@ fn apply(row: &Row<'_>, c: &mut Constraints) -> Result<Key, TsplibError> {
     Ok(key)
 }
 
-fn line_of(record: &csv::StringRecord) -> usize {
-    record.position().map_or(0, |p| p.line() as usize)
+/// Line numbers of records. The CSV reader gives each record's byte offset, which may point at
+/// the end of the line before it and at blank or comment lines it skipped; the line of the
+/// record is the first one from there that holds data.
+struct LineFinder<'t> {
+    text: &'t str,
+    /// A byte offset at or before every record still to come, and the line it is on.
+    byte: usize,
+    line: usize,
+}
+
+impl LineFinder<'_> {
+    fn line_of(&mut self, record: &csv::StringRecord) -> usize {
+        record.position().map_or(0, |p| {
+            self.line_at(usize::try_from(p.byte()).unwrap_or(usize::MAX))
+        })
+    }
+
+    fn line_at(&mut self, byte: usize) -> usize {
+        let byte = byte.min(self.text.len());
+        if byte >= self.byte {
+            let skipped = self.text.get(self.byte..byte).unwrap_or("");
+            self.line += skipped.bytes().filter(|&b| b == b'\n').count();
+            self.byte = byte;
+        }
+        let mut line = self.line;
+        let mut rest = self.text.get(byte..).unwrap_or("");
+        loop {
+            let (head, tail) = match rest.find('\n') {
+                Some(at) => (
+                    rest.get(..at).unwrap_or(""),
+                    rest.get(at + 1..).unwrap_or(""),
+                ),
+                None => (rest, ""),
+            };
+            let head = head.trim_end_matches('\r');
+            if !(head.is_empty() || head.starts_with('#')) || tail.is_empty() {
+                return line;
+            }
+            line += 1;
+            rest = tail;
+        }
+    }
 }
 
 /// Column positions by name; `kind` must be there, every name known and given once.

@@ -1432,3 +1432,240 @@ fn time_window_errors() {
         assert_err(&e, line, needle);
     }
 }
+
+// ---------------------------------------------------------------------------------------------
+// The constraints CSV.
+
+const HEAD: &str = "kind,stop,other,earliest,latest,value\n";
+
+fn csv_err(text: &str, nodes: usize) -> TsplibError {
+    match parse_constraints(text, "c.csv", nodes) {
+        Ok(c) => panic!("expected an error, read {c:?}"),
+        Err(e) => e,
+    }
+}
+
+#[test]
+fn constraints_csv_reads_every_kind() {
+    let text = format!(
+        "{HEAD}\
+         # comment line\n\
+         window,3,,100,200,\n\
+         \n\
+         window, 3 ,,10,20,\n\
+         service,3,,,,5\n\
+         optional,4,,,,70\n\
+         before,1,4,,,\n\
+         before,2,3,5,15,\n\
+         edge,4,2,,,\n\
+         depot,2,,,,\n\
+         start,,,,,-30\n\
+         path,,,,,\n"
+    );
+    let c = parse_constraints(&text, "c.csv", 4).unwrap();
+    assert_eq!(c.nodes(), 4);
+    let w = |earliest, latest| wend::constraints::Window { earliest, latest };
+    // Sorted by opening time whatever the row order.
+    assert_eq!(c.windows[2], vec![w(10, 20), w(100, 200)]);
+    assert!(c.windows[0].is_empty());
+    assert_eq!(c.service, vec![0, 0, 5, 0]);
+    assert_eq!(c.penalty, vec![None, None, None, Some(70)]);
+    let p = |before, after, min_lag, max_lag| wend::constraints::Precedence {
+        before,
+        after,
+        min_lag,
+        max_lag,
+    };
+    assert_eq!(
+        c.precedence,
+        vec![p(0, 3, None, None), p(1, 2, Some(5), Some(15))]
+    );
+    assert_eq!(c.fixed_edges, vec![(3, 1)]);
+    assert_eq!(c.depot, 1);
+    assert_eq!(c.start_time, -30);
+    assert_eq!(c.route, wend::constraints::Route::Path);
+    // Columns in another order, unused ones left out; defaults where nothing is said.
+    let c = parse_constraints("stop,kind\n2,depot\n", "c.csv", 3).unwrap();
+    assert_eq!(c.depot, 1);
+    let c = parse_constraints(HEAD, "c.csv", 3).unwrap();
+    assert_eq!(c, wend::constraints::Constraints::new(3));
+    // A byte-order mark and CRLF endings.
+    let c = parse_constraints("\u{feff}kind,stop\r\ndepot,3\r\n", "c.csv", 3).unwrap();
+    assert_eq!(c.depot, 2);
+}
+
+#[test]
+fn constraints_csv_errors() {
+    let e = csv_err(&format!("{HEAD}window,2,,9,3,\n"), 3);
+    assert_eq!(
+        e.to_string(),
+        "c.csv:2: the window of stop 2 closes at 3 before it opens at 9"
+    );
+    for (rows, line, needle) in [
+        ("fence,1,,,,\n", 2, "unknown kind \"fence\""),
+        (",1,,,,\n", 2, "unknown kind \"\""),
+        (
+            "depot,0,,,,\n",
+            2,
+            "stop 0 is not a stop of this instance (stops are 1 to 3)",
+        ),
+        ("depot,4,,,,\n", 2, "stop 4 is not a stop of this instance"),
+        ("edge,1,9,,,\n", 2, "other 9 is not a stop of this instance"),
+        (
+            "depot,x,,,,\n",
+            2,
+            "stop \"x\" is not a stop number (1 to 3)",
+        ),
+        ("depot,-1,,,,\n", 2, "stop \"-1\" is not a stop number"),
+        ("window,1,,a,5,\n", 2, "earliest \"a\" is not an integer"),
+        ("service,1,,,,2.5\n", 2, "value \"2.5\" is not an integer"),
+        (
+            "start,,,,,99999999999999999999\n",
+            2,
+            "value \"99999999999999999999\" does not fit a 64-bit integer",
+        ),
+        (
+            "service,1,,,,-2\n",
+            2,
+            "the value of a service row must not be negative",
+        ),
+        (
+            "optional,1,,,,-2\n",
+            2,
+            "the value of a optional row must not be negative",
+        ),
+        (
+            "window,1,,5,,\n",
+            2,
+            "a window row needs latest, which is empty",
+        ),
+        (
+            "before,1,,,,\n",
+            2,
+            "a before row needs other, which is empty",
+        ),
+        ("service,1,,,,\n", 2, "a service row needs value"),
+        (
+            "window,1,2,5,6,\n",
+            2,
+            "a window row takes no other, found \"2\"",
+        ),
+        (
+            "start,1,,,,5\n",
+            2,
+            "a start row takes no stop, found \"1\"",
+        ),
+        ("path,,,,,1\n", 2, "a path row takes no value"),
+        ("edge,2,2,,,\n", 2, "a edge row pairs stop 2 with itself"),
+        (
+            "before,1,2,9,3,\n",
+            2,
+            "the most time between stops 1 and 2 (3) is less than the least (9)",
+        ),
+        (
+            "depot,1\n",
+            2,
+            "expected 6 cells as in the header (line 1), found 2",
+        ),
+        // Duplicates: the second row is the one named.
+        (
+            "window,1,,5,6,\n\nwindow,1,,5,6,\n",
+            4,
+            "duplicate row: line 2 already gives this window",
+        ),
+        (
+            "service,1,,,,3\nservice,1,,,,4\n",
+            3,
+            "line 2 already gives this service",
+        ),
+        (
+            "optional,2,,,,3\noptional,2,,,,3\n",
+            3,
+            "line 2 already gives this optional",
+        ),
+        (
+            "before,1,2,,,\n# note\nbefore,1,2,1,,\n",
+            4,
+            "line 2 already gives this before",
+        ),
+        (
+            "edge,1,2,,,\nedge,1,2,,,\n",
+            3,
+            "line 2 already gives this edge",
+        ),
+        (
+            "depot,1,,,,\ndepot,2,,,,\n",
+            3,
+            "line 2 already gives this depot",
+        ),
+        (
+            "start,,,,,1\nstart,,,,,1\n",
+            3,
+            "line 2 already gives this start",
+        ),
+        (
+            "path,,,,,\npath,,,,,\n",
+            3,
+            "line 2 already gives this path",
+        ),
+    ] {
+        let e = csv_err(&format!("{HEAD}{rows}"), 3);
+        assert_eq!(e.source_name, "c.csv");
+        assert_err(&e, line, needle);
+    }
+    // Different windows of one stop, or both directions of a pair, are not duplicates.
+    let ok = format!("{HEAD}window,1,,5,6,\nwindow,1,,5,7,\nedge,1,2,,,\nedge,2,1,,,\n");
+    assert!(parse_constraints(&ok, "c.csv", 3).is_ok());
+    // Header trouble.
+    assert_err(&csv_err("", 3), 0, "the file is empty: expected a header");
+    assert_err(&csv_err("\n\n", 3), 0, "the file is empty");
+    assert_err(
+        &csv_err("window,1,,5,6,\n", 3),
+        1,
+        "the first line must be the header",
+    );
+    assert_err(
+        &csv_err("stop,earliest\n1,2\n", 3),
+        1,
+        "the header has no kind column",
+    );
+    assert_err(
+        &csv_err("kind,stop,colour\n", 3),
+        1,
+        "unknown column \"colour\" in the header",
+    );
+    assert_err(
+        &csv_err("kind,stop,stop\n", 3),
+        1,
+        "column stop named twice in the header",
+    );
+    assert_err(
+        &csv_err("kind,stop\ndepot,1\nwindow,1\n", 3),
+        3,
+        "a window row needs earliest, which is not a column of the header",
+    );
+    // Blank CRLF lines between rows count too.
+    assert_err(
+        &csv_err("kind,stop\r\ndepot,1\r\n\r\n\r\ndepot,9\r\n", 3),
+        5,
+        "stop 9 is not a stop of this instance",
+    );
+    // A comment before the header: line numbers still count it.
+    assert_err(
+        &csv_err("# constraints\nkind,stop\ndepot,7\n", 3),
+        3,
+        "stop 7 is not a stop of this instance",
+    );
+}
+
+#[test]
+fn constraints_csv_read_from_a_file_name_the_file() {
+    let dir = std::env::temp_dir().join(format!("wend-tsplib-csv-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("day.csv");
+    std::fs::write(&path, "kind,stop\ndepot,2\ndepot,5\n").unwrap();
+    let e = read_constraints(&path, 3).unwrap_err();
+    std::fs::remove_dir_all(&dir).unwrap();
+    assert_eq!(e.source_name, path.display().to_string());
+    assert_err(&e, 3, "stop 5 is not a stop of this instance");
+}
