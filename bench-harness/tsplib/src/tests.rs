@@ -1160,13 +1160,31 @@ fn exercise(text: &str) {
     }
     let _ = parse_tour(text, "fuzz");
     let _ = parse_optima(text, "fuzz");
+    if let Ok(p) = parse_problem(text, "fuzz") {
+        assert_eq!(p.constraints.nodes(), p.instance.dimension);
+        for w in p.constraints.windows.iter().flatten() {
+            assert!(w.earliest <= w.latest);
+        }
+    }
+    for nodes in [1, 5] {
+        if let Ok(c) = parse_constraints(text, "fuzz", nodes) {
+            assert_eq!(c.nodes(), nodes);
+            assert!(c.depot < nodes);
+            for &(a, b) in &c.fixed_edges {
+                assert!(a < nodes && b < nodes && a != b);
+            }
+        }
+    }
 }
 
-const SEEDS: [&str; 3] = [
+const SEEDS: [&str; 5] = [
     TINY,
     "NAME: m\nTYPE: TSP\nDIMENSION: 4\nEDGE_WEIGHT_TYPE: EXPLICIT\nEDGE_WEIGHT_FORMAT: UPPER_DIAG_COL\n\
      EDGE_WEIGHT_SECTION\n0 1 0\n2 3 0 4 5 6 0\nDISPLAY_DATA_SECTION\n1 0 0\n2 1 0\n3 1 1\n4 0 1\nEOF\n",
     "NAME: t\nTYPE: TOUR\nDIMENSION: 5\nTOUR_SECTION\n1\n3 2\n5\n4\n-1\nEOF\n",
+    "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5 10\n20 30\n",
+    "kind,stop,other,earliest,latest,value\nwindow,2,,5,9,\nbefore,1,3,0,4,\nedge,4,5,,,\n\
+     optional,3,,,,7\nstart,,,,,1\n",
 ];
 
 /// Tokens likely to reach unusual paths when spliced into a valid file.
