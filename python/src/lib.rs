@@ -533,6 +533,7 @@ fn write_points(
         source: path.display().to_string(),
         edge_weight_type: metric.to_string(),
         edge_weight_format: None,
+        fixed_edges: Vec::new(),
     };
     Ok(write_instance_file(&path, &inst)?)
 }
@@ -561,6 +562,7 @@ fn write_matrix(
         source: path.display().to_string(),
         edge_weight_type: "EXPLICIT".into(),
         edge_weight_format: Some("FULL_MATRIX".into()),
+        fixed_edges: Vec::new(),
     };
     Ok(write_instance_file(&path, &inst)?)
 }

@@ -12,12 +12,14 @@
 // User files reach almost every path here: failures are errors, never `unwrap`/`expect` panics.
 #![cfg_attr(not(test), deny(clippy::unwrap_used, clippy::expect_used))]
 
+mod constraints_csv;
 mod error;
 mod header;
 mod lex;
 mod matrix;
 mod optima;
 mod problem;
+mod time_windows;
 mod tour;
 mod write;
 
@@ -26,9 +28,11 @@ mod tests;
 
 use std::path::Path;
 
+pub use constraints_csv::{parse_constraints, read_constraints};
 pub use error::TsplibError;
 pub use optima::{parse_optima, read_optima};
 pub use problem::parse_instance;
+pub use time_windows::{parse_problem, parse_time_windows, Problem};
 pub use tour::{parse_tour, write_tour};
 pub use write::write_instance;
 
@@ -83,6 +87,9 @@ pub struct Instance {
     pub edge_weight_type: String,
     /// `EDGE_WEIGHT_FORMAT` as written, when given.
     pub edge_weight_format: Option<String>,
+    /// The `FIXED_EDGES_SECTION`: edges `(a, b)` (0-based) every tour must use, as written
+    /// (undirected for `TSP`, `b` right after `a` for `ATSP`); empty when the file has none.
+    pub fixed_edges: Vec<(usize, usize)>,
 }
 
 impl Instance {
@@ -129,6 +136,13 @@ fn read_text(path: &Path) -> Result<(String, String), TsplibError> {
 pub fn read_instance(path: &Path) -> Result<Instance, TsplibError> {
     let (text, source) = read_text(path)?;
     parse_instance(&text, &source)
+}
+
+/// Reads a problem of either kind (TSPLIB 95 or the time-window layout) from a file; see
+/// [`parse_problem`].
+pub fn read_problem(path: &Path) -> Result<Problem, TsplibError> {
+    let (text, source) = read_text(path)?;
+    parse_problem(&text, &source)
 }
 
 /// Reads a tour from a file; see [`parse_tour`].

@@ -1,12 +1,14 @@
-//! Lists of optimal tour lengths: lines `name : length`, `#` starting a comment.
+//! Lists of optimal tour lengths: lines `name : length` or `name length`, `#` starting a
+//! comment. Names may hold `/`, as in `set/instance 378`.
 
 use std::collections::BTreeMap;
 use std::path::Path;
 
 use nom::{
+    branch::alt,
     bytes::complete::take_till1,
-    character::complete::{char, space0},
-    combinator::rest,
+    character::complete::{char, space0, space1},
+    combinator::{recognize, rest},
     sequence::{delimited, pair},
     IResult,
 };
@@ -18,12 +20,16 @@ use super::read_text;
 fn entry(input: &str) -> IResult<&str, (&str, &str)> {
     pair(
         take_till1(|c: char| c == ':' || c.is_whitespace()),
-        nom::sequence::preceded(delimited(space0, char(':'), space0), rest),
+        nom::sequence::preceded(
+            alt((recognize(delimited(space0, char(':'), space0)), space1)),
+            rest,
+        ),
     )(input)
 }
 
-/// Reads `name : length` lines (blank lines and `#` comments ignored) into a map from instance
-/// name to optimal length. A name given twice is an error, since the two could disagree.
+/// Reads `name : length` or `name length` lines (blank lines and `#` comments ignored) into a
+/// map from instance name to optimal length. A name given twice is an error, since the two
+/// could disagree.
 pub fn parse_optima(text: &str, source: &str) -> Result<BTreeMap<String, i64>, TsplibError> {
     let ctx = Ctx { source };
     let mut lines = Lines::new(text);
@@ -36,7 +42,10 @@ pub fn parse_optima(text: &str, source: &str) -> Result<BTreeMap<String, i64>, T
         let (name, value) = entry(body).map(|(_, e)| e).map_err(|_| {
             ctx.err(
                 line.no,
-                format!("expected \"name : length\", found {}", shown(body)),
+                format!(
+                    "expected \"name : length\" or \"name length\", found {}",
+                    shown(body)
+                ),
             )
         })?;
         let value = value.trim();

@@ -65,6 +65,7 @@ struct Data {
     coords: Option<NodeData>,
     matrix: Option<At<Vec<i64>>>,
     display: Option<NodeData>,
+    fixed_edges: Option<At<Vec<(usize, usize)>>>,
 }
 
 /// Reads a TSP or ATSP instance from TSPLIB 95 text. `source` names the text in error messages
@@ -72,7 +73,8 @@ struct Data {
 ///
 /// Accepts every coordinate `EDGE_WEIGHT_TYPE` of [`wend::Metric`] and `EXPLICIT` in all nine
 /// matrix layouts; refuses, with the line, everything it cannot represent faithfully (other
-/// weight types, CVRP data, non-empty fixed edges, edge lists, tours inside problem files).
+/// weight types, CVRP data, edge lists, tours inside problem files). A `FIXED_EDGES_SECTION`
+/// is read into [`Instance::fixed_edges`].
 pub fn parse_instance(text: &str, source: &str) -> Result<Instance, TsplibError> {
     let ctx = Ctx { source };
     let mut lines = Lines::new(text);
@@ -221,7 +223,13 @@ pub fn parse_instance(text: &str, source: &str) -> Result<Instance, TsplibError>
             }
             "FIXED_EDGES_SECTION" => {
                 bare(ctx, no, kl)?;
-                skip_empty_fixed_edges(ctx, &mut lines, no)?;
+                once_section(ctx, data.fixed_edges.as_ref().map(|d| d.line), kl.key, no)?;
+                let n = need_dimension(ctx, &h, kl.key, no)?;
+                let edges = read_fixed_edges(ctx, &mut lines, n)?;
+                data.fixed_edges = Some(At {
+                    value: edges,
+                    line: no,
+                });
             }
             "DEPOT_SECTION" | "DEMAND_SECTION" => {
                 return Err(unsupported(
@@ -469,6 +477,7 @@ fn build(
             FormatSpec::Function => "FUNCTION".to_string(),
             FormatSpec::Matrix(m) => m.keyword().to_string(),
         }),
+        fixed_edges: data.fixed_edges.map(|f| f.value).unwrap_or_default(),
     })
 }
 
@@ -678,35 +687,94 @@ fn unsupported(ctx: Ctx<'_>, key: &str, line: usize, why: &str) -> TsplibError {
     ctx.err(line, format!("{key} is not supported (line {line}): {why}"))
 }
 
-/// An empty FIXED_EDGES_SECTION (just the closing `-1`, or nothing) constrains nothing and is
-/// accepted; any actual fixed edge would change the problem, so it is refused.
-fn skip_empty_fixed_edges(
+/// Reads `a b` lines (node numbers from 1) up to `-1`, the next keyword line or the end of the
+/// file, as 0-based edges. An edge given twice (in either direction) is an error; whether the
+/// edges together still allow a tour is for the solver to check.
+fn read_fixed_edges(
     ctx: Ctx<'_>,
     lines: &mut Lines<'_>,
-    header: usize,
-) -> Result<(), TsplibError> {
-    let Some(line) = lines.next_nonblank() else {
-        return Ok(());
-    };
-    if parse_key_line(line.text).is_some() {
-        lines.push_back(line);
-        return Ok(());
+    n: usize,
+) -> Result<Vec<(usize, usize)>, TsplibError> {
+    let mut edges: Vec<(usize, usize)> = Vec::new();
+    let mut seen: HashMap<(usize, usize), usize> = HashMap::new();
+    while let Some(line) = lines.next_nonblank() {
+        if parse_key_line(line.text).is_some() {
+            lines.push_back(line);
+            break;
+        }
+        let mut toks = Tokens::new(line.text);
+        let first = toks.next().unwrap_or("");
+        if first == "-1" {
+            if let Some(extra) = toks.next() {
+                return Err(ctx.err(
+                    line.no,
+                    format!(
+                        "expected nothing after the -1 that ends FIXED_EDGES_SECTION, found {}",
+                        shown(extra)
+                    ),
+                ));
+            }
+            break;
+        }
+        let Some(second) = toks.next() else {
+            return Err(ctx.err(
+                line.no,
+                format!(
+                    "expected a fixed edge \"a b\" (two node numbers) or -1, found {}",
+                    shown(line.text)
+                ),
+            ));
+        };
+        if let Some(extra) = toks.next() {
+            return Err(ctx.err(
+                line.no,
+                format!(
+                    "expected one fixed edge \"a b\" per line, found more: {}",
+                    shown(extra)
+                ),
+            ));
+        }
+        let a = edge_node(ctx, line.no, first, n)?;
+        let b = edge_node(ctx, line.no, second, n)?;
+        if a == b {
+            return Err(ctx.err(
+                line.no,
+                format!("fixed edge {} {} joins a node to itself", a + 1, b + 1),
+            ));
+        }
+        let key = (a.min(b), a.max(b));
+        if let Some(prev) = seen.get(&key) {
+            return Err(ctx.err(
+                line.no,
+                format!(
+                    "fixed edge {} {} given twice (lines {prev} and {})",
+                    a + 1,
+                    b + 1,
+                    line.no
+                ),
+            ));
+        }
+        seen.insert(key, line.no);
+        edges.push((a, b));
     }
-    let mut toks = Tokens::new(line.text);
-    if toks.next() == Some("-1") && toks.next().is_none() {
-        return Ok(());
+    Ok(edges)
+}
+
+fn edge_node(ctx: Ctx<'_>, line: usize, tok: &str, n: usize) -> Result<usize, TsplibError> {
+    match parse_whole(tok) {
+        Ok(id) if (1..=n).contains(&id) => Ok(id - 1),
+        Ok(id) => Err(ctx.err(
+            line,
+            format!("node {id} of a fixed edge is outside 1..={n} (DIMENSION is {n})"),
+        )),
+        Err(_) => Err(ctx.err(
+            line,
+            format!(
+                "expected a node number (1 to {n}) in a fixed edge, found {}",
+                shown(tok)
+            ),
+        )),
     }
-    Err(unsupported(
-        ctx,
-        "FIXED_EDGES_SECTION",
-        header,
-        &format!(
-            "fixed edges restrict which tours are allowed, and only unrestricted problems can be \
-             solved; found {} on line {}",
-            shown(line.text),
-            line.no
-        ),
-    ))
 }
 
 /// Reads `id x y [z]` lines up to the next keyword line: every id in `1..=n` exactly once.

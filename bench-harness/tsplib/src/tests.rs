@@ -121,18 +121,13 @@ fn every_shared_instance_parses() {
             let text = std::fs::read_to_string(&path).unwrap();
             let name = path.file_stem().unwrap().to_string_lossy().to_string();
             let result = read_instance(&path);
-            if name == "linhp318" {
-                // The one library file with a non-empty FIXED_EDGES_SECTION ("1 214"), which
-                // this reader refuses rather than ignore.
-                let e = result.unwrap_err();
-                assert!(
-                    e.message
-                        .starts_with("FIXED_EDGES_SECTION is not supported"),
-                    "{e}"
-                );
-                continue;
-            }
             let inst = result.unwrap_or_else(|e| panic!("{e}"));
+            if name == "linhp318" {
+                // The one library file with a non-empty FIXED_EDGES_SECTION: "1 214".
+                assert_eq!(inst.fixed_edges, vec![(0, 213)], "{name}");
+            } else {
+                assert!(inst.fixed_edges.is_empty(), "{name}");
+            }
             let dim: usize = naive_value(&text, "DIMENSION").unwrap().parse().unwrap();
             assert_eq!(inst.dimension, dim, "{name}");
             assert_eq!(inst.cost().len(), dim, "{name}");
@@ -198,6 +193,25 @@ fn shared_optima_list_reads() {
     assert_eq!(optima.get("a280"), Some(&2579));
     assert_eq!(optima.get("br17"), Some(&39));
     assert!(optima.len() > 80);
+}
+
+#[test]
+fn shared_time_window_optima_read() {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../../shared/tsptw");
+    let path = dir.join("optima.txt");
+    if !path.is_file() {
+        eprintln!("note: {} is absent; skipping", path.display());
+        return;
+    }
+    let optima = read_optima(&path).unwrap();
+    // Dumas et al. (1995), as quoted in the set's README (from memory there).
+    assert_eq!(optima.get("dumas/n20w20.001"), Some(&378));
+    assert_eq!(optima.get("dumas/n100w20.001"), Some(&738));
+    // Every name is the path of an instance file without ".txt".
+    for name in optima.keys() {
+        assert!(dir.join(format!("{name}.txt")).is_file(), "{name}");
+    }
+    assert!(optima.len() >= 100, "{}", optima.len());
 }
 
 #[test]
@@ -783,17 +797,68 @@ fn unknown_and_unsupported_keywords() {
 
 #[test]
 fn fixed_edges() {
-    let t = TINY.replace(
+    let with = |section: &str| {
+        TINY.replace(
+            "NODE_COORD_SECTION",
+            &format!("FIXED_EDGES_SECTION\n{section}NODE_COORD_SECTION"),
+        )
+    };
+    let inst = parse_instance(&with("1 2\n5 3\n-1\n"), "t").unwrap();
+    assert_eq!(inst.fixed_edges, vec![(0, 1), (4, 2)]);
+    // Ended by the next keyword instead of -1, and blank lines between edges.
+    let inst = parse_instance(&with("2 4\n\n"), "t").unwrap();
+    assert_eq!(inst.fixed_edges, vec![(1, 3)]);
+    let empty = parse_instance(&with("-1\n"), "t").unwrap();
+    assert_eq!(empty.dimension, 5);
+    assert!(empty.fixed_edges.is_empty());
+    // The section is on line 6, its first edge on line 7.
+    for (section, line, needle) in [
+        (
+            "1 x\n-1\n",
+            7,
+            "expected a node number (1 to 5) in a fixed edge, found \"x\"",
+        ),
+        ("1\n-1\n", 7, "expected a fixed edge \"a b\""),
+        (
+            "1 2 3\n-1\n",
+            7,
+            "one fixed edge \"a b\" per line, found more: \"3\"",
+        ),
+        (
+            "1 2\n0 3\n-1\n",
+            8,
+            "node 0 of a fixed edge is outside 1..=5",
+        ),
+        ("1 6\n-1\n", 7, "node 6 of a fixed edge is outside 1..=5"),
+        ("3 3\n-1\n", 7, "joins a node to itself"),
+        (
+            "1 2\n2 1\n-1\n",
+            8,
+            "fixed edge 2 1 given twice (lines 7 and 8)",
+        ),
+        ("1 2\n-1 4\n", 8, "expected nothing after the -1"),
+        (
+            "-2 4\n-1\n",
+            7,
+            "expected a node number (1 to 5) in a fixed edge, found \"-2\"",
+        ),
+    ] {
+        assert_err(&err(&with(section)), line, needle);
+    }
+    let twice = TINY.replace(
         "NODE_COORD_SECTION",
-        "FIXED_EDGES_SECTION\n1 2\n-1\nNODE_COORD_SECTION",
+        "FIXED_EDGES_SECTION\n1 2\n-1\nFIXED_EDGES_SECTION\n3 4\n-1\nNODE_COORD_SECTION",
     );
-    let e = err(&t);
-    assert_err(&e, 6, "FIXED_EDGES_SECTION is not supported (line 6)");
-    let empty = TINY.replace(
-        "NODE_COORD_SECTION",
-        "FIXED_EDGES_SECTION\n-1\nNODE_COORD_SECTION",
+    assert_err(
+        &err(&twice),
+        9,
+        "FIXED_EDGES_SECTION given twice (lines 6 and 9)",
     );
-    assert_eq!(parse_instance(&empty, "t").unwrap().dimension, 5);
+    let early = "NAME: x\nTYPE: TSP\nFIXED_EDGES_SECTION\n1 2\n-1\nDIMENSION: 2\n";
+    assert_err(&err(early), 3, "FIXED_EDGES_SECTION comes before DIMENSION");
+    // Written back, the edges read the same.
+    let inst = parse_instance(&with("1 2\n5 3\n-1\n"), "t").unwrap();
+    assert_eq!(round_trip(&inst).fixed_edges, vec![(0, 1), (4, 2)]);
 }
 
 #[test]
@@ -1041,10 +1106,35 @@ fn optima_lists() {
     );
     let e = parse_optima("a : 1\na : 2\n", "o").unwrap_err();
     assert_err(&e, 2, "a given twice (lines 1 and 2)");
+    // A name alone: "name length" without a colon is a valid line now, a name without a
+    // length is not.
     assert_err(
-        &parse_optima("a 1\n", "o").unwrap_err(),
+        &parse_optima("a : 1\nb\n", "o").unwrap_err(),
+        2,
+        "expected \"name : length\" or \"name length\", found \"b\"",
+    );
+    assert_err(
+        &parse_optima("a 1 2\n", "o").unwrap_err(),
         1,
-        "expected \"name : length\"",
+        "the length \"1 2\" of a is not an integer",
+    );
+    // The time-window sets' list: "set/name value", comments, no colon.
+    let o = parse_optima(
+        "# optimal travel cost\ndumas/n20w20.001 378\ngendreau/n20w120.001\t267\n",
+        "o",
+    )
+    .unwrap();
+    assert_eq!(
+        o.into_iter().collect::<Vec<_>>(),
+        [
+            ("dumas/n20w20.001".into(), 378),
+            ("gendreau/n20w120.001".into(), 267)
+        ]
+    );
+    assert_err(
+        &parse_optima("dumas/a 1\ndumas/a : 1\n", "o").unwrap_err(),
+        2,
+        "dumas/a given twice (lines 1 and 2)",
     );
     assert_err(
         &parse_optima("a : x\n", "o").unwrap_err(),
@@ -1070,13 +1160,31 @@ fn exercise(text: &str) {
     }
     let _ = parse_tour(text, "fuzz");
     let _ = parse_optima(text, "fuzz");
+    if let Ok(p) = parse_problem(text, "fuzz") {
+        assert_eq!(p.constraints.nodes(), p.instance.dimension);
+        for w in p.constraints.windows.iter().flatten() {
+            assert!(w.earliest <= w.latest);
+        }
+    }
+    for nodes in [1, 5] {
+        if let Ok(c) = parse_constraints(text, "fuzz", nodes) {
+            assert_eq!(c.nodes(), nodes);
+            assert!(c.depot < nodes);
+            for &(a, b) in &c.fixed_edges {
+                assert!(a < nodes && b < nodes && a != b);
+            }
+        }
+    }
 }
 
-const SEEDS: [&str; 3] = [
+const SEEDS: [&str; 5] = [
     TINY,
     "NAME: m\nTYPE: TSP\nDIMENSION: 4\nEDGE_WEIGHT_TYPE: EXPLICIT\nEDGE_WEIGHT_FORMAT: UPPER_DIAG_COL\n\
      EDGE_WEIGHT_SECTION\n0 1 0\n2 3 0 4 5 6 0\nDISPLAY_DATA_SECTION\n1 0 0\n2 1 0\n3 1 1\n4 0 1\nEOF\n",
     "NAME: t\nTYPE: TOUR\nDIMENSION: 5\nTOUR_SECTION\n1\n3 2\n5\n4\n-1\nEOF\n",
+    "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5 10\n20 30\n",
+    "kind,stop,other,earliest,latest,value\nwindow,2,,5,9,\nbefore,1,3,0,4,\nedge,4,5,,,\n\
+     optional,3,,,,7\nstart,,,,,1\n",
 ];
 
 /// Tokens likely to reach unusual paths when spliced into a valid file.
@@ -1168,4 +1276,414 @@ proptest! {
         }
         exercise(&text);
     }
+}
+
+// ---------------------------------------------------------------------------------------------
+// The plain time-window layout.
+
+fn project_file(rel: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../..")
+        .join(rel)
+}
+
+const TW: &str = "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5 10\n20 30\n";
+
+fn tw_err(text: &str) -> TsplibError {
+    match parse_problem(text, "t.txt") {
+        Ok(p) => panic!("expected an error, parsed {} nodes", p.instance.dimension),
+        Err(e) => e,
+    }
+}
+
+#[test]
+fn time_window_instance_from_the_dumas_set() {
+    let p = read_problem(&project_file("instances/tsptw/n20w20.001.txt")).unwrap();
+    let (inst, c) = (&p.instance, &p.constraints);
+    assert_eq!(inst.name, "n20w20.001");
+    assert_eq!(inst.dimension, 21);
+    assert_eq!(c.nodes(), 21);
+    assert!(matches!(inst.weights, Weights::Matrix(_)));
+    let cost = inst.cost();
+    // Read off the file: row 0 starts "0 19 17 34" and ends "13 12"; row 3 is
+    // "34 41 47 0 ..."; row 20 starts "12 31".
+    assert_eq!(cost.cost(0, 1), 19);
+    assert_eq!(cost.cost(0, 3), 34);
+    assert_eq!(cost.cost(0, 20), 12);
+    assert_eq!(cost.cost(3, 2), 47);
+    assert_eq!(cost.cost(20, 1), 31);
+    assert_eq!(cost.cost(7, 7), 0);
+    // Windows: lines "0 408", "62 68", ..., "275 300".
+    let w = |earliest, latest| vec![wend::constraints::Window { earliest, latest }];
+    assert_eq!(c.windows[0], w(0, 408));
+    assert_eq!(c.windows[1], w(62, 68));
+    assert_eq!(c.windows[9], w(3, 23));
+    assert_eq!(c.windows[20], w(275, 300));
+    assert!(c.windows.iter().all(|v| v.len() == 1));
+    assert!(c.service.iter().all(|&s| s == 0));
+    assert!(c.penalty.iter().all(Option::is_none));
+    assert!(c.precedence.is_empty() && c.fixed_edges.is_empty());
+    assert_eq!((c.depot, c.start_time), (0, 0));
+    assert_eq!(c.route, wend::constraints::Route::Closed);
+    assert_eq!(c.objective, wend::constraints::Objective::Travel);
+}
+
+#[test]
+fn time_window_instance_from_the_gendreau_set() {
+    let p = read_problem(&project_file("instances/tsptw/n20w120.001.txt")).unwrap();
+    assert_eq!(p.instance.dimension, 21);
+    let w = &p.constraints.windows;
+    assert_eq!((w[0][0].earliest, w[0][0].latest), (0, 458));
+    assert_eq!((w[1][0].earliest, w[1][0].latest), (12, 118));
+}
+
+#[test]
+fn time_window_layout_is_told_by_its_content() {
+    let p = parse_problem(TW, "t.txt").unwrap();
+    assert_eq!(p.instance.dimension, 3);
+    assert_eq!(p.instance.kind, ProblemKind::Tsp);
+    assert_eq!(p.instance.cost().cost(1, 2), 3);
+    assert_eq!(p.constraints.windows[2][0].latest, 30);
+    // Blank lines, CRLF and trailing spaces are tolerated; an asymmetric matrix is an ATSP.
+    let loose = "\r\n3 \r\n0 1 2\r\n\r\n5 0 3\r\n2 3 0\r\n0 100\r\n5 10\r\n20 30\r\n\r\n";
+    let p = parse_problem(loose, "t.txt").unwrap();
+    assert_eq!(p.instance.kind, ProblemKind::Atsp);
+    assert_eq!(p.instance.cost().cost(1, 0), 5);
+    // TSPLIB text still reads as TSPLIB, with no constraint but its fixed edges.
+    let p = parse_problem(TINY, "t.tsp").unwrap();
+    assert_eq!(p.instance.name, "tiny");
+    assert!(p.constraints.is_unconstrained());
+    let fixed = TINY.replace(
+        "NODE_COORD_SECTION",
+        "FIXED_EDGES_SECTION\n2 3\n-1\nNODE_COORD_SECTION",
+    );
+    let p = parse_problem(&fixed, "t.tsp").unwrap();
+    assert_eq!(p.constraints.fixed_edges, vec![(1, 2)]);
+    assert_eq!(p.constraints.nodes(), 5);
+    // Neither a keyword nor a number first: a TSPLIB error.
+    assert_err(&tw_err("x 3\n"), 1, "expected a keyword line");
+}
+
+#[test]
+fn time_window_errors() {
+    let e = tw_err("0\n");
+    assert_eq!(
+        e.to_string(),
+        "t.txt:1: the number of nodes must be at least 1, found 0"
+    );
+    for (text, line, needle) in [
+        ("3 4\n", 1, "alone on the first line, found also \"4\""),
+        (
+            "99999999999999999999999\n",
+            1,
+            "the number of nodes \"99999999999999999999999\" is too large",
+        ),
+        ("3\n0 1 2\n1 0 3\n", 1, "3 nodes need 6 more lines"),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5 10\n\n",
+            6,
+            "the windows ended after 2 of 3",
+        ),
+        (
+            "3\n0 1 2\n1 0\n2 3 0\n0 100\n5 10\n20 30\n",
+            3,
+            "matrix row 2 has 2 entries, expected 3",
+        ),
+        (
+            "3\n0 1 2\n1 0 3 4\n2 3 0\n0 100\n5 10\n20 30\n",
+            3,
+            "matrix row 2 has more than 3 entries: \"4\" is one too many",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 x 0\n0 100\n5 10\n20 30\n",
+            4,
+            "the travel time from node 2 to node 1 must be an integer, found \"x\"",
+        ),
+        (
+            "3\n0 1 2.5\n1 0 3\n2 3 0\n0 100\n5 10\n20 30\n",
+            2,
+            "must be an integer, found \"2.5\"",
+        ),
+        (
+            "3\n0 1 2\n1 0 -3\n2 3 0\n0 100\n5 10\n20 30\n",
+            3,
+            "the travel time from node 1 to node 2 must not be negative, found -3",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n-5 10\n20 30\n",
+            6,
+            "the earliest time of node 1 must not be negative",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5 10\n30 20\n",
+            7,
+            "the window of node 2 closes at 20 before it opens at 30",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5 10 15\n20 30\n",
+            6,
+            "expected \"earliest latest\" for node 1",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5\n20 30\n",
+            6,
+            "expected \"earliest latest\" for node 1",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 99999999999999999999\n5 10\n20 30\n",
+            5,
+            "the latest time of node 0, \"99999999999999999999\", does not fit a 64-bit integer",
+        ),
+        (
+            "3\n0 1 4611686018427387904\n1 0 3\n2 3 0\n0 100\n5 10\n20 30\n",
+            2,
+            "is too large: sums of times along a tour could overflow",
+        ),
+        (
+            "3\n0 1 2\n1 0 3\n2 3 0\n0 100\n5 10\n20 30\n\n7 8\n",
+            9,
+            "expected the end of the file after the 3 windows, found \"7 8\"",
+        ),
+    ] {
+        let e = tw_err(text);
+        assert_eq!(e.source_name, "t.txt");
+        assert_err(&e, line, needle);
+    }
+}
+
+// ---------------------------------------------------------------------------------------------
+// The constraints CSV.
+
+const HEAD: &str = "kind,stop,other,earliest,latest,value\n";
+
+fn csv_err(text: &str, nodes: usize) -> TsplibError {
+    match parse_constraints(text, "c.csv", nodes) {
+        Ok(c) => panic!("expected an error, read {c:?}"),
+        Err(e) => e,
+    }
+}
+
+#[test]
+fn constraints_csv_reads_every_kind() {
+    let text = format!(
+        "{HEAD}\
+         # comment line\n\
+         window,3,,100,200,\n\
+         \n\
+         window, 3 ,,10,20,\n\
+         service,3,,,,5\n\
+         optional,4,,,,70\n\
+         before,1,4,,,\n\
+         before,2,3,5,15,\n\
+         edge,4,2,,,\n\
+         depot,2,,,,\n\
+         start,,,,,-30\n\
+         path,,,,,\n"
+    );
+    let c = parse_constraints(&text, "c.csv", 4).unwrap();
+    assert_eq!(c.nodes(), 4);
+    let w = |earliest, latest| wend::constraints::Window { earliest, latest };
+    // Sorted by opening time whatever the row order.
+    assert_eq!(c.windows[2], vec![w(10, 20), w(100, 200)]);
+    assert!(c.windows[0].is_empty());
+    assert_eq!(c.service, vec![0, 0, 5, 0]);
+    assert_eq!(c.penalty, vec![None, None, None, Some(70)]);
+    let p = |before, after, min_lag, max_lag| wend::constraints::Precedence {
+        before,
+        after,
+        min_lag,
+        max_lag,
+    };
+    assert_eq!(
+        c.precedence,
+        vec![p(0, 3, None, None), p(1, 2, Some(5), Some(15))]
+    );
+    assert_eq!(c.fixed_edges, vec![(3, 1)]);
+    assert_eq!(c.depot, 1);
+    assert_eq!(c.start_time, -30);
+    assert_eq!(c.route, wend::constraints::Route::Path);
+    // Columns in another order, unused ones left out; defaults where nothing is said.
+    let c = parse_constraints("stop,kind\n2,depot\n", "c.csv", 3).unwrap();
+    assert_eq!(c.depot, 1);
+    let c = parse_constraints(HEAD, "c.csv", 3).unwrap();
+    assert_eq!(c, wend::constraints::Constraints::new(3));
+    // A byte-order mark and CRLF endings.
+    let c = parse_constraints("\u{feff}kind,stop\r\ndepot,3\r\n", "c.csv", 3).unwrap();
+    assert_eq!(c.depot, 2);
+}
+
+#[test]
+fn constraints_csv_errors() {
+    let e = csv_err(&format!("{HEAD}window,2,,9,3,\n"), 3);
+    assert_eq!(
+        e.to_string(),
+        "c.csv:2: the window of stop 2 closes at 3 before it opens at 9"
+    );
+    for (rows, line, needle) in [
+        ("fence,1,,,,\n", 2, "unknown kind \"fence\""),
+        (",1,,,,\n", 2, "unknown kind \"\""),
+        (
+            "depot,0,,,,\n",
+            2,
+            "stop 0 is not a stop of this instance (stops are 1 to 3)",
+        ),
+        ("depot,4,,,,\n", 2, "stop 4 is not a stop of this instance"),
+        ("edge,1,9,,,\n", 2, "other 9 is not a stop of this instance"),
+        (
+            "depot,x,,,,\n",
+            2,
+            "stop \"x\" is not a stop number (1 to 3)",
+        ),
+        ("depot,-1,,,,\n", 2, "stop \"-1\" is not a stop number"),
+        ("window,1,,a,5,\n", 2, "earliest \"a\" is not an integer"),
+        ("service,1,,,,2.5\n", 2, "value \"2.5\" is not an integer"),
+        (
+            "start,,,,,99999999999999999999\n",
+            2,
+            "value \"99999999999999999999\" does not fit a 64-bit integer",
+        ),
+        (
+            "service,1,,,,-2\n",
+            2,
+            "the value of a service row must not be negative",
+        ),
+        (
+            "optional,1,,,,-2\n",
+            2,
+            "the value of a optional row must not be negative",
+        ),
+        (
+            "window,1,,5,,\n",
+            2,
+            "a window row needs latest, which is empty",
+        ),
+        (
+            "before,1,,,,\n",
+            2,
+            "a before row needs other, which is empty",
+        ),
+        ("service,1,,,,\n", 2, "a service row needs value"),
+        (
+            "window,1,2,5,6,\n",
+            2,
+            "a window row takes no other, found \"2\"",
+        ),
+        (
+            "start,1,,,,5\n",
+            2,
+            "a start row takes no stop, found \"1\"",
+        ),
+        ("path,,,,,1\n", 2, "a path row takes no value"),
+        ("edge,2,2,,,\n", 2, "a edge row pairs stop 2 with itself"),
+        (
+            "before,1,2,9,3,\n",
+            2,
+            "the most time between stops 1 and 2 (3) is less than the least (9)",
+        ),
+        (
+            "depot,1\n",
+            2,
+            "expected 6 cells as in the header (line 1), found 2",
+        ),
+        // Duplicates: the second row is the one named.
+        (
+            "window,1,,5,6,\n\nwindow,1,,5,6,\n",
+            4,
+            "duplicate row: line 2 already gives this window",
+        ),
+        (
+            "service,1,,,,3\nservice,1,,,,4\n",
+            3,
+            "line 2 already gives this service",
+        ),
+        (
+            "optional,2,,,,3\noptional,2,,,,3\n",
+            3,
+            "line 2 already gives this optional",
+        ),
+        (
+            "before,1,2,,,\n# note\nbefore,1,2,1,,\n",
+            4,
+            "line 2 already gives this before",
+        ),
+        (
+            "edge,1,2,,,\nedge,1,2,,,\n",
+            3,
+            "line 2 already gives this edge",
+        ),
+        (
+            "depot,1,,,,\ndepot,2,,,,\n",
+            3,
+            "line 2 already gives this depot",
+        ),
+        (
+            "start,,,,,1\nstart,,,,,1\n",
+            3,
+            "line 2 already gives this start",
+        ),
+        (
+            "path,,,,,\npath,,,,,\n",
+            3,
+            "line 2 already gives this path",
+        ),
+    ] {
+        let e = csv_err(&format!("{HEAD}{rows}"), 3);
+        assert_eq!(e.source_name, "c.csv");
+        assert_err(&e, line, needle);
+    }
+    // Different windows of one stop, or both directions of a pair, are not duplicates.
+    let ok = format!("{HEAD}window,1,,5,6,\nwindow,1,,5,7,\nedge,1,2,,,\nedge,2,1,,,\n");
+    assert!(parse_constraints(&ok, "c.csv", 3).is_ok());
+    // Header trouble.
+    assert_err(&csv_err("", 3), 0, "the file is empty: expected a header");
+    assert_err(&csv_err("\n\n", 3), 0, "the file is empty");
+    assert_err(
+        &csv_err("window,1,,5,6,\n", 3),
+        1,
+        "the first line must be the header",
+    );
+    assert_err(
+        &csv_err("stop,earliest\n1,2\n", 3),
+        1,
+        "the header has no kind column",
+    );
+    assert_err(
+        &csv_err("kind,stop,colour\n", 3),
+        1,
+        "unknown column \"colour\" in the header",
+    );
+    assert_err(
+        &csv_err("kind,stop,stop\n", 3),
+        1,
+        "column stop named twice in the header",
+    );
+    assert_err(
+        &csv_err("kind,stop\ndepot,1\nwindow,1\n", 3),
+        3,
+        "a window row needs earliest, which is not a column of the header",
+    );
+    // Blank CRLF lines between rows count too.
+    assert_err(
+        &csv_err("kind,stop\r\ndepot,1\r\n\r\n\r\ndepot,9\r\n", 3),
+        5,
+        "stop 9 is not a stop of this instance",
+    );
+    // A comment before the header: line numbers still count it.
+    assert_err(
+        &csv_err("# constraints\nkind,stop\ndepot,7\n", 3),
+        3,
+        "stop 7 is not a stop of this instance",
+    );
+}
+
+#[test]
+fn constraints_csv_read_from_a_file_name_the_file() {
+    let dir = std::env::temp_dir().join(format!("wend-tsplib-csv-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("day.csv");
+    std::fs::write(&path, "kind,stop\ndepot,2\ndepot,5\n").unwrap();
+    let e = read_constraints(&path, 3).unwrap_err();
+    std::fs::remove_dir_all(&dir).unwrap();
+    assert_eq!(e.source_name, path.display().to_string());
+    assert_err(&e, 3, "stop 5 is not a stop of this instance");
 }

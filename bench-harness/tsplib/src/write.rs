@@ -100,6 +100,13 @@ pub fn write_instance(inst: &Instance, out: &mut impl Write) -> io::Result<()> {
             }
         }
     }
+    if !inst.fixed_edges.is_empty() {
+        writeln!(w, "FIXED_EDGES_SECTION")?;
+        for (a, b) in &inst.fixed_edges {
+            writeln!(w, "{} {}", a + 1, b + 1)?;
+        }
+        writeln!(w, "-1")?;
+    }
     writeln!(w, "EOF")?;
     w.flush()
 }
