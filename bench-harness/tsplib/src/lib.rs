@@ -100,6 +100,26 @@ impl Instance {
             Weights::Matrix(m) => m,
         }
     }
+
+    /// Why the search methods must refuse this instance, if they must: no method honours a
+    /// `FIXED_EDGES_SECTION` yet, and a tour found without its edges could break one, so front
+    /// ends refuse such an instance rather than solve it. (Bounds and tour lengths stay valid.)
+    ///
+    /// ```
+    /// let text = "NAME : f\nTYPE : TSP\nDIMENSION : 3\nEDGE_WEIGHT_TYPE : EUC_2D\n\
+    ///     NODE_COORD_SECTION\n1 0 0\n2 1 0\n3 0 1\nFIXED_EDGES_SECTION\n1 2\n-1\nEOF\n";
+    /// let inst = wend_tsplib::parse_instance(text, "f.tsp").unwrap();
+    /// assert!(inst.search_refusal().unwrap().contains("FIXED_EDGES_SECTION"));
+    /// ```
+    pub fn search_refusal(&self) -> Option<String> {
+        (!self.fixed_edges.is_empty()).then(|| {
+            format!(
+                "FIXED_EDGES_SECTION with {} edge(s): no method honours fixed edges yet, so the \
+                 instance is refused rather than solved without them",
+                self.fixed_edges.len()
+            )
+        })
+    }
 }
 
 /// A tour read from a TSPLIB 95 `TYPE : TOUR` file.

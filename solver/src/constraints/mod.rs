@@ -9,8 +9,14 @@
 //! the last window of a stop has closed breaks that window.
 //!
 //! This module holds the plain description ([`Constraints`]) that readers and front ends fill in;
-//! checking it for contradictions, evaluating a sequence against it and searching under it live
-//! in its submodules.
+//! checking it for contradictions ([`Constraints::check`]), evaluating a sequence against it
+//! ([`evaluate`], [`Segment`] for constant-time checks of moves) and the exact dynamic programme
+//! ([`solve_exact`]) live in its submodules. No front end uses them yet.
+//!
+//! Three rules still differ between [`evaluate`] and [`solve_exact`] and are to be made one
+//! before either is wired to a command: whether leaving the depot waits for its first window,
+//! whether a precedence pair binds when its first stop is an optional stop left out, and whether
+//! a fixed edge between optional stops makes them all-or-nothing.
 
 mod check;
 mod schedule;
