@@ -118,16 +118,14 @@ struct Prepared<'a> {
     costs: Vec<i64>,
 }
 
-/// The start of service at a stop with `windows` reached at `arrival`: the arrival itself or the
-/// opening of the first window still open; `None` once every window has closed.
+/// The start of service at a stop with `windows` reached at `arrival`, by the rule of
+/// [`evaluate`](super::evaluate); `None` once every window has closed (or the times leave the
+/// `i64` range, which no label can then use).
 fn service_start(windows: &[Window], arrival: i64) -> Option<i64> {
-    if windows.is_empty() {
-        return Some(arrival);
-    }
-    windows.iter().find_map(|w| {
-        let s = arrival.max(w.earliest);
-        (s <= w.latest).then_some(s)
-    })
+    super::schedule::service_start(windows, arrival)
+        .ok()
+        .filter(|s| s.late.is_none())
+        .map(|s| s.start)
 }
 
 fn prepare<'a, C: Cost + ?Sized>(cost: &C, c: &'a Constraints) -> Result<Prepared<'a>, ExactError> {
