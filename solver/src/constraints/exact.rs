@@ -13,15 +13,16 @@
 //! service is negative).
 //!
 //! Rules as this programme reads them:
-//! - the depot is left at [`Constraints::start_time`] without service; a closed tour's return
-//!   must meet one of the depot's windows (waiting if early), and its completion is the start of
-//!   service there; a path's completion is the end of service at its last stop; a closed tour
-//!   that visits nothing but the depot has travel 0 and completion `start_time`;
+//! The rules are those of [`evaluate`](super::evaluate):
+//! - the depot is reached at [`Constraints::start_time`] and served like any stop (waiting for
+//!   its first window); a closed tour's return must come by the close of the depot's last
+//!   window, and its completion is that arrival; a path's completion is the end of service at
+//!   its last stop;
 //! - a precedence pair lets `after` be visited only once `before` has been (so leaving out an
 //!   optional `before` leaves out its `after` too); a precedence into the depot is refused;
 //!   lags are not supported ([`ExactError::Unsupported`]);
-//! - a fixed edge `(a, b)` means: if `a` is visited, `b` comes directly after it (the return to
-//!   the depot counts as coming after the last stop of a closed tour; a path cannot end at `a`).
+//! - a fixed edge `(a, b)` holds when neither stop is visited or `b` comes directly after `a`
+//!   (the return to the depot counts as coming after the last stop of a closed tour).
 
 use super::{Constraints, Objective, Route, Window};
 use crate::control::StopHandle;
@@ -104,6 +105,8 @@ struct Prepared<'a> {
     /// Per stop, the stop that must directly follow it; `Some(None)` when two fixed edges
     /// disagree, so that nothing may follow it.
     next: Vec<Option<Option<usize>>>,
+    /// Per stop, the stop that must directly precede it, the same way.
+    prev: Vec<Option<Option<usize>>>,
     /// Mask of the stops that must be visited.
     required: u64,
     /// Penalty of each optional stop (0 for required ones).
@@ -186,6 +189,14 @@ fn prepare<'a, C: Cost + ?Sized>(cost: &C, c: &'a Constraints) -> Result<Prepare
         preds[p.after] |= 1 << p.before;
     }
     let mut next: Vec<Option<Option<usize>>> = vec![None; n];
+    let mut prev: Vec<Option<Option<usize>>> = vec![None; n];
+    let pin = |slot: &mut Option<Option<usize>>, to: usize| {
+        *slot = match *slot {
+            None => Some(Some(to)),
+            Some(Some(old)) if old == to => Some(Some(to)),
+            Some(_) => Some(None),
+        };
+    };
     for &(a, b) in &c.fixed_edges {
         in_range(a, "a fixed edge")?;
         in_range(b, "a fixed edge")?;
@@ -194,11 +205,8 @@ fn prepare<'a, C: Cost + ?Sized>(cost: &C, c: &'a Constraints) -> Result<Prepare
                 "fixed edge from stop {a} to itself"
             )));
         }
-        next[a] = match next[a] {
-            None => Some(Some(b)),
-            Some(Some(old)) if old == b => Some(Some(b)),
-            Some(_) => Some(None),
-        };
+        pin(&mut next[a], b);
+        pin(&mut prev[b], a);
     }
     let mut required = 0u64;
     let mut penalty = vec![0i64; n];
@@ -230,6 +238,7 @@ fn prepare<'a, C: Cost + ?Sized>(cost: &C, c: &'a Constraints) -> Result<Prepare
         service: &c.service,
         preds,
         next,
+        prev,
         required,
         penalty,
         reach,
@@ -291,7 +300,9 @@ impl Prepared<'_> {
         if from.set & bit != 0 || self.preds[j] & !from.set != 0 {
             return Ok(None);
         }
-        if matches!(self.next[last], Some(b) if b != Some(j)) {
+        if matches!(self.next[last], Some(b) if b != Some(j))
+            || matches!(self.prev[j], Some(a) if a != Some(last))
+        {
             return Ok(None);
         }
         let arrival = from
@@ -330,30 +341,32 @@ impl Prepared<'_> {
         let alone = last == self.depot;
         let (travel, completion) = match self.route {
             Route::Closed if alone => {
-                if self.next[last].is_some() {
+                if self.next[last].is_some() || self.prev[last].is_some() {
                     return Ok(None);
                 }
                 (0, label.ready)
             }
             Route::Closed => {
-                if matches!(self.next[last], Some(b) if b != Some(self.depot)) {
+                if matches!(self.next[last], Some(b) if b != Some(self.depot))
+                    || matches!(self.prev[self.depot], Some(a) if a != Some(last))
+                {
                     return Ok(None);
                 }
                 let back = self.cost(last, self.depot);
                 let arrival = label.ready.checked_add(back).ok_or(ExactError::Overflow)?;
-                let Some(start) = service_start(&self.windows[self.depot], arrival) else {
-                    return Ok(None);
-                };
                 let travel = label.travel.checked_add(back).ok_or(ExactError::Overflow)?;
-                (travel, start)
+                (travel, arrival)
             }
             Route::Path => {
-                if self.next[last].is_some() {
+                if self.next[last].is_some() || self.prev[self.depot].is_some() {
                     return Ok(None);
                 }
                 (label.travel, label.ready)
             }
         };
+        if self.route == Route::Closed && completion > self.latest[self.depot] {
+            return Ok(None);
+        }
         let mut skipped = !label.set & (u64::MAX >> (64 - self.n));
         let mut penalties = 0i64;
         while skipped != 0 {
@@ -443,9 +456,20 @@ fn solve_within<C: Cost + ?Sized>(
     ceiling_bytes: usize,
 ) -> Result<ExactOutcome, ExactError> {
     let p = prepare(cost, c)?;
+    let Some(depot_start) = service_start(&c.windows[p.depot], c.start_time) else {
+        return Ok(ExactOutcome {
+            order: None,
+            objective: None,
+            proven_optimal: false,
+            proven_infeasible: true,
+            labels: 0,
+        });
+    };
     let first = Label {
         set: 1 << p.depot,
-        ready: c.start_time,
+        ready: depot_start
+            .checked_add(c.service[p.depot])
+            .ok_or(ExactError::Overflow)?,
         travel: 0,
         parent: u32::MAX,
         last: p.depot as u8,
@@ -570,18 +594,20 @@ mod tests {
             }
         }
         for &(a, b) in &c.fixed_edges {
-            if let Some(pa) = pos(a) {
-                let successor = match seq.get(pa + 1) {
-                    Some(&s) => Some(s),
-                    None if c.route == Route::Closed => Some(c.depot),
-                    None => None,
-                };
-                if successor != Some(b) {
-                    return None;
-                }
+            if pos(a).is_none() && pos(b).is_none() {
+                continue;
+            }
+            let pa = pos(a)?;
+            let successor = match seq.get(pa + 1) {
+                Some(&s) => Some(s),
+                None if c.route == Route::Closed => Some(c.depot),
+                None => None,
+            };
+            if successor != Some(b) {
+                return None;
             }
         }
-        let mut time = c.start_time;
+        let mut time = reference_start(&c.windows[c.depot], c.start_time)? + c.service[c.depot];
         let mut travel = 0;
         for step in seq.windows(2) {
             let (from, to) = (step[0], step[1]);
@@ -590,10 +616,16 @@ mod tests {
             time = start + c.service[to];
         }
         let mut completion = time;
+        if c.route == Route::Closed && c.windows[c.depot].last().is_some_and(|w| time > w.latest) {
+            return None;
+        }
         if c.route == Route::Closed && seq.len() > 1 {
             let last = seq[seq.len() - 1];
             travel += rows[last][c.depot];
-            completion = reference_start(&c.windows[c.depot], time + rows[last][c.depot])?;
+            completion = time + rows[last][c.depot];
+            if c.windows[c.depot].last().is_some_and(|w| completion > w.latest) {
+                return None;
+            }
         }
         let penalties: i64 = (0..n)
             .filter(|&s| pos(s).is_none())
@@ -717,6 +749,10 @@ mod tests {
                     assert!(out.proven_optimal && !out.proven_infeasible, "case {case}");
                     let order = out.order.unwrap();
                     assert_eq!(reference_value(&rows, &c, &order), expected, "case {case}");
+                    // The evaluator, written apart from both, reads the order the same way.
+                    let e = crate::constraints::evaluate(&costs, &c, &order);
+                    assert!(e.feasible(), "case {case}: {e:?}");
+                    assert_eq!(Some(e.objective), expected, "case {case}");
                 }
                 None => {
                     infeasible += 1;
@@ -730,6 +766,39 @@ mod tests {
             feasible >= 50 && infeasible >= 50,
             "{feasible} {infeasible}"
         );
+    }
+
+    #[test]
+    fn the_evaluator_reads_every_sequence_as_the_reference_does() {
+        fn every(rows: &[Vec<i64>], c: &Constraints, seq: &mut Vec<usize>, out: &mut Vec<Vec<usize>>) {
+            out.push(seq.clone());
+            for s in 0..rows.len() {
+                if !seq.contains(&s) {
+                    seq.push(s);
+                    every(rows, c, seq, out);
+                    seq.pop();
+                }
+            }
+        }
+        let mut rng = Pcg64::seed_from_u64(22);
+        let mut feasible = 0;
+        for case in 0..150 {
+            let n = rng.gen_range(1..=6);
+            let (rows, c) = random_instance(&mut rng, n);
+            let costs = MatrixCost::from_rows(&rows).unwrap();
+            let mut all = Vec::new();
+            every(&rows, &c, &mut vec![c.depot], &mut all);
+            for seq in all {
+                let e = crate::constraints::evaluate(&costs, &c, &seq);
+                let expected = reference_value(&rows, &c, &seq);
+                assert_eq!(e.feasible(), expected.is_some(), "case {case} {seq:?}: {e:?} {c:?}");
+                if let Some(v) = expected {
+                    feasible += 1;
+                    assert_eq!(e.objective, v, "case {case} {seq:?}");
+                }
+            }
+        }
+        assert!(feasible > 300, "{feasible}");
     }
 
     /// The plain layout of the time-window benchmark sets: n, the n by n matrix, n lines

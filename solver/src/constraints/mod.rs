@@ -11,19 +11,19 @@
 //! This module holds the plain description ([`Constraints`]) that readers and front ends fill in;
 //! checking it for contradictions ([`Constraints::check`]), evaluating a sequence against it
 //! ([`evaluate`], [`Segment`] for constant-time checks of moves) and the exact dynamic programme
-//! ([`solve_exact`]) live in its submodules. No front end uses them yet.
+//! ([`solve_exact`]) live in its submodules.
 //!
-//! Three rules still differ between [`evaluate`] and [`solve_exact`] and are to be made one
-//! before either is wired to a command: whether leaving the depot waits for its first window,
-//! whether a precedence pair binds when its first stop is an optional stop left out, and whether
-//! a fixed edge between optional stops makes them all-or-nothing.
+//! [`evaluate`], [`Segment`] and [`solve_exact`] read every order by the same rules (the
+//! evaluator's module documentation lists them), and the tests check that they agree.
 
 mod check;
+mod rule;
 mod schedule;
 mod segment;
 
 pub use check::ConstraintsError;
-pub use schedule::{evaluate, Evaluation, Row, Violation};
+pub use rule::{NoRule, StepRule};
+pub use schedule::{evaluate, evaluate_with, Evaluation, Row, Violation};
 pub use segment::Segment;
 
 use serde::{Deserialize, Serialize};

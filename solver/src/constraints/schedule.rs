@@ -13,15 +13,16 @@
 //! - a closed tour ends with the return to its first stop, which must come no later than the
 //!   close of that stop's last window (the return does not wait); its completion time is that
 //!   arrival. A path is complete when service at its last stop ends;
-//! - a precedence pair, with its lags, binds only when both stops are visited; lags compare the
-//!   starts of service and never make the vehicle wait;
+//! - a precedence pair `a` before `b` lets `b` be visited only after `a` (so leaving out an
+//!   optional `a` leaves out `b` too); its lags, when both are visited, compare the starts of
+//!   service and never make the vehicle wait;
 //! - a fixed edge `a -> b` holds when neither stop is visited or `b` directly follows `a`
 //!   (for a closed tour, the return to the first stop follows the last stop).
 //!
 //! All sums are checked: a sum beyond the `i64` range ends the evaluation with
 //! [`Violation::Overflow`] instead of a wrong value or a panic.
 
-use super::{Constraints, Objective, Route, Window};
+use super::{Constraints, NoRule, Objective, Route, StepRule, Window};
 use crate::Cost;
 use serde::Serialize;
 use std::fmt;
@@ -67,6 +68,21 @@ pub enum Violation {
         before: usize,
         /// The stop that should come later.
         after: usize,
+    },
+    /// `after` is visited but `before`, which must come first, is not.
+    BeforeSkipped {
+        /// The stop that should come first.
+        before: usize,
+        /// The stop visited without it.
+        after: usize,
+    },
+    /// A rule of the caller's ([`StepRule`](super::StepRule)) is broken on reaching `stop`, by
+    /// `by` in the rule's own units.
+    Rule {
+        /// The stop reached.
+        stop: usize,
+        /// By how much.
+        by: i64,
     },
     /// The starts of service of a precedence pair are closer than its least lag, by `by`.
     MinLag {
@@ -125,6 +141,12 @@ impl fmt::Display for Violation {
             Violation::MissingRequired { stop } => write!(f, "required stop {stop} is not visited"),
             Violation::Precedence { before, after } => {
                 write!(f, "stop {after} is visited before stop {before}")
+            }
+            Violation::BeforeSkipped { before, after } => {
+                write!(f, "stop {after} is visited but stop {before}, which must come first, is not")
+            }
+            Violation::Rule { stop, by } => {
+                write!(f, "the caller's rule is broken by {by} on reaching stop {stop}")
             }
             Violation::MinLag { before, after, by } => write!(
                 f,
@@ -248,6 +270,35 @@ pub(crate) fn service_start(windows: &[Window], arrival: i64) -> Result<ServiceS
 /// assert!(e.feasible());
 /// ```
 pub fn evaluate<C: Cost + ?Sized>(cost: &C, c: &Constraints, order: &[usize]) -> Evaluation {
+    evaluate_with(cost, c, order, &NoRule)
+}
+
+/// [`evaluate`], and `rule` checked along the scheduled rows: each step it breaks adds a
+/// [`Violation::Rule`].
+pub fn evaluate_with<C: Cost + ?Sized, R: StepRule + ?Sized>(
+    cost: &C,
+    c: &Constraints,
+    order: &[usize],
+    rule: &R,
+) -> Evaluation {
+    let mut e = evaluate_plain(cost, c, order);
+    if let Some((first, rest)) = e.rows.split_first() {
+        let mut state = rule.begin(first);
+        let mut from = first;
+        let mut broken = Vec::new();
+        for to in rest {
+            let by = rule.step(&mut state, from, to);
+            if by > 0 {
+                broken.push(Violation::Rule { stop: to.stop, by });
+            }
+            from = to;
+        }
+        e.violations.extend(broken);
+    }
+    e
+}
+
+fn evaluate_plain<C: Cost + ?Sized>(cost: &C, c: &Constraints, order: &[usize]) -> Evaluation {
     let limit = [
         cost.len(),
         c.windows.len(),
@@ -376,10 +427,15 @@ fn check_links(c: &Constraints, e: &mut Evaluation) {
     }
     let at = |stop: usize| position.get(stop).copied().flatten();
     for p in &c.precedence {
-        let (Some(b), Some(a)) = (at(p.before), at(p.after)) else {
-            continue;
-        };
         let (before, after) = (p.before, p.after);
+        let (b, a) = match (at(before), at(after)) {
+            (Some(b), Some(a)) => (b, a),
+            (None, Some(_)) => {
+                e.violations.push(Violation::BeforeSkipped { before, after });
+                continue;
+            }
+            _ => continue,
+        };
         if b > a {
             e.violations.push(Violation::Precedence { before, after });
             continue;

@@ -9,7 +9,13 @@
 //! the service and the waiting that cannot be avoided.
 //!
 //! Two runs joined by a step of `t` keep that shape, and the three numbers of the joined run
-//! follow from the six of its parts (see [`Segment::concat`]). A move that cuts an order into
+//! follow from the six of its parts (see [`Segment::concat`]).
+
+//!
+//! A run that cannot meet every window also has a summary: its `warp` is the least total time by
+//! which service starts would have to move back to meet every window (zero exactly when some
+//! arrival meets them all). A search that lets orders break windows for a while penalises the
+//! warp, as the published concatenation methods for time windows do. A move that cuts an order into
 //! pieces and glues them back in another order is therefore checked by joining a few
 //! precomputed summaries, whatever the lengths of the pieces.
 //!
@@ -36,8 +42,10 @@ pub struct Segment {
     pub latest: i64,
     /// Sum of the travel costs inside the run.
     pub travel: i64,
-    /// True when no arrival time lets every stop of the run meet its window.
-    pub infeasible: bool,
+    /// Total time the run would have to go back to meet every window when entered no later
+    /// than `latest`; zero when it can meet them all. With a warp, `duration` and the bounds
+    /// describe the run with those returns made.
+    pub warp: i64,
 }
 
 impl Segment {
@@ -55,7 +63,7 @@ impl Segment {
             earliest,
             latest,
             travel: 0,
-            infeasible: earliest > latest,
+            warp: earliest.saturating_sub(latest).max(0),
         })
     }
 
@@ -68,42 +76,49 @@ impl Segment {
             earliest: i64::MIN,
             latest,
             travel: 0,
-            infeasible: false,
+            warp: 0,
         })
     }
 
     /// The run of `a` followed, after a step of `travel` from its last stop, by the run of `b`.
     ///
     /// With `a` entered at `x <= a.latest`, `b` is reached at `max(x, a.earliest) + d` where
-    /// `d = a.duration + travel`. That meets `b`'s bound when
-    /// `max(x, a.earliest) <= b.latest - d`, so the joined run has `latest = min(a.latest, b.latest - d)` and is infeasible
-    /// when even `a.earliest` exceeds `b.latest - d`. `b` waits unless it is reached after
-    /// `b.earliest`, that is unless `max(x, a.earliest) >= b.earliest - d`: the joined
-    /// `earliest` is the larger of `a.earliest` and `b.earliest - d`, but no later than the
-    /// joined `latest`; when `b.earliest - d` lies beyond it, the wait it leaves is forced and
-    /// goes into the duration.
+    /// `d = a.duration + travel`. That meets `b`'s bound when `max(x, a.earliest) <= b.latest -
+    /// d`, so the joined run has `latest = min(a.latest, b.latest - d)`; when even `a.earliest`
+    /// exceeds `b.latest - d`, the excess is warp, and the joined run is described as if that
+    /// return in time were made. `b` waits unless it is reached after `b.earliest`, that is
+    /// unless `max(x, a.earliest) >= b.earliest - d`: the joined `earliest` is the larger of
+    /// `a.earliest` and `b.earliest - d`, but no later than `a.latest`; when `b.earliest - d`
+    /// lies beyond `a.latest`, the wait it leaves is forced and goes into the duration.
     pub fn concat(a: &Segment, b: &Segment, travel: i64) -> Segment {
         let d = a.duration.saturating_add(travel);
         let b_latest = b.latest.saturating_sub(d);
         let b_earliest = b.earliest.saturating_sub(d);
-        let latest = a.latest.min(b_latest);
-        let forced_wait = b_earliest.saturating_sub(latest).max(0);
+        let forced_wait = b_earliest.saturating_sub(a.latest).max(0);
+        let new_warp = a.earliest.saturating_sub(b_latest).max(0);
         Segment {
             duration: d.saturating_add(b.duration).saturating_add(forced_wait),
-            earliest: a.earliest.max(b_earliest.min(latest)),
-            latest,
+            earliest: a.earliest.max(b_earliest).saturating_sub(forced_wait),
+            latest: a.latest.min(b_latest).saturating_add(new_warp),
             travel: a.travel.saturating_add(travel).saturating_add(b.travel),
-            infeasible: a.infeasible || b.infeasible || a.earliest > b_latest,
+            warp: a.warp.saturating_add(b.warp).saturating_add(new_warp),
         }
     }
 
     /// When the run ends if its first stop is reached at `arrival`; `None` when a stop of the
     /// run would miss its window.
     pub fn end(&self, arrival: i64) -> Option<i64> {
-        if self.infeasible || arrival > self.latest {
+        if self.warp > 0 || arrival > self.latest {
             return None;
         }
         Some(arrival.max(self.earliest).saturating_add(self.duration))
+    }
+
+    /// The warp of the run when its first stop is reached at `arrival`: zero exactly when
+    /// [`end`](Segment::end) is `Some`.
+    pub fn warp_at(&self, arrival: i64) -> i64 {
+        self.warp
+            .saturating_add(arrival.saturating_sub(self.latest).max(0))
     }
 
     /// The summary of a whole order as [`evaluate`](super::evaluate) schedules it: the stops
@@ -154,14 +169,14 @@ mod tests {
             earliest: 0,
             latest: 10,
             travel: 0,
-            infeasible: false,
+            warp: 0,
         };
         let b = Segment {
             duration: 1,
             earliest: 20,
             latest: 30,
             travel: 0,
-            infeasible: false,
+            warp: 0,
         };
         let ab = Segment::concat(&a, &b, 3);
         // Entering A at any time up to 10 reaches B by 15 and waits for 20: the end is 21
@@ -174,7 +189,8 @@ mod tests {
             (10, 10, 11, 3)
         );
         // B before A: B ends at 21 at the earliest, A's window has closed by 24.
-        assert!(Segment::concat(&b, &a, 3).infeasible);
+        // B ends at 21 at the earliest, A must start by 10: 14 of warp.
+        assert_eq!(Segment::concat(&b, &a, 3).warp, 14);
     }
 
     #[test]
@@ -273,7 +289,8 @@ mod tests {
                 let head = Segment::of_order(&cost, &open, &order[..cut]).unwrap();
                 let tail = Segment::of_order(&cost, &open, &order[cut..]).unwrap();
                 let joined = Segment::concat(&head, &tail, cost.cost(order[cut - 1], order[cut]));
-                prop_assert_eq!(joined.infeasible, whole.infeasible);
+                prop_assert_eq!(joined.warp > 0, whole.warp > 0);
+                prop_assert_eq!(joined.warp_at(x) > 0, whole.end(x).is_none());
                 prop_assert_eq!(joined.travel, whole.travel);
                 prop_assert_eq!(joined.end(x), whole.end(x));
             }
