@@ -623,7 +623,10 @@ mod tests {
             let last = seq[seq.len() - 1];
             travel += rows[last][c.depot];
             completion = time + rows[last][c.depot];
-            if c.windows[c.depot].last().is_some_and(|w| completion > w.latest) {
+            if c.windows[c.depot]
+                .last()
+                .is_some_and(|w| completion > w.latest)
+            {
                 return None;
             }
         }
@@ -770,7 +773,12 @@ mod tests {
 
     #[test]
     fn the_evaluator_reads_every_sequence_as_the_reference_does() {
-        fn every(rows: &[Vec<i64>], c: &Constraints, seq: &mut Vec<usize>, out: &mut Vec<Vec<usize>>) {
+        fn every(
+            rows: &[Vec<i64>],
+            c: &Constraints,
+            seq: &mut Vec<usize>,
+            out: &mut Vec<Vec<usize>>,
+        ) {
             out.push(seq.clone());
             for s in 0..rows.len() {
                 if !seq.contains(&s) {
@@ -791,7 +799,11 @@ mod tests {
             for seq in all {
                 let e = crate::constraints::evaluate(&costs, &c, &seq);
                 let expected = reference_value(&rows, &c, &seq);
-                assert_eq!(e.feasible(), expected.is_some(), "case {case} {seq:?}: {e:?} {c:?}");
+                assert_eq!(
+                    e.feasible(),
+                    expected.is_some(),
+                    "case {case} {seq:?}: {e:?} {c:?}"
+                );
                 if let Some(v) = expected {
                     feasible += 1;
                     assert_eq!(e.objective, v, "case {case} {seq:?}");

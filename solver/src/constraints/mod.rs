@@ -31,6 +31,13 @@ use serde::{Deserialize, Serialize};
 mod exact;
 pub use exact::{solve_exact, ExactError, ExactOutcome, EXACT_LIMIT};
 
+mod search;
+mod solve;
+pub use solve::{
+    default_stall, solve_sequence, solve_sequence_with, SequenceError, SequenceOutcome,
+    SEQUENCE_RUNS,
+};
+
 /// One window of service start: service may start at any time in `earliest..=latest`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
 pub struct Window {

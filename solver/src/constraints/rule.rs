@@ -29,7 +29,11 @@ use super::Row;
 /// let mut c = Constraints::new(3);
 /// c.windows[1] = vec![wend::constraints::Window { earliest: 15, latest: 20 }];
 /// let e = evaluate_with(&cost, &c, &[0, 1, 2], &WaitBudget);
-/// assert_eq!(e.violations, vec![Violation::Rule { stop: 1, by: 4 }]);
+/// // 14 units of waiting at stop 1, still 14 after stop 2.
+/// assert_eq!(
+///     e.violations,
+///     vec![Violation::Rule { stop: 1, by: 4 }, Violation::Rule { stop: 2, by: 4 }]
+/// );
 /// ```
 pub trait StepRule: Sync {
     /// What the rule carries from stop to stop.

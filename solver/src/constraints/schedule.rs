@@ -143,10 +143,16 @@ impl fmt::Display for Violation {
                 write!(f, "stop {after} is visited before stop {before}")
             }
             Violation::BeforeSkipped { before, after } => {
-                write!(f, "stop {after} is visited but stop {before}, which must come first, is not")
+                write!(
+                    f,
+                    "stop {after} is visited but stop {before}, which must come first, is not"
+                )
             }
             Violation::Rule { stop, by } => {
-                write!(f, "the caller's rule is broken by {by} on reaching stop {stop}")
+                write!(
+                    f,
+                    "the caller's rule is broken by {by} on reaching stop {stop}"
+                )
             }
             Violation::MinLag { before, after, by } => write!(
                 f,
@@ -178,7 +184,9 @@ impl fmt::Display for Violation {
 /// The schedule and measures of one order; see the [module docs](self) for the rules.
 #[derive(Clone, Debug, Default, PartialEq, Eq, Serialize)]
 pub struct Evaluation {
-    /// One row per visited stop, in order (unknown stop ids left out).
+    /// One row per visited stop, in order (unknown stop ids left out); serialised as
+    /// `schedule`.
+    #[serde(rename = "schedule")]
     pub rows: Vec<Row>,
     /// Sum of the travel costs, the return of a closed tour included.
     pub travel_cost: i64,
@@ -431,7 +439,8 @@ fn check_links(c: &Constraints, e: &mut Evaluation) {
         let (b, a) = match (at(before), at(after)) {
             (Some(b), Some(a)) => (b, a),
             (None, Some(_)) => {
-                e.violations.push(Violation::BeforeSkipped { before, after });
+                e.violations
+                    .push(Violation::BeforeSkipped { before, after });
                 continue;
             }
             _ => continue,

@@ -31,7 +31,7 @@ use super::{Constraints, Route};
 use crate::Cost;
 
 /// Summary of a run of consecutive stops; see the [module docs](self).
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 pub struct Segment {
     /// Time from the start of service at the first stop, when it starts no earlier than
     /// `earliest`, to the end of service at the last stop: travel, service and forced waiting.
@@ -91,13 +91,18 @@ impl Segment {
     /// `a.earliest` and `b.earliest - d`, but no later than `a.latest`; when `b.earliest - d`
     /// lies beyond `a.latest`, the wait it leaves is forced and goes into the duration.
     pub fn concat(a: &Segment, b: &Segment, travel: i64) -> Segment {
-        let d = a.duration.saturating_add(travel);
+        // Time from the start of `a` to the arrival at `b`, `a`'s own warp taken back.
+        let d = a.duration.saturating_sub(a.warp).saturating_add(travel);
         let b_latest = b.latest.saturating_sub(d);
         let b_earliest = b.earliest.saturating_sub(d);
         let forced_wait = b_earliest.saturating_sub(a.latest).max(0);
         let new_warp = a.earliest.saturating_sub(b_latest).max(0);
         Segment {
-            duration: d.saturating_add(b.duration).saturating_add(forced_wait),
+            duration: a
+                .duration
+                .saturating_add(travel)
+                .saturating_add(b.duration)
+                .saturating_add(forced_wait),
             earliest: a.earliest.max(b_earliest).saturating_sub(forced_wait),
             latest: a.latest.min(b_latest).saturating_add(new_warp),
             travel: a.travel.saturating_add(travel).saturating_add(b.travel),
@@ -289,7 +294,8 @@ mod tests {
                 let head = Segment::of_order(&cost, &open, &order[..cut]).unwrap();
                 let tail = Segment::of_order(&cost, &open, &order[cut..]).unwrap();
                 let joined = Segment::concat(&head, &tail, cost.cost(order[cut - 1], order[cut]));
-                prop_assert_eq!(joined.warp > 0, whole.warp > 0);
+                prop_assert_eq!(joined.warp, whole.warp);
+                prop_assert_eq!(joined.warp_at(x), whole.warp_at(x));
                 prop_assert_eq!(joined.warp_at(x) > 0, whole.end(x).is_none());
                 prop_assert_eq!(joined.travel, whole.travel);
                 prop_assert_eq!(joined.end(x), whole.end(x));

@@ -692,7 +692,7 @@ fn method_name<S: Serializer>(m: &Option<Method>, s: S) -> Result<S::Ok, S::Erro
     s.serialize_str(m.map_or("exact", Method::name))
 }
 
-fn trace_pairs<S: Serializer>(t: &[Improvement], s: S) -> Result<S::Ok, S::Error> {
+pub(crate) fn trace_pairs<S: Serializer>(t: &[Improvement], s: S) -> Result<S::Ok, S::Error> {
     s.collect_seq(t.iter().map(|i| (i.seconds, i.length)))
 }
 
