@@ -33,6 +33,8 @@ pub use exact::{solve_exact, ExactError, ExactOutcome, EXACT_LIMIT};
 
 mod search;
 mod solve;
+#[cfg(test)]
+mod testing;
 pub use solve::{
     default_stall, solve_sequence, solve_sequence_with, SequenceError, SequenceOutcome,
     SEQUENCE_RUNS,
