@@ -769,7 +769,7 @@ impl<'p, 'a, C: Cost + ?Sized, R: StepRule + ?Sized> Search<'p, 'a, C, R> {
         let mut steps = 0u32;
         while self.improve_once(st) {
             steps += 1;
-            if steps % 16 == 0 && should_stop() {
+            if steps.is_multiple_of(16) && should_stop() {
                 return;
             }
         }
@@ -1082,7 +1082,7 @@ impl<C: Cost + ?Sized, R: StepRule + ?Sized> Iterative for Run<'_, '_, C, R> {
             if self.current.score.value(w) > before_score.value(w) {
                 self.current = self.search.state(before);
             }
-            if self.since_better % 64 == 0 {
+            if self.since_better.is_multiple_of(64) {
                 if let Some((_, order)) = &self.best {
                     self.current = self.search.state(order.clone());
                 }
