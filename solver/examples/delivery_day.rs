@@ -17,9 +17,11 @@ fn clock(t: i64) -> String {
     format!("{:02}:{:02}", t / 60, t % 60)
 }
 
+/// Name, position (minutes east, minutes north), delivery window, minutes on site.
+type Stop = (&'static str, (f64, f64), Option<(i64, i64)>, i64);
+
 fn main() {
-    // name, position (minutes east, minutes north), delivery window, minutes on site.
-    let stops: [(&str, (f64, f64), Option<(i64, i64)>, i64); 9] = [
+    let stops: [Stop; 9] = [
         ("depot", (0.0, 0.0), None, 0),
         (
             "bakery (pick-up)",
