@@ -337,6 +337,20 @@ fn sequence_dict<'py>(
     Ok(d)
 }
 
+/// Solves over costs given directly (points, a matrix) under the constraints of `given` and the
+/// table (CSV text, a file).
+fn solve_direct<'py>(
+    py: Python<'py>,
+    cost: &dyn Cost,
+    req: &SolveRequest,
+    given: &str,
+    (table_text, table_path): (Option<String>, Option<PathBuf>),
+    start: Option<Vec<usize>>,
+) -> Result<Bound<'py, PyDict>, Fail> {
+    let c = gather(cost.len(), None, given, table_text, table_path)?;
+    solve_under(py, cost, req, &Source::direct(cost), &c, start)
+}
+
 /// Solves over points under a TSPLIB distance and constraints: `options` as for
 /// `solve_points`, `given` the JSON object of the constraint arguments, `table_text` /
 /// `table_path` a constraints table, `start` an order to improve (0-based).
@@ -355,15 +369,8 @@ pub(crate) fn solve_points_constrained<'py>(
 ) -> PyResult<Bound<'py, PyDict>> {
     let req = SolveRequest::from_json(options)?;
     let cost = coord_cost(&points, metric)?;
-    let c = gather(cost.len(), None, given, table_text, table_path)?;
-    Ok(solve_under(
-        py,
-        &cost,
-        &req,
-        &Source::direct(&cost),
-        &c,
-        start,
-    )?)
+    let table = (table_text, table_path);
+    Ok(solve_direct(py, &cost, &req, given, table, start)?)
 }
 
 /// Solves over a square integer cost matrix under constraints; the arguments as for
@@ -381,15 +388,8 @@ pub(crate) fn solve_matrix_constrained<'py>(
 ) -> PyResult<Bound<'py, PyDict>> {
     let req = SolveRequest::from_json(options)?;
     let cost = matrix_cost(&matrix)?;
-    let c = gather(cost.len(), None, given, table_text, table_path)?;
-    Ok(solve_under(
-        py,
-        &cost,
-        &req,
-        &Source::direct(&cost),
-        &c,
-        start,
-    )?)
+    let table = (table_text, table_path);
+    Ok(solve_direct(py, &cost, &req, given, table, start)?)
 }
 
 /// Solves a problem file (TSPLIB 95 or the plain time-window layout) under the constraints it
