@@ -39,6 +39,8 @@ use wend_sky::{Profile, Target};
 use wend_tsplib as tsplib;
 use wend_tsplib::{Instance, ProblemKind, Weights};
 
+mod constrained;
+
 /// How long the calling thread waits, with the GIL released, between two looks for a signal.
 const WATCH_SLICE: Duration = Duration::from_millis(50);
 
@@ -855,6 +857,9 @@ fn native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(write_tour, m)?)?;
     m.add_function(wrap_pyfunction!(plan_sky, m)?)?;
     m.add_function(wrap_pyfunction!(methods, m)?)?;
+    m.add_function(wrap_pyfunction!(constrained::solve_points_constrained, m)?)?;
+    m.add_function(wrap_pyfunction!(constrained::solve_matrix_constrained, m)?)?;
+    m.add_function(wrap_pyfunction!(constrained::solve_file_constrained, m)?)?;
     m.add("CAUTION", CAUTION)?;
     m.add("VERSION", env!("CARGO_PKG_VERSION"))?;
     Ok(())

@@ -84,3 +84,16 @@ def test_the_command_prints_the_same_keys(wend_cli, exact):
     r = wend.solve_file(path, exact=exact) if exact else wend.solve_file(
         path, iterations=5, runs=1)
     assert set(r.keys()) - ARRAYS == set(cli)
+
+
+def test_a_result_under_constraints_has_the_documented_keys():
+    want = documented_keys("Python result under constraints") | ARRAYS
+    on_file = wend.solve_file(INSTANCES / "tsptw" / "n20w20.001.txt", seed=1, iterations=5,
+                              runs=1)
+    on_matrix = wend.solve_matrix([[0, 4, 9], [3, 0, 2], [8, 1, 0]],
+                                  windows=[[0, 100], [0, 1], [0, 100]], iterations=5)
+    proof = wend.solve_file(INSTANCES / "tsptw" / "n20w20.001.txt", exact=True)
+    for r in (on_file, on_matrix, proof):
+        assert result_names(r) == want
+    assert not on_matrix.feasible and on_matrix.violations
+    assert set(on_matrix.violations[0]) == {"kind", "stops", "by", "message"}

@@ -21,6 +21,14 @@ COMMAND_OPTIONS = [
     "exact_method", "open", "start", "end", "tour_out",
 ]
 
+# Reference: the constraints, after the options above. `objective`, `initial_order` and
+# `constraints` are `wend solve`'s --objective, --initial-order and --constraints; the others
+# give the same constraints as arrays, which a command line cannot.
+CONSTRAINT_ARGS = [
+    "windows", "service", "penalty", "precedence", "fixed_edges", "depot", "start_time", "route",
+    "objective", "initial_order", "constraints",
+]
+
 # A diamond: sides of 5 under EUC_2D (3-4-5 triangles) and of 7 under MAN_2D, by hand.
 DIAMOND = np.array([[0.0, 0.0], [3.0, 4.0], [6.0, 0.0], [3.0, -4.0]])
 
@@ -32,8 +40,8 @@ DIAMOND = np.array([[0.0, 0.0], [3.0, 4.0], [6.0, 0.0], [3.0, -4.0]])
 ])
 def test_the_options_are_the_command_s(f, leading):
     params = inspect.signature(f).parameters
-    assert list(params) == leading + COMMAND_OPTIONS
-    for name in COMMAND_OPTIONS:
+    assert list(params) == leading + COMMAND_OPTIONS + CONSTRAINT_ARGS
+    for name in COMMAND_OPTIONS + CONSTRAINT_ARGS:
         assert params[name].kind is inspect.Parameter.KEYWORD_ONLY
         assert re.search(rf"^ +(\w+, )*{name}(, \w+)*: ", f.__doc__, re.M), name
 
@@ -237,7 +245,8 @@ def test_numpy_scalars_are_read_as_numbers():
 def test_dir_shows_the_api_only():
     # Reference: the API as the package documents it (its __all__) and __version__.
     want = sorted([
-        "CAUTION", "METRICS", "Problem", "SkyPlan", "TourData", "TourResult", "__version__",
+        "CAUTION", "METRICS", "Problem", "SequenceResult", "SkyPlan", "TourData", "TourResult",
+        "__version__",
         "methods", "plan_sky", "read_tour", "read_tsplib", "solve_file", "solve_matrix",
         "solve_points", "write_tour", "write_tsplib",
     ])

@@ -7,6 +7,17 @@ Solving
     and return a :class:`TourResult` with the keys of ``wend solve --json``, the order of the
     nodes (0-based) and the improvement trace.
 
+Solving under constraints
+    The same functions take time windows (``windows``), service durations (``service``),
+    optional stops with penalties (``penalty``), precedence pairs with lags (``precedence``),
+    fixed edges (``fixed_edges``), a depot, a start time, a closed tour or a path (``route``),
+    the objective (``travel`` or ``completion``), an ``initial_order`` and a constraints table
+    (``constraints=``: a DataFrame, a list of dicts or a constraints CSV file); stops are
+    0-based. :func:`solve_file` also solves a plain time-window benchmark file under its
+    windows. They return a :class:`SequenceResult`: feasibility, travel cost, completion
+    time, waiting, penalties, the schedule (a DataFrame) and every violation. No feasible
+    order is a result with ``feasible == False``, not an exception.
+
 Files
     :func:`read_tsplib`, :func:`write_tsplib`, :func:`read_tour`, :func:`write_tour`.
     Node numbers are 1-based in files and 0-based in Python.
@@ -38,12 +49,14 @@ import warnings as _warnings
 
 import numpy as _np
 
+from . import _constraints
 from . import _native
 
 __all__ = [
     "CAUTION",
     "METRICS",
     "Problem",
+    "SequenceResult",
     "SkyPlan",
     "TourData",
     "TourResult",
@@ -195,6 +208,63 @@ class TourResult:
             stacklevel=2,
         )
         return self.runs
+
+
+class SequenceResult(TourResult):
+    """What a solve under constraints returns (see the constraint arguments of
+    :func:`solve_points`): one attribute per key, like :class:`TourResult` (whose
+    :meth:`~TourResult.keys` and :meth:`~TourResult.to_dict` it has). Stops are 0-based.
+
+    Attributes:
+        feasible: ``True`` when the order breaks no constraint. When ``False``, no feasible
+            order was found (or, with ``proven_infeasible``, none exists): ``order`` is the
+            least-breaking order seen and ``violations`` says what it breaks. Not an exception.
+        order: the stops in visiting order, the depot first (``numpy.int64``); optional stops
+            left out are absent, a closed tour's return to the depot is not repeated.
+        travel_cost: the sum of the travel costs (the return of a closed tour included);
+            ``length`` is the same number under the tour results' name.
+        completion_time: when the sequence ends: the return to the depot of a closed tour, the
+            end of service at the last stop of a path.
+        wait: total time spent waiting for windows to open.
+        penalty: the sum of the penalties of the optional stops left out.
+        objective: the value minimised: travel cost or completion time, plus ``penalty``.
+        minimised: ``travel`` or ``completion``.
+        route: ``closed`` or ``path``.
+        skipped: the optional stops left out, in increasing order.
+        violations: what the order breaks, one dict per violation: ``kind`` (``late``,
+            ``missing-required``, ``precedence``, ``before-skipped``, ``min-lag``,
+            ``max-lag``, ``fixed-edge``, ``duplicate``, ``unknown-stop``, ``wrong-start``,
+            ``overflow``, ``rule``), ``stops`` (the stops it names, 0-based), ``by`` (how much,
+            in time units, or ``None``) and ``message`` (a sentence); empty when feasible.
+        schedule: one row per visited stop in order, columns ``stop``, ``arrival``, ``start``
+            (of service), ``wait``, ``departure``, ``slack`` (latest start of the window used
+            minus the start; negative when late; missing when the stop has no window): a
+            pandas DataFrame when pandas is installed, else a list of dicts.
+        proven_optimal, proven_infeasible: what the exact programme (``exact=True``) proved.
+        lower_bound: a lower bound on the objective of every feasible order when one is known
+            (the proven optimum; the assignment bound for a closed tour minimising travel with
+            every stop required), else ``None``.
+        method: ``constrained-search`` or ``exact``.
+        runs, iterations, stop_reason, seconds, threads, seed, time_limit: as for
+            :class:`TourResult` (``iterations``: kicks over all runs; labels of the exact
+            programme).
+        trace: every new best feasible objective as a row ``(seconds, objective)``.
+        depot, start_time: the depot and the time the sequence leaves it.
+        file, instance, type, nodes: as for :class:`TourResult`.
+    """
+
+    __slots__ = ()
+
+    def __reduce__(self) -> _t.Tuple[_t.Any, ...]:
+        return (SequenceResult, (self._keys,))
+
+    def __repr__(self) -> str:
+        shown = ", ".join(
+            f"{k}={v!r}"
+            for k, v in sorted(self._keys.items())
+            if k not in ("order", "trace", "schedule", "violations")
+        )
+        return f"SequenceResult({shown}, violations={len(self._keys['violations'])})"
 
 
 @_dc.dataclass(frozen=True)
@@ -515,6 +585,44 @@ def _positional(
     )
 
 
+def _with_constraints(f: _t.Any) -> _t.Any:
+    """Adds the constraint arguments to a solve function's signature and documentation."""
+    sig = f.__signature__
+    extra = [
+        _inspect.Parameter(name, _inspect.Parameter.KEYWORD_ONLY, default=d, annotation=a)
+        for name, d, a in _constraints.KEYWORDS
+    ]
+    f.__signature__ = sig.replace(
+        parameters=[*sig.parameters.values(), *extra],
+        return_annotation="_t.Union[TourResult, SequenceResult]",
+    )
+    f.__doc__ = (f.__doc__ or "") + _constraints.DOC
+    return f
+
+
+def _sequence_result(d: _t.Mapping[str, _t.Any]) -> SequenceResult:
+    keys = _json.loads(d["json"])
+    keys["order"] = d["order"]
+    keys["trace"] = d["trace"]
+    keys["schedule"] = _constraints.schedule_table(keys["schedule"])
+    return SequenceResult(keys)
+
+
+def _constrained_options(
+    function: str, options: _t.Dict[str, _t.Any], nodes: _t.Optional[int]
+) -> _t.Tuple[_t.Any, ...]:
+    """The arguments of a constrained native solve after the leading ones: the options' JSON,
+    then those of :func:`_constraints.native_arguments`."""
+    args = _constraints.split(options)
+    _constraints.refuse_plain_options(options)
+    return (_options_json(function, options), *_constraints.native_arguments(args, nodes))
+
+
+def _asks_constraints(options: _t.Mapping[str, _t.Any]) -> bool:
+    return any(options.get(name) is not None for name, _, _ in _constraints.KEYWORDS)
+
+
+@_with_constraints
 @_with_options(_positional("points", "_t.Any"), _positional("metric", "str", "EUC_2D"))
 def solve_points(points: _t.Any, metric: str = "EUC_2D", **options: _t.Any) -> TourResult:
     """A short tour through points: an ``n x 2`` (or ``n x 3``) array of coordinates under a
@@ -529,9 +637,13 @@ def solve_points(points: _t.Any, metric: str = "EUC_2D", **options: _t.Any) -> T
     a = _points_array(points)
     if not isinstance(metric, str):
         raise ValueError(f"metric must be a TSPLIB distance name, got {metric!r}")
+    if _asks_constraints(options):
+        rest = _constrained_options("solve_points", options, a.shape[0])
+        return _sequence_result(_native.solve_points_constrained(a, metric, *rest))
     return _result(_native.solve_points(a, metric, _options_json("solve_points", options)))
 
 
+@_with_constraints
 @_with_options(_positional("matrix", "_t.Any"))
 def solve_matrix(matrix: _t.Any, **options: _t.Any) -> TourResult:
     """A short tour over a square cost matrix (``matrix[i, j]`` is the cost of going from ``i``
@@ -539,16 +651,32 @@ def solve_matrix(matrix: _t.Any, **options: _t.Any) -> TourResult:
     of whole numbers).
     """
     a = _matrix_array(matrix)
+    if _asks_constraints(options):
+        rest = _constrained_options("solve_matrix", options, a.shape[0])
+        return _sequence_result(_native.solve_matrix_constrained(a, *rest))
     return _result(_native.solve_matrix(a, _options_json("solve_matrix", options)))
 
 
+@_with_constraints
 @_with_options(_positional("path", "PathLike"))
 def solve_file(path: PathLike, **options: _t.Any) -> TourResult:
     """A short tour through a TSPLIB problem file (TYPE TSP or ATSP). With the same options it
     finds the same tour as ``wend solve`` (node numbers here are 0-based: ``start=0`` is the
-    command's ``--start 1``).
+    command's ``--start 1``). A file in the plain time-window layout (the number of nodes, the
+    travel-time matrix, one ``earliest latest`` line per node) is solved under its windows,
+    from node 0 at time 0, and gives a :class:`SequenceResult`; so does any file with
+    constraint arguments.
     """
-    return _result(_native.solve_file(_os.fspath(path), _options_json("solve_file", options)))
+    p = _os.fspath(path)
+    if _asks_constraints(options):
+        rest = _constrained_options("solve_file", options, None)
+        return _sequence_result(_native.solve_file_constrained(p, *rest, False))
+    opts = _options_json("solve_file", options)
+    # A time-window file is solved under its windows; any other file as a TSPLIB file.
+    out = _native.solve_file_constrained(p, opts, "{}", None, None, None, True)
+    if out is not None:
+        return _sequence_result(out)
+    return _result(_native.solve_file(p, opts))
 
 
 def read_tsplib(path: PathLike) -> Problem:
