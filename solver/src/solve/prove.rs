@@ -186,6 +186,15 @@ pub fn prove_optimal<C: Cost + ?Sized>(
     if !opts.fixed_edges.is_empty() {
         return prove_fixed(cost, opts, stop);
     }
+    prove_closed_or_path(cost, opts, stop)
+}
+
+/// [`prove_optimal`] without fixed edges.
+fn prove_closed_or_path<C: Cost + ?Sized>(
+    cost: &C,
+    opts: &ProveOptions,
+    stop: &StopHandle,
+) -> Result<Certificate, ProveError> {
     let began = Instant::now();
     let n = cost.len();
     let symmetric = cost.is_symmetric();
@@ -310,7 +319,7 @@ fn prove_fixed<C: Cost + ?Sized>(
         fixed_edges: Vec::new(),
         ..opts.clone()
     };
-    let c = prove_optimal(&fixed, &plain, stop)?;
+    let c = prove_closed_or_path(&fixed, &plain, stop)?;
     let order = fixed.tour_back(c.tour.order().to_vec())?;
     let length = closed_length(cost, &order)?;
     let mut tour = Tour::new(order, cost.len())?;

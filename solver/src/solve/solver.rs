@@ -629,7 +629,10 @@ impl<C: Cost> Solver<C> {
         let sol = self.solve_over(&fixed, &lists, target, &back)?;
         let mut order = fixed.tour_back(sol.tour.order().to_vec())?;
         let length = closed_length(&self.cost, &order)?;
-        if let Some(p) = order.iter().position(|&v| v == self.ends.start().unwrap_or(0)) {
+        if let Some(p) = order
+            .iter()
+            .position(|&v| v == self.ends.start().unwrap_or(0))
+        {
             order.rotate_left(p);
         }
         Ok(Solution {

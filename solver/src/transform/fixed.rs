@@ -80,9 +80,7 @@ pub enum FixedEdgesError {
         edge: FixedEdge,
     },
     /// Too many fixed edges at one node for a tour to use them all.
-    #[error(
-        "fixed edge {edge}: node {node} would have {what}; a tour cannot use them all"
-    )]
+    #[error("fixed edge {edge}: node {node} would have {what}; a tour cannot use them all")]
     Degree {
         /// The edge that was one too many.
         edge: FixedEdge,
@@ -293,9 +291,7 @@ impl<'a, C: Cost + ?Sized> FixedCost<'a, C> {
     /// The caller's length of a transformed tour of length `length`, when that tour uses every
     /// fixed edge; `None` when it does not (its transformed length is then above `n cmax - k M`).
     pub(crate) fn original_length(&self, length: i64) -> Option<i64> {
-        length
-            .checked_add(self.offset)
-            .filter(|&l| l <= self.top)
+        length.checked_add(self.offset).filter(|&l| l <= self.top)
     }
 
     /// The transformed length of a tour of `length` on the caller's costs that uses every
@@ -496,6 +492,247 @@ mod tests {
         MatrixCost::from_rows(&rows).unwrap()
     }
 
+    /// Random costs in `1..1000` (symmetric or not) and `count` fixed edges taken from a random
+    /// tour, so that they always fit in one.
+    #[allow(clippy::needless_range_loop)]
+    fn random_case(
+        n: usize,
+        seed: u64,
+        symmetric: bool,
+        count: usize,
+    ) -> (MatrixCost, Vec<(usize, usize)>) {
+        use rand::seq::SliceRandom;
+        use rand::{Rng, SeedableRng};
+        let mut rng = rand_pcg::Pcg64::seed_from_u64(seed);
+        let mut m = vec![vec![0i64; n]; n];
+        for i in 0..n {
+            for j in 0..n {
+                if i != j && (!symmetric || j > i) {
+                    m[i][j] = rng.gen_range(1..1000);
+                    if symmetric {
+                        m[j][i] = m[i][j];
+                    }
+                }
+            }
+        }
+        let mut order: Vec<usize> = (0..n).collect();
+        order.shuffle(&mut rng);
+        let edges = (0..count)
+            .map(|i| (order[2 * i], order[2 * i + 1]))
+            .collect();
+        (MatrixCost::from_rows(&m).unwrap(), edges)
+    }
+
+    /// The shortest tour that uses every fixed edge, by trying every order from node 0.
+    fn brute_force(c: &MatrixCost, edges: &[(usize, usize)]) -> i64 {
+        fn uses(order: &[usize], edges: &[(usize, usize)], symmetric: bool) -> bool {
+            let n = order.len();
+            edges.iter().all(|&(a, b)| {
+                (0..n).any(|p| {
+                    let (x, y) = (order[p], order[(p + 1) % n]);
+                    (x, y) == (a, b) || (symmetric && (y, x) == (a, b))
+                })
+            })
+        }
+        fn walk(c: &MatrixCost, edges: &[(usize, usize)], order: &mut Vec<usize>, best: &mut i64) {
+            let n = c.len();
+            if order.len() == n {
+                if uses(order, edges, c.is_symmetric()) {
+                    let len: i64 = (0..n).map(|p| c.cost(order[p], order[(p + 1) % n])).sum();
+                    *best = (*best).min(len);
+                }
+                return;
+            }
+            for v in 1..n {
+                if !order.contains(&v) {
+                    order.push(v);
+                    walk(c, edges, order, best);
+                    order.pop();
+                }
+            }
+        }
+        let mut best = i64::MAX;
+        walk(c, edges, &mut vec![0], &mut best);
+        best
+    }
+
+    fn assert_uses(order: &[usize], edges: &[(usize, usize)], symmetric: bool, what: &str) {
+        let n = order.len();
+        for &(a, b) in edges {
+            let pa = order.iter().position(|&v| v == a).unwrap();
+            let pb = order.iter().position(|&v| v == b).unwrap();
+            let ok = (pa + 1) % n == pb || (symmetric && (pb + 1) % n == pa);
+            assert!(ok, "{what}: {order:?} misses {a}-{b}");
+        }
+    }
+
+    // Every method and the exact methods against brute force over the tours that use the
+    // fixed edges (up to ten nodes: from ten on, lk searches instead of enumerating).
+    #[test]
+    fn solves_match_brute_force_over_tours_with_the_fixed_edges() {
+        use crate::solve::{prove_optimal, ExactMethod, Method, ProveOptions, Solver};
+        use crate::StopHandle;
+        for seed in 0..24u64 {
+            for symmetric in [true, false] {
+                let n = 5 + (seed as usize % 6);
+                let count = 1 + (seed as usize / 6) % 2;
+                let (c, edges) = random_case(n, seed, symmetric, count);
+                let expected = brute_force(&c, &edges);
+                let what = format!("seed {seed}, n {n}, symmetric {symmetric}, {edges:?}");
+                for method in [Method::Lk, Method::TwoOpt] {
+                    let s = Solver::new(&c)
+                        .method(method)
+                        .seed(seed)
+                        .threads(1)
+                        .fixed_edges(edges.iter().copied())
+                        .solve()
+                        .unwrap();
+                    assert_eq!(s.length, expected, "{} {what}", method.name());
+                    assert_eq!(crate::closed_length(&c, s.tour.order()), Ok(expected));
+                    assert_uses(s.tour.order(), &edges, symmetric, &what);
+                }
+                let mut exact = vec![ExactMethod::DynamicProgramme];
+                if symmetric {
+                    exact.push(ExactMethod::BranchAndBound);
+                }
+                for m in exact {
+                    let opts = ProveOptions {
+                        method: Some(m),
+                        fixed_edges: edges.clone(),
+                        ..ProveOptions::default()
+                    };
+                    let cert = prove_optimal(&c, &opts, &StopHandle::new()).unwrap();
+                    assert!(cert.proven_optimal, "{} {what}", m.name());
+                    assert_eq!(cert.length, expected, "{} {what}", m.name());
+                    assert_eq!(cert.lower_bound, Some(expected), "{} {what}", m.name());
+                    assert_uses(cert.tour.order(), &edges, symmetric, &what);
+                }
+            }
+        }
+    }
+
+    // The bound of solve_with never passes the brute-force optimum over the tours with the
+    // fixed edges, and its exact answer and the constructions keep the edges too.
+    #[test]
+    fn the_bound_and_every_construction_keep_to_the_fixed_edges() {
+        use crate::solve::{solve_with, Method, Settings};
+        for seed in 0..8u64 {
+            for symmetric in [true, false] {
+                let (c, edges) = random_case(8, 100 + seed, symmetric, 2);
+                let expected = brute_force(&c, &edges);
+                let what = format!("seed {seed}, symmetric {symmetric}, {edges:?}");
+                let bound = Settings {
+                    bound: true,
+                    bound_time: 1.0,
+                    threads: Some(1),
+                    fixed_edges: edges.clone(),
+                    ..Settings::default()
+                };
+                let o = solve_with(&c, &bound, Default::default()).unwrap();
+                assert_eq!(o.length, expected, "{what}");
+                let b = o.lower_bound.unwrap();
+                assert!(b <= expected, "bound {b} above {expected}: {what}");
+                let exact = Settings {
+                    exact: true,
+                    ..bound.clone()
+                };
+                let o = solve_with(&c, &exact, Default::default()).unwrap();
+                assert_eq!(
+                    (o.length, o.lower_bound),
+                    (expected, Some(expected)),
+                    "{what}"
+                );
+                for method in Method::ALL {
+                    let s = Settings {
+                        method,
+                        bound: false,
+                        iterations: Some(20),
+                        ..bound.clone()
+                    };
+                    let o = solve_with(&c, &s, Default::default()).unwrap();
+                    assert!(o.length >= expected, "{} {what}", method.name());
+                    assert_eq!(crate::closed_length(&c, o.tour.order()), Ok(o.length));
+                    assert_uses(o.tour.order(), &edges, symmetric, &what);
+                }
+            }
+        }
+    }
+
+    // Larger instances, where lk searches: its tour keeps the edges, and its length is the
+    // one branch and bound proves optimal over the tours with those edges.
+    #[test]
+    fn lk_keeps_the_fixed_edges_where_it_searches() {
+        use crate::solve::{prove_optimal, Method, ProveOptions, Solver};
+        use crate::StopHandle;
+        for seed in 0..4u64 {
+            for symmetric in [true, false] {
+                let (c, edges) = random_case(14, 200 + seed, symmetric, 3);
+                let what = format!("seed {seed}, symmetric {symmetric}, {edges:?}");
+                let s = Solver::new(&c)
+                    .method(Method::Lk)
+                    .seed(seed)
+                    .threads(1)
+                    .fixed_edges(edges.iter().copied())
+                    .solve()
+                    .unwrap();
+                assert_uses(s.tour.order(), &edges, symmetric, &what);
+                let opts = ProveOptions {
+                    fixed_edges: edges.clone(),
+                    ..ProveOptions::default()
+                };
+                let cert = prove_optimal(&c, &opts, &StopHandle::new()).unwrap();
+                assert!(cert.proven_optimal, "{what}");
+                assert!(s.length >= cert.length, "{what}");
+                assert!(
+                    s.length * 100 <= cert.length * 102,
+                    "{} vs {}: {what}",
+                    s.length,
+                    cert.length
+                );
+                // Without the fixed edges the optimum is never longer.
+                let free = prove_optimal(&c, &ProveOptions::default(), &StopHandle::new()).unwrap();
+                assert!(free.length <= cert.length, "{what}");
+            }
+        }
+    }
+
+    #[test]
+    fn refusals_reach_the_solver_and_paths_are_refused() {
+        use crate::solve::{SolveError, Solver};
+        let s = line(6, true);
+        let e = Solver::new(&s)
+            .fixed_edges([(0, 1), (1, 2), (2, 0)])
+            .solve()
+            .unwrap_err();
+        assert!(
+            matches!(
+                e,
+                SolveError::FixedEdges(FixedEdgesError::Cycle { len: 3, .. })
+            ),
+            "{e}"
+        );
+        let e = Solver::new(&s)
+            .fixed_edges([(0, 1)])
+            .ends(crate::Ends::Open)
+            .solve()
+            .unwrap_err()
+            .to_string();
+        assert_eq!(
+            e,
+            "fixed edges are honoured for closed tours only, not together with open ends"
+        );
+        let opts = crate::ProveOptions {
+            fixed_edges: vec![(4, 9)],
+            ..Default::default()
+        };
+        let e = crate::prove_optimal(&s, &opts, &crate::StopHandle::new()).unwrap_err();
+        assert!(
+            e.to_string()
+                .starts_with("fixed edge 4-9: node 9 is out of range"),
+            "{e}"
+        );
+    }
+
     #[test]
     fn contradictory_edges_are_refused_naming_the_edge() {
         let s = line(5, true);
@@ -581,7 +818,10 @@ mod tests {
         let a = line(5, false);
         let f = FixedCost::new(&a, &[(1, 0), (4, 1)]).unwrap();
         assert!(f.missing(&[0, 1, 4, 2, 3]).is_some());
-        assert_eq!(f.tour_back(vec![0, 2, 1, 3, 4]).unwrap(), vec![4, 1, 0, 2, 3]);
+        assert_eq!(
+            f.tour_back(vec![0, 2, 1, 3, 4]).unwrap(),
+            vec![4, 1, 0, 2, 3]
+        );
     }
 
     #[test]
