@@ -506,6 +506,7 @@ fn run_one(
         threads: Some(plan.threads_per_run),
         time_limit: Some(plan.time_limit),
         ends: spec.ends.ends(inst.dimension),
+        fixed_edges: inst.fixed_edges.clone(),
         runs: plan.runs,
         iterations: plan.iterations,
         target: optimum.filter(|_| plan.until_known),

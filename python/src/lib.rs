@@ -447,11 +447,9 @@ fn load_instance(path: &Path) -> Result<Instance, Fail> {
 /// Solves a TSPLIB file.
 #[pyfunction]
 fn solve_file<'py>(py: Python<'py>, path: PathBuf, options: &str) -> PyResult<Bound<'py, PyDict>> {
-    let req = SolveRequest::from_json(options)?;
+    let mut req = SolveRequest::from_json(options)?;
     let inst = load_instance(&path)?;
-    if let Some(why) = inst.search_refusal() {
-        return Err(input(format!("{}: {why}", path.display())).into());
-    }
+    req.settings.fixed_edges.extend(&inst.fixed_edges);
     let source = Source {
         file: Some(&path),
         instance: Some(&inst.name),

@@ -114,7 +114,7 @@ pub use solve::{
 };
 pub use solve::{solve_with, Hooks, Outcome, Settings, SettingsError, SolveWithError};
 pub use tour::{closed_length, Layout, Overflow, Tour, TourError};
-pub use transform::{path_length, Ends, EndsError};
+pub use transform::{path_length, Ends, EndsError, FixedEdge, FixedEdgesError};
 
 /// Building blocks for the crate's own benchmarks and reference tests, outside the stable
 /// surface: only with the non-default feature `internals`.

@@ -254,10 +254,6 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
     for f in files {
         match read_instance(&f) {
             Ok(inst) => {
-                if let Some(why) = inst.search_refusal() {
-                    eprintln!("wend: skipped: {}: {why}", f.display());
-                    continue;
-                }
                 let n = inst.dimension;
                 if min_nodes.is_none_or(|m| n >= m) && max_nodes.is_none_or(|m| n <= m) {
                     kept.push(f);

@@ -120,9 +120,7 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
     let mut settings = settings_of(&a)?;
     let path = a.path.clone().unwrap_or_default();
     let inst = load(&path)?;
-    if let Some(why) = inst.search_refusal() {
-        return Err(CliError::Input(format!("{}: {why}", path.display())));
-    }
+    settings.fixed_edges.clone_from(&inst.fixed_edges);
     settings.ends = path_ends(&a, inst.dimension)
         .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
     let limit = settings

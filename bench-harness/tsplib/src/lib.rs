@@ -89,6 +89,19 @@ pub struct Instance {
     pub edge_weight_format: Option<String>,
     /// The `FIXED_EDGES_SECTION`: edges `(a, b)` (0-based) every tour must use, as written
     /// (undirected for `TSP`, `b` right after `a` for `ATSP`); empty when the file has none.
+    /// The solve honours them when they are given to `wend::Settings::fixed_edges`.
+    ///
+    /// ```
+    /// let text = "NAME : f\nTYPE : TSP\nDIMENSION : 4\nEDGE_WEIGHT_TYPE : EUC_2D\n\
+    ///     NODE_COORD_SECTION\n1 0 0\n2 10 0\n3 10 10\n4 0 10\nFIXED_EDGES_SECTION\n1 3\n-1\nEOF\n";
+    /// let inst = wend_tsplib::parse_instance(text, "f.tsp").unwrap();
+    /// assert_eq!(inst.fixed_edges, vec![(0, 2)]);
+    /// let settings = wend::Settings { fixed_edges: inst.fixed_edges.clone(), ..Default::default() };
+    /// let out = wend::solve_with(inst.cost(), &settings, Default::default()).unwrap();
+    /// let order = out.tour.order();
+    /// assert!(order[1] == 2 || order[3] == 2, "{order:?}"); // the diagonal 1-3 of the file
+    /// assert_eq!(out.length, 14 + 10 + 10 + 14);
+    /// ```
     pub fixed_edges: Vec<(usize, usize)>,
 }
 
@@ -99,26 +112,6 @@ impl Instance {
             Weights::Coords(c) => c,
             Weights::Matrix(m) => m,
         }
-    }
-
-    /// Why the search methods must refuse this instance, if they must: no method honours a
-    /// `FIXED_EDGES_SECTION` yet, and a tour found without its edges could break one, so front
-    /// ends refuse such an instance rather than solve it. (Bounds and tour lengths stay valid.)
-    ///
-    /// ```
-    /// let text = "NAME : f\nTYPE : TSP\nDIMENSION : 3\nEDGE_WEIGHT_TYPE : EUC_2D\n\
-    ///     NODE_COORD_SECTION\n1 0 0\n2 1 0\n3 0 1\nFIXED_EDGES_SECTION\n1 2\n-1\nEOF\n";
-    /// let inst = wend_tsplib::parse_instance(text, "f.tsp").unwrap();
-    /// assert!(inst.search_refusal().unwrap().contains("FIXED_EDGES_SECTION"));
-    /// ```
-    pub fn search_refusal(&self) -> Option<String> {
-        (!self.fixed_edges.is_empty()).then(|| {
-            format!(
-                "FIXED_EDGES_SECTION with {} edge(s): no method honours fixed edges yet, so the \
-                 instance is refused rather than solved without them",
-                self.fixed_edges.len()
-            )
-        })
     }
 }
 

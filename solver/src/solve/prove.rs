@@ -17,8 +17,8 @@ use crate::control::{self, StopHandle};
 use crate::cost::Cost;
 use crate::exact::{optimal_path, DpError, DEFAULT_DP_MEMORY, DP_LIMIT};
 use crate::solve::{Method, SolveError, Solver};
-use crate::tour::{Overflow, Tour, TourError};
-use crate::transform::Ends;
+use crate::tour::{closed_length, Overflow, Tour, TourError};
+use crate::transform::{Ends, FixedCost, FixedEdgesError};
 use std::time::{Duration, Instant};
 
 /// Symmetric instances up to this size go to the dynamic programme (it takes well under a
@@ -44,6 +44,9 @@ pub struct ProveOptions {
     /// A closed tour (the default) or a path: paths are solved by the dynamic programme only
     /// ([`crate::exact::optimal_path`], up to `DP_LIMIT - 1` nodes).
     pub ends: Ends,
+    /// Edges every tour must use (see [`Solver::fixed_edges`]), for closed tours only: the
+    /// proof then holds over the tours that use them all.
+    pub fixed_edges: Vec<(usize, usize)>,
 }
 
 impl Default for ProveOptions {
@@ -56,6 +59,7 @@ impl Default for ProveOptions {
             node_limit: None,
             method: None,
             ends: Ends::Closed,
+            fixed_edges: Vec::new(),
         }
     }
 }
@@ -149,6 +153,10 @@ pub enum ProveError {
     /// The search for a first tour failed.
     #[error(transparent)]
     Solve(#[from] SolveError),
+    /// The fixed edges cannot all be in one tour, come with a path, or their transformation
+    /// could overflow; or a tour without one of them was refused.
+    #[error(transparent)]
+    FixedEdges(#[from] FixedEdgesError),
     /// A tour length overflowed.
     #[error(transparent)]
     Overflow(#[from] Overflow),
@@ -171,6 +179,18 @@ pub enum ProveError {
 /// assert!(certificate.proven_optimal);
 /// ```
 pub fn prove_optimal<C: Cost + ?Sized>(
+    cost: &C,
+    opts: &ProveOptions,
+    stop: &StopHandle,
+) -> Result<Certificate, ProveError> {
+    if !opts.fixed_edges.is_empty() {
+        return prove_fixed(cost, opts, stop);
+    }
+    prove_closed_or_path(cost, opts, stop)
+}
+
+/// [`prove_optimal`] without fixed edges.
+fn prove_closed_or_path<C: Cost + ?Sized>(
     cost: &C,
     opts: &ProveOptions,
     stop: &StopHandle,
@@ -282,6 +302,39 @@ pub fn prove_optimal<C: Cost + ?Sized>(
     })
 }
 
+/// [`prove_optimal`] with fixed edges: the proof on their transformed costs (see
+/// `crate::transform::fixed`), its tour read back and checked, its lengths and bound moved back
+/// to the caller's costs.
+fn prove_fixed<C: Cost + ?Sized>(
+    cost: &C,
+    opts: &ProveOptions,
+    stop: &StopHandle,
+) -> Result<Certificate, ProveError> {
+    if opts.ends.is_path() {
+        let ends = opts.ends.name();
+        return Err(FixedEdgesError::Path { ends }.into());
+    }
+    let fixed = FixedCost::new(cost, &opts.fixed_edges)?;
+    let plain = ProveOptions {
+        fixed_edges: Vec::new(),
+        ..opts.clone()
+    };
+    let c = prove_closed_or_path(&fixed, &plain, stop)?;
+    let order = fixed.tour_back(c.tour.order().to_vec())?;
+    let length = closed_length(cost, &order)?;
+    let mut tour = Tour::new(order, cost.len())?;
+    tour.rotate_to(opts.ends.start().unwrap_or(0));
+    Ok(Certificate {
+        tour,
+        length,
+        lower_bound: c
+            .lower_bound
+            .map(|b| b.saturating_add(fixed.offset()).min(length)),
+        first_tour_length: c.first_tour_length.and_then(|l| fixed.original_length(l)),
+        ..c
+    })
+}
+
 /// Why [`lower_bound`] gave no bound.
 #[derive(Debug, thiserror::Error)]
 pub enum LowerBoundError {
@@ -294,6 +347,10 @@ pub enum LowerBoundError {
     /// The ends are out of range, or their penalty could overflow.
     #[error(transparent)]
     Ends(#[from] crate::transform::EndsError),
+    /// The fixed edges cannot all be in one tour, come with a path, or their transformation
+    /// could overflow.
+    #[error(transparent)]
+    FixedEdges(#[from] FixedEdgesError),
 }
 
 /// A lower bound on every tour of `cost` with the given `ends` (a closed tour or a path), for
@@ -347,6 +404,30 @@ pub fn lower_bound<C: Cost + ?Sized>(
         closed(cost, &opts, stop)?
     };
     Ok(bound.min(length))
+}
+
+/// [`lower_bound`] over the tours that use every edge of `fixed_edges` (closed tours only;
+/// without fixed edges, [`lower_bound`] itself): the bound of their transformed costs plus what
+/// those tours pay back there (see `crate::transform::fixed`).
+pub(crate) fn lower_bound_fixed<C: Cost + ?Sized>(
+    cost: &C,
+    fixed_edges: &[(usize, usize)],
+    ends: Ends,
+    length: i64,
+    time_limit: Duration,
+    stop: &StopHandle,
+) -> Result<i64, LowerBoundError> {
+    if fixed_edges.is_empty() {
+        return lower_bound(cost, ends, length, time_limit, stop);
+    }
+    if ends.is_path() {
+        let ends = ends.name();
+        return Err(FixedEdgesError::Path { ends }.into());
+    }
+    let fixed = FixedCost::new(cost, fixed_edges)?;
+    let inner = length.saturating_sub(fixed.offset());
+    let bound = lower_bound(&fixed, ends, inner, time_limit, stop)?;
+    Ok(bound.saturating_add(fixed.offset()).min(length))
 }
 
 #[cfg(test)]

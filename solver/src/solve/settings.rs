@@ -23,7 +23,7 @@
 //! line deserialise into them as well. Ranges are checked in one place,
 //! [`AntParams::check`] and [`AnnealParams::check`] (called by [`Settings::check`]).
 
-use super::prove::{lower_bound, prove_optimal, ExactMethod, LowerBoundError, ProveError};
+use super::prove::{lower_bound_fixed, prove_optimal, ExactMethod, LowerBoundError, ProveError};
 use super::prove::{Certificate, ProveOptions};
 use super::solver::{
     default_threads, set_param, AsymmetricMode, Method, Solution, SolveError, Solver,
@@ -84,6 +84,12 @@ pub struct Settings {
     pub layout: Layout,
     /// A closed tour or a path ([`Ends`]), with 0-based node ids.
     pub ends: Ends,
+    /// Edges every tour must use, as pairs of 0-based node ids: for symmetric costs the
+    /// undirected edge `a`–`b`, for asymmetric costs the arc `a -> b` (see
+    /// [`Solver::fixed_edges`]). Every method, the bound and the exact methods honour them;
+    /// closed tours only. Empty by default (and then left out when serialised).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub fixed_edges: Vec<(usize, usize)>,
     /// How `lk` searches asymmetric costs (`transformed`, `direct`).
     pub asymmetric_mode: AsymmetricMode,
     /// Also compute a lower bound after the solve, and the gap it proves.
@@ -122,6 +128,7 @@ impl Default for Settings {
             neighbour_lists: CandidateSource::default(),
             layout: Layout::default(),
             ends: Ends::Closed,
+            fixed_edges: Vec::new(),
             asymmetric_mode: AsymmetricMode::default(),
             bound: false,
             bound_time: DEFAULT_BOUND_TIME,
@@ -224,6 +231,7 @@ impl Settings {
             .neighbour_lists(self.neighbour_lists)
             .layout(self.layout)
             .ends(self.ends)
+            .fixed_edges(self.fixed_edges.iter().copied())
             .asymmetric_mode(self.asymmetric_mode)
             .ant_params(self.ants.clone())
             .anneal_params(self.annealing.clone());
@@ -473,6 +481,7 @@ pub fn solve_with<C: Cost + ?Sized>(
             threads: Some(threads),
             method: settings.exact_method,
             ends: settings.ends,
+            fixed_edges: settings.fixed_edges.clone(),
             ..ProveOptions::default()
         };
         let opts = ProveOptions {
@@ -497,7 +506,8 @@ pub fn solve_with<C: Cost + ?Sized>(
     let sol = solved?;
     let bound = if settings.bound {
         let time = Duration::from_secs_f64(settings.bound_time.clamp(0.0, 1.0e9));
-        match lower_bound(cost, sol.ends, sol.length, time, &stop) {
+        let edges = &settings.fixed_edges;
+        match lower_bound_fixed(cost, edges, sol.ends, sol.length, time, &stop) {
             Ok(b) => Some(Some(b)),
             Err(_) if stop.is_stopped() => Some(None),
             Err(e) => return Err(e.into()),

@@ -14,6 +14,7 @@ use crate::moves::two_opt_or_opt;
 use crate::neighbours::{candidates_until, CandidateSource, Neighbours};
 use crate::tour::{closed_length, ArrayTour, Layout, Overflow, Tour};
 use crate::transform::{path_length, EndedCost, Ends, EndsError};
+use crate::transform::{FixedCost, FixedEdgesError};
 use crate::transform::{TwinCost, TwinTooLarge};
 use rand_pcg::Pcg64;
 use std::sync::Mutex;
@@ -151,6 +152,10 @@ pub enum SolveError {
     /// The symmetric transformation of asymmetric costs could overflow.
     #[error(transparent)]
     Twin(#[from] TwinTooLarge),
+    /// The fixed edges cannot all be in one tour, are out of range, come with path ends, or
+    /// their transformation could overflow; or a tour without one of them was refused.
+    #[error(transparent)]
+    FixedEdges(#[from] FixedEdgesError),
     /// The search's buffers would pass the memory ceiling ([`crate::memory`]).
     #[error(transparent)]
     Memory(#[from] crate::memory::MemoryError),
@@ -232,6 +237,7 @@ pub struct Solver<C> {
     neighbour_lists: CandidateSource,
     layout: Layout,
     ends: Ends,
+    fixed_edges: Vec<(usize, usize)>,
     asymmetric_mode: AsymmetricMode,
     ants: AntParams,
     annealing: AnnealParams,
@@ -314,6 +320,7 @@ impl<C: Cost> Solver<C> {
             neighbour_lists: CandidateSource::default(),
             layout: Layout::default(),
             ends: Ends::Closed,
+            fixed_edges: Vec::new(),
             asymmetric_mode: AsymmetricMode::default(),
             ants: AntParams::default(),
             annealing: AnnealParams::default(),
@@ -463,6 +470,30 @@ impl<C: Cost> Solver<C> {
         self
     }
 
+    /// Edges every tour must use, as pairs of 0-based node ids: for symmetric costs the
+    /// undirected edge `a`–`b`, for asymmetric costs the arc `a -> b`. Every method honours them
+    /// by solving on costs where each fixed edge is made cheaper than any tour could make up
+    /// for (see `crate::transform::fixed`); the [`Solution`] has its length on the caller's
+    /// costs, and a tour missing a fixed edge is never returned. Edges that no tour can use
+    /// all at once (a node in three, a cycle short of the whole tour, ...), or fixed edges
+    /// together with a path ([`Solver::ends`]), are refused with [`SolveError::FixedEdges`].
+    /// None (the default): the search runs as it does without this option.
+    ///
+    /// ```
+    /// use wend::{CoordCost, Metric, Solver};
+    ///
+    /// let square = CoordCost::plane(Metric::Euc2d, &[[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]]).unwrap();
+    /// // The diagonal 0-2 must be used: 0 2, then 2 1 0 or 2 3 0 around the sides.
+    /// let s = Solver::new(square).fixed_edges([(0, 2)]).solve().unwrap();
+    /// assert_eq!(s.length, 14 + 10 + 10 + 14);
+    /// let order = s.tour.order();
+    /// assert!(order[1] == 2 || order[3] == 2, "{order:?}");
+    /// ```
+    pub fn fixed_edges(mut self, edges: impl IntoIterator<Item = (usize, usize)>) -> Self {
+        self.fixed_edges = edges.into_iter().collect();
+        self
+    }
+
     /// How `lk` searches asymmetric costs: on their symmetric transformation (the default) or
     /// with direction-keeping moves only. Other methods and symmetric costs ignore it.
     pub fn asymmetric_mode(mut self, mode: AsymmetricMode) -> Self {
@@ -570,8 +601,59 @@ impl<C: Cost> Solver<C> {
     /// assert_eq!(solution.tour.len(), 3);
     /// ```
     pub fn solve(&self) -> Result<Solution, SolveError> {
+        if !self.fixed_edges.is_empty() {
+            return self.solve_fixed();
+        }
+        let lists = |over: &(dyn Fn() -> bool + Sync)| {
+            candidates_until(&self.cost, self.neighbour_count, self.neighbour_lists, over)
+        };
+        self.solve_over(&self.cost, &lists, self.target, &Some)
+    }
+
+    /// The solve with fixed edges: the search on their transformed costs, whose tour is read
+    /// back, checked and measured on the caller's costs.
+    fn solve_fixed(&self) -> Result<Solution, SolveError> {
+        if self.ends.is_path() {
+            return Err(FixedEdgesError::Path {
+                ends: self.ends.name(),
+            }
+            .into());
+        }
+        let fixed = FixedCost::new(&self.cost, &self.fixed_edges)?;
+        let lists = |over: &(dyn Fn() -> bool + Sync)| {
+            candidates_until(&self.cost, self.neighbour_count, self.neighbour_lists, over)
+                .map(|nb| fixed.neighbours(&nb))
+        };
+        let target = self.target.and_then(|t| fixed.transformed_length(t));
+        let back = |length| fixed.original_length(length);
+        let sol = self.solve_over(&fixed, &lists, target, &back)?;
+        let mut order = fixed.tour_back(sol.tour.order().to_vec())?;
+        let length = closed_length(&self.cost, &order)?;
+        if let Some(p) = order
+            .iter()
+            .position(|&v| v == self.ends.start().unwrap_or(0))
+        {
+            order.rotate_left(p);
+        }
+        Ok(Solution {
+            tour: Tour::trusted(order),
+            length,
+            ..sol
+        })
+    }
+
+    /// The solve on `cost` (the caller's costs, or their fixed-edge transformation):
+    /// `lists` builds its neighbour lists (giving up when its argument turns true), `target`
+    /// is on `cost`, and `shown` maps a length on `cost` to the one observed and traced (or
+    /// `None` to leave the improvement out).
+    fn solve_over<D: Cost>(
+        &self,
+        cost: &D,
+        lists: &dyn Fn(&(dyn Fn() -> bool + Sync)) -> Option<Neighbours>,
+        target: Option<i64>,
+        shown: &(dyn Fn(i64) -> Option<i64> + Sync),
+    ) -> Result<Solution, SolveError> {
         let began = Instant::now();
-        let cost = &self.cost;
         let n = cost.len();
         self.ends.check(n)?;
         let ceiling = self.memory_limit.unwrap_or_else(crate::memory::ceiling);
@@ -590,6 +672,10 @@ impl<C: Cost> Solver<C> {
         }
         let trace = Mutex::new(Vec::new());
         let observe = |imp: Improvement| {
+            let Some(length) = shown(imp.length) else {
+                return;
+            };
+            let imp = Improvement { length, ..imp };
             if let Some(f) = &self.observer {
                 f(imp);
             }
@@ -636,9 +722,8 @@ impl<C: Cost> Solver<C> {
                     stop_reason: StopReason::Exhaustive,
                 }
             } else {
-                let nb =
-                    || candidates_until(cost, self.neighbour_count, self.neighbour_lists, &over);
-                self.search_maybe_twinned(cost, nb, twin, self.target, began, &observe)?
+                let nb = || lists(&over);
+                self.search_maybe_twinned(cost, nb, twin, target, began, &observe)?
             };
             return finish(raw.order.clone(), raw, &trace);
         }
@@ -648,11 +733,8 @@ impl<C: Cost> Solver<C> {
                 observe(Improvement { length, ..imp });
             }
         };
-        let target = self.target.and_then(|t| ended.tour_length_of(t));
-        let nb = || {
-            candidates_until(cost, self.neighbour_count, self.neighbour_lists, &over)
-                .map(|lists| ended.neighbours(&lists, self.neighbour_lists))
-        };
+        let target = target.and_then(|t| ended.tour_length_of(t));
+        let nb = || lists(&over).map(|lists| ended.neighbours(&lists, self.neighbour_lists));
         let raw = self.search_maybe_twinned(&ended, nb, twin, target, began, &observe_ended)?;
         finish(ended.path_from_tour(&raw.order), raw, &trace)
     }

@@ -1,9 +1,13 @@
-//! Other problems as closed tours: fixed path ends through a dummy node ([`ends`]), and
-//! asymmetric costs as symmetric ones over twice the nodes ([`twin`]).
+//! Other problems as closed tours: fixed path ends through a dummy node ([`ends`]), asymmetric
+//! costs as symmetric ones over twice the nodes ([`twin`]), and fixed edges as very cheap ones
+//! ([`fixed`]).
 
 pub(crate) mod ends;
+pub(crate) mod fixed;
 pub(crate) mod twin;
 
 pub(crate) use ends::EndedCost;
 pub use ends::{path_length, Ends, EndsError};
+pub(crate) use fixed::FixedCost;
+pub use fixed::{FixedEdge, FixedEdgesError};
 pub(crate) use twin::{TwinCost, TwinTooLarge};
