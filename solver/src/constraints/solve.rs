@@ -123,6 +123,7 @@ pub fn solve_sequence<C: Cost + ?Sized>(
 /// precedence pair, a fixed edge or leaves out a required stop). Only the default method runs
 /// under constraints: another [`Settings::method`] is refused, and so are [`Settings::ends`]
 /// other than closed (the constraints' route and depot say where a sequence starts).
+/// [`Settings::fixed_edges`] are added to the constraints' own.
 pub fn solve_sequence_with<C: Cost + ?Sized, R: StepRule + ?Sized>(
     cost: &C,
     c: &Constraints,
@@ -145,6 +146,19 @@ fn solve_sequence_inner<C: Cost + ?Sized, R: StepRule + ?Sized>(
 ) -> Result<SequenceOutcome, SequenceError> {
     settings.check()?;
     let n = cost.len();
+    let merged;
+    let c = if settings.fixed_edges.is_empty() {
+        c
+    } else {
+        let mut all = c.clone();
+        for &edge in &settings.fixed_edges {
+            if !all.fixed_edges.contains(&edge) {
+                all.fixed_edges.push(edge);
+            }
+        }
+        merged = all;
+        &merged
+    };
     c.check(n)?;
     if settings.method != Method::Lk {
         return Err(SequenceError::Unsupported(format!(
