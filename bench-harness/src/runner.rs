@@ -755,6 +755,46 @@ mod tests {
     }
 
     #[test]
+    fn known_lengths_match_folder_and_name_first() {
+        let known: BTreeMap<String, i64> = [
+            ("dumas/n20w20.001".to_string(), 378),
+            ("n20w20.001".to_string(), 1),
+            ("kroA100".to_string(), 21282),
+        ]
+        .into();
+        let f = |p: &str, name: &str| known_length(&known, Path::new(p), name);
+        assert_eq!(f("sets/dumas/n20w20.001.txt", "n20w20.001"), Some(378));
+        // Another folder falls back to the plain name.
+        assert_eq!(f("sets/gendreau/n20w20.001.txt", "n20w20.001"), Some(1));
+        assert_eq!(f("instances/kroA100.tsp", "kroA100"), Some(21282));
+        assert_eq!(f("kroA100.tsp", "kroA100"), Some(21282));
+        assert_eq!(f("instances/eil51.tsp", "eil51"), None);
+    }
+
+    #[test]
+    fn constrained_files_run_only_the_plain_default_method_as_tours() {
+        let mut p = plan(None);
+        p.methods.push(Method::Lk.into());
+        p.methods.push(MethodSpec::parse("lk:nearest:5").unwrap());
+        p.ends = vec![EndsChoice::Closed, EndsChoice::Open];
+        p.constrained.insert("a/y.tsp".into());
+        let runs = plan_runs(&p);
+        let y: Vec<(String, EndsChoice)> = runs
+            .iter()
+            .filter(|r| r.instance == "y")
+            .map(|r| (r.method.label(), r.ends))
+            .collect();
+        assert_eq!(y, vec![("lk".to_string(), EndsChoice::Closed); 3]);
+        // The other files keep every method and both ends: 4 methods, 2 ends, 3 seeds.
+        assert_eq!(runs.iter().filter(|r| r.instance == "x").count(), 4 * 2 * 3);
+        assert!(
+            constrained_refusal(&Method::TwoOpt.into(), EndsChoice::Closed)
+                .is_some_and(|w| w.contains("2opt"))
+        );
+        assert!(constrained_refusal(&Method::Lk.into(), EndsChoice::Open).is_some());
+    }
+
+    #[test]
     fn shards_partition_the_run_list() {
         let all = plan_runs(&plan(None));
         // Two distinct names (x listed twice keeps its first file), 2 methods, 3 seeds.
