@@ -228,6 +228,35 @@ mod tests {
         sample(instance, method, seed, length)
     }
 
+    /// Two problems, two methods; B found no feasible order on p1, and of two runs of A on p2
+    /// one found none (the method is taken at its best run):
+    /// p1: A 100, B none → r_A 1, B fails; p2: A none and 150, B 100 → r_A 1.5, r_B 1.
+    /// So ρ_A = 1/2 on [1, 1.5), 1 from 1.5; ρ_B = 1/2 from 1 on, never more.
+    #[test]
+    fn a_method_without_a_feasible_order_fails_the_problem() {
+        let none = |instance: &str, method: &str, seed: u64| {
+            let mut r = run(instance, method, seed, 0);
+            r.length = None;
+            r.feasible = false;
+            r
+        };
+        let runs = vec![
+            run("p1", "A", 1, 100),
+            none("p1", "B", 1),
+            none("p2", "A", 1),
+            run("p2", "A", 1, 150),
+            run("p2", "B", 1, 100),
+        ];
+        let p = performance_profile(&runs);
+        assert_eq!(p.problems, 2);
+        let (a, b) = (&p.curves[0], &p.curves[1]);
+        assert_eq!(a.rho(1.0), 0.5);
+        assert_eq!(a.rho(1.49), 0.5);
+        assert_eq!(a.rho(1.5), 1.0);
+        assert_eq!(b.rho(1.0), 0.5);
+        assert_eq!(b.rho(100.0), 0.5);
+    }
+
     /// Three problems, two methods:
     /// p1 (a, seed 1): A 100, B 110 → r_A 1, r_B 1.1;
     /// p2 (a, seed 2): A 120, B 100 → r_A 1.2, r_B 1;
