@@ -32,11 +32,24 @@ pub struct RunRecord {
     pub time_limit: f64,
     /// Worker threads the run used.
     pub threads: usize,
-    /// Length of the best tour found.
-    pub length: i64,
+    /// Length of the best tour found; under constraints, the travel cost of the best feasible
+    /// order. None (`null`) when a run under constraints found no feasible order: such a run
+    /// has no length, no gap, and counts against the feasibility rate.
+    pub length: Option<i64>,
+    /// Whether the run's result meets every constraint of its problem. Always true for a
+    /// problem without constraints (every tour is one); older files, without the field, hold
+    /// such runs.
+    #[serde(default = "yes")]
+    pub feasible: bool,
+    /// The objective the constrained search minimised (travel cost plus the penalties of
+    /// optional stops left out, or the completion time), of the order found (for an infeasible
+    /// run, of the least-breaking order seen: not a solution's). Written only for problems with
+    /// constraints, and its presence is what marks such a run.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub objective: Option<i64>,
     /// Known optimal length, if the optima file lists the instance.
     pub optimum: Option<i64>,
-    /// `100 * (length - optimum) / optimum`, when the optimum is known.
+    /// `100 * (length - optimum) / optimum`, when the optimum is known and the run has a length.
     pub gap_percent: Option<f64>,
     /// Wall-clock seconds of the run.
     pub seconds: f64,
@@ -88,6 +101,10 @@ fn closed() -> String {
     "closed".into()
 }
 
+fn yes() -> bool {
+    true
+}
+
 /// A stop reason, with the words of older files read as today's.
 fn stop_reason<'de, D: serde::Deserializer<'de>>(d: D) -> Result<String, D::Error> {
     let reason = String::deserialize(d)?;
@@ -109,6 +126,11 @@ impl RunRecord {
         }
     }
 
+    /// True for a run on a problem with constraints (time windows and the like).
+    pub fn is_constrained(&self) -> bool {
+        self.objective.is_some()
+    }
+
     /// True for a closed tour, false for any kind of path.
     pub fn is_closed(&self) -> bool {
         self.ends == "closed"
@@ -124,10 +146,12 @@ impl RunRecord {
         }
     }
 
-    /// The kind of problem, as report sections name it: `TSP`, `ATSP`, or with the kind of path
-    /// (`TSP, open paths`).
+    /// The kind of problem, as report sections name it: `TSP`, `ATSP`, with the kind of path
+    /// (`TSP, open paths`), or for a problem with constraints `ATSP, constrained`.
     pub fn kind(&self) -> String {
-        if self.is_closed() {
+        if self.is_constrained() {
+            format!("{}, constrained", self.problem_type)
+        } else if self.is_closed() {
             self.problem_type.clone()
         } else {
             format!("{}, {} paths", self.problem_type, self.ends)
@@ -137,7 +161,7 @@ impl RunRecord {
     /// True when the tour is shorter than the listed optimum: a distance bug or a wrong optimum,
     /// never a record.
     pub fn beats_optimum(&self) -> bool {
-        self.optimum.is_some_and(|o| self.length < o)
+        matches!((self.length, self.optimum), (Some(l), Some(o)) if l < o)
     }
 }
 
@@ -199,7 +223,9 @@ pub(crate) fn sample(instance: &str, method: &str, seed: u64, length: i64) -> Ru
         seed,
         time_limit: 1.0,
         threads: 1,
-        length,
+        length: Some(length),
+        feasible: true,
+        objective: None,
         optimum: Some(1000),
         gap_percent: Some(100.0 * (length - 1000) as f64 / 1000.0),
         seconds: 1.0,

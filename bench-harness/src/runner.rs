@@ -6,13 +6,14 @@
 
 use crate::record::{read_runs, RunKey, RunRecord};
 use sysinfo::{CpuRefreshKind, MemoryRefreshKind, RefreshKind, System};
-use wend_tsplib::{read_instance, write_tour, Instance, TsplibError};
+use wend_tsplib::{read_problem, write_tour, Problem, TsplibError};
 
-use std::collections::{BTreeMap, HashSet};
+use std::collections::{BTreeMap, BTreeSet, HashSet};
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
+use wend::constraints::solve_sequence;
 use wend::{solve_with, CandidateSource, Ends, Hooks, Method, Settings, StopHandle};
 
 /// A method with optional candidate-list settings and parameters: `lk`, `lk:alpha`,
@@ -226,8 +227,12 @@ pub struct SweepPlan {
     pub jobs: usize,
     /// `(k, n)`: run only the k-th (1-based) of n slices.
     pub shard: Option<(usize, usize)>,
-    /// Known optimal lengths by instance name.
+    /// Known optimal lengths by instance name, or by `folder/name` ([`known_length`]).
     pub known_lengths: BTreeMap<String, i64>,
+    /// Instance files whose problems carry constraints (time windows and the like), as the
+    /// caller found on reading them: they run only under the default method and as closed
+    /// routes ([`constrained_refusal`]).
+    pub constrained: BTreeSet<PathBuf>,
     /// End a run as soon as it reaches the instance's known optimal length (nothing shorter
     /// exists, so the result is the same; the sweep just finishes sooner).
     pub until_known: bool,
@@ -300,7 +305,44 @@ pub fn instance_name(path: &Path) -> String {
         .unwrap_or_else(|| path.display().to_string())
 }
 
-/// The runs of the plan's shard, in a fixed order.
+/// The known length of an instance: listed under the name of the file's folder and its stem
+/// (`dumas/n20w20.001` for `.../dumas/n20w20.001.txt`, as lists of benchmark sets name them),
+/// or else under the instance name alone.
+pub fn known_length(known: &BTreeMap<String, i64>, file: &Path, instance: &str) -> Option<i64> {
+    let folder = file
+        .parent()
+        .and_then(Path::file_name)
+        .map(|d| d.to_string_lossy());
+    folder
+        .and_then(|d| known.get(&format!("{d}/{instance}")))
+        .or_else(|| known.get(instance))
+        .copied()
+}
+
+/// Why a problem with constraints is not run under `method` as `ends`, or None when it is: only
+/// the default method, plain, runs the constrained search, and only closed routes (the
+/// constraints' depot and route say where a sequence starts).
+pub fn constrained_refusal(method: &MethodSpec, ends: EndsChoice) -> Option<String> {
+    let default = Settings::default().method;
+    if *method != MethodSpec::from(default) {
+        return Some(format!(
+            "method {} does not run on problems with constraints (time windows and the like); \
+             only the default method {} does, as the constrained search",
+            method.label(),
+            default.name()
+        ));
+    }
+    (ends != EndsChoice::Closed).then(|| {
+        format!(
+            "{} paths are not run on problems with constraints: the constraints' depot and \
+             route say where a sequence starts",
+            ends.name()
+        )
+    })
+}
+
+/// The runs of the plan's shard, in a fixed order. Files in [`SweepPlan::constrained`] get
+/// only the runs [`constrained_refusal`] lets through.
 pub fn plan_runs(plan: &SweepPlan) -> Vec<RunSpec> {
     let mut files: Vec<(String, PathBuf)> = plan
         .instances
@@ -317,8 +359,12 @@ pub fn plan_runs(plan: &SweepPlan) -> Vec<RunSpec> {
         &plan.ends[..]
     };
     for (instance, file) in &files {
+        let constrained = plan.constrained.contains(file);
         for &e in ends {
             for method in &plan.methods {
+                if constrained && constrained_refusal(method, e).is_some() {
+                    continue;
+                }
                 for &seed in &plan.seeds {
                     runs.push(RunSpec {
                         file: file.clone(),
@@ -414,7 +460,7 @@ pub fn run_sweep(
         by_instance.entry(s.instance.as_str()).or_default().push(s);
     }
     for runs in by_instance.values() {
-        let inst = read_instance(&runs[0].file)?;
+        let problem = read_problem(&runs[0].file)?;
         let next = AtomicUsize::new(0);
         let failed: Mutex<Option<SweepError>> = Mutex::new(None);
         let worker = || loop {
@@ -425,7 +471,7 @@ pub fn run_sweep(
             {
                 break;
             }
-            let outcome = run_one(plan, &inst, runs[i], &machine).and_then(|rec| {
+            let outcome = run_one(plan, &problem, runs[i], &machine).and_then(|rec| {
                 let Some(rec) = rec else {
                     return Ok(false);
                 };
@@ -483,24 +529,41 @@ pub fn tour_comment(head: &str, length: i64, tail: &str, ends: Ends, order: &[us
     comment
 }
 
-/// One run, or `None` when the stop handle cut it short (such a run is not recorded).
+/// What a run found, whichever solver ran it.
+struct Found {
+    /// Length of the tour; under constraints, the travel cost of a feasible order (None when
+    /// the order found is not feasible).
+    length: Option<i64>,
+    feasible: bool,
+    /// The constrained search's objective; None without constraints.
+    objective: Option<i64>,
+    order: Vec<usize>,
+    ends: Ends,
+    seconds: f64,
+    lower_bound: Option<i64>,
+    stop_reason: wend::StopReason,
+    runs: usize,
+    iterations: u64,
+    trace: Vec<wend::Improvement>,
+}
+
+/// One run, or `None` when the stop handle cut it short (such a run is not recorded). A problem
+/// with constraints runs the constrained search; its order is recorded with a length only when
+/// it is feasible.
 fn run_one(
     plan: &SweepPlan,
-    inst: &Instance,
+    problem: &Problem,
     spec: &RunSpec,
     machine: &str,
 ) -> Result<Option<RunRecord>, SweepError> {
+    let inst = &problem.instance;
     let failed = |message: String| SweepError::Solve {
         file: spec.file.display().to_string(),
         message,
     };
     // Known optima are of closed tours; a path has none.
     let closed = spec.ends == EndsChoice::Closed;
-    let optimum = plan
-        .known_lengths
-        .get(&spec.instance)
-        .copied()
-        .filter(|_| closed);
+    let optimum = known_length(&plan.known_lengths, &spec.file, &spec.instance).filter(|_| closed);
     let settings = Settings {
         seed: spec.seed,
         threads: Some(plan.threads_per_run),
@@ -516,12 +579,93 @@ fn run_one(
         stop: plan.stop.clone(),
         ..Hooks::default()
     };
-    let out = solve_with(inst.cost(), &settings, hooks).map_err(|e| failed(e.to_string()))?;
-    let search =
-        (out.search.as_ref()).ok_or_else(|| failed("the search reported nothing".into()))?;
+    let found = if !problem.constraints.has_schedule_rules() {
+        let out = solve_with(inst.cost(), &settings, hooks).map_err(|e| failed(e.to_string()))?;
+        let search =
+            (out.search.as_ref()).ok_or_else(|| failed("the search reported nothing".into()))?;
+        Found {
+            length: Some(out.length),
+            feasible: true,
+            objective: None,
+            order: out.tour.order().to_vec(),
+            ends: out.ends,
+            seconds: out.seconds,
+            lower_bound: None,
+            stop_reason: search.stop_reason,
+            runs: search.runs,
+            iterations: search.iterations,
+            trace: search.trace.clone(),
+        }
+    } else {
+        let out = solve_sequence(inst.cost(), &problem.constraints, &settings, None, hooks)
+            .map_err(|e| failed(e.to_string()))?;
+        Found {
+            length: out.feasible.then_some(out.length),
+            feasible: out.feasible,
+            objective: Some(out.evaluation.objective),
+            order: out.order,
+            ends: Ends::Closed,
+            seconds: out.seconds,
+            lower_bound: out.lower_bound,
+            stop_reason: out.stop_reason,
+            runs: out.runs,
+            iterations: out.iterations,
+            trace: out.trace,
+        }
+    };
     if plan.stop.is_stopped() {
         return Ok(None);
     }
+    // An infeasible order is no solution: no tour file for it.
+    let tour_file = match found.length {
+        Some(length) => Some(write_run_tour(plan, inst, spec, length, &found)?),
+        None => None,
+    };
+    Ok(Some(RunRecord {
+        instance: spec.instance.clone(),
+        file: spec.file.display().to_string(),
+        problem_type: inst.kind.keyword().to_string(),
+        ends: spec.ends.name().to_string(),
+        nodes: inst.dimension,
+        method: spec.method.label(),
+        seed: spec.seed,
+        time_limit: plan.time_limit,
+        threads: plan.threads_per_run,
+        length: found.length,
+        feasible: found.feasible,
+        objective: found.objective,
+        optimum,
+        gap_percent: optimum
+            .zip(found.length)
+            .filter(|&(o, _)| o != 0)
+            .map(|(o, l)| 100.0 * (l - o) as f64 / o as f64),
+        seconds: found.seconds,
+        time_to_best: found.trace.last().map_or(found.seconds, |t| t.seconds),
+        lower_bound: found.lower_bound,
+        stop_reason: serde_json::to_value(found.stop_reason)
+            .ok()
+            .and_then(|v| v.as_str().map(str::to_string))
+            .unwrap_or_default(),
+        runs: found.runs,
+        iterations: found.iterations,
+        trace: found.trace.iter().map(|t| (t.seconds, t.length)).collect(),
+        tour_file,
+        version: env!("CARGO_PKG_VERSION").to_string(),
+        commit: env!("WEND_GIT_COMMIT").to_string(),
+        machine: machine.to_string(),
+    }))
+}
+
+/// Writes the run's tour into the output's `tours` folder; gives its path relative to the
+/// output folder.
+fn write_run_tour(
+    plan: &SweepPlan,
+    inst: &wend_tsplib::Instance,
+    spec: &RunSpec,
+    length: i64,
+    found: &Found,
+) -> Result<String, SweepError> {
+    let closed = spec.ends == EndsChoice::Closed;
     let tour_name = format!(
         "{}{}.{}.s{}.t{}.tour",
         spec.instance,
@@ -537,51 +681,22 @@ fn run_one(
     let tour_path = plan.out.join("tours").join(&tour_name);
     let comment = tour_comment(
         &format!("{} seed {}", spec.method.label(), spec.seed),
-        out.length,
+        length,
         "",
-        out.ends,
-        out.tour.order(),
+        found.ends,
+        &found.order,
     );
     std::fs::File::create(&tour_path)
         .and_then(|f| {
             let mut w = std::io::BufWriter::new(f);
-            write_tour(&inst.name, &comment, out.tour.order(), &mut w)?;
+            write_tour(&inst.name, &comment, &found.order, &mut w)?;
             w.flush()
         })
         .map_err(|source| SweepError::Io {
             path: tour_path.display().to_string(),
             source,
         })?;
-    Ok(Some(RunRecord {
-        instance: spec.instance.clone(),
-        file: spec.file.display().to_string(),
-        problem_type: inst.kind.keyword().to_string(),
-        ends: spec.ends.name().to_string(),
-        nodes: inst.dimension,
-        method: spec.method.label(),
-        seed: spec.seed,
-        time_limit: plan.time_limit,
-        threads: plan.threads_per_run,
-        length: out.length,
-        optimum,
-        gap_percent: optimum
-            .filter(|&o| o != 0)
-            .map(|o| 100.0 * (out.length - o) as f64 / o as f64),
-        seconds: out.seconds,
-        time_to_best: search.trace.last().map_or(out.seconds, |t| t.seconds),
-        lower_bound: None,
-        stop_reason: serde_json::to_value(search.stop_reason)
-            .ok()
-            .and_then(|v| v.as_str().map(str::to_string))
-            .unwrap_or_default(),
-        runs: search.runs,
-        iterations: search.iterations,
-        trace: search.trace.iter().map(|t| (t.seconds, t.length)).collect(),
-        tour_file: Some(format!("tours/{tour_name}")),
-        version: env!("CARGO_PKG_VERSION").to_string(),
-        commit: env!("WEND_GIT_COMMIT").to_string(),
-        machine: machine.to_string(),
-    }))
+    Ok(format!("tours/{tour_name}"))
 }
 
 #[cfg(test)]
@@ -601,6 +716,7 @@ mod tests {
             jobs: 1,
             shard,
             known_lengths: BTreeMap::new(),
+            constrained: BTreeSet::new(),
             until_known: false,
             stop: StopHandle::new(),
             out: "out".into(),
@@ -637,6 +753,46 @@ mod tests {
             ),
             format!("wend {v} exact dynamic-programme length 39 proven optimal")
         );
+    }
+
+    #[test]
+    fn known_lengths_match_folder_and_name_first() {
+        let known: BTreeMap<String, i64> = [
+            ("dumas/n20w20.001".to_string(), 378),
+            ("n20w20.001".to_string(), 1),
+            ("kroA100".to_string(), 21282),
+        ]
+        .into();
+        let f = |p: &str, name: &str| known_length(&known, Path::new(p), name);
+        assert_eq!(f("sets/dumas/n20w20.001.txt", "n20w20.001"), Some(378));
+        // Another folder falls back to the plain name.
+        assert_eq!(f("sets/gendreau/n20w20.001.txt", "n20w20.001"), Some(1));
+        assert_eq!(f("instances/kroA100.tsp", "kroA100"), Some(21282));
+        assert_eq!(f("kroA100.tsp", "kroA100"), Some(21282));
+        assert_eq!(f("instances/eil51.tsp", "eil51"), None);
+    }
+
+    #[test]
+    fn constrained_files_run_only_the_plain_default_method_as_tours() {
+        let mut p = plan(None);
+        p.methods.push(Method::Lk.into());
+        p.methods.push(MethodSpec::parse("lk:nearest:5").unwrap());
+        p.ends = vec![EndsChoice::Closed, EndsChoice::Open];
+        p.constrained.insert("a/y.tsp".into());
+        let runs = plan_runs(&p);
+        let y: Vec<(String, EndsChoice)> = runs
+            .iter()
+            .filter(|r| r.instance == "y")
+            .map(|r| (r.method.label(), r.ends))
+            .collect();
+        assert_eq!(y, vec![("lk".to_string(), EndsChoice::Closed); 3]);
+        // The other files keep every method and both ends: 4 methods, 2 ends, 3 seeds.
+        assert_eq!(runs.iter().filter(|r| r.instance == "x").count(), 4 * 2 * 3);
+        assert!(
+            constrained_refusal(&Method::TwoOpt.into(), EndsChoice::Closed)
+                .is_some_and(|w| w.contains("2opt"))
+        );
+        assert!(constrained_refusal(&Method::Lk.into(), EndsChoice::Open).is_some());
     }
 
     #[test]

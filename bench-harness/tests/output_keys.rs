@@ -164,3 +164,38 @@ fn bench_record_and_csv_keys_are_the_listed_keys() {
         .collect();
     check("bench runs.csv", &header, "runs.csv");
 }
+
+#[test]
+fn bench_constrained_record_and_csv_keys_are_the_listed_keys() {
+    let tmp = tempfile::tempdir().unwrap();
+    let out = tmp.path().display().to_string();
+    let file = instance("tsptw/n20w20.001.txt");
+    wend(&[
+        "bench",
+        "--instances",
+        &file,
+        "--runs",
+        "1",
+        "--iterations",
+        "50",
+        "--time-limit",
+        "60",
+        "--out",
+        &out,
+    ]);
+    let runs = std::fs::read_to_string(tmp.path().join("runs.jsonl")).unwrap();
+    let lines: Vec<&str> = runs.lines().collect();
+    assert_eq!(lines.len(), 1, "{runs}");
+    let keys = json_keys(lines[0]);
+    assert!(keys.contains("objective"), "{keys:?}");
+    check("bench record", &keys, "runs.jsonl of a time-window run");
+    let csv = std::fs::read_to_string(tmp.path().join("runs.csv")).unwrap();
+    let header: BTreeSet<String> = csv
+        .lines()
+        .next()
+        .unwrap()
+        .split(',')
+        .map(str::to_string)
+        .collect();
+    check("bench runs.csv", &header, "runs.csv of a time-window run");
+}

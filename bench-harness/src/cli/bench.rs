@@ -4,13 +4,13 @@ use super::CliError;
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use serde::Deserialize;
-use std::collections::{BTreeMap, HashMap};
+use std::collections::{BTreeMap, BTreeSet, HashMap};
 use std::path::{Path, PathBuf};
 use wend::CandidateSource;
 use wend_bench::record::{read_runs, RunKey, RunRecord};
-use wend_bench::runner::{run_sweep, SweepPlan};
+use wend_bench::runner::{constrained_refusal, run_sweep, SweepPlan};
 use wend_bench::runner::{EndsChoice, MethodSpec};
-use wend_tsplib::{read_instance, read_optima, read_tour};
+use wend_tsplib::{read_instance, read_optima, read_problem, read_tour};
 
 #[derive(Args, Debug)]
 pub struct BenchArgs {
@@ -18,7 +18,9 @@ pub struct BenchArgs {
     /// command line override it.
     #[arg(long, value_name = "FILE")]
     suite: Option<PathBuf>,
-    /// Instance files, folders (every .tsp and .atsp inside) or glob patterns.
+    /// Instance files, folders (every .tsp and .atsp inside, and every other file in the
+    /// time-window layout) or glob patterns. Problems with time windows run only under the
+    /// default method, as closed routes.
     #[arg(long, num_args = 1.., value_name = "PATH")]
     instances: Vec<String>,
     /// Methods to run (see `wend solve --list-methods`), each optionally with the source and
@@ -63,8 +65,8 @@ pub struct BenchArgs {
     /// Run only the K-th of N fixed slices of the run list (for several machines).
     #[arg(long, value_name = "K/N")]
     shard: Option<String>,
-    /// File of known optimal lengths (`name : length` lines). Default: `optima.txt` beside
-    /// each instance.
+    /// File of known optimal lengths (`name : length` lines; a name may be `folder/name`, the
+    /// instance file's folder and stem). Default: `optima.txt` beside each instance.
     #[arg(long, alias = "optima", value_name = "FILE")]
     known_lengths: Option<PathBuf>,
     /// End each run when it reaches the known optimal length (the result is the same, the
@@ -240,6 +242,8 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
         .or_else(|| suite.out.as_deref().map(rel))
         .ok_or_else(|| CliError::Input("no output folder: give --out DIR".into()))?;
 
+    // (file, whether it was found in a folder without a problem extension: such a file is
+    // left out quietly when it is not a time-window problem).
     let mut files = Vec::new();
     for (shown, p) in &patterns {
         files.extend(expand(shown, p)?);
@@ -251,14 +255,32 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
     // Every file is read once up front: a file that cannot be solved (a refused section, a
     // syntax error) is reported and left out, instead of stopping the sweep halfway.
     let mut kept = Vec::new();
-    for f in files {
-        match read_instance(&f) {
-            Ok(inst) => {
-                let n = inst.dimension;
-                if min_nodes.is_none_or(|m| n >= m) && max_nodes.is_none_or(|m| n <= m) {
-                    kept.push(f);
+    let mut constrained = BTreeSet::new();
+    for (f, guessed) in files {
+        match read_problem(&f) {
+            Ok(problem) => {
+                let (inst, c) = (&problem.instance, &problem.constraints);
+                // Fixed edges alone go to the tour methods, which keep them.
+                let plain = !c.has_schedule_rules();
+                if guessed && plain {
+                    // A TSPLIB file without a problem extension in a folder: left out as before.
+                    continue;
                 }
+                let n = inst.dimension;
+                if let Err(e) = c.check(n) {
+                    eprintln!("wend: skipped: {}: {e}", f.display());
+                    continue;
+                }
+                if !(min_nodes.is_none_or(|m| n >= m) && max_nodes.is_none_or(|m| n <= m)) {
+                    continue;
+                }
+                if !plain {
+                    constrained_skips(&f, &methods, &ends);
+                    constrained.insert(f.clone());
+                }
+                kept.push(f);
             }
+            Err(_) if guessed => {}
             Err(e) => eprintln!("wend: skipped: {e}"),
         }
     }
@@ -302,6 +324,7 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
         jobs,
         shard,
         known_lengths,
+        constrained,
         until_known: a.until_known || suite.until_known.unwrap_or(false),
         out: out.clone(),
         stop: super::interrupt::handle(),
@@ -346,6 +369,24 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
     report(std::slice::from_ref(&out), &out)
 }
 
+/// Says on stderr which runs of a problem with constraints the sweep leaves out, and why.
+fn constrained_skips(file: &Path, methods: &[MethodSpec], ends: &[EndsChoice]) {
+    let closed = [EndsChoice::Closed];
+    let ends = if ends.is_empty() { &closed[..] } else { ends };
+    for &e in ends {
+        for m in methods {
+            if let Some(why) = constrained_refusal(m, e) {
+                eprintln!(
+                    "wend: skipped: {} under {} ({}): {why}",
+                    file.display(),
+                    m.label(),
+                    e.name()
+                );
+            }
+        }
+    }
+}
+
 fn one_line(s: &str) -> String {
     s.split_whitespace().collect::<Vec<_>>().join(" ")
 }
@@ -363,15 +404,21 @@ fn parse_shard(s: &str) -> Result<(usize, usize), CliError> {
     Ok((k, n))
 }
 
-/// A file, every .tsp/.atsp file in a folder, or the files a glob pattern matches.
-fn expand(shown: &str, p: &Path) -> Result<Vec<PathBuf>, CliError> {
+/// A file, every file of a folder, or the files a glob pattern matches; each with whether it is
+/// only a guess: a file of a folder without the .tsp or .atsp extension, kept later only if it
+/// reads as a time-window problem (told by its content).
+fn expand(shown: &str, p: &Path) -> Result<Vec<(PathBuf, bool)>, CliError> {
     let is_problem =
         |p: &Path| matches!(p.extension().and_then(|e| e.to_str()), Some("tsp" | "atsp"));
     if p.is_dir() {
-        let mut v: Vec<PathBuf> = std::fs::read_dir(p)
+        let mut v: Vec<(PathBuf, bool)> = std::fs::read_dir(p)
             .map_err(|e| CliError::Input(format!("{shown}: cannot read the folder: {e}")))?
             .filter_map(|e| e.ok().map(|e| e.path()))
-            .filter(|p| p.is_file() && is_problem(p))
+            .filter(|p| p.is_file())
+            .map(|p| {
+                let guessed = !is_problem(&p);
+                (p, guessed)
+            })
             .collect();
         v.sort();
         if v.is_empty() {
@@ -382,13 +429,14 @@ fn expand(shown: &str, p: &Path) -> Result<Vec<PathBuf>, CliError> {
         return Ok(v);
     }
     if p.is_file() {
-        return Ok(vec![p.to_path_buf()]);
+        return Ok(vec![(p.to_path_buf(), false)]);
     }
     let pattern = p.to_string_lossy();
-    let mut v: Vec<PathBuf> = glob::glob(&pattern)
+    let mut v: Vec<(PathBuf, bool)> = glob::glob(&pattern)
         .map_err(|e| CliError::Input(format!("{shown}: not a file, folder or valid pattern: {e}")))?
         .filter_map(Result::ok)
         .filter(|p| p.is_file())
+        .map(|p| (p, false))
         .collect();
     v.sort();
     if v.is_empty() {

@@ -185,7 +185,10 @@ fn title(run: &RunRecord) -> String {
     };
     format!(
         "{}: {}, seed {}, length {}{gap}",
-        run.instance, run.method, run.seed, run.length
+        run.instance,
+        run.method,
+        run.seed,
+        run.length.map_or("–".into(), |l| l.to_string())
     )
 }
 

@@ -146,7 +146,7 @@ pub fn write_report(
 /// The shortest closed tour of each instance (paths are not drawn).
 fn best_runs(runs: &[RunRecord]) -> BTreeMap<&str, &RunRecord> {
     let mut best: BTreeMap<&str, &RunRecord> = BTreeMap::new();
-    for r in runs.iter().filter(|r| r.is_closed()) {
+    for r in runs.iter().filter(|r| r.is_closed() && r.length.is_some()) {
         let better = match best.get(r.instance.as_str()) {
             None => true,
             Some(b) => {
@@ -167,13 +167,15 @@ fn best_runs(runs: &[RunRecord]) -> BTreeMap<&str, &RunRecord> {
 
 /// Percent above the known optimum, from the length and optimum themselves rather than the
 /// stored `gap_percent`, so that every table and figure agrees with the lengths it shows.
-/// None without an optimum, or with one that is not positive (a percentage of it means nothing).
+/// None without an optimum, with one that is not positive (a percentage of it means nothing), or
+/// without a length (a run under constraints that found no feasible order).
 pub fn gap_percent(run: &RunRecord) -> Option<f64> {
     let o = run.optimum?;
+    let l = run.length?;
     if o <= 0 {
         return None;
     }
-    let g = 100.0 * (run.length as f64 - o as f64) / o as f64;
+    let g = 100.0 * (l as f64 - o as f64) / o as f64;
     g.is_finite().then_some(g)
 }
 

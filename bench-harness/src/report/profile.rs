@@ -57,10 +57,13 @@ pub struct PerformanceProfile {
 /// every method tied); `ρ_m` reaches 1 at the method's worst ratio.
 ///
 /// A ratio needs a positive best length: where the best is 0 or below, the methods that match it
-/// get ratio 1 and the others never reach any τ (they count as failures on that problem).
+/// get ratio 1 and the others never reach any τ (they count as failures on that problem). A
+/// method whose runs on a problem found no feasible order (under constraints) fails there too.
 pub fn performance_profile(runs: &[RunRecord]) -> PerformanceProfile {
     let methods: BTreeSet<&str> = runs.iter().map(|r| r.method.as_str()).collect();
-    let mut problems: BTreeMap<(String, u64, u64), BTreeMap<&str, i64>> = BTreeMap::new();
+    // A method's best length on a problem; None when none of its runs there found a feasible
+    // order (a failure on that problem).
+    let mut problems: BTreeMap<(String, u64, u64), BTreeMap<&str, Option<i64>>> = BTreeMap::new();
     for r in runs {
         let k = r.key();
         let best = problems
@@ -68,14 +71,21 @@ pub fn performance_profile(runs: &[RunRecord]) -> PerformanceProfile {
             .or_default()
             .entry(&r.method)
             .or_insert(r.length);
-        *best = (*best).min(r.length);
+        *best = match (*best, r.length) {
+            (Some(a), Some(b)) => Some(a.min(b)),
+            (a, b) => a.or(b),
+        };
     }
     problems.retain(|_, by_method| by_method.len() == methods.len());
 
     let mut ratios: BTreeMap<&str, Vec<f64>> = methods.iter().map(|m| (*m, Vec::new())).collect();
     for by_method in problems.values() {
-        let best = by_method.values().copied().min().unwrap_or(0);
+        let best = by_method.values().flatten().copied().min().unwrap_or(0);
         for (m, &l) in by_method {
+            let Some(l) = l else {
+                ratios.entry(m).or_default().push(f64::INFINITY);
+                continue;
+            };
             let r = if l == best {
                 1.0
             } else if best > 0 {
@@ -216,6 +226,35 @@ mod tests {
 
     fn run(instance: &str, method: &str, seed: u64, length: i64) -> RunRecord {
         sample(instance, method, seed, length)
+    }
+
+    /// Two problems, two methods; B found no feasible order on p1, and of two runs of A on p2
+    /// one found none (the method is taken at its best run):
+    /// p1: A 100, B none → r_A 1, B fails; p2: A none and 150, B 100 → r_A 1.5, r_B 1.
+    /// So ρ_A = 1/2 on [1, 1.5), 1 from 1.5; ρ_B = 1/2 from 1 on, never more.
+    #[test]
+    fn a_method_without_a_feasible_order_fails_the_problem() {
+        let none = |instance: &str, method: &str, seed: u64| {
+            let mut r = run(instance, method, seed, 0);
+            r.length = None;
+            r.feasible = false;
+            r
+        };
+        let runs = vec![
+            run("p1", "A", 1, 100),
+            none("p1", "B", 1),
+            none("p2", "A", 1),
+            run("p2", "A", 1, 150),
+            run("p2", "B", 1, 100),
+        ];
+        let p = performance_profile(&runs);
+        assert_eq!(p.problems, 2);
+        let (a, b) = (&p.curves[0], &p.curves[1]);
+        assert_eq!(a.rho(1.0), 0.5);
+        assert_eq!(a.rho(1.49), 0.5);
+        assert_eq!(a.rho(1.5), 1.0);
+        assert_eq!(b.rho(1.0), 0.5);
+        assert_eq!(b.rho(100.0), 0.5);
     }
 
     /// Three problems, two methods:

@@ -5,7 +5,7 @@ use crate::record::RunRecord;
 use std::path::Path;
 
 /// Column names, in order; they follow the JSON field names so both files read the same.
-const HEADER: [&str; 23] = [
+const HEADER: [&str; 25] = [
     "instance",
     "file",
     "type",
@@ -29,6 +29,8 @@ const HEADER: [&str; 23] = [
     "commit",
     "machine",
     "ends",
+    "feasible",
+    "objective",
 ];
 
 /// Writes the runs sorted by (instance, method, seed, time limit); runs equal in all four keep
@@ -55,7 +57,7 @@ pub(crate) fn write(runs: &[RunRecord], path: &Path) -> Result<(), ReportError> 
     })
 }
 
-fn row(r: &RunRecord) -> [String; 23] {
+fn row(r: &RunRecord) -> [String; 25] {
     [
         r.instance.clone(),
         r.file.clone(),
@@ -65,7 +67,7 @@ fn row(r: &RunRecord) -> [String; 23] {
         r.seed.to_string(),
         float(r.time_limit),
         r.threads.to_string(),
-        r.length.to_string(),
+        opt(r.length),
         opt(r.optimum),
         r.gap_percent.map(float).unwrap_or_default(),
         float(r.seconds),
@@ -80,6 +82,8 @@ fn row(r: &RunRecord) -> [String; 23] {
         r.commit.clone(),
         r.machine.clone(),
         r.ends.clone(),
+        r.feasible.to_string(),
+        opt(r.objective),
     ]
 }
 

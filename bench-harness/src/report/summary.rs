@@ -43,11 +43,14 @@ impl SizeClass {
 }
 
 /// Figures of a group of runs. Gap figures cover only the runs with a known (positive)
-/// optimum; times cover every run.
+/// optimum and a length (a run under constraints that found no feasible order has none); times
+/// cover every run.
 #[derive(Clone, Debug, PartialEq)]
 pub struct GroupStats {
     /// Runs in the group.
     pub runs: usize,
+    /// Runs whose result meets every constraint (all of them for problems without constraints).
+    pub feasible: usize,
     /// Runs whose instance has a known optimum: the ones the gap figures are over.
     pub with_optimum: usize,
     /// Mean gap to the optimum, percent.
@@ -77,13 +80,14 @@ impl GroupStats {
         };
         GroupStats {
             runs: runs.len(),
+            feasible: runs.iter().filter(|r| r.feasible).count(),
             with_optimum: gaps.len(),
             mean_gap: mean(gaps.iter().copied()),
             median_gap,
             worst_gap: gaps.last().copied(),
             at_optimum: runs
                 .iter()
-                .filter(|r| gap_percent(r).is_some() && r.optimum == Some(r.length))
+                .filter(|r| gap_percent(r).is_some() && r.optimum == r.length)
                 .count(),
             mean_seconds: mean(runs.iter().map(|r| r.seconds)),
             mean_time_to_best: mean(runs.iter().map(|r| r.time_to_best)),
@@ -93,6 +97,11 @@ impl GroupStats {
     /// Share of the runs with a known optimum that reached it, from 0 to 1.
     pub fn share_at_optimum(&self) -> Option<f64> {
         (self.with_optimum > 0).then(|| self.at_optimum as f64 / self.with_optimum as f64)
+    }
+
+    /// Share of the runs whose result is feasible, from 0 to 1: the feasibility rate.
+    pub fn feasible_rate(&self) -> Option<f64> {
+        (self.runs > 0).then(|| self.feasible as f64 / self.runs as f64)
     }
 }
 
@@ -107,8 +116,11 @@ fn mean(values: impl Iterator<Item = f64>) -> Option<f64> {
 /// One row of the table by method and size class.
 #[derive(Clone, Debug, PartialEq)]
 pub struct GroupRow {
-    /// Kind of problem ([`RunRecord::kind`]): `TSP`, `ATSP`, or either with a kind of path.
+    /// Kind of problem ([`RunRecord::kind`]): `TSP`, `ATSP`, or either with a kind of path or
+    /// with constraints.
     pub problem_type: String,
+    /// Whether the runs are of problems with constraints ([`RunRecord::is_constrained`]).
+    pub constrained: bool,
     /// Method.
     pub method: String,
     /// Size class.
@@ -134,6 +146,7 @@ pub fn method_size_table(runs: &[RunRecord]) -> Vec<GroupRow> {
         .into_iter()
         .map(|((_, t, m, size), rs)| GroupRow {
             problem_type: t,
+            constrained: rs[0].is_constrained(),
             method: m.to_string(),
             size,
             stats: GroupStats::of(rs),
@@ -149,15 +162,18 @@ fn type_rank(t: &str) -> u8 {
     }
 }
 
-/// Results of one method on one instance under one time limit, over its seeds.
+/// Results of one method on one instance under one time limit, over its seeds. Lengths are
+/// over the runs that have one (under constraints, the feasible runs).
 #[derive(Clone, Debug, PartialEq)]
 pub struct MethodResult {
     /// Runs (seeds).
     pub runs: usize,
-    /// Shortest length.
-    pub best_length: i64,
-    /// Mean length.
-    pub mean_length: f64,
+    /// Runs with a feasible result (all of them without constraints).
+    pub feasible: usize,
+    /// Shortest length; None when no run has one.
+    pub best_length: Option<i64>,
+    /// Mean length; None when no run has one.
+    pub mean_length: Option<f64>,
     /// Gap of the shortest length, percent.
     pub best_gap: Option<f64>,
     /// Mean gap, percent.
@@ -202,12 +218,16 @@ pub fn instance_table(runs: &[RunRecord]) -> Vec<InstanceRow> {
             let methods = by_method
                 .into_iter()
                 .map(|(m, rs)| {
-                    let best = rs.iter().min_by_key(|r| r.length).copied();
+                    let best = rs
+                        .iter()
+                        .filter(|r| r.length.is_some())
+                        .min_by_key(|r| r.length)
+                        .copied();
                     let result = MethodResult {
                         runs: rs.len(),
-                        best_length: best.map_or(0, |r| r.length),
-                        mean_length: rs.iter().map(|r| r.length as f64).sum::<f64>()
-                            / rs.len() as f64,
+                        feasible: rs.iter().filter(|r| r.feasible).count(),
+                        best_length: best.and_then(|r| r.length),
+                        mean_length: mean(rs.iter().filter_map(|r| r.length.map(|l| l as f64))),
                         best_gap: best.and_then(gap_percent),
                         mean_gap: mean(rs.iter().filter_map(|r| gap_percent(r))),
                     };
@@ -234,7 +254,7 @@ pub fn find_errors(runs: &[RunRecord]) -> Vec<String> {
         errors.push(format!(
             "{}: length {} is below the optimum {}: a distance bug or a wrong optimum",
             describe(&r.key()),
-            r.length,
+            r.length.unwrap_or_default(),
             r.optimum.unwrap_or_default()
         ));
     }
@@ -302,7 +322,9 @@ pub(crate) fn render(runs: &[RunRecord], errors: &[String], figures: &Figures) -
         }
         md.push('\n');
     }
-    by_method_and_size(&mut md, runs);
+    let rows = method_size_table(runs);
+    by_method_and_size(&mut md, &rows);
+    constrained(&mut md, &rows);
     by_instance(&mut md, runs);
     figure_list(&mut md, figures);
     md
@@ -346,8 +368,11 @@ fn header(md: &mut String, runs: &[RunRecord]) {
     md.push('\n');
 }
 
-fn by_method_and_size(md: &mut String, runs: &[RunRecord]) {
-    let rows = method_size_table(runs);
+fn by_method_and_size(md: &mut String, rows: &[GroupRow]) {
+    let rows: Vec<&GroupRow> = rows.iter().filter(|r| !r.constrained).collect();
+    if rows.is_empty() {
+        return;
+    }
     let _ = writeln!(md, "## By method and size\n");
     let _ = writeln!(
         md,
@@ -355,29 +380,65 @@ fn by_method_and_size(md: &mut String, runs: &[RunRecord]) {
          in *runs* but not in the gap columns or *at optimum*; *with opt.* says how many runs \
          those columns are over. Times are means over all runs of the group.\n"
     );
+    group_tables(md, &rows, false);
+}
+
+/// The runs on problems with constraints: the same figures as by method and size, with the
+/// feasibility rate.
+fn constrained(md: &mut String, rows: &[GroupRow]) {
+    let rows: Vec<&GroupRow> = rows.iter().filter(|r| r.constrained).collect();
+    if rows.is_empty() {
+        return;
+    }
+    let _ = writeln!(md, "## Problems with constraints\n");
+    let _ = writeln!(
+        md,
+        "Runs on problems with time windows or other constraints, by method and size. \
+         *feasible*: the share of runs whose result meets every constraint (the feasibility \
+         rate). A run that found no feasible order has no length: it counts in *runs* and \
+         against *feasible*, never in the gap columns or *at optimum*, which are over the \
+         feasible runs with a known optimum (*with opt.*); the length is the travel cost. \
+         Times are means over all runs of the group.\n"
+    );
+    group_tables(md, &rows, true);
+}
+
+/// `a% (k/n)`, or a dash without a share.
+fn share(share: Option<f64>, k: usize, n: usize) -> String {
+    match share {
+        Some(share) => format!("{:.0}% ({k}/{n})", 100.0 * share),
+        None => "–".into(),
+    }
+}
+
+/// One table per kind of problem; with `feasible`, a column of the feasibility rate after
+/// *runs*.
+fn group_tables(md: &mut String, rows: &[&GroupRow], feasible: bool) {
     for (i, row) in rows.iter().enumerate() {
         if i == 0 || rows[i - 1].problem_type != row.problem_type {
             let _ = writeln!(md, "### {}\n", esc(&row.problem_type));
+            let (head, rule) = if feasible {
+                (" feasible |", "--:|")
+            } else {
+                ("", "")
+            };
             let _ = writeln!(
                 md,
-                "| method | nodes | runs | with opt. | mean gap % | median gap % | worst gap % \
-                 | at optimum | mean s | mean s to best |"
+                "| method | nodes | runs |{head} with opt. | mean gap % | median gap % \
+                 | worst gap % | at optimum | mean s | mean s to best |"
             );
-            let _ = writeln!(md, "|---|---|--:|--:|--:|--:|--:|--:|--:|--:|");
+            let _ = writeln!(md, "|---|---|--:|{rule}--:|--:|--:|--:|--:|--:|--:|");
         }
         let s = &row.stats;
-        let at_opt = match s.share_at_optimum() {
-            Some(share) => format!(
-                "{:.0}% ({}/{})",
-                100.0 * share,
-                s.at_optimum,
-                s.with_optimum
-            ),
-            None => "–".into(),
+        let at_opt = share(s.share_at_optimum(), s.at_optimum, s.with_optimum);
+        let feasible_cell = if feasible {
+            format!(" {} |", share(s.feasible_rate(), s.feasible, s.runs))
+        } else {
+            String::new()
         };
         let _ = writeln!(
             md,
-            "| {} | {} | {} | {} | {} | {} | {} | {} | {} | {} |",
+            "| {} | {} | {} |{feasible_cell} {} | {} | {} | {} | {} | {} | {} |",
             esc(&row.method),
             row.size.label(),
             s.runs,
@@ -407,7 +468,9 @@ fn by_instance(md: &mut String, runs: &[RunRecord]) {
         md,
         "Per method, over its seeds: *best* is the shortest tour, *mean* the mean length; the gap \
          to the optimum follows in brackets when the optimum is known. – : the method has no run \
-         there.\n"
+         there. Under constraints both are over the feasible runs, and *mean* ends with the \
+         number of feasible runs (`3/5 feasible`) when some run found no feasible order; \
+         *infeasible*: no run did.\n"
     );
     let mut head = String::from("| instance | type | nodes | optimum | limit s |");
     let mut rule = String::from("|---|---|--:|--:|--:|");
@@ -429,16 +492,23 @@ fn by_instance(md: &mut String, runs: &[RunRecord]) {
         );
         for m in &methods {
             match row.methods.get(*m) {
-                Some(r) => {
-                    let _ = write!(
-                        md,
-                        " {}{} | {}{} |",
-                        r.best_length,
-                        bracket_gap(r.best_gap),
-                        fixed(Some(r.mean_length), 1),
-                        bracket_gap(r.mean_gap),
-                    );
-                }
+                Some(r) => match r.best_length {
+                    Some(best) => {
+                        let feasible = if r.feasible < r.runs {
+                            format!(" {}/{} feasible", r.feasible, r.runs)
+                        } else {
+                            String::new()
+                        };
+                        let _ = write!(
+                            md,
+                            " {best}{} | {}{}{feasible} |",
+                            bracket_gap(r.best_gap),
+                            fixed(r.mean_length, 1),
+                            bracket_gap(r.mean_gap),
+                        );
+                    }
+                    None => md.push_str(" infeasible | infeasible |"),
+                },
                 None => md.push_str(" – | – |"),
             }
         }
@@ -642,8 +712,8 @@ mod tests {
         let rows = instance_table(&runs);
         assert_eq!(rows.len(), 1);
         let x = &rows[0].methods["x"];
-        assert_eq!((x.runs, x.best_length), (2, 1000));
-        assert!((x.mean_length - 1015.0).abs() < 1e-9);
+        assert_eq!((x.runs, x.best_length), (2, Some(1000)));
+        assert!(close(x.mean_length, 1015.0));
         assert!(close(x.best_gap, 0.0));
         assert!(close(x.mean_gap, 1.5));
         assert!(close(rows[0].methods["y"].mean_gap, 5.0));

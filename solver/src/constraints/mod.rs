@@ -144,6 +144,16 @@ impl Constraints {
         self.windows.len()
     }
 
+    /// True when something beyond fixed edges constrains the order: a window, a service
+    /// duration, an optional stop or a precedence pair. Without any, a tour problem with fixed
+    /// edges is solved by the tour methods, which keep fixed edges themselves.
+    pub fn has_schedule_rules(&self) -> bool {
+        self.windows.iter().any(|w| !w.is_empty())
+            || self.service.iter().any(|&s| s != 0)
+            || self.penalty.iter().any(Option::is_some)
+            || !self.precedence.is_empty()
+    }
+
     /// True when nothing constrains the order beyond a plain tour from the depot: no window,
     /// service, optional stop, precedence or fixed edge.
     pub fn is_unconstrained(&self) -> bool {
