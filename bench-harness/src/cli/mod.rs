@@ -34,9 +34,11 @@ pub struct Args {
 
 #[derive(Subcommand, Debug)]
 enum Command {
-    /// Find a short tour through a TSPLIB instance.
+    /// Find a short tour through a TSPLIB instance, or an order meeting time windows,
+    /// precedence and other constraints (a time-window file or --constraints FILE.csv).
     Solve(solve::SolveArgs),
-    /// Compute the length of a TOUR file on an instance, exactly as TSPLIB defines it.
+    /// Compute the length of a TOUR file on an instance, exactly as TSPLIB defines it; under
+    /// constraints, its schedule and every constraint it breaks.
     Measure(measure::MeasureArgs),
     /// Solve the built-in demo instances and compare with their published optima.
     Demo(demo::DemoArgs),
