@@ -199,3 +199,106 @@ fn bench_constrained_record_and_csv_keys_are_the_listed_keys() {
         .collect();
     check("bench runs.csv", &header, "runs.csv of a time-window run");
 }
+
+/// The standard output of a run that may end with exit code 3 (an infeasible order).
+fn wend_3(args: &[&str]) -> String {
+    let o = Command::new(env!("CARGO_BIN_EXE_wend"))
+        .args(args)
+        .output()
+        .expect("the wend binary runs");
+    assert!(
+        matches!(o.status.code(), Some(0 | 3)),
+        "{args:?}: {}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    String::from_utf8(o.stdout).unwrap()
+}
+
+/// Checks the violations and schedule rows of a constrained JSON object; returns how many
+/// violations it had.
+fn check_parts(v: &serde_json::Value, what: &str) -> usize {
+    let violations = v["violations"].as_array().unwrap();
+    for x in violations {
+        let keys = x.as_object().unwrap().keys().cloned().collect();
+        check("violations", &keys, &format!("{what}: a violation"));
+    }
+    let rows = v["schedule"].as_array().unwrap();
+    assert!(!rows.is_empty(), "{what}: no schedule");
+    for row in rows {
+        let keys = row.as_object().unwrap().keys().cloned().collect();
+        check(
+            "solve --schedule",
+            &keys,
+            &format!("{what}: a schedule row"),
+        );
+    }
+    violations.len()
+}
+
+#[test]
+fn constrained_solve_schedule_and_measure_keys_are_the_listed_keys() {
+    let tmp = tempfile::tempdir().unwrap();
+    let file = instance("tsptw/n20w20.001.txt");
+    let schedule = tmp.path().join("s.csv").display().to_string();
+    let tour = tmp.path().join("t.tour").display().to_string();
+    let args = [
+        "solve",
+        &file,
+        "--seed",
+        "1",
+        "--runs",
+        "1",
+        "--json",
+        "--schedule",
+        &schedule,
+        "--tour-out",
+        &tour,
+    ];
+    let text = wend(&args);
+    check(
+        "solve under constraints",
+        &json_keys(&text),
+        "wend solve --json on a time-window file",
+    );
+    let v: serde_json::Value = serde_json::from_str(text.trim()).unwrap();
+    check_parts(&v, "solve");
+    let csv = std::fs::read_to_string(&schedule).unwrap();
+    let header = csv.lines().next().unwrap().split(',').map(str::to_string);
+    check("solve --schedule", &header.collect(), "the schedule CSV");
+    let exact = wend(&["solve", &file, "--exact", "--json"]);
+    check(
+        "solve under constraints",
+        &json_keys(&exact),
+        "wend solve --exact --json on a time-window file",
+    );
+
+    // A closed tour in the wrong direction breaks windows: the violations have their keys.
+    let measured = wend(&["measure", &file, &tour, "--json"]);
+    check(
+        "measure under constraints",
+        &json_keys(&measured),
+        "wend measure --json on a time-window file",
+    );
+    let body = std::fs::read_to_string(&tour).unwrap();
+    let mut nodes: Vec<&str> = body
+        .lines()
+        .skip_while(|l| *l != "TOUR_SECTION")
+        .skip(1)
+        .take_while(|l| *l != "-1")
+        .collect();
+    nodes[1..].reverse();
+    let reversed = tmp.path().join("r.tour");
+    std::fs::write(
+        &reversed,
+        format!("TYPE : TOUR\nTOUR_SECTION\n{}\n-1\nEOF\n", nodes.join("\n")),
+    )
+    .unwrap();
+    let text = wend_3(&["measure", &file, reversed.to_str().unwrap(), "--json"]);
+    check(
+        "measure under constraints",
+        &json_keys(&text),
+        "wend measure --json, a tour that breaks windows",
+    );
+    let v: serde_json::Value = serde_json::from_str(text.trim()).unwrap();
+    assert!(check_parts(&v, "measure") > 0, "{text}");
+}

@@ -1,24 +1,32 @@
 //! `wend measure`: the exact length of a given tour.
 
-use super::{load, CliError};
+use super::{sequence, CliError};
 use clap::Args;
 use serde_json::json;
 use std::path::{Path, PathBuf};
 use wend_tsplib::{TourFile, TsplibError};
 
 #[derive(Args, Debug)]
+#[command(after_help = sequence::EXIT_CODES)]
 pub struct MeasureArgs {
-    /// TSPLIB instance file.
+    /// TSPLIB instance file, or a time-window file in the plain layout.
     instance: PathBuf,
-    /// TSPLIB TOUR file for that instance.
+    /// TSPLIB TOUR file for that instance. Under constraints it may leave out optional stops,
+    /// and a closed tour may start anywhere.
     tour: PathBuf,
     /// Print one JSON object instead of a line of text.
     #[arg(long)]
     json: bool,
+    #[command(flatten)]
+    constraints: sequence::ConstraintArgs,
 }
 
 pub fn run(a: MeasureArgs) -> Result<(), CliError> {
-    let inst = load(&a.instance)?;
+    let problem = wend_tsplib::read_problem(&a.instance)?;
+    if let Some(c) = sequence::constraints_for(&problem, &a.constraints, &a.instance, false)? {
+        return sequence::measure(&problem.instance, &c, &a.tour, a.json);
+    }
+    let inst = problem.instance;
     let tf = wend_tsplib::read_tour(&a.tour)?;
     check_fit(&tf, &a.tour, &inst.name, inst.dimension)?;
     let tour = wend::Tour::new(tf.nodes, inst.dimension).map_err(|e| {
@@ -64,6 +72,20 @@ fn check_fit(tf: &TourFile, tour: &Path, instance: &str, n: usize) -> Result<(),
             ));
         }
     }
+    check_nodes(tf, tour, instance, n)
+}
+
+/// Checks that every node of a tour file is a node of the instance, pointing at the first line
+/// naming one it does not have.
+pub(super) fn check_nodes(
+    tf: &TourFile,
+    tour: &Path,
+    instance: &str,
+    n: usize,
+) -> Result<(), CliError> {
+    let at = |line: usize, message: String| {
+        CliError::Input(TsplibError::new(&tour.display().to_string(), line, message).to_string())
+    };
     if let Some((k, &node)) = tf.nodes.iter().enumerate().find(|(_, &v)| v >= n) {
         return Err(at(
             tf.node_lines.get(k).copied().unwrap_or(0),

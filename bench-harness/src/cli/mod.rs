@@ -7,6 +7,7 @@ mod generate;
 pub(crate) mod interrupt;
 mod measure;
 mod progress;
+mod sequence;
 mod sky;
 mod solve;
 
@@ -33,9 +34,11 @@ pub struct Args {
 
 #[derive(Subcommand, Debug)]
 enum Command {
-    /// Find a short tour through a TSPLIB instance.
+    /// Find a short tour through a TSPLIB instance, or an order meeting time windows,
+    /// precedence and other constraints (a time-window file or --constraints FILE.csv).
     Solve(solve::SolveArgs),
-    /// Compute the length of a TOUR file on an instance, exactly as TSPLIB defines it.
+    /// Compute the length of a TOUR file on an instance, exactly as TSPLIB defines it; under
+    /// constraints, its schedule and every constraint it breaks.
     Measure(measure::MeasureArgs),
     /// Solve the built-in demo instances and compare with their published optima.
     Demo(demo::DemoArgs),
@@ -100,20 +103,28 @@ pub fn run(args: Args) -> Result<(), CliError> {
     }
 }
 
-/// A failure, printed as one line; bad input exits with 2, other failures with 1.
+/// A failure, printed as one line; bad input exits with 2, other failures with 1, an order
+/// that breaks its constraints with 3.
 #[derive(Debug)]
 pub enum CliError {
     /// The user's input (a file, an option) is wrong.
     Input(String),
     /// Something went wrong that is not the input's fault (writing output, say).
     Failure(String),
+    /// The command did its work, but the order it found or measured breaks a constraint (its
+    /// output is already printed).
+    Infeasible(String),
 }
+
+/// Exit code of a command whose order breaks a constraint.
+pub const INFEASIBLE_EXIT_CODE: u8 = 3;
 
 impl CliError {
     pub fn exit_code(&self) -> u8 {
         match self {
             CliError::Input(_) => 2,
             CliError::Failure(_) => 1,
+            CliError::Infeasible(_) => INFEASIBLE_EXIT_CODE,
         }
     }
 }
@@ -121,7 +132,7 @@ impl CliError {
 impl fmt::Display for CliError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            CliError::Input(m) | CliError::Failure(m) => f.write_str(m),
+            CliError::Input(m) | CliError::Failure(m) | CliError::Infeasible(m) => f.write_str(m),
         }
     }
 }

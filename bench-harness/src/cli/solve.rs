@@ -1,6 +1,6 @@
 //! `wend solve`.
 
-use super::{load, progress::Progress, write_file, CliError};
+use super::{progress::Progress, sequence, write_file, CliError};
 use clap::Args;
 use serde_json::json;
 use std::io::IsTerminal;
@@ -12,8 +12,10 @@ use wend::{
 };
 
 #[derive(Args, Debug)]
+#[command(after_help = sequence::EXIT_CODES)]
 pub struct SolveArgs {
-    /// TSPLIB instance file (TYPE TSP or ATSP).
+    /// TSPLIB instance file (TYPE TSP or ATSP), or a time-window file in the plain layout
+    /// (node count, travel-time matrix, one window per node).
     #[arg(required = true)]
     path: Option<PathBuf>,
     /// Stop after this many seconds and report the best tour so far.
@@ -105,6 +107,8 @@ pub struct SolveArgs {
     /// List the methods and their parameters, and exit (no instance file needed).
     #[arg(long, exclusive = true)]
     list_methods: bool,
+    #[command(flatten)]
+    sequence: sequence::SequenceArgs,
 }
 
 pub fn run(a: SolveArgs) -> Result<(), CliError> {
@@ -119,19 +123,22 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
     }
     let mut settings = settings_of(&a)?;
     let path = a.path.clone().unwrap_or_default();
-    let inst = load(&path)?;
+    let problem = wend_tsplib::read_problem(&path)?;
+    if let Some(c) = sequence::constraints_of(&problem, &a.sequence, &path)? {
+        refuse_under_constraints(&a, &settings)?;
+        let run = sequence::SolveRun {
+            path: &path,
+            settings: &settings,
+            tour_out: a.tour_out.as_deref(),
+            json: a.json,
+        };
+        return sequence::solve(&a.sequence, &run, &problem.instance, &c);
+    }
+    let inst = problem.instance;
     settings.fixed_edges.clone_from(&inst.fixed_edges);
     settings.ends = path_ends(&a, inst.dimension)
         .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
-    let limit = settings
-        .time_limit
-        .map(|t| Duration::from_secs_f64(t.min(1.0e9)));
-    let progress = Progress::start(limit, !a.json || std::io::stderr().is_terminal());
-    let hooks = Hooks {
-        stop: super::interrupt::handle(),
-        observer: (!a.exact).then(|| Box::new(progress.observer()) as _),
-        after_search: Some(Box::new(move || progress.finish())),
-    };
+    let hooks = hooks(&settings, a.json);
     let out = solve_with(inst.cost(), &settings, hooks)
         .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
     if let Some(file) = &a.tour_out {
@@ -151,6 +158,53 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
         }
     }
     Ok(())
+}
+
+/// The progress display (new bests, unless a proof runs) and Ctrl-C handling of a solve.
+pub(super) fn hooks(settings: &Settings, json: bool) -> Hooks {
+    let limit = settings
+        .time_limit
+        .map(|t| Duration::from_secs_f64(t.min(1.0e9)));
+    let progress = Progress::start(limit, !json || std::io::stderr().is_terminal());
+    Hooks {
+        stop: super::interrupt::handle(),
+        observer: (!settings.exact).then(|| Box::new(progress.observer()) as _),
+        after_search: Some(Box::new(move || progress.finish())),
+    }
+}
+
+/// Refuses the options that have no meaning for an order under constraints.
+fn refuse_under_constraints(a: &SolveArgs, settings: &Settings) -> Result<(), CliError> {
+    let why = if a.open || a.start.is_some() || a.end.is_some() {
+        "--open, --start and --end do not apply under constraints: the sequence starts at the \
+         depot (node 1 unless the constraints CSV has a depot row) and ends back there, or \
+         anywhere with a path row in the constraints CSV"
+            .to_string()
+    } else if settings.method != Method::Lk {
+        format!(
+            "--method {} does not apply under constraints: the constrained search runs by \
+             default, and --exact runs the exact programme",
+            settings.method.name()
+        )
+    } else if !a.params.is_empty() {
+        "--params sets parameters of the methods for plain tours; under constraints the \
+         constrained search runs by default, and --exact runs the exact programme"
+            .to_string()
+    } else if a.exact_method.is_some() {
+        "--exact-method does not apply under constraints: --exact runs the exact programme for \
+         constraints (up to 64 stops)"
+            .to_string()
+    } else if a.neighbour_count != wend::DEFAULT_NEIGHBOURS
+        || a.neighbour_lists != "quadrant"
+        || a.layout != "auto"
+    {
+        "--neighbour-count, --neighbour-lists and --layout tune the methods for plain tours; \
+         they do not apply under constraints"
+            .to_string()
+    } else {
+        return Ok(());
+    };
+    Err(CliError::Input(why))
 }
 
 /// The settings the options ask for (the ends follow once the instance is read).
@@ -398,7 +452,7 @@ fn print_proof(c: &Outcome) {
     println!("time       {:.3} s", c.seconds);
 }
 
-fn stop_words(r: wend::StopReason) -> &'static str {
+pub(super) fn stop_words(r: wend::StopReason) -> &'static str {
     use wend::StopReason::*;
     match r {
         RunBudget => "all runs done",
