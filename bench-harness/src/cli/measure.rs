@@ -72,30 +72,7 @@ fn check_fit(tf: &TourFile, tour: &Path, instance: &str, n: usize) -> Result<(),
             ));
         }
     }
-    check_nodes(tf, tour, instance, n)
-}
-
-/// Checks that every node of a tour file is a node of the instance, pointing at the first line
-/// naming one it does not have.
-pub(super) fn check_nodes(
-    tf: &TourFile,
-    tour: &Path,
-    instance: &str,
-    n: usize,
-) -> Result<(), CliError> {
-    let at = |line: usize, message: String| {
-        CliError::Input(TsplibError::new(&tour.display().to_string(), line, message).to_string())
-    };
-    if let Some((k, &node)) = tf.nodes.iter().enumerate().find(|(_, &v)| v >= n) {
-        return Err(at(
-            tf.node_lines.get(k).copied().unwrap_or(0),
-            format!(
-                "node id {} is outside 1..={n} (instance {instance} has {n} nodes)",
-                node + 1
-            ),
-        ));
-    }
-    Ok(())
+    super::shared::check_nodes(tf, tour, instance, n)
 }
 
 #[cfg(test)]

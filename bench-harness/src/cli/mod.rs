@@ -8,6 +8,7 @@ pub(crate) mod interrupt;
 mod measure;
 mod progress;
 mod sequence;
+mod shared;
 mod sky;
 mod solve;
 

@@ -416,7 +416,7 @@ fn print_evaluation(e: &Evaluation, c: &Constraints) {
 /// (any count: optional stops may be left out).
 fn read_order(file: &Path, inst: &Instance) -> Result<Vec<usize>, CliError> {
     let tf = wend_tsplib::read_tour(file)?;
-    super::measure::check_nodes(&tf, file, &inst.name, inst.dimension)?;
+    super::shared::check_nodes(&tf, file, &inst.name, inst.dimension)?;
     if tf.nodes.is_empty() {
         return Err(CliError::Input(format!(
             "{}: the tour lists no node",
@@ -439,7 +439,7 @@ pub fn solve(
         .as_deref()
         .map(|f| read_order(f, inst))
         .transpose()?;
-    let hooks = super::solve::hooks(settings, run.json);
+    let hooks = super::shared::hooks(settings, run.json);
     let out = solve_sequence(inst.cost(), c, settings, start.as_deref(), hooks).map_err(|e| {
         let file = match (&e, &a.initial_order) {
             (wend::constraints::SequenceError::Start(_), Some(f)) => f.as_path(),
@@ -610,7 +610,7 @@ fn print_solve_summary(inst: &Instance, out: &SequenceOutcome, c: &Constraints) 
             out.seconds,
             out.runs,
             out.iterations,
-            super::solve::stop_words(out.stop_reason)
+            super::shared::stop_words(out.stop_reason)
         );
     }
 }

@@ -1,15 +1,11 @@
 //! `wend solve`.
 
-use super::{progress::Progress, sequence, write_file, CliError};
+use super::{sequence, write_file, CliError};
 use clap::Args;
 use serde_json::json;
-use std::io::IsTerminal;
 use std::path::PathBuf;
-use std::time::Duration;
 use wend::SettingsError;
-use wend::{
-    solve_with, CandidateSource, Ends, ExactMethod, Hooks, Layout, Method, Outcome, Settings,
-};
+use wend::{solve_with, CandidateSource, Ends, ExactMethod, Layout, Method, Outcome, Settings};
 
 #[derive(Args, Debug)]
 #[command(after_help = sequence::EXIT_CODES)]
@@ -138,7 +134,7 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
     settings.fixed_edges.clone_from(&inst.fixed_edges);
     settings.ends = path_ends(&a, inst.dimension)
         .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
-    let hooks = hooks(&settings, a.json);
+    let hooks = super::shared::hooks(&settings, a.json);
     let out = solve_with(inst.cost(), &settings, hooks)
         .map_err(|e| CliError::Input(format!("{}: {e}", path.display())))?;
     if let Some(file) = &a.tour_out {
@@ -158,19 +154,6 @@ pub fn run(a: SolveArgs) -> Result<(), CliError> {
         }
     }
     Ok(())
-}
-
-/// The progress display (new bests, unless a proof runs) and Ctrl-C handling of a solve.
-pub(super) fn hooks(settings: &Settings, json: bool) -> Hooks {
-    let limit = settings
-        .time_limit
-        .map(|t| Duration::from_secs_f64(t.min(1.0e9)));
-    let progress = Progress::start(limit, !json || std::io::stderr().is_terminal());
-    Hooks {
-        stop: super::interrupt::handle(),
-        observer: (!settings.exact).then(|| Box::new(progress.observer()) as _),
-        after_search: Some(Box::new(move || progress.finish())),
-    }
 }
 
 /// Refuses the options that have no meaning for an order under constraints.
@@ -364,7 +347,7 @@ fn print_summary(inst: &wend_tsplib::Instance, settings: &Settings, out: &Outcom
         out.seconds,
         search.runs,
         search.iterations,
-        stop_words(search.stop_reason)
+        super::shared::stop_words(search.stop_reason)
     );
 }
 
@@ -450,18 +433,4 @@ fn print_proof(c: &Outcome) {
         _ => println!("proof      not finished in time; no bound"),
     }
     println!("time       {:.3} s", c.seconds);
-}
-
-pub(super) fn stop_words(r: wend::StopReason) -> &'static str {
-    use wend::StopReason::*;
-    match r {
-        RunBudget => "all runs done",
-        TimeLimit => "time limit reached",
-        Cancelled => "cancelled",
-        Exhaustive => "every tour tried (optimal)",
-        Constructed => "construction done",
-        TargetReached => "target length reached",
-        IterationBudget => "iteration budget used up",
-        StallLimit => "stalled (no improvement within the stall limit)",
-    }
 }

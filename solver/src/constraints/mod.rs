@@ -22,8 +22,8 @@ mod schedule;
 mod segment;
 
 pub use check::ConstraintsError;
-pub use rule::{NoRule, StepRule};
-pub use schedule::{evaluate, evaluate_with, Evaluation, Row, Violation};
+pub use rule::{evaluate_with, NoRule, StepRule};
+pub use schedule::{evaluate, Evaluation, Row, Violation};
 pub use segment::Segment;
 
 use serde::{Deserialize, Serialize};

@@ -7,7 +7,8 @@
 //! accepted; the amount by which the rule is broken counts as a violation (and, while the search
 //! crosses infeasible orders, as a penalty).
 
-use super::Row;
+use super::{evaluate, Constraints, Evaluation, Row, Violation};
+use crate::Cost;
 
 /// A rule checked step by step along a scheduled sequence.
 ///
@@ -55,4 +56,29 @@ impl StepRule for NoRule {
     fn step(&self, _: &mut (), _: &Row, _: &Row) -> i64 {
         0
     }
+}
+
+/// [`evaluate`], and `rule` checked along the scheduled rows: each step it breaks adds a
+/// [`Violation::Rule`].
+pub fn evaluate_with<C: Cost + ?Sized, R: StepRule + ?Sized>(
+    cost: &C,
+    c: &Constraints,
+    order: &[usize],
+    rule: &R,
+) -> Evaluation {
+    let mut e = evaluate(cost, c, order);
+    if let Some((first, rest)) = e.rows.split_first() {
+        let mut state = rule.begin(first);
+        let mut from = first;
+        let mut broken = Vec::new();
+        for to in rest {
+            let by = rule.step(&mut state, from, to);
+            if by > 0 {
+                broken.push(Violation::Rule { stop: to.stop, by });
+            }
+            from = to;
+        }
+        e.violations.extend(broken);
+    }
+    e
 }

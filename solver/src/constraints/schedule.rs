@@ -22,7 +22,7 @@
 //! All sums are checked: a sum beyond the `i64` range ends the evaluation with
 //! [`Violation::Overflow`] instead of a wrong value or a panic.
 
-use super::{Constraints, NoRule, Objective, Route, StepRule, Window};
+use super::{Constraints, Objective, Route, Window};
 use crate::Cost;
 use serde::Serialize;
 use std::fmt;
@@ -278,35 +278,6 @@ pub(crate) fn service_start(windows: &[Window], arrival: i64) -> Result<ServiceS
 /// assert!(e.feasible());
 /// ```
 pub fn evaluate<C: Cost + ?Sized>(cost: &C, c: &Constraints, order: &[usize]) -> Evaluation {
-    evaluate_with(cost, c, order, &NoRule)
-}
-
-/// [`evaluate`], and `rule` checked along the scheduled rows: each step it breaks adds a
-/// [`Violation::Rule`].
-pub fn evaluate_with<C: Cost + ?Sized, R: StepRule + ?Sized>(
-    cost: &C,
-    c: &Constraints,
-    order: &[usize],
-    rule: &R,
-) -> Evaluation {
-    let mut e = evaluate_plain(cost, c, order);
-    if let Some((first, rest)) = e.rows.split_first() {
-        let mut state = rule.begin(first);
-        let mut from = first;
-        let mut broken = Vec::new();
-        for to in rest {
-            let by = rule.step(&mut state, from, to);
-            if by > 0 {
-                broken.push(Violation::Rule { stop: to.stop, by });
-            }
-            from = to;
-        }
-        e.violations.extend(broken);
-    }
-    e
-}
-
-fn evaluate_plain<C: Cost + ?Sized>(cost: &C, c: &Constraints, order: &[usize]) -> Evaluation {
     let limit = [
         cost.len(),
         c.windows.len(),

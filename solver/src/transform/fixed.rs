@@ -737,7 +737,8 @@ mod tests {
     fn contradictory_edges_are_refused_naming_the_edge() {
         let s = line(5, true);
         let a = line(5, false);
-        let cases: [(&MatrixCost, &[(usize, usize)], &str); 9] = [
+        type Case<'a> = (&'a MatrixCost, &'a [(usize, usize)], &'a str);
+        let cases: [Case; 9] = [
             (
                 &s,
                 &[(0, 5)],
