@@ -3,7 +3,10 @@
 # (the constrained search, SEEDS seeds, SECONDS each, known values from ../shared/tsptw/optima.txt)
 # into OUT, then per set: runs, feasibility rate, mean gap on the instances with a known value and
 # the share of those runs at the known value. Gaps and the share are over the feasible runs; an
-# infeasible run counts against the feasibility rate only. A sweep cut short continues when run again.
+# infeasible run counts against the feasibility rate only. Instances with a known value run into
+# OUT/known with --until-known (a run ends when it reaches the known value, which it cannot
+# beat); the others run their whole SECONDS into OUT/other. A sweep cut short continues when run
+# again.
 # Usage: [JOBS=N] [SHARED=DIR] [WEND=BINARY] bench-harness/scripts/tsptw-sweep.sh [OUT] [SECONDS] [SEEDS] [INSTANCE...]
 # (from the repository root; INSTANCE files or folders replace the two sets, e.g. for a quick check)
 set -euo pipefail
@@ -14,16 +17,36 @@ shift $(( $# < 3 ? $# : 3 ))
 shared=${SHARED:-../shared/tsptw}
 wend=${WEND:-target/release/wend}
 if [ $# -gt 0 ]; then
-  instances=("$@")
+  given=("$@")
 else
   [ -d "$shared/dumas" ] || { echo "no $shared/dumas: nothing to run" >&2; exit 0; }
-  instances=("$shared/dumas" "$shared/gendreau")
+  given=("$shared/dumas" "$shared/gendreau")
 fi
 [ -x "$wend" ] || cargo build --release -p wend-bench
-known=()
-[ -f "$shared/optima.txt" ] && known=(--known-lengths "$shared/optima.txt")
-"$wend" bench --instances "${instances[@]}" --seeds "$seeds" --time-limit "$limit" \
-  --jobs "${JOBS:-1}" "${known[@]}" --out "$out"
+known_files=()
+other_files=()
+for g in "${given[@]}"; do
+  if [ -d "$g" ]; then files=("$g"/*.txt); else files=("$g"); fi
+  for f in "${files[@]}"; do
+    # The optima list names an instance by its folder and file name without .txt.
+    key="$(basename "$(dirname "$f")")/$(basename "$f" .txt)"
+    if [ -f "$shared/optima.txt" ] && grep -q "^$key " "$shared/optima.txt"; then
+      known_files+=("$f")
+    else
+      other_files+=("$f")
+    fi
+  done
+done
+echo "${#known_files[@]} instances with a known value, ${#other_files[@]} without" >&2
+common=(--seeds "$seeds" --time-limit "$limit" --jobs "${JOBS:-1}")
+[ -f "$shared/optima.txt" ] && common+=(--known-lengths "$shared/optima.txt")
+if [ ${#known_files[@]} -gt 0 ]; then
+  "$wend" bench --instances "${known_files[@]}" "${common[@]}" --until-known --out "$out/known"
+fi
+if [ ${#other_files[@]} -gt 0 ]; then
+  "$wend" bench --instances "${other_files[@]}" "${common[@]}" --out "$out/other"
+fi
+cat "$out"/known/runs.jsonl "$out"/other/runs.jsonl 2>/dev/null > "$out/runs.jsonl"
 python3 - "$out/runs.jsonl" <<'PY'
 import json, os, sys
 sets = {}

@@ -408,6 +408,9 @@ fn options_without_meaning_under_constraints_are_refused() {
     assert!(stderr(&o).contains("constraints CSV"), "{}", stderr(&o));
     let o = wend(&["solve", &file, "--objective", "fastest"]);
     assert_eq!(o.status.code(), Some(2));
+    let o = wend(&["solve", &file, "--bound-time", "3"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("lower_bound"), "{}", stderr(&o));
     // Exit code 3 is in the help.
     let o = wend(&["solve", "--help"]);
     assert!(String::from_utf8_lossy(&o.stdout).contains("3 no order"));

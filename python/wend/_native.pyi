@@ -30,3 +30,35 @@ def plan_sky(
     front: bool,
 ) -> Dict[str, Any]: ...
 def methods() -> List[Tuple[str, str]]: ...
+
+# Under constraints: `given` is a JSON object of the constraint arguments, `table_text` /
+# `table_path` a constraints table, `start` an order to improve (0-based). The result holds
+# `json` (the keys of `wend solve --json` under constraints, the schedule among them), `order`
+# and `trace`.
+def solve_points_constrained(
+    points: np.ndarray,
+    metric: str,
+    options: str,
+    given: str,
+    table_text: Optional[str],
+    table_path: Optional[str],
+    start: Optional[List[int]],
+) -> Dict[str, Any]: ...
+def solve_matrix_constrained(
+    matrix: np.ndarray,
+    options: str,
+    given: str,
+    table_text: Optional[str],
+    table_path: Optional[str],
+    start: Optional[List[int]],
+) -> Dict[str, Any]: ...
+# `None` when `only_with_windows` and the file has no time windows.
+def solve_file_constrained(
+    path: str,
+    options: str,
+    given: str,
+    table_text: Optional[str],
+    table_path: Optional[str],
+    start: Optional[List[int]],
+    only_with_windows: bool,
+) -> Optional[Dict[str, Any]]: ...

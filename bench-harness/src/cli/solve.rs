@@ -184,6 +184,10 @@ fn refuse_under_constraints(a: &SolveArgs, settings: &Settings) -> Result<(), Cl
         "--neighbour-count, --neighbour-lists and --layout tune the methods for plain tours; \
          they do not apply under constraints"
             .to_string()
+    } else if a.bound_time != 10.0 {
+        "--bound-time limits the 1-tree ascent of plain tours; under constraints --bound gives \
+         the assignment bound of the travel costs as lower_bound, which needs no time limit"
+            .to_string()
     } else {
         return Ok(());
     };
