@@ -34,6 +34,16 @@ xargs -P "${JOBS:-1}" -I{} sh -c '
   "$wend" solve "$f" --exact --time-limit "$limit" --json > "$out/$key.part" 2> "$out/$key.err" || true
   mv "$out/$key.part" "$out/$key.json"
 ' _ {} < "$list"
+# The assignment bound of every instance (travel costs, windows ignored; a fraction of a second).
+if [ ! -s "$out/bounds.csv" ]; then
+  for f in "$shared"/dumas/*.txt "$shared"/gendreau/*.txt; do
+    key="$(basename "$(dirname "$f")")/$(basename "$f" .txt)"
+    b=$("$wend" solve "$f" --bound --runs 1 --iterations 1 --json 2>/dev/null \
+      | python3 -c 'import json, sys; print(json.load(sys.stdin)["lower_bound"])' || echo "")
+    echo "$key,$b"
+  done > "$out/bounds.part"
+  mv "$out/bounds.part" "$out/bounds.csv"
+fi
 python3 - "$out" "$list" "$shared/optima.txt" "$sweep/runs.jsonl" <<'PY'
 import csv, json, os, sys
 out, listing, optima_path, runs_path = sys.argv[1:5]
@@ -111,4 +121,43 @@ if os.path.exists(runs_path):
         print(f"on the {len(fresh)} not in optima.txt: mean gap {sum(fg) / len(fg):.3f} % over {len(fg)} runs")
     for s in shorter:
         print("SHORTER THAN PROVEN:", s)
+    # The rest: no value in optima.txt and none proven here; best of the runs and the bound.
+    bounds = {}
+    for line in open(os.path.join(out, 'bounds.csv')):
+        k, _, b = line.strip().partition(',')
+        bounds[k] = int(b) if b not in ('', 'None') else None
+    rest = {}
+    for line in open(runs_path):
+        if line.strip():
+            r = json.loads(line)
+            key = f"{os.path.basename(os.path.dirname(r['file']))}/{r['instance']}"
+            if key not in known and key not in proven:
+                rest.setdefault(key, []).append(r)
+    table = []
+    for k, rs in sorted(rest.items()):
+        lengths = [r['length'] for r in rs if r['feasible']]
+        best = min(lengths) if lengths else None
+        b = bounds.get(k)
+        table.append(dict(instance=k, nodes=rs[0]['nodes'], runs=len(rs), feasible=len(lengths),
+                          best=best, worst=max(lengths) if lengths else None, bound=b,
+                          best_over_bound_percent=None if best is None or not b
+                          else round(100 * (best - b) / b, 2)))
+    if table:
+        with open(os.path.join(out, 'open.csv'), 'w', newline='') as fh:
+            w = csv.DictWriter(fh, fieldnames=list(table[0]))
+            w.writeheader()
+            w.writerows(table)
+        print(f"\n{len(table)} instances with neither a value in optima.txt nor a proof "
+              f"(best and bound of each in {out}/open.csv):")
+        print("| set | nodes | instances | runs feasible | runs at their instance's best | best over bound % (mean) |")
+        print("|---|---:|---:|---:|---:|---:|")
+        g = {}
+        for t in table:
+            g.setdefault((t['instance'].split('/')[0], t['nodes']), []).append(t)
+        for (s, n), ts in sorted(g.items()):
+            at = sum(1 for t in ts for r in rest[t['instance']] if r['feasible'] and r['length'] == t['best'])
+            ratios = [t['best_over_bound_percent'] for t in ts if t['best_over_bound_percent'] is not None]
+            mean = f"{sum(ratios) / len(ratios):.1f}" if ratios else "–"
+            print(f"| {s} | {n} | {len(ts)} | {sum(t['feasible'] for t in ts)} of {sum(t['runs'] for t in ts)} "
+                  f"| {at} | {mean} |")
 PY

@@ -160,7 +160,7 @@ fn time_window_files_run_next_to_tsplib_files_with_feasibility_and_gaps() {
     );
     assert!(summary.contains("### TSP, constrained"), "{summary}");
     assert!(
-        summary.contains("| lk | < 100 | 4 | 100% (4/4) |"),
+        summary.contains("| constrained search | < 100 | 4 | 100% (4/4) |"),
         "{summary}"
     );
     // berlin52 stays in the table by method and size.
@@ -182,7 +182,7 @@ fn time_window_files_run_next_to_tsplib_files_with_feasibility_and_gaps() {
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let rebuilt = std::fs::read_to_string(again.join("summary.md")).unwrap();
     assert!(
-        rebuilt.contains("| lk | < 100 | 4 | 100% (4/4) |"),
+        rebuilt.contains("| constrained search | < 100 | 4 | 100% (4/4) |"),
         "{rebuilt}"
     );
 }
@@ -236,7 +236,7 @@ fn an_infeasible_problem_counts_against_the_feasibility_rate() {
     let summary = std::fs::read_to_string(out.join("summary.md")).unwrap();
     // 2 of 4 runs feasible; the gap columns are over the 2 feasible runs with a known value.
     assert!(
-        summary.contains("| lk | < 100 | 4 | 50% (2/4) | 2 |"),
+        summary.contains("| constrained search | < 100 | 4 | 50% (2/4) | 2 |"),
         "{summary}"
     );
     assert!(

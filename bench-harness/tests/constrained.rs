@@ -311,6 +311,41 @@ fn precedence_is_kept_and_a_cheap_optional_stop_is_left_out() {
 }
 
 #[test]
+fn a_fixed_edge_of_the_file_runs_one_way_and_a_row_turns_it() {
+    let dir = tempfile::tempdir().unwrap();
+    // Four points on a line; the file fixes the edge 2-3.
+    let inst = write(
+        dir.path(),
+        "four.tsp",
+        "NAME : four\nTYPE : TSP\nDIMENSION : 4\nEDGE_WEIGHT_TYPE : EUC_2D\n\
+         NODE_COORD_SECTION\n1 0 0\n2 10 0\n3 20 0\n4 30 0\nFIXED_EDGES_SECTION\n2 3\n-1\nEOF\n",
+    );
+    let next = |order: &[i64], a: i64| {
+        order[(order.iter().position(|&x| x == a).unwrap() + 1) % order.len()]
+    };
+    // A constraint that does not touch the edge: 3 follows 2.
+    let plain = write(
+        dir.path(),
+        "plain.csv",
+        "kind,stop,other,earliest,latest,value\nservice,4,,,,1\n",
+    );
+    let o = wend(&["solve", &inst, "--constraints", &plain, "--json"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert_eq!(next(&numbers(&json(&o)["tour"]), 2), 3);
+    // An edge row the other way round turns it: 2 follows 3.
+    let turned = write(
+        dir.path(),
+        "turned.csv",
+        "kind,stop,other,earliest,latest,value\nedge,3,2,,,\n",
+    );
+    let o = wend(&["solve", &inst, "--constraints", &turned, "--json"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v = json(&o);
+    assert_eq!(v["feasible"], true);
+    assert_eq!(next(&numbers(&v["tour"]), 3), 2);
+}
+
+#[test]
 fn measure_lists_the_windows_a_tour_breaks() {
     let dir = tempfile::tempdir().unwrap();
     let file = instance("tsptw/n20w20.001.txt");

@@ -118,8 +118,9 @@ pub fn constraints_for(
 }
 
 /// `extra` (a constraints CSV) laid over `own` (the problem file's): a stop's windows, service
-/// and penalty from `extra` where it gives them, precedence pairs and fixed edges of both, and
-/// the depot, start time and route of `extra` where they differ from the defaults.
+/// and penalty from `extra` where it gives them, precedence pairs and fixed edges of both (an
+/// edge of `extra` replaces the same edge of `own` the other way round), and the depot, start
+/// time and route of `extra` where they differ from the defaults.
 fn laid_over(own: Constraints, extra: Constraints) -> Constraints {
     let mut c = own;
     for (mine, theirs) in c.windows.iter_mut().zip(extra.windows) {
@@ -139,6 +140,8 @@ fn laid_over(own: Constraints, extra: Constraints) -> Constraints {
     }
     c.precedence.extend(extra.precedence);
     for e in extra.fixed_edges {
+        // A row naming a file's edge the other way round turns it (a sequence has a direction).
+        c.fixed_edges.retain(|&(a, b)| (b, a) != e);
         if !c.fixed_edges.contains(&e) {
             c.fixed_edges.push(e);
         }

@@ -399,14 +399,15 @@ impl<'p, 'a, C: Cost + ?Sized, R: StepRule + ?Sized> Search<'p, 'a, C, R> {
                 seg = Segment::concat(&seg, &back, step);
             }
             let breach = seg.warp_at(c.start_time);
+            let completion = c
+                .start_time
+                .max(seg.earliest)
+                .saturating_add(seg.duration.saturating_sub(seg.warp));
             #[cfg(test)]
-            self.cross_check(st, cand, breach, seg.travel);
+            self.cross_check(st, cand, breach, seg.travel, completion);
             let base = match c.objective {
                 Objective::Travel => seg.travel,
-                Objective::Completion => c
-                    .start_time
-                    .max(seg.earliest)
-                    .saturating_add(seg.duration.saturating_sub(seg.warp)),
+                Objective::Completion => completion,
             };
             return Score {
                 objective: base.saturating_add(penalty),
@@ -430,7 +431,14 @@ impl<'p, 'a, C: Cost + ?Sized, R: StepRule + ?Sized> Search<'p, 'a, C, R> {
 
     /// Tests only: the summary's verdict on a candidate equals the full schedule's.
     #[cfg(test)]
-    fn cross_check(&mut self, st: &State, cand: &Candidate, breach: i64, travel: i64) {
+    fn cross_check(
+        &mut self,
+        st: &State,
+        cand: &Candidate,
+        breach: i64,
+        travel: i64,
+        completion: i64,
+    ) {
         self.scratch.clear();
         for &piece in &cand.pieces[..cand.len] {
             match piece {
@@ -447,6 +455,7 @@ impl<'p, 'a, C: Cost + ?Sized, R: StepRule + ?Sized> Search<'p, 'a, C, R> {
         assert_eq!(breach > 0, late, "{:?} {e:?}", self.scratch);
         assert_eq!(travel, e.travel_cost, "{:?}", self.scratch);
         if breach == 0 {
+            assert_eq!(completion, e.completion_time, "{:?}", self.scratch);
             let penalty = st.penalty.saturating_add(cand.penalty);
             assert_eq!(penalty, e.penalty, "{:?}", self.scratch);
             // While the order is being built, missing stops leave links open; once every
@@ -1165,5 +1174,40 @@ mod tests {
         }
         assert!(cases >= 150, "{cases}");
         assert!(found * 100 >= feasible * 95, "{found} of {feasible}");
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(64))]
+
+        /// Every move the search scores from segment summaries (the in-test cross-check
+        /// compares each with a full recomputation of the schedule: lateness, travel, penalty,
+        /// completion time, links) on random windows, precedence, optional stops and fixed
+        /// edges, symmetric and asymmetric costs, 2 to 29 stops; with one window per stop the
+        /// search takes its table-driven path.
+        #[test]
+        fn every_scored_move_agrees_with_a_full_schedule(
+            seed in proptest::prelude::any::<u64>(),
+            n in 2usize..30,
+            one_window in proptest::prelude::any::<bool>(),
+        ) {
+            let mut rng = Pcg64::seed_from_u64(seed);
+            let (rows, mut c) = random_instance(&mut rng, n);
+            if one_window {
+                for w in &mut c.windows {
+                    w.truncate(1);
+                }
+            }
+            proptest::prop_assume!(c.check(n).is_ok());
+            let cost = MatrixCost::from_rows(&rows).unwrap();
+            let settings = Settings {
+                seed,
+                threads: Some(1),
+                runs: Some(1),
+                iterations: Some(30),
+                ..Default::default()
+            };
+            let out = solve_sequence(&cost, &c, &settings, None, Default::default()).unwrap();
+            proptest::prop_assert_eq!(out.feasible, evaluate(&cost, &c, &out.order).feasible());
+        }
     }
 }
