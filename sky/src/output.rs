@@ -322,7 +322,9 @@ pub fn write_front_csv<W: Write>(out: &mut W, front: &Front, start: Epoch) -> st
     for r in front_lines(front, start) {
         writeln!(
             out,
-            "{},{:.1},{:.1},{:.1},{:.6},{},{}",
+            // Milliseconds and micrograms: plans of a front can differ by less than a
+            // tenth of a second or a milligram, and the file must not make one look dominated.
+            "{},{:.3},{:.3},{:.3},{:.9},{},{}",
             r.plan, r.busy_overhead_s, r.wait_s, r.elapsed_s, r.propellant_kg, r.dumps, r.scheduled
         )?;
     }
