@@ -23,6 +23,9 @@ fuzz_target!(|data: &[u8]| {
         dec_deg,
         duration_s: 600.0,
         instrument: 0,
+        priority: wend_sky::DEFAULT_PRIORITY,
+        window: None,
+        roll_range_deg: None,
     };
     // Spread around the sky near the ecliptic so that some are inside any sensible band.
     let targets = [

@@ -143,6 +143,9 @@ mod tests {
                 dec_deg: -0.8963,
                 duration_s: 3120.0,
                 instrument: 2,
+                priority: crate::DEFAULT_PRIORITY,
+                window: None,
+                roll_range_deg: None,
             }
         );
     }

@@ -960,6 +960,9 @@ mod tests {
             dec_deg,
             duration_s: 600.0,
             instrument: 0,
+            priority: crate::DEFAULT_PRIORITY,
+            window: None,
+            roll_range_deg: None,
         }
     }
 

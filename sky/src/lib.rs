@@ -45,6 +45,9 @@ mod testing;
 
 pub use demo::{demo_profile, demo_targets, DEMO_PROFILE_TOML, DEMO_TARGETS_CSV};
 pub(crate) use input::{line_of, line_part, read_utf8};
-pub use model::{Epoch, Instrument, Profile, Target};
+pub use model::{
+    Epoch, Instrument, Link, LinkKind, Profile, StartPointing, Target, DEFAULT_PRIORITY,
+    LOWEST_PRIORITY,
+};
 pub use profile::{parse_profile, read_profile, ProfileError};
 pub use targets::{parse_targets, read_targets, TargetsError};

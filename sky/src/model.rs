@@ -22,6 +22,73 @@ pub struct Target {
     pub duration_s: f64,
     /// Index into [`Profile::instruments`] of the instrument the observation uses.
     pub instrument: usize,
+    /// Priority grade, 1 (highest) to [`LOWEST_PRIORITY`]; targets that do not fit are left
+    /// out lowest priority first. [`DEFAULT_PRIORITY`] when the input gives none.
+    pub priority: u8,
+    /// The proposal's window, when it asks for one: the observation starts and ends inside
+    /// `[start, end]` (on top of the visibility windows of the band).
+    pub window: Option<(Epoch, Epoch)>,
+    /// The allowed roll offsets about the boresight, degrees `(min, max)`, overriding the
+    /// profile's [`Profile::roll_range_deg`].
+    pub roll_range_deg: Option<(f64, f64)>,
+}
+
+/// The lowest priority grade (the highest is 1).
+pub const LOWEST_PRIORITY: u8 = 9;
+/// The priority of a target whose input gives none.
+pub const DEFAULT_PRIORITY: u8 = 5;
+
+impl Target {
+    /// A target of default priority, without proposal window or roll override.
+    pub fn new(id: impl Into<String>, ra_deg: f64, dec_deg: f64, duration_s: f64) -> Target {
+        Target {
+            id: id.into(),
+            ra_deg,
+            dec_deg,
+            duration_s,
+            instrument: 0,
+            priority: DEFAULT_PRIORITY,
+            window: None,
+            roll_range_deg: None,
+        }
+    }
+}
+
+/// What a link between two targets asks ([`Link`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum LinkKind {
+    /// `second` starts after `first` starts, between the least and greatest lag after it.
+    After,
+    /// `first` and `second` are observed back to back: `second` directly follows `first`,
+    /// with no waiting and no other observation between them.
+    Group,
+}
+
+/// A timing link between two targets of a proposal (indices into the pool). A `before` link
+/// of the links file is read as `After` with the targets swapped.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Link {
+    /// What the link asks.
+    pub kind: LinkKind,
+    /// The target observed first.
+    pub first: usize,
+    /// The target observed second.
+    pub second: usize,
+    /// Least time from the start of `first` to the start of `second`, seconds.
+    pub min_lag_s: Option<f64>,
+    /// Greatest time from the start of `first` to the start of `second`, seconds.
+    pub max_lag_s: Option<f64>,
+}
+
+/// Where the telescope points when the plan starts.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct StartPointing {
+    /// Right ascension of the boresight, ICRS, degrees.
+    pub ra_deg: f64,
+    /// Declination of the boresight, ICRS, degrees.
+    pub dec_deg: f64,
+    /// Roll offset from the nominal roll, degrees.
+    pub roll_deg: f64,
 }
 
 /// An instrument (or mode) of the observatory.
@@ -80,4 +147,14 @@ pub struct Profile {
     pub thruster_isp_s: f64,
     /// Time one momentum dump takes, seconds.
     pub dump_s: f64,
+    /// Allowed roll offsets about the boresight from the nominal roll, degrees `(min, max)`,
+    /// for targets without an override (`(0, 0)`: nominal roll only).
+    pub roll_range_deg: (f64, f64),
+    /// How many evenly spaced candidate rolls the planner tries in a range wider than zero
+    /// (the ends included; at least 2).
+    pub roll_steps: usize,
+    /// Where the telescope points at the plan start; `None`: already on the first target.
+    pub start_pointing: Option<StartPointing>,
+    /// Momentum stored in the wheels at the plan start, inertial frame, N·m·s.
+    pub start_momentum_nms: [f64; 3],
 }

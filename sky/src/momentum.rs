@@ -208,6 +208,10 @@ mod tests {
             thruster_arm_m: 1.0,
             thruster_isp_s: 220.0,
             dump_s: 600.0,
+            roll_range_deg: (0.0, 0.0),
+            roll_steps: 3,
+            start_pointing: None,
+            start_momentum_nms: [0.0; 3],
         }
     }
 

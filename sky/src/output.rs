@@ -398,6 +398,9 @@ pub fn random_targets(n: usize, seed: u64, profile: &Profile) -> Vec<Target> {
                 dec_deg: (dec_deg * 1e4).round() / 1e4,
                 duration_s,
                 instrument: rng.gen_range(0..instruments),
+                priority: crate::DEFAULT_PRIORITY,
+                window: None,
+                roll_range_deg: None,
             }
         })
         .collect()

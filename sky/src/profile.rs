@@ -429,6 +429,10 @@ impl Ctx<'_> {
             thruster_arm_m: self.positive("thruster_arm_m", &raw.thruster_arm_m)?,
             thruster_isp_s: self.positive("thruster_isp_s", &raw.thruster_isp_s)?,
             dump_s: self.step_time("dump_s", &raw.dump_s, 1.0)?,
+            roll_range_deg: (0.0, 0.0),
+            roll_steps: 3,
+            start_pointing: None,
+            start_momentum_nms: [0.0; 3],
         })
     }
 
@@ -687,6 +691,10 @@ time_s = 20
                 thruster_arm_m: 1.5,
                 thruster_isp_s: 230.0,
                 dump_s: 500.0,
+                roll_range_deg: (0.0, 0.0),
+                roll_steps: 3,
+                start_pointing: None,
+                start_momentum_nms: [0.0; 3],
             }
         );
     }

@@ -1110,6 +1110,9 @@ mod tests {
                     dec_deg: dec as f64,
                     duration_s: 1800.0,
                     instrument: 0,
+                    priority: crate::DEFAULT_PRIORITY,
+                    window: None,
+                    roll_range_deg: None,
                 };
                 let v = visibility(&unit_vector(t.ra_deg, t.dec_deg), START, 5.0, (97.0, 153.0));
                 match v.windows.first() {

@@ -298,6 +298,9 @@ fn read_row(
         dec_deg,
         duration_s,
         instrument,
+        priority: crate::DEFAULT_PRIORITY,
+        window: None,
+        roll_range_deg: None,
     })
 }
 
@@ -383,6 +386,10 @@ mod tests {
             thruster_arm_m: 1.0,
             thruster_isp_s: 220.0,
             dump_s: 600.0,
+            roll_range_deg: (0.0, 0.0),
+            roll_steps: 3,
+            start_pointing: None,
+            start_momentum_nms: [0.0; 3],
         }
     }
 
@@ -397,6 +404,9 @@ mod tests {
             dec_deg: dec,
             duration_s: dur,
             instrument: inst,
+            priority: crate::DEFAULT_PRIORITY,
+            window: None,
+            roll_range_deg: None,
         }
     }
 

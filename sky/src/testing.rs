@@ -47,6 +47,10 @@ pub(crate) fn sky_profile() -> crate::Profile {
         thruster_arm_m: 1.0,
         thruster_isp_s: 220.0,
         dump_s: 600.0,
+        roll_range_deg: (0.0, 0.0),
+        roll_steps: 3,
+        start_pointing: None,
+        start_momentum_nms: [0.0; 3],
     }
 }
 
@@ -63,6 +67,9 @@ pub(crate) fn sky_targets(n: usize, seed: u64) -> Vec<crate::Target> {
                 dec_deg: z.asin().to_degrees(),
                 duration_s: rng.gen_range(600.0..3600.0),
                 instrument: rng.gen_range(0..2),
+                priority: crate::DEFAULT_PRIORITY,
+                window: None,
+                roll_range_deg: None,
             }
         })
         .collect()
