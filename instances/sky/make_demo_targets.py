@@ -1,25 +1,34 @@
 #!/usr/bin/env python3
-"""Writes demo-targets.csv: the invented target list of the demo observatory.
+"""Writes demo-targets.csv and demo-links.csv: the invented target list of the demo observatory
+and the timing links between some of its targets.
 
 Deterministic (fixed seed, Python's Mersenne Twister), standard library only. Run from this
-folder:  python3 make_demo_targets.py > demo-targets.csv
+folder:  python3 make_demo_targets.py  (writes both files here).
 
-About three quarters of the targets are drawn inside the demo elongation band (102 to 148
-degrees from the Sun, a little inside 97-153 so that their dwells fit) as seen on the
-plan's start date, 2027-03-01; the rest are spread uniformly over the sky and many of them
-are outside the band. The Sun comes from the low-precision formula of the sky model page,
-referred to J2000 axes. Ids, positions, durations and instruments are all invented.
+The demo plans 30 days from 2027-03-01. About nine tenths of the targets are drawn inside the
+demo elongation band as seen at the middle of that month (112 to 138 degrees from the Sun,
+well inside 97-153, so that most stay in the band for weeks); the rest are spread uniformly
+over the sky and some of them are outside the band. Dwells are long (4 to 14 hours, deep
+exposures), so that the month is well filled and the order matters. Priorities 1 (highest) to
+3; a few targets carry a proposal window of one to two weeks. The Sun comes from the
+low-precision formula of the sky model page, referred to J2000 axes. Ids, positions,
+durations, instruments, priorities, windows and links are all invented.
 """
 
+import datetime
 import math
 import random
 
 SEED = 20270301
-COUNT = 72
+COUNT = 60
 PLAN_START_JD = 2461465.5  # 2027-03-01 00:00 TT
-IN_BAND_SHARE = 0.75
-BAND_DEG = (102.0, 148.0)
+PLAN_START = datetime.datetime(2027, 3, 1, tzinfo=datetime.timezone.utc)
+MID_DAYS = 15.0
+IN_BAND_SHARE = 0.9
+BAND_DEG = (112.0, 138.0)
 INSTRUMENTS = [("wide_imager", 0.5), ("slit_spectrograph", 0.3), ("fast_photometer", 0.2)]
+PRIORITIES = [(1, 0.2), (2, 0.5), (3, 0.3)]
+WINDOW_SHARE = 0.12
 
 
 def sun_unit_vector(jd):
@@ -48,16 +57,27 @@ def ra_dec(u):
     return ra, dec
 
 
+def pick(rng, table):
+    x = rng.random()
+    acc = 0.0
+    for value, w in table:
+        acc += w
+        if x < acc:
+            return value
+    return table[-1][0]
+
+
+def utc(days):
+    return (PLAN_START + datetime.timedelta(days=days)).strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
 def main():
     rng = random.Random(SEED)
-    s = sun_unit_vector(PLAN_START_JD)
+    s = sun_unit_vector(PLAN_START_JD + MID_DAYS)
     # Two axes perpendicular to the Sun direction.
     e1 = normalize(cross(s, (0.0, 0.0, 1.0)))
     e2 = cross(s, e1)
-    print("# Demo target list of the Lantern Deep-Sky Observatory (invented data).")
-    print("# Plans are planning proposals to be confirmed by the operations team's validated tools.")
-    print("# Written by make_demo_targets.py (seed %d); do not edit by hand." % SEED)
-    print("id,ra_deg,dec_deg,duration_s,instrument")
+    rows = []
     for i in range(1, COUNT + 1):
         if rng.random() < IN_BAND_SHARE:
             lo, hi = (math.cos(math.radians(x)) for x in BAND_DEG)
@@ -72,16 +92,24 @@ def main():
             u = (r * math.cos(phi), r * math.sin(phi), z)
         ra, dec = ra_dec(u)
         ra = round(ra, 4) % 360.0
-        duration = 60 * rng.randint(10, 120)  # 10 min to 2 h in whole minutes
-        x = rng.random()
-        acc = 0.0
-        inst = INSTRUMENTS[-1][0]
-        for name, w in INSTRUMENTS:
-            acc += w
-            if x < acc:
-                inst = name
-                break
-        print("LDS-%03d,%.4f,%.4f,%d,%s" % (i, ra, dec, duration, inst))
+        duration = 600 * rng.randint(24, 84)  # 4 h to 14 h in whole 10 minutes
+        inst = pick(rng, INSTRUMENTS)
+        priority = pick(rng, PRIORITIES)
+        window = ("", "")
+        if rng.random() < WINDOW_SHARE:
+            first = rng.randint(0, 16)
+            window = (utc(first), utc(first + rng.randint(7, 14)))
+        rows.append("LDS-%03d,%.4f,%.4f,%d,%s,%d,%s,%s" % (i, ra, dec, duration, inst, priority, *window))
+    with open("demo-targets.csv", "w") as f:
+        f.write("id,ra_deg,dec_deg,duration_s,instrument,priority,window_start,window_end\n")
+        for r in rows:
+            f.write(r + "\n")
+    # A monitoring pair (the second look two to four days after the first), and a field
+    # observed with two instruments back to back.
+    with open("demo-links.csv", "w") as f:
+        f.write("kind,first,second,min_lag_s,max_lag_s\n")
+        f.write("after,LDS-004,LDS-017,%d,%d\n" % (2 * 86400, 4 * 86400))
+        f.write("group,LDS-021,LDS-022,,\n")
 
 
 if __name__ == "__main__":

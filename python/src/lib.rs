@@ -34,7 +34,7 @@ use wend_sky::front::{search_front, Front, FrontOptions, FrontProgress};
 use wend_sky::output::{format_utc, parse_utc, plan_json, CAUTION, DEMO_START_UTC};
 use wend_sky::plan::{plan, Plan, PlanOptions};
 use wend_sky::schedule::Schedule;
-use wend_sky::{demo_profile, demo_targets, parse_profile, parse_targets};
+use wend_sky::{demo_links, demo_profile, demo_targets, parse_profile, parse_targets};
 use wend_sky::{Profile, Target};
 use wend_tsplib as tsplib;
 use wend_tsplib::{Instance, ProblemKind, Weights};
@@ -613,39 +613,46 @@ fn write_tour(path: PathBuf, order: Vec<i64>, name: String, comment: String) -> 
 
 fn schedule_columns<'py>(
     py: Python<'py>,
+    profile: &Profile,
     targets: &[Target],
     s: &Schedule,
 ) -> PyResult<Bound<'py, PyDict>> {
+    // The columns of plan.csv, typed: numbers as numbers, the rest as text.
+    let rows = wend_sky::output::plan_rows(profile, targets, s);
     let d = PyDict::new(py);
+    let text = ["target", "instrument", "start_utc", "end_utc", "idle"];
+    let ints = ["seq", "dumps_before"];
+    for (k, name) in wend_sky::output::PLAN_COLUMNS.iter().enumerate() {
+        let cells = rows.iter().map(|r| r[k].as_str());
+        if text.contains(name) {
+            d.set_item(*name, cells.map(str::to_string).collect::<Vec<_>>())?;
+        } else if ints.contains(name) {
+            d.set_item(
+                *name,
+                cells.map(|c| c.parse::<i64>().unwrap_or(0)).collect::<Vec<_>>(),
+            )?;
+        } else {
+            d.set_item(
+                *name,
+                cells
+                    .map(|c| c.parse::<f64>().unwrap_or(f64::NAN))
+                    .collect::<Vec<_>>(),
+            )?;
+        }
+    }
+    // Unrounded values beside the rounded columns.
     let obs = &s.observations;
-    d.set_item("position", (1..=obs.len()).collect::<Vec<usize>>())?;
     d.set_item(
-        "id",
-        obs.iter()
-            .map(|o| targets[o.target].id.clone())
-            .collect::<Vec<_>>(),
+        "momentum_after_nms",
+        obs.iter().map(|o| o.momentum_nms).collect::<Vec<_>>(),
     )?;
     d.set_item(
-        "start_utc",
-        obs.iter().map(|o| format_utc(o.start)).collect::<Vec<_>>(),
+        "wait_before_s",
+        obs.iter().map(|o| o.wait_s).collect::<Vec<_>>(),
     )?;
     d.set_item(
-        "end_utc",
-        obs.iter().map(|o| format_utc(o.end)).collect::<Vec<_>>(),
-    )?;
-    let col = |f: &dyn Fn(&wend_sky::schedule::Observation) -> f64| -> Vec<f64> {
-        obs.iter().map(f).collect()
-    };
-    d.set_item("elongation_start_deg", col(&|o| o.elongation_start_deg))?;
-    d.set_item("elongation_end_deg", col(&|o| o.elongation_end_deg))?;
-    d.set_item("slew_deg", col(&|o| o.slew_deg))?;
-    d.set_item("slew_s", col(&|o| o.slew_s))?;
-    d.set_item("wait_before_s", col(&|o| o.wait_s))?;
-    d.set_item("busy_before_s", col(&|o| o.overhead_s - o.wait_s))?;
-    d.set_item("momentum_nms", col(&|o| o.momentum_nms))?;
-    d.set_item(
-        "dump",
-        obs.iter().map(|o| i64::from(o.dump)).collect::<Vec<_>>(),
+        "busy_before_s",
+        obs.iter().map(|o| o.busy_s).collect::<Vec<_>>(),
     )?;
     Ok(d)
 }
@@ -658,9 +665,15 @@ fn unscheduled_columns<'py>(
     let d = PyDict::new(py);
     let u = &s.unscheduled;
     d.set_item(
-        "id",
+        "target",
         u.iter()
             .map(|x| targets[x.target].id.clone())
+            .collect::<Vec<_>>(),
+    )?;
+    d.set_item(
+        "priority",
+        u.iter()
+            .map(|x| i64::from(targets[x.target].priority))
             .collect::<Vec<_>>(),
     )?;
     d.set_item(
@@ -684,6 +697,7 @@ fn unscheduled_columns<'py>(
 
 fn front_dict<'py>(
     py: Python<'py>,
+    profile: &Profile,
     targets: &[Target],
     front: &Front,
     start: wend_sky::Epoch,
@@ -698,16 +712,20 @@ fn front_dict<'py>(
         lines.iter().map(f).collect()
     };
     rows.set_item("plan", count(&|r| r.plan))?;
+    rows.set_item("elapsed_s", col(&|r| r.elapsed_s))?;
+    rows.set_item(
+        "end_utc",
+        lines.iter().map(|r| r.end_utc.clone()).collect::<Vec<_>>(),
+    )?;
     rows.set_item("busy_overhead_s", col(&|r| r.busy_overhead_s))?;
     rows.set_item("wait_s", col(&|r| r.wait_s))?;
-    rows.set_item("elapsed_s", col(&|r| r.elapsed_s))?;
     rows.set_item("propellant_kg", col(&|r| r.propellant_kg))?;
     rows.set_item("dumps", count(&|r| r.dumps))?;
     rows.set_item("scheduled", count(&|r| r.scheduled))?;
     d.set_item("rows", rows)?;
     let plans = PyList::empty(py);
     for x in &front.plans {
-        plans.append(schedule_columns(py, targets, &x.schedule)?)?;
+        plans.append(schedule_columns(py, profile, targets, &x.schedule)?)?;
     }
     d.set_item("plans", plans)?;
     d.set_item("knee", front.knee.map(|k| k + 1))?;
@@ -716,7 +734,7 @@ fn front_dict<'py>(
         wend_sky::output::hour_grams(front.hypervolume),
     )?;
     let reference = PyDict::new(py);
-    reference.set_item("busy_overhead_h", front.reference.0 / 3600.0)?;
+    reference.set_item("elapsed_h", front.reference.0 / 3600.0)?;
     reference.set_item("propellant_g", front.reference.1 * 1000.0)?;
     d.set_item("hypervolume_reference", reference)?;
     Ok(d)
@@ -725,7 +743,7 @@ fn front_dict<'py>(
 /// Plans an observing sequence, as `wend sky plan` does (planning proposals to be confirmed by
 /// the operations team's validated tools).
 #[pyfunction]
-#[pyo3(signature = (targets_csv, source, profile_path, start, horizon_days, time_limit, seed, threads, front))]
+#[pyo3(signature = (targets_csv, source, profile_path, start, horizon_days, time_limit, seed, threads, front, links_csv=None))]
 #[allow(clippy::too_many_arguments)]
 fn plan_sky<'py>(
     py: Python<'py>,
@@ -738,6 +756,7 @@ fn plan_sky<'py>(
     seed: u64,
     threads: Option<usize>,
     front: bool,
+    links_csv: Option<String>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let profile: Profile = match &profile_path {
         Some(p) => {
@@ -762,6 +781,11 @@ fn plan_sky<'py>(
             demo_targets(&profile),
             start.clone().unwrap_or_else(|| DEMO_START_UTC.into()),
         ),
+    };
+    let links = match (&links_csv, &targets_csv) {
+        (Some(text), _) => wend_sky::links::parse_links(text, "links", &targets).map_err(input)?,
+        (None, None) => demo_links(&targets),
+        (None, Some(_)) => Vec::new(),
     };
     let epoch = parse_utc(&start_text).map_err(|e| Fail::Input(format!("start: {e}")))?;
     if !(horizon_days.is_finite() && horizon_days > 0.0 && horizon_days <= 3660.0) {
@@ -789,11 +813,11 @@ fn plan_sky<'py>(
     options.time_limit = limit;
     options.seed = seed;
     options.threads = threads;
-    options.method = Method::Lk;
     options.stop = stop.clone();
     let (made, found): (Plan, Option<Front>) = {
         let profile = &profile;
         let targets = &targets;
+        let links = &links;
         run_watched(py, &stop, move || {
             if front {
                 let mut fo = FrontOptions::new(options);
@@ -801,11 +825,11 @@ fn plan_sky<'py>(
                     fo.time_limit = t;
                 }
                 let quiet = |_: FrontProgress| {};
-                search_front(profile, targets, &fo, &quiet)
+                search_front(profile, targets, links, &fo, &quiet)
                     .map(|f| (f.single.clone(), Some(f)))
                     .map_err(|e| e.to_string())
             } else {
-                plan(profile, targets, &options)
+                plan(profile, targets, links, &options)
                     .map(|p| (p, None))
                     .map_err(|e| e.to_string())
             }
@@ -819,13 +843,16 @@ fn plan_sky<'py>(
     let d = PyDict::new(py);
     d.set_item("caution", CAUTION)?;
     d.set_item("summary_json", summary.to_string())?;
-    d.set_item("plan", schedule_columns(py, &targets, &made.schedule)?)?;
+    d.set_item(
+        "plan",
+        schedule_columns(py, &profile, &targets, &made.schedule)?,
+    )?;
     d.set_item(
         "unscheduled",
         unscheduled_columns(py, &targets, &made.schedule)?,
     )?;
     match &found {
-        Some(f) => d.set_item("front", front_dict(py, &targets, f, epoch)?)?,
+        Some(f) => d.set_item("front", front_dict(py, &profile, &targets, f, epoch)?)?,
         None => d.set_item("front", py.None())?,
     }
     d.set_item("cancelled", stop.is_stopped())?;

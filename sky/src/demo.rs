@@ -22,9 +22,13 @@ pub const DEMO_PROFILE_TOML: &str = include_str!("../../instances/sky/demo-profi
 /// The demo target list as CSV text (the file `instances/sky/demo-targets.csv`).
 pub const DEMO_TARGETS_CSV: &str = include_str!("../../instances/sky/demo-targets.csv");
 
+/// The demo's timing links as CSV text (the file `instances/sky/demo-links.csv`).
+pub const DEMO_LINKS_CSV: &str = include_str!("../../instances/sky/demo-links.csv");
+
 /// The name the demo files go by in error messages.
 const PROFILE_NAME: &str = "demo-profile.toml (built in)";
 const TARGETS_NAME: &str = "demo-targets.csv (built in)";
+const LINKS_NAME: &str = "demo-links.csv (built in)";
 
 /// The demo observatory profile, parsed from [`DEMO_PROFILE_TOML`].
 ///
@@ -51,6 +55,19 @@ pub fn demo_targets(profile: &Profile) -> Vec<Target> {
     match super::parse_targets(DEMO_TARGETS_CSV, TARGETS_NAME, profile) {
         Ok(t) => t,
         Err(e) => panic!("the built-in demo targets do not fit this profile: {e}"),
+    }
+}
+
+/// The demo's timing links over `targets` (normally [`demo_targets`]).
+///
+/// # Panics
+///
+/// When `targets` lack a target the links name, with the reader's message; never with the
+/// demo targets (a unit test checks).
+pub fn demo_links(targets: &[Target]) -> Vec<crate::Link> {
+    match crate::links::parse_links(DEMO_LINKS_CSV, LINKS_NAME, targets) {
+        Ok(l) => l,
+        Err(e) => panic!("the built-in demo links do not fit these targets: {e}"),
     }
 }
 

@@ -26,6 +26,7 @@ pub mod geometry;
 pub mod momentum;
 pub mod plan;
 pub mod schedule;
+pub mod search;
 pub mod slew;
 pub mod sun;
 pub mod visibility;
@@ -43,7 +44,9 @@ pub mod front_report;
 #[cfg(test)]
 mod testing;
 
-pub use demo::{demo_profile, demo_targets, DEMO_PROFILE_TOML, DEMO_TARGETS_CSV};
+pub use demo::{
+    demo_links, demo_profile, demo_targets, DEMO_LINKS_CSV, DEMO_PROFILE_TOML, DEMO_TARGETS_CSV,
+};
 pub(crate) use input::{line_of, line_part, read_utf8};
 pub use model::{
     Epoch, Instrument, Link, LinkKind, Profile, StartPointing, Target, DEFAULT_PRIORITY,

@@ -1,25 +1,44 @@
-//! From a pool of targets to a checked observing plan: the minimum-overhead order through the
-//! core's asymmetric open-path search, played out in real time with repairs
-//! ([`Context::simulate`]), beside a nearest-neighbour order played out the same way, so that
-//! every plan says how much the search saved.
+//! From a pool of targets to a checked observing plan: the fastest plan that keeps every
+//! window and link, leaving out lowest priority first.
 //!
-//! The order is searched on the cost matrix of the Sun at the plan start (the costs change
-//! slowly with the Sun, about a degree of solar elongation a day); the simulation then uses the
-//! Sun of each moment.
+//! 1. **Screening** ([`Context::screen`]): targets never in the band, whose windows are too
+//!    short, outside their proposal window, with too much momentum of their own, or linked to
+//!    one of those are left out with their reason.
+//! 2. **The core's constrained search** ([`wend::constraints::solve_sequence_with`]): the
+//!    remaining targets as stops of an open path from the start, each with its allowed
+//!    windows (visibility inside the proposal window) as time windows on the start of its
+//!    dwell, its dwell as service time, every target optional with a penalty by priority (one
+//!    target of a priority outweighs all targets of lower priorities when the numbers allow,
+//!    see [`priority_penalties`]), `after` links as precedence with least and greatest lags,
+//!    groups as fixed edges, the elapsed time (completion) as the objective; the costs are
+//!    the transition times with the Sun of the plan start. A rule of the caller's
+//!    ([`MomentumRule`]) carries the momentum along each order and breaks when a dump does
+//!    not fit in the waiting and slack before an observation.
+//! 3. **Replay and polish**: the order is played out by the planner's own rules
+//!    ([`Context::play_lenient`]: real Sun, rolls, parking, dumps); then iterated local search
+//!    on the replay ([`super::search::improve`]: moves, swaps, reversals and roll changes,
+//!    elapsed time first, propellant to break ties), and the targets left out are tried again,
+//!    highest priority first.
+//! 4. **Baseline**: the targets in the order their allowed windows close, played out the same
+//!    way, so that every plan says what the search gained.
 //!
 //! **Caution.** A planning aid: plans are proposals to be confirmed by the operations team's
 //! validated tools.
 
 use std::time::{Duration, Instant};
 
+use rand::SeedableRng;
+use rand_pcg::Pcg64;
+use wend::constraints::{
+    solve_sequence_with, Constraints, Objective, Precedence, Route, Row, SequenceError,
+    StepRule, Window as CoreWindow,
+};
+use wend::{Hooks, MatrixCost, Settings, StopHandle, StopReason};
+
 use super::geometry::{norm, Vec3};
-use super::momentum::solar_torque_nm;
-use super::schedule::{Context, PlanError, Runner, Schedule};
-use super::slew::{cost_matrix_ms, Pointing};
-use super::sun::sun_j2000;
-use super::{Epoch, Profile, Target};
-use std::cell::Cell;
-use wend::{Ends, Method, SolveError, Solver, StopHandle, StopReason};
+use super::schedule::{Context, PlanError, Reason, Schedule, Unscheduled, Visit};
+use super::search::{improve, random_chain, Point, Scalar};
+use super::{Epoch, Link, LinkKind, Profile, Target, LOWEST_PRIORITY};
 
 /// How to plan.
 #[derive(Clone, Debug)]
@@ -28,23 +47,19 @@ pub struct PlanOptions {
     pub start: Epoch,
     /// Length of the horizon, days.
     pub horizon_days: f64,
-    /// Time for the order search; `None` for [`default_time_limit`].
+    /// Time for the whole planning; `None` for [`default_time_limit`].
     pub time_limit: Option<Duration>,
-    /// Seed of the search.
+    /// Seed of the searches.
     pub seed: u64,
-    /// Threads of the search; `None` for one per core.
+    /// Threads of the core search; `None` for one per core.
     pub threads: Option<usize>,
-    /// The core method that searches the order.
-    pub method: Method,
     /// Stops the search early; the plan is then made from the best order so far.
     pub stop: StopHandle,
-    /// Weight of the momentum surrogate in the searched costs, seconds per N·m·s (0: time
-    /// only). See [`weighted_matrix`].
-    pub momentum_weight_s_per_nms: f64,
 }
 
 impl PlanOptions {
-    /// Defaults: a 14-day horizon from `start`, the default time limit, seed 0, `lk`.
+    /// Defaults: a [`DEFAULT_HORIZON_DAYS`] horizon from `start`, the default time limit,
+    /// seed 0.
     pub fn new(start: Epoch) -> PlanOptions {
         PlanOptions {
             start,
@@ -52,38 +67,25 @@ impl PlanOptions {
             time_limit: None,
             seed: 0,
             threads: None,
-            method: Method::Lk,
             stop: StopHandle::new(),
-            momentum_weight_s_per_nms: 0.0,
         }
     }
 }
 
 /// Planning horizon by default, days.
-pub const DEFAULT_HORIZON_DAYS: f64 = 14.0;
+pub const DEFAULT_HORIZON_DAYS: f64 = 30.0;
 
-/// Search time by default for `n` targets: 2 s, plus a second per hundred targets past two
-/// hundred (5 s at 500 targets, 50 s at 5,000), so that large pools get time in proportion.
+/// Planning time by default for `n` targets: 3 s, plus a second per hundred targets past two
+/// hundred (6 s at 500 targets, 21 s at 2,000), so that large pools get time in proportion.
 pub fn default_time_limit(n: usize) -> Duration {
-    Duration::from_secs_f64(2.0 + n.saturating_sub(200) as f64 / 100.0)
+    Duration::from_secs_f64(3.0 + n.saturating_sub(200) as f64 / 100.0)
 }
 
-/// Independent runs of the order search.
-pub const SEARCH_RUNS: usize = 2;
-
-/// Kicks per run of the order search for `n` targets: `max(1000, 2n)`. Small pools end long
-/// before the time limit (the order of the 72 demo targets stops changing after a few hundred
-/// kicks); large ones use the time limit.
-pub fn search_iterations(n: usize) -> u64 {
-    (2 * n as u64).max(1000)
-}
-
-/// The whole-horizon path runs only for pools of at most this many targets that fit …
-pub const WHOLE_MAX_TARGETS: usize = 3_000;
-/// … and whose dwells add up to at most this share of the horizon: a path through a pool
-/// much larger than the horizon holds is mostly never played, and only the rolling search
-/// chooses what to leave out.
-pub const WHOLE_MAX_DWELL_SHARE: f64 = 1.5;
+/// Share of the time for the core's search.
+pub const CORE_SHARE: f64 = 0.4;
+/// Share of the time left after the core for fitting in the targets its order leaves out (only
+/// while some are left out); the polish has the rest.
+pub const FIT_SHARE: f64 = 0.5;
 
 /// Why planning failed.
 #[derive(Debug, thiserror::Error)]
@@ -93,36 +95,29 @@ pub enum PlanFailure {
     Input(#[from] PlanError),
     /// The core search failed.
     #[error(transparent)]
-    Solve(#[from] SolveError),
+    Solve(#[from] SequenceError),
     /// The cost matrix could not be built.
-    #[error(transparent)]
-    Cost(#[from] super::slew::SlewCostError),
+    #[error("transition costs: {0}")]
+    Cost(String),
 }
 
 /// A plan and what it is measured against.
 #[derive(Clone, Debug)]
 pub struct Plan {
-    /// The searched order played out with repairs.
+    /// The plan.
     pub schedule: Schedule,
-    /// The nearest neighbour in time from the same first target: each time the cheapest
-    /// target (on the costs of the plan start) among those that fit now.
+    /// The targets in the order their allowed windows close, played out the same way.
     pub baseline: Schedule,
-    /// The whole-horizon order (pool indices), before repairs; empty when that strategy did
-    /// not run (see [`WHOLE_MAX_DWELL_SHARE`]).
-    pub order: Vec<usize>,
-    /// Which strategy made the plan's first order.
-    pub strategy: Strategy,
-    /// True when re-searching that order stage by stage improved it (see [`Plan::schedule`]).
-    pub polished: bool,
-    /// Every schedule the strategies made (whole, rolling, rolling-near, nearest, polished),
-    /// unscheduled lists not completed: the plans a front search starts from.
-    pub alternatives: Vec<Schedule>,
-    /// Its cost on the matrix of the Sun at the plan start, seconds (0 when it did not run).
-    pub order_cost_s: f64,
-    /// The cost of a nearest-neighbour path through the same targets on the same matrix,
-    /// seconds.
-    pub baseline_cost_s: f64,
-    /// Seconds spent on cost matrices, searches and simulations of both strategies.
+    /// The core search's order (pool indices), before the replay and the polish.
+    pub core_order: Vec<usize>,
+    /// True when the core found an order that keeps every window and link on its costs.
+    pub core_feasible: bool,
+    /// Objective values (elapsed seconds, propellant kilograms) of the core's order played
+    /// out, before the polish.
+    pub core_point: Point,
+    /// Plays made by the polish.
+    pub polish_plays: u64,
+    /// Seconds spent in the searches.
     pub search_seconds: f64,
     /// Wall-clock seconds of the whole planning.
     pub seconds: f64,
@@ -130,18 +125,15 @@ pub struct Plan {
     pub stop_reason: PlanStop,
 }
 
-/// Why a planning ended when it did: the order searches (the whole-horizon path, the stages
-/// of the rolling searches and of the polish) each have a share of the time limit.
+/// Why a planning ended when it did.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum PlanStop {
-    /// Every order search ended before its share of the time: each of its runs used up its
-    /// kicks ([`search_iterations`]) or found no improvement left; more time would not
-    /// change the plan.
+    /// Every search ended before its share of the time (no improvement left to find by its
+    /// moves); more time would not change the plan.
     SearchesDone,
-    /// At least one order search was cut by its share of the time limit; more time might
-    /// give a better plan.
+    /// A search used up its share of the time limit; more time might give a better plan.
     TimeLimit,
-    /// The stop handle asked for it (Ctrl-C): the plan is made from the best orders so far.
+    /// The stop handle asked for it (Ctrl-C): the plan is made from the best order so far.
     Cancelled,
 }
 
@@ -159,591 +151,465 @@ impl PlanStop {
     pub fn explain(self) -> &'static str {
         match self {
             PlanStop::SearchesDone => {
-                "every order search ended before its share of the time limit (all runs used \
-                 up their iterations or found no improvement left), so more time would not change \
-                 the plan"
+                "every search ended before its share of the time limit with no improvement \
+                 left to find, so more time would not change the plan"
             }
             PlanStop::TimeLimit => {
-                "at least one order search used up its share of the time limit (the limit is \
-                 shared among the whole-horizon path and the searches of each day); more time \
-                 might find a better plan"
+                "a search used up its share of the time limit; more time might find a better plan"
             }
-            PlanStop::Cancelled => "stopped on request; the plan uses the best orders so far",
+            PlanStop::Cancelled => "stopped on request; the plan uses the best order so far",
         }
     }
 }
 
-/// Length of a stage of the rolling planner, days: after this much plan time the remaining
-/// targets are searched again from where the telescope is.
-pub const STAGE_DAYS: f64 = 1.0;
-/// A stage's search takes the targets whose windows close first, up to this many days of
-/// dwell (twice a stage, so that the search has a choice of what to leave for later).
-pub const STAGE_FILL_DAYS: f64 = 2.0;
-
-/// How the plan's order was made.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Strategy {
-    /// One open path through every target on the costs of the plan start, played out with
-    /// repairs.
-    Whole,
-    /// Stage by stage: from where the telescope is, an open path through the targets that
-    /// fit now, those whose windows close first taken first; re-searched every stage.
-    Rolling,
-    /// Stage by stage like [`Strategy::Rolling`], a stage taking the targets cheapest to
-    /// reach from where the telescope is.
-    RollingNear,
-    /// The nearest neighbour in time (the baseline), when it was the best start.
-    Nearest,
-}
-
-impl Strategy {
-    /// `whole`, `rolling` or `nearest`.
-    pub fn name(self) -> &'static str {
-        match self {
-            Strategy::Whole => "whole",
-            Strategy::Rolling => "rolling",
-            Strategy::RollingNear => "rolling-near",
-            Strategy::Nearest => "nearest",
+/// Penalties of leaving out a target of each priority (index 1 to 9), for the core's
+/// objective of elapsed milliseconds plus penalties: each at least `base` (more than any
+/// elapsed time, so that leaving a target out never saves time), and each priority's at least
+/// the sum over every target of lower priority plus one, when that fits in `i64` with room
+/// for every penalty at once; otherwise the ratio between neighbouring priorities is the
+/// largest that fits (the README says so).
+pub fn priority_penalties(counts: &[usize; 10], base: i64) -> [i64; 10] {
+    let total: usize = counts.iter().sum();
+    let room = i64::MAX / 4 / (total as i64 + 1).max(1);
+    let mut w = [0i64; 10];
+    // Strictly lexicographic where it fits.
+    let mut strict = true;
+    let mut below: i64 = 0;
+    for p in (1..=LOWEST_PRIORITY as usize).rev() {
+        let wp = base.checked_add(below);
+        match wp {
+            Some(v) if v <= room => {
+                w[p] = v;
+                match (counts[p] as i64)
+                    .checked_mul(v)
+                    .and_then(|x| x.checked_add(below))
+                {
+                    Some(b) => below = b,
+                    None => strict = false,
+                }
+            }
+            _ => strict = false,
+        }
+        if !strict {
+            break;
         }
     }
+    if strict {
+        return w;
+    }
+    // Geometric: the largest ratio r with base · r^8 within the room.
+    let levels = LOWEST_PRIORITY as i32 - 1;
+    let r = ((room as f64 / base.max(1) as f64).powf(1.0 / levels as f64)).max(1.0);
+    for p in 1..=LOWEST_PRIORITY as usize {
+        let k = (LOWEST_PRIORITY as usize - p) as i32;
+        w[p] = ((base as f64) * r.powi(k)).min(room as f64) as i64;
+    }
+    w
+}
 
-    /// How the strategy makes an order, in plain words for the text summary.
-    pub fn describe(self) -> &'static str {
-        match self {
-            Strategy::Whole => "one path through every target on the costs of the plan start",
-            Strategy::Rolling => {
-                "a day at a time from where the telescope is, the targets leaving the band \
-                 soonest first"
-            }
-            Strategy::RollingNear => {
-                "a day at a time from where the telescope is, the targets cheapest to reach first"
-            }
-            Strategy::Nearest => "each time the cheapest target that fits now",
+/// The momentum carried along an order of the core's search, with the torque of each target
+/// (at its first candidate roll) over the whole step to it; a step that needs a dump breaks
+/// the rule by the dump time that the waiting and the slack before the observation cannot
+/// hold, in milliseconds.
+pub struct MomentumRule<'c, 'a> {
+    ctx: &'c Context<'a>,
+    /// Pool index of each core node (node 0, the start, has none).
+    nodes: Vec<Option<usize>>,
+    dump_ms: i64,
+}
+
+impl StepRule for MomentumRule<'_, '_> {
+    type State = Vec3;
+
+    fn begin(&self, _first: &Row) -> Vec3 {
+        self.ctx.profile().start_momentum_nms
+    }
+
+    fn step(&self, h: &mut Vec3, from: &Row, to: &Row) -> i64 {
+        let Some(Some(j)) = self.nodes.get(to.stop) else {
+            return 0;
+        };
+        let at = Epoch {
+            jd: self.ctx.start().jd + to.start as f64 / 86_400_000.0,
+        };
+        let tau = self.ctx.nominal_torque(*j, at);
+        let dt = (to.departure - from.departure) as f64 / 1000.0;
+        let next = [h[0] + tau[0] * dt, h[1] + tau[1] * dt, h[2] + tau[2] * dt];
+        if norm(&next) <= self.ctx.threshold_nms() {
+            *h = next;
+            return 0;
         }
+        let dwell = (to.departure - to.start) as f64 / 1000.0;
+        *h = [tau[0] * dwell, tau[1] * dwell, tau[2] * dwell];
+        let room = to.wait + to.slack.unwrap_or(0).max(0);
+        (self.dump_ms - room).max(0)
     }
 }
 
-/// The solar-pressure momentum impulse of each target's dwell at `at` (its torque at its
-/// nominal attitude times its dwell), N·m·s; zero where the attitude is undefined.
-pub fn impulses_nms(profile: &Profile, targets: &[Target], at: Epoch) -> Vec<Vec3> {
-    let sun = sun_j2000(at);
-    targets
+/// Targets counted by priority, highest first: a lexicographic measure of what a plan keeps.
+fn kept(targets: &[Target], s: &Schedule) -> [usize; 10] {
+    let mut c = [0usize; 10];
+    for o in &s.observations {
+        c[targets[o.target].priority as usize] += 1;
+    }
+    c
+}
+
+/// True when `a` is a better plan than `b`: more targets of the highest priority where they
+/// differ, then less elapsed time, then less propellant.
+fn better(targets: &[Target], a: &Schedule, b: &Schedule) -> bool {
+    let (ka, kb) = (kept(targets, a), kept(targets, b));
+    if ka != kb {
+        return ka[1..] > kb[1..];
+    }
+    (a.elapsed_s(), a.propellant_kg) < (b.elapsed_s(), b.propellant_kg)
+}
+
+/// The core's problem over `cands` and its solution: pool indices in order, feasible or not.
+fn core_order(
+    ctx: &Context,
+    cands: &[usize],
+    start_order: &[usize],
+    limit: Duration,
+    options: &PlanOptions,
+) -> Result<(Vec<usize>, bool, bool), PlanFailure> {
+    let targets = ctx.targets();
+    let n = cands.len() + 1;
+    let rows = ctx.cost_matrix_ms(cands, options.start);
+    let cost = MatrixCost::from_rows(&rows).map_err(|e| PlanFailure::Cost(e.to_string()))?;
+    let mut c = Constraints::new(n);
+    let day_ms = 86_400_000.0;
+    let horizon_ms = (options.horizon_days * day_ms).ceil() as i64;
+    let mut counts = [0usize; 10];
+    for &j in cands {
+        counts[targets[j].priority as usize] += 1;
+    }
+    let penalty = priority_penalties(&counts, horizon_ms.saturating_mul(2).max(1));
+    let mut node_of = vec![usize::MAX; targets.len()];
+    for (k, &j) in cands.iter().enumerate() {
+        let node = k + 1;
+        node_of[j] = node;
+        let dwell_ms = (targets[j].duration_s * 1000.0).ceil() as i64;
+        c.service[node] = dwell_ms;
+        c.penalty[node] = Some(penalty[targets[j].priority as usize]);
+        c.windows[node] = ctx
+            .allowed(j)
+            .iter()
+            .filter_map(|w| {
+                let earliest = ((w.start.jd - options.start.jd) * day_ms).ceil() as i64;
+                let latest = ((w.end.jd - options.start.jd) * day_ms).floor() as i64 - dwell_ms;
+                (latest >= earliest).then_some(CoreWindow { earliest, latest })
+            })
+            .collect();
+    }
+    for l in ctx.links() {
+        let (a, b) = (node_of[l.first], node_of[l.second]);
+        if a == usize::MAX || b == usize::MAX {
+            continue;
+        }
+        match l.kind {
+            LinkKind::After => c.precedence.push(Precedence {
+                before: a,
+                after: b,
+                min_lag: l.min_lag_s.map(|s| (s * 1000.0).ceil() as i64),
+                max_lag: l.max_lag_s.map(|s| (s * 1000.0).floor() as i64),
+            }),
+            LinkKind::Group => c.fixed_edges.push((a, b)),
+        }
+    }
+    c.depot = 0;
+    c.route = Route::Path;
+    c.objective = Objective::Completion;
+    c.start_time = 0;
+    let rule = MomentumRule {
+        ctx,
+        nodes: std::iter::once(None)
+            .chain(cands.iter().map(|&j| Some(j)))
+            .collect(),
+        dump_ms: (ctx.profile().dump_s * 1000.0).ceil() as i64,
+    };
+    let settings = Settings {
+        seed: options.seed,
+        time_limit: Some(limit.as_secs_f64().max(0.05)),
+        threads: options.threads,
+        ..Default::default()
+    };
+    let hooks = Hooks {
+        stop: options.stop.clone(),
+        ..Default::default()
+    };
+    let start: Vec<usize> = std::iter::once(0)
+        .chain(start_order.iter().map(|&j| node_of[j]))
+        .filter(|&x| x != usize::MAX)
+        .collect();
+    let out = solve_sequence_with(&cost, &c, &settings, Some(&start), &rule, hooks)?;
+    let cut = out.stop_reason == StopReason::TimeLimit;
+    let order = out
+        .order
         .iter()
-        .map(|t| match Pointing::new(t, &sun.direction) {
-            Some(p) => {
-                let tau = solar_torque_nm(profile, &p.attitude, &sun.direction, sun.distance_au);
-                [
-                    tau[0] * t.duration_s,
-                    tau[1] * t.duration_s,
-                    tau[2] * t.duration_s,
-                ]
+        .filter(|&&x| x != 0)
+        .map(|&x| cands[x - 1])
+        .collect();
+    Ok((order, out.feasible, cut))
+}
+
+/// The candidates in the order their first allowed window closes (ties by opening).
+fn closing_order(ctx: &Context, cands: &[usize]) -> Vec<usize> {
+    let mut v = cands.to_vec();
+    let key = |j: usize| {
+        ctx.allowed(j)
+            .first()
+            .map_or((f64::INFINITY, f64::INFINITY), |w| (w.end.jd, w.start.jd))
+    };
+    v.sort_by(|&a, &b| {
+        let (ka, kb) = (key(a), key(b));
+        ka.0.total_cmp(&kb.0).then(ka.1.total_cmp(&kb.1))
+    });
+    // Grouped targets right after their partner.
+    let mut out: Vec<usize> = Vec::with_capacity(v.len());
+    let mut placed = vec![false; ctx.targets().len()];
+    for &j in &v {
+        if placed[j] || ctx.group_prev(j).is_some_and(|g| cands.contains(&g)) {
+            continue;
+        }
+        let mut k = Some(j);
+        while let Some(x) = k {
+            if placed[x] || !cands.contains(&x) {
+                break;
             }
-            None => [0.0; 3],
-        })
+            placed[x] = true;
+            out.push(x);
+            k = ctx.group_next(x);
+        }
+    }
+    for &j in &v {
+        if !placed[j] {
+            out.push(j);
+        }
+    }
+    out
+}
+
+/// Targets not in `schedule` and not in `screened`, left out for `reason`.
+fn rest(ctx: &Context, cands: &[usize], visits: &[Visit], reason: Reason) -> Vec<Unscheduled> {
+    let mut in_plan = vec![false; ctx.targets().len()];
+    for v in visits {
+        in_plan[v.target] = true;
+    }
+    cands
+        .iter()
+        .filter(|&&j| !in_plan[j])
+        .map(|&j| ctx.unscheduled(j, reason))
         .collect()
 }
 
-/// The cost matrix the searches use, milliseconds: [`cost_matrix_ms`] plus, with a positive
-/// `weight_s_per_nms`, the pairwise momentum surrogate `weight · |I_i + I_j|` on each step
-/// `i → j` (`I` from [`impulses_nms`]): neighbours whose impulses cancel are cheap together,
-/// so the searched order keeps the stored momentum small and dumps rare. The surrogate only
-/// steers the search; plans are always measured by the simulation.
-pub fn weighted_matrix(
-    profile: &Profile,
-    targets: &[Target],
-    at: Epoch,
-    weight_s_per_nms: f64,
-) -> Result<Vec<Vec<i64>>, super::slew::SlewCostError> {
-    let mut m = cost_matrix_ms(profile, targets, at)?;
-    if weight_s_per_nms > 0.0 && weight_s_per_nms.is_finite() {
-        let imp = impulses_nms(profile, targets, at);
-        for (i, row) in m.iter_mut().enumerate() {
-            for (j, cell) in row.iter_mut().enumerate() {
-                if i != j {
-                    let sum = [
-                        imp[i][0] + imp[j][0],
-                        imp[i][1] + imp[j][1],
-                        imp[i][2] + imp[j][2],
-                    ];
-                    let extra = (weight_s_per_nms * norm(&sum) * 1000.0).round();
-                    *cell = cell.saturating_add(extra.min(1e15) as i64);
-                }
-            }
-        }
-    }
-    Ok(m)
-}
-
-/// An open path over the matrix `m` (`m[i][j]`: cost from node `i` to node `j`), starting at
-/// node 0 when `fixed_first`, with `limit` of search: node indices in path order.
-fn search_matrix(
-    m: &[Vec<i64>],
-    fixed_first: bool,
-    limit: Duration,
-    options: &PlanOptions,
-    cut: &Cell<bool>,
-) -> Result<Vec<usize>, PlanFailure> {
-    Ok(match m.len() {
-        0 => Vec::new(),
-        1 => vec![0],
-        2 if fixed_first || m[0][1] <= m[1][0] => vec![0, 1],
-        2 => vec![1, 0],
-        n => {
-            let ends = if fixed_first {
-                Ends::Start(0)
-            } else {
-                Ends::Open
-            };
-            let mut solver = Solver::from_matrix(m)?
-                .ends(ends)
-                .runs(SEARCH_RUNS)
-                .iterations(search_iterations(n))
-                .method(options.method)
-                .seed(options.seed)
-                .time_limit(limit)
-                .stop_handle(options.stop.clone());
-            if let Some(t) = options.threads {
-                solver = solver.threads(t);
-            }
-            let found = solver.solve()?;
-            if found.stop_reason == StopReason::TimeLimit {
-                cut.set(true);
-            }
-            found.tour.order().to_vec()
-        }
-    })
-}
-
-/// [`search_matrix`] through `nodes` (pool indices) on the costs of the Sun at `at`: pool
-/// indices in path order.
-fn search_path(
-    ctx: &Context,
-    nodes: &[usize],
-    at: Epoch,
-    fixed_first: bool,
-    limit: Duration,
-    options: &PlanOptions,
-    cut: &Cell<bool>,
-) -> Result<Vec<usize>, PlanFailure> {
-    let subset: Vec<Target> = nodes.iter().map(|&i| ctx.targets()[i].clone()).collect();
-    let m = weighted_matrix(
-        ctx.profile(),
-        &subset,
-        at,
-        options.momentum_weight_s_per_nms,
-    )?;
-    let local = search_matrix(&m, fixed_first, limit, options, cut)?;
-    Ok(local.iter().map(|&k| nodes[k]).collect())
-}
-
-/// Nearest neighbour on a full matrix from `first`: the cheapest next target each time.
-fn nearest_order(m: &[Vec<i64>], first: usize) -> Vec<usize> {
-    let n = m.len();
-    let mut used = vec![false; n];
-    let mut order = Vec::with_capacity(n);
-    let mut at = first;
-    used[at] = true;
-    order.push(at);
-    while order.len() < n {
-        let row = &m[at];
-        let next = (0..n)
-            .filter(|&j| !used[j])
-            .min_by_key(|&j| (row[j], j))
-            .unwrap_or(at);
-        used[next] = true;
-        order.push(next);
-        at = next;
-    }
-    order
-}
-
-fn path_cost_s(m: &[Vec<i64>], order: &[usize]) -> f64 {
-    order
-        .windows(2)
-        .map(|w| m[w[0]][w[1]] as f64 / 1000.0)
-        .sum()
-}
-
-/// Which targets a stage of the rolling planner takes.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-enum Selection {
-    /// Those whose windows close first.
-    Closing,
-    /// Those cheapest to reach from where the telescope is.
-    Near,
-}
-
-/// The rolling planner (see [`Strategy::Rolling`]); `limit` is the search time of the whole
-/// horizon, shared out by stage.
-fn rolling(
-    ctx: &Context,
-    candidates: &[usize],
-    options: &PlanOptions,
-    limit: Duration,
-    selection: Selection,
-    cut: &Cell<bool>,
-) -> Result<Schedule, PlanFailure> {
-    let targets = ctx.targets();
-    let stages = (options.horizon_days / STAGE_DAYS).ceil().max(1.0);
-    let stage_limit = Duration::from_secs_f64((limit.as_secs_f64() / stages).max(0.05));
-    let mut run = Runner::new(ctx);
-    let mut left: Vec<usize> = candidates.to_vec();
-    loop {
-        left.retain(|&j| !run.dropped(j));
-        if left.is_empty() || options.stop.is_stopped() {
-            break;
-        }
-        let now = run.now();
-        let key = |j: usize| match selection {
-            Selection::Closing => run.window_closes(j).map_or(f64::INFINITY, |e| e.jd),
-            Selection::Near => run.transition_s(j),
-        };
-        let mut fit: Vec<(f64, usize)> = left
-            .iter()
-            .filter(|&&j| run.may_fit_soon(j))
-            .map(|&j| (key(j), j))
-            .collect();
-        if fit.is_empty() {
-            if !run.wait_for_opening(&left) {
-                break;
-            }
-            continue;
-        }
-        fit.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-        let mut nodes: Vec<usize> = run.last().into_iter().collect();
-        let mut dwell_days = 0.0;
-        for &(_, j) in &fit {
-            if dwell_days >= STAGE_FILL_DAYS {
-                break;
-            }
-            nodes.push(j);
-            dwell_days += targets[j].duration_s / 86_400.0;
-        }
-        let fixed = run.last().is_some();
-        let path = search_path(ctx, &nodes, now, fixed, stage_limit, options, cut)?;
-        let queue: Vec<usize> = if fixed { path[1..].to_vec() } else { path };
-        let until = now.jd + STAGE_DAYS;
-        let before = run.scheduled();
-        let mut skipped: Vec<usize> = Vec::new();
-        let mut queue = queue.into_iter();
-        while run.now().jd < until {
-            let mut step = run.first_fitting(&mut skipped, true);
-            while step.is_none() {
-                let Some(j) = queue.next() else { break };
-                step = run.try_target(j);
-                if step.is_none() && !run.dropped(j) {
-                    skipped.push(j);
-                }
-            }
-            match step {
-                Some(s) => run.commit(s),
-                None => break,
-            }
-        }
-        if run.scheduled() == before && !run.wait_for_opening(&left) {
-            break;
-        }
-    }
-    Ok(run.finish(&left))
-}
-
-/// Nearest neighbour in time: from `first`, each time the target of lowest cost (on the
-/// costs of the plan start, row of the last target) among those that fit now, waiting for the
-/// next window when none does.
-fn nearest_in_time(ctx: &Context, candidates: &[usize], m: &[Vec<i64>], first: usize) -> Schedule {
-    let mut run = Runner::new(ctx);
-    // Position of each pool index in `candidates` (the rows and columns of `m`).
-    let mut at = vec![usize::MAX; ctx.targets().len()];
-    for (k, &j) in candidates.iter().enumerate() {
-        at[j] = k;
-    }
-    let mut next: Option<usize> = Some(first);
-    loop {
-        let chosen = match next.take() {
-            Some(j) => run.try_target(j),
-            None => {
-                let mut by_cost: Vec<usize> = candidates
-                    .iter()
-                    .copied()
-                    .filter(|&j| run.may_fit_soon(j))
-                    .collect();
-                if let Some(last) = run.last() {
-                    let row = &m[at[last]];
-                    by_cost.sort_by_key(|&j| (row[at[j]], j));
-                }
-                by_cost.into_iter().find_map(|j| run.try_target(j))
-            }
-        };
-        match chosen {
-            Some(step) => run.commit(step),
-            None => {
-                if !run.wait_for_opening(candidates) {
-                    break;
-                }
-            }
-        }
-    }
-    let left: Vec<usize> = candidates
-        .iter()
-        .copied()
-        .filter(|&j| !run.dropped(j))
-        .collect();
-    run.finish(&left)
-}
-
-/// Re-searches the order of `schedule`'s observations stage by stage (the observations that
-/// start within each [`STAGE_DAYS`], from the last target of the stage before, on the costs of
-/// the Sun at the stage's first start) and plays the new order out with repairs.
-fn polish(
-    ctx: &Context,
-    schedule: &Schedule,
-    options: &PlanOptions,
-    limit: Duration,
-    cut: &Cell<bool>,
-) -> Result<Schedule, PlanFailure> {
-    let obs = &schedule.observations;
-    let stages = (options.horizon_days / STAGE_DAYS).ceil().max(1.0);
-    let stage_limit = Duration::from_secs_f64((limit.as_secs_f64() / stages).max(0.05));
-    let mut order: Vec<usize> = Vec::with_capacity(obs.len());
-    let mut k = 0;
-    while k < obs.len() {
-        let stage_end = obs[k].start.jd + STAGE_DAYS;
-        let mut nodes: Vec<usize> = order.last().copied().into_iter().collect();
-        let fixed = !nodes.is_empty();
-        let at = obs[k].start;
-        while k < obs.len() && obs[k].start.jd < stage_end {
-            nodes.push(obs[k].target);
-            k += 1;
-        }
-        let path = search_path(ctx, &nodes, at, fixed, stage_limit, options, cut)?;
-        order.extend(if fixed { &path[1..] } else { &path[..] });
-    }
-    Ok(ctx.simulate(&order)?)
-}
-
-/// Lists every candidate that `schedule` neither observes nor lists, with its reason.
-fn complete(ctx: &Context, schedule: &mut Schedule, candidates: &[usize]) {
-    let mut listed = vec![false; ctx.targets().len()];
-    for o in &schedule.observations {
-        listed[o.target] = true;
-    }
-    for u in &schedule.unscheduled {
-        listed[u.target] = true;
-    }
-    for &j in candidates {
-        if !listed[j] {
-            schedule.unscheduled.push(ctx.left_out(j, schedule.end));
-        }
-    }
-    schedule.unscheduled.sort_by_key(|u| u.target);
-}
-
-/// True when `a` is a better plan than `b`: more observations, then less overhead without
-/// waiting (slews, settling, thermal, setups, dumps), then less waiting. Waiting comes last
-/// because it is set by when the targets enter the band more than by the order: two plans
-/// that end with the same late target have the same total overhead.
-fn better(a: &Schedule, b: &Schedule) -> bool {
-    let busy = |s: &Schedule| s.overhead_s - s.wait_s;
-    match a.observations.len().cmp(&b.observations.len()) {
-        std::cmp::Ordering::Greater => true,
-        std::cmp::Ordering::Less => false,
-        std::cmp::Ordering::Equal => (busy(a), a.wait_s) < (busy(b), b.wait_s),
-    }
-}
-
-/// Plans `targets` for the observatory `profile`: both strategies of [`Strategy`], the
-/// better plan kept (more observations, then less overhead), beside the nearest neighbour in
-/// time from the same first target.
+/// Plans `targets` for the observatory `profile` under `links` (see the module
+/// documentation).
 pub fn plan(
     profile: &Profile,
     targets: &[Target],
+    links: &[Link],
     options: &PlanOptions,
 ) -> Result<Plan, PlanFailure> {
     let began = Instant::now();
-    let ctx = Context::new(profile, targets, options.start, options.horizon_days)?;
-    let (candidates, screened) = ctx.screen();
+    let ctx = Context::with_links(profile, targets, links, options.start, options.horizon_days)?;
+    let (cands, screened) = ctx.screen();
     let limit = options
         .time_limit
-        .unwrap_or_else(|| default_time_limit(candidates.len()));
-    let searched = Instant::now();
-    let cut = Cell::new(false);
-    // The costs of the plan start over every candidate: for the whole-horizon path, the
-    // nearest neighbour in time and the comparison of their path costs.
-    let pool: Vec<Target> = candidates.iter().map(|&i| targets[i].clone()).collect();
-    let m = weighted_matrix(
-        profile,
-        &pool,
-        options.start,
-        options.momentum_weight_s_per_nms,
+        .unwrap_or_else(|| default_time_limit(cands.len()));
+    let deadline = began + limit;
+    let closing = closing_order(&ctx, &cands);
+    let baseline = ctx.play_lenient(
+        &Context::nominal(&closing),
+        &[screened.clone(), Vec::new()].concat(),
     )?;
-    let dwell_s: f64 = pool.iter().map(|t| t.duration_s).sum();
-    let whole_fits = candidates.len() <= WHOLE_MAX_TARGETS
-        && dwell_s <= WHOLE_MAX_DWELL_SHARE * options.horizon_days * 86_400.0;
-    // Time: two fifths for the whole-horizon path (when it runs), the rest of four fifths
-    // shared by the two rolling searches, one fifth to polish.
-    let share = limit / 5;
-    let (whole, order) = if whole_fits {
-        let local = search_matrix(&m, false, share * 2, options, &cut)?;
-        let order: Vec<usize> = local.iter().map(|&k| candidates[k]).collect();
-        (Some(ctx.simulate(&order)?), local)
+    let mut cut = false;
+    let (core, core_feasible) = if cands.is_empty() {
+        (Vec::new(), true)
     } else {
-        (None, Vec::new())
+        let (order, feasible, c) =
+            core_order(&ctx, &cands, &closing, limit.mul_f64(CORE_SHARE), options)?;
+        cut |= c;
+        (order, feasible)
     };
-    let order_cost_s = path_cost_s(&m, &order);
-    let order: Vec<usize> = order.iter().map(|&k| candidates[k]).collect();
-    let rolling_limit = if whole_fits { share } else { share * 2 };
-    let staged = rolling(
-        &ctx,
-        &candidates,
-        options,
-        rolling_limit,
-        Selection::Closing,
-        &cut,
-    )?;
-    let near = rolling(
-        &ctx,
-        &candidates,
-        options,
-        rolling_limit,
-        Selection::Near,
-        &cut,
-    )?;
-    let first = whole
+    // The core's order played out, the targets it left out after it (in the order their
+    // windows close): a play that leaves out what does not fit at its turn.
+    let mut full = core.clone();
+    for &j in &closing {
+        if !full.contains(&j) {
+            full.push(j);
+        }
+    }
+    let visits = Context::nominal(&full);
+    let first = ctx.play_lenient(&visits, &screened)?;
+    let core_point = (first.elapsed_s(), first.propellant_kg);
+    let mut best = if better(targets, &baseline, &first) {
+        baseline.clone()
+    } else {
+        first
+    };
+    let stop = options.stop.clone();
+    let timeout = || Instant::now() >= deadline || stop.is_stopped();
+    let mut rng = Pcg64::seed_from_u64(options.seed ^ 0x91a7);
+    let mut plays = 0u64;
+    // While targets are left out: search the whole sequence (kept and left out), each
+    // candidate played leaving out what does not fit, for more targets by priority.
+    if best.observations.len() < cands.len() && !timeout() {
+        let share_end = Instant::now()
+            + deadline
+                .saturating_duration_since(Instant::now())
+                .mul_f64(FIT_SHARE);
+        let mut seq = best.visits();
+        for &j in &closing {
+            if !seq.iter().any(|v| v.target == j) {
+                seq.push(Visit { target: j, roll: 0 });
+            }
+        }
+        let mut cur = (seq, best.clone());
+        let mut stall = 0u64;
+        while cur.1.observations.len() < cands.len()
+            && Instant::now() < share_end
+            && !stop.is_stopped()
+            && stall < 200 + 20 * cands.len() as u64
+        {
+            let Some((cand, _)) = random_chain(&ctx, &cur.0, 3, &mut rng) else {
+                stall += 1;
+                continue;
+            };
+            plays += 1;
+            let s = ctx.play_lenient(&cand, &screened)?;
+            let not_worse = !better(targets, &cur.1, &s);
+            if better(targets, &s, &cur.1) {
+                stall = 0;
+            } else {
+                stall += 1;
+            }
+            if not_worse {
+                cur = (cand, s);
+            }
+        }
+        if better(targets, &cur.1, &best) {
+            best = cur.1;
+        }
+    }
+    // Polish: elapsed time first, propellant to break ties, on the targets kept.
+    let mut polish = |best: &mut Schedule, plays: &mut u64| {
+        let v = best.visits();
+        if v.is_empty() {
+            return;
+        }
+        let objective = Scalar {
+            time_scale: best.elapsed_s().max(1.0),
+            kg_scale: best.propellant_kg.max(1e-9),
+            weight: 1e-6,
+        };
+        let mut count = 0u64;
+        let mut seen = |_: &[Visit], _: Point| count += 1;
+        if let Some((v2, _)) = improve(&ctx, &v, objective, u64::MAX, &mut rng, &mut seen, &timeout)
+        {
+            if let Ok(Ok(s)) = ctx.play(&v2) {
+                let keep_out = best.unscheduled.clone();
+                let s = Schedule {
+                    unscheduled: keep_out,
+                    ..s
+                };
+                if better(targets, &s, best) {
+                    *best = s;
+                }
+            }
+        }
+        *plays += count;
+    };
+    polish(&mut best, &mut plays);
+    // The targets left out, highest priority first: each tried at every position.
+    let mut out: Vec<usize> = cands
         .iter()
-        .chain(std::iter::once(&staged))
-        .find_map(|s| s.observations.first().map(|o| o.target));
-    let (baseline, baseline_cost_s) = match first {
-        Some(f) => {
-            let k = candidates.iter().position(|&j| j == f).unwrap_or(0);
-            let local = nearest_order(&m, k);
-            (
-                nearest_in_time(&ctx, &candidates, &m, f),
-                path_cost_s(&m, &local),
-            )
+        .copied()
+        .filter(|j| !best.observations.iter().any(|o| o.target == *j))
+        .collect();
+    out.sort_by_key(|&j| targets[j].priority);
+    for j in out {
+        if timeout() {
+            cut = true;
+            break;
         }
-        None => (ctx.simulate(&[])?, 0.0),
+        let v = best.visits();
+        let mut found: Option<Schedule> = None;
+        for pos in 0..=v.len() {
+            for roll in 0..ctx.rolls(j).len() as u8 {
+                let mut w = v.clone();
+                w.insert(pos, Visit { target: j, roll });
+                plays += 1;
+                if let Ok(Ok(s)) = ctx.play(&w) {
+                    if found.as_ref().is_none_or(|f| better(targets, &s, f)) {
+                        found = Some(s);
+                    }
+                }
+            }
+        }
+        if let Some(s) = found {
+            best = s;
+        }
+    }
+    if Instant::now() >= deadline {
+        cut = true;
+    }
+    // What is still left out: the replay's reasons for what the core kept, priority for what
+    // the core or the insertions could not fit.
+    let kept_visits = best.visits();
+    let mut unscheduled = screened.clone();
+    let replayed = ctx.play_lenient(&Context::nominal(&core), &[])?;
+    for u in rest(&ctx, &cands, &kept_visits, Reason::Priority) {
+        let reason = replayed
+            .unscheduled
+            .iter()
+            .find(|r| r.target == u.target)
+            .map_or(Reason::Priority, |r| r.reason);
+        unscheduled.push(ctx.unscheduled(u.target, reason));
+    }
+    unscheduled.sort_by_key(|u| u.target);
+    best.unscheduled = unscheduled;
+    let stop_reason = if options.stop.is_stopped() {
+        PlanStop::Cancelled
+    } else if cut {
+        PlanStop::TimeLimit
+    } else {
+        PlanStop::SearchesDone
     };
-    let mut tried: Vec<(Schedule, Strategy)> =
-        whole.into_iter().map(|s| (s, Strategy::Whole)).collect();
-    tried.push((staged, Strategy::Rolling));
-    tried.push((near, Strategy::RollingNear));
-    tried.push((baseline.clone(), Strategy::Nearest));
-    let mut best = 0;
-    for k in 1..tried.len() {
-        if better(&tried[k].0, &tried[best].0) {
-            best = k;
-        }
-    }
-    let (mut schedule, strategy) = tried[best].clone();
-    let again = polish(&ctx, &schedule, options, share, &cut)?;
-    let polished = better(&again, &schedule);
-    tried.push((again.clone(), strategy));
-    if polished {
-        schedule = again;
-    }
-    let alternatives: Vec<Schedule> = tried.into_iter().map(|(s, _)| s).collect();
-    let search_seconds = searched.elapsed().as_secs_f64();
-    let mut baseline = baseline;
-    complete(&ctx, &mut schedule, &candidates);
-    complete(&ctx, &mut baseline, &candidates);
-    for s in [&mut schedule, &mut baseline] {
-        s.unscheduled.extend(screened.iter().cloned());
-        s.unscheduled.sort_by_key(|u| u.target);
-    }
     Ok(Plan {
-        order_cost_s,
-        baseline_cost_s,
-        schedule,
+        schedule: best,
         baseline,
-        order,
-        strategy,
-        polished,
-        alternatives,
-        search_seconds,
+        core_order: core,
+        core_feasible,
+        core_point,
+        polish_plays: plays,
+        search_seconds: began.elapsed().as_secs_f64(),
         seconds: began.elapsed().as_secs_f64(),
-        stop_reason: if options.stop.is_stopped() {
-            PlanStop::Cancelled
-        } else if cut.get() {
-            PlanStop::TimeLimit
-        } else {
-            PlanStop::SearchesDone
-        },
+        stop_reason,
     })
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::testing::{sky_profile, sky_targets};
-
-    const START: Epoch = Epoch { jd: 2_461_465.5 };
-
-    fn options() -> PlanOptions {
-        let mut o = PlanOptions::new(START);
-        o.horizon_days = 3.0;
-        o.time_limit = Some(Duration::from_millis(500));
-        o.threads = Some(1);
-        o.seed = 3;
-        o
-    }
 
     #[test]
-    fn a_plan_lists_every_target_once_and_is_no_worse_than_the_nearest_neighbour() {
-        let p = sky_profile();
-        let targets = sky_targets(150, 11);
-        let made = plan(&p, &targets, &options()).unwrap();
-        for s in [&made.schedule, &made.baseline] {
-            let mut seen = vec![0; targets.len()];
-            for o in &s.observations {
-                seen[o.target] += 1;
-            }
-            for u in &s.unscheduled {
-                seen[u.target] += 1;
-            }
-            assert!(seen.iter().all(|&c| c == 1));
-        }
-        assert!(!better(&made.baseline, &made.schedule));
-        assert!(made.schedule.observations.len() > 20);
-        // The whole-horizon order is a permutation of the candidates.
-        let ctx = Context::new(&p, &targets, START, 3.0).unwrap();
-        let (mut candidates, _) = ctx.screen();
-        let mut order = made.order.clone();
-        order.sort_unstable();
-        candidates.sort_unstable();
-        assert_eq!(order, candidates);
-    }
-
-    #[test]
-    fn the_same_seed_on_one_thread_gives_the_same_plan() {
-        let p = sky_profile();
-        let targets = sky_targets(90, 2);
-        let mut o = options();
-        // A kick budget rather than the clock decides where the searches end.
-        o.time_limit = Some(Duration::from_secs(60));
-        let a = plan(&p, &targets, &o).unwrap();
-        let b = plan(&p, &targets, &o).unwrap();
-        assert_eq!(a.schedule, b.schedule);
-        assert_eq!(a.order, b.order);
-    }
-
-    #[test]
-    fn tiny_pools_are_planned_without_a_search() {
-        let p = sky_profile();
-        let pool = sky_targets(40, 5);
-        let ctx = Context::new(&p, &pool, START, 3.0).unwrap();
-        let (candidates, _) = ctx.screen();
-        for n in 0..=3 {
-            let targets: Vec<Target> = candidates
-                .iter()
-                .take(n)
-                .map(|&i| pool[i].clone())
-                .collect();
-            let made = plan(&p, &targets, &options()).unwrap();
-            assert_eq!(
-                made.schedule.observations.len() + made.schedule.unscheduled.len(),
-                n
-            );
-            assert_eq!(made.schedule.observations.len(), n, "n = {n}");
-        }
+    fn penalties_are_lexicographic_where_they_fit() {
+        let mut counts = [0usize; 10];
+        counts[1] = 3;
+        counts[2] = 5;
+        counts[9] = 7;
+        let w = priority_penalties(&counts, 1000);
+        // A priority-2 target outweighs the seven of priority 9; a priority-1 target outweighs
+        // everything below it.
+        assert!(w[2] > 7 * w[9]);
+        assert!(w[1] > 5 * w[2] + 7 * w[9]);
+        assert!(w[9] >= 1000);
+        // Many targets over many levels do not overflow: the ratio shrinks instead.
+        let counts = [0, 300, 300, 300, 300, 300, 300, 300, 300, 300];
+        let w = priority_penalties(&counts, 5_000_000_000);
+        assert!((1..9).all(|p| w[p] > w[p + 1]), "{w:?}");
+        let total: i128 = (1..10).map(|p| w[p] as i128 * 300).sum();
+        assert!(total < i64::MAX as i128);
     }
 }

@@ -33,6 +33,12 @@ pub struct DemoArgs {
     /// Seed of all random choices.
     #[arg(long, short = 's', default_value_t = 0)]
     seed: u64,
+    /// Seconds for the sky part: the demo observatory's plan and its front.
+    #[arg(long, default_value_t = 10.0, value_name = "SECONDS")]
+    sky_seconds: f64,
+    /// Directory for the sky part's files (plan, front, pictures, report page).
+    #[arg(long, default_value = "demo-out/sky", value_name = "DIR")]
+    sky_out: std::path::PathBuf,
 }
 
 pub fn run(a: DemoArgs) -> Result<(), CliError> {
@@ -95,5 +101,14 @@ pub fn run(a: DemoArgs) -> Result<(), CliError> {
             gaps.iter().sum::<f64>() / gaps.len() as f64
         );
     }
-    Ok(())
+    if super::interrupt::interrupted() {
+        return Ok(());
+    }
+    println!();
+    println!(
+        "Planning the invented demo observatory's 30-day pool with its front of elapsed time \
+         against propellant ({} s):",
+        a.sky_seconds
+    );
+    super::sky::demo(&a.sky_out, a.sky_seconds, a.seed)
 }

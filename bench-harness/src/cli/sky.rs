@@ -7,19 +7,18 @@ use super::{write_file, CliError};
 use clap::{Args, Subcommand};
 use std::path::{Path, PathBuf};
 use std::time::Duration;
-use wend::Method;
 use wend_sky::draw::{write_momentum_chart, write_sky_map, MomentumTrace, SkyMap};
 use wend_sky::front::{search_front, Front, FrontOptions, FrontProgress};
 use wend_sky::front_report::{write_front_svg, write_report_html, FrontReport, FrontRow};
 use wend_sky::output::{
-    self, busy_overhead_ratio, busy_overhead_s, elapsed_s, format_utc, front_json, hour_grams,
-    parse_utc, plan_json, CAUTION, DEMO_START_UTC,
+    self, busy_overhead_ratio, busy_overhead_s, elapsed_s, end_times_differ, format_utc,
+    front_json, hour_grams, parse_utc, plan_json, CAUTION, CAUTION_TXT, DEMO_START_UTC,
 };
 use wend_sky::plan::{plan, PlanOptions, DEFAULT_HORIZON_DAYS};
-use wend_sky::schedule::Schedule;
+use wend_sky::schedule::{Context, Play, Schedule, Visit};
 use wend_sky::sun::sun_j2000;
-use wend_sky::{demo_profile, demo_targets, read_profile, read_targets};
-use wend_sky::{Epoch, Profile, Target};
+use wend_sky::{demo_links, demo_profile, demo_targets, read_profile, read_targets};
+use wend_sky::{Epoch, Link, Profile, StartPointing, Target};
 
 #[derive(Args, Debug)]
 pub struct SkyArgs {
@@ -29,21 +28,26 @@ pub struct SkyArgs {
 
 #[derive(Subcommand, Debug)]
 enum SkyCommand {
-    /// Turn a pool of targets into an observing sequence that keeps overhead low, checked in
-    /// real time against the elongation band, with momentum dumps.
+    /// Turn a pool of targets into an observing plan that keeps every window and link, keeps
+    /// overhead low and manages the momentum sunlight builds in the reaction wheels.
     Plan(PlanArgs),
+    /// Replay a planner's own sequence (and rolls) and report every violated window, link or
+    /// band, with the momentum, dumps and propellant (exit code 3 on a violation).
+    Check(CheckArgs),
     /// Write a seeded random pool of targets (for benchmarks; not the demo).
     Targets(TargetsArgs),
 }
 
+/// What plan and check share: the pool, the observatory and the start.
 #[derive(Args, Debug)]
-pub struct PlanArgs {
-    /// Targets CSV (columns id,ra_deg,dec_deg,duration_s and optionally instrument). Without
-    /// it: the built-in demo targets of the invented Lantern Deep-Sky Observatory.
-    targets: Option<PathBuf>,
+struct PoolArgs {
     /// Observatory profile (TOML). Without it: the built-in demo profile.
     #[arg(long, value_name = "FILE")]
     profile: Option<PathBuf>,
+    /// Timing links between targets (CSV: kind,first,second,min_lag_s,max_lag_s). Without a
+    /// targets file: the demo's links.
+    #[arg(long, value_name = "FILE")]
+    links: Option<PathBuf>,
     /// Plan start, ISO 8601 with a UTC offset (2027-03-01T00:00:00Z, or a date for 00:00
     /// UTC). Needed with a targets file; the demo starts at 2027-03-01T00:00:00Z.
     #[arg(long, value_name = "ISO8601")]
@@ -51,28 +55,68 @@ pub struct PlanArgs {
     /// Length of the planning horizon, days.
     #[arg(long, default_value_t = DEFAULT_HORIZON_DAYS, value_name = "DAYS", allow_negative_numbers = true)]
     horizon_days: f64,
-    /// Directory for plan.csv, unscheduled.csv, sky-map.svg, momentum.svg and summary.json
-    /// (created if missing). Without it nothing is written but the summary.
+    /// Where the telescope points at the start: RA,DEC[,ROLL] in degrees (overrides the
+    /// profile's start_ra_deg, start_dec_deg, start_roll_deg).
+    #[arg(long, value_name = "RA,DEC[,ROLL]", allow_hyphen_values = true)]
+    start_attitude: Option<String>,
+    /// Momentum in the wheels at the start: HX,HY,HZ in N·m·s, inertial J2000 axes
+    /// (overrides the profile's start_momentum_nms).
+    #[arg(long, value_name = "HX,HY,HZ", allow_hyphen_values = true)]
+    start_momentum: Option<String>,
+    /// Allowed roll offsets about the boresight for every target without its own range:
+    /// MIN,MAX in degrees (overrides the profile's roll_min_deg, roll_max_deg; 0,0 for the
+    /// nominal roll only).
+    #[arg(long, value_name = "MIN,MAX", allow_hyphen_values = true)]
+    roll_range: Option<String>,
+}
+
+#[derive(Args, Debug)]
+pub struct PlanArgs {
+    /// Targets CSV (columns id,ra_deg,dec_deg,duration_s and optionally instrument,
+    /// priority, window_start, window_end, roll_min_deg, roll_max_deg). Without it: the
+    /// built-in demo targets of the invented Lantern Deep-Sky Observatory.
+    targets: Option<PathBuf>,
+    #[command(flatten)]
+    pool: PoolArgs,
+    /// Directory for plan.csv, momentum.csv, visibility.csv, unscheduled.csv, CAUTION.txt,
+    /// the pictures and summary.json (created if missing). Without it nothing is written but
+    /// the summary.
     #[arg(long, short, value_name = "DIR")]
     out: Option<PathBuf>,
-    /// Seconds for the order search (default: 2 s, plus 1 s per 100 targets past 200).
+    /// Seconds for planning (default: 3 s, plus 1 s per 100 targets past 200), or for the
+    /// whole front search with --front (default 30 s).
     #[arg(long, short, value_name = "SECONDS", allow_negative_numbers = true)]
     time_limit: Option<f64>,
-    /// Seed of the order search.
+    /// Seed of the searches.
     #[arg(long, short, default_value_t = 0)]
     seed: u64,
-    /// Worker threads of the search (default: one per core).
+    /// Worker threads of the core search (default: one per core).
     #[arg(long, short = 'j')]
     threads: Option<usize>,
     /// Print one JSON object on stdout instead of the text summary (the caution is its
     /// `caution` key).
     #[arg(long)]
     json: bool,
-    /// Search the Pareto front of plans over busy overhead (waiting excluded) and propellant
-    /// (for --time-limit seconds, default 30) and write front.csv, plan-K.csv, front.svg and
-    /// report.html.
+    /// Search the Pareto front of plans over elapsed time and propellant and write
+    /// front.csv, plan-K.csv, front.svg and report.html.
     #[arg(long)]
     front: bool,
+}
+
+#[derive(Args, Debug)]
+pub struct CheckArgs {
+    /// The plan to check: a CSV with a `target` column (ids, in observing order) and
+    /// optionally `roll_deg` and `start_utc` (other columns are ignored, so a plan.csv the
+    /// planner wrote reads as it is).
+    plan: PathBuf,
+    /// Targets CSV the plan draws on. Without it: the built-in demo targets.
+    #[arg(long, value_name = "FILE")]
+    targets: Option<PathBuf>,
+    #[command(flatten)]
+    pool: PoolArgs,
+    /// Print one JSON object on stdout instead of the text report.
+    #[arg(long)]
+    json: bool,
 }
 
 #[derive(Args, Debug)]
@@ -86,15 +130,42 @@ pub struct TargetsArgs {
     /// Profile whose instruments the targets use (default: the demo profile).
     #[arg(long, value_name = "FILE")]
     profile: Option<PathBuf>,
+    /// Shortest and longest dwell, seconds: MIN,MAX (default 600,3600).
+    #[arg(long, value_name = "MIN,MAX")]
+    dwell_s: Option<String>,
     /// Output CSV file.
     #[arg(long, short, value_name = "FILE")]
     out: PathBuf,
+}
+
+/// The sky part of `wend demo`: the demo pool planned with its front for `seconds`, the files
+/// written to `out`, a short summary printed with where the report page is.
+pub fn demo(out: &Path, seconds: f64, seed: u64) -> Result<(), CliError> {
+    run_plan(PlanArgs {
+        targets: None,
+        pool: PoolArgs {
+            profile: None,
+            links: None,
+            start: None,
+            horizon_days: DEFAULT_HORIZON_DAYS,
+            start_attitude: None,
+            start_momentum: None,
+            roll_range: None,
+        },
+        out: Some(out.to_path_buf()),
+        time_limit: Some(seconds),
+        seed,
+        threads: None,
+        json: false,
+        front: true,
+    })
 }
 
 /// Runs `wend sky ...`.
 pub fn run(args: SkyArgs) -> Result<(), CliError> {
     match args.command {
         SkyCommand::Plan(a) => run_plan(a),
+        SkyCommand::Check(a) => run_check(a),
         SkyCommand::Targets(a) => run_targets(a),
     }
 }
@@ -106,11 +177,36 @@ fn load_profile(path: &Option<PathBuf>) -> Result<Profile, CliError> {
     }
 }
 
+/// Numbers separated by commas, `count` of them (or `min..=max`), for option `name`.
+fn numbers(text: &str, name: &str, min: usize, max: usize) -> Result<Vec<f64>, CliError> {
+    let v: Result<Vec<f64>, _> = text.split(',').map(|x| x.trim().parse::<f64>()).collect();
+    match v {
+        Ok(v) if (min..=max).contains(&v.len()) && v.iter().all(|x| x.is_finite()) => Ok(v),
+        _ => Err(CliError::Input(format!(
+            "{name}: expected {} finite numbers separated by commas, got '{text}'",
+            if min == max {
+                min.to_string()
+            } else {
+                format!("{min} to {max}")
+            }
+        ))),
+    }
+}
+
 fn run_targets(a: TargetsArgs) -> Result<(), CliError> {
     let profile = load_profile(&a.profile)?;
-    let targets = output::random_targets(a.count, a.seed, &profile);
+    let mut targets = output::random_targets(a.count, a.seed, &profile);
+    if let Some(text) = &a.dwell_s {
+        let v = numbers(text, "--dwell-s", 2, 2)?;
+        if !(0.0 <= v[0] && v[0] <= v[1] && v[1] <= 1e7) {
+            return Err(CliError::Input(format!(
+                "--dwell-s: need 0 <= MIN <= MAX <= 1e7 seconds, got {text}"
+            )));
+        }
+        output::scale_dwells(&mut targets, (v[0], v[1]), a.seed);
+    }
     let comment = format!(
-        "Random targets for benchmarks (wend sky targets --count {} --seed {}); invented data.\nCAUTION: {CAUTION}",
+        "Random targets for benchmarks (wend sky targets --count {} --seed {}); invented data.",
         a.count, a.seed
     );
     write_file(&a.out, |w| {
@@ -124,23 +220,47 @@ fn input_error(e: impl std::fmt::Display) -> CliError {
     CliError::Input(e.to_string())
 }
 
-/// A failure of the planner, which has no file of its own: the targets and the profile it was
-/// given are named.
-fn planning_error(a: &PlanArgs, e: impl std::fmt::Display) -> CliError {
-    let shown = |p: &Option<PathBuf>, demo: &str| {
-        p.as_ref()
-            .map_or_else(|| demo.to_string(), |p| p.display().to_string())
-    };
-    CliError::Input(format!(
-        "{} (profile {}): {e}",
-        shown(&a.targets, "demo targets (built in)"),
-        shown(&a.profile, "demo profile (built in)")
-    ))
+/// The pool, profile (with the start and roll options applied), links and start.
+struct Pool {
+    profile: Profile,
+    targets: Vec<Target>,
+    links: Vec<Link>,
+    start: Epoch,
+    horizon_days: f64,
+    /// How the inputs are named in errors of the planner.
+    names: String,
 }
 
-fn run_plan(a: PlanArgs) -> Result<(), CliError> {
-    let profile = load_profile(&a.profile)?;
-    let (targets, start_text): (Vec<Target>, String) = match &a.targets {
+fn load_pool(targets_path: &Option<PathBuf>, a: &PoolArgs) -> Result<Pool, CliError> {
+    let mut profile = load_profile(&a.profile)?;
+    if let Some(text) = &a.start_attitude {
+        let v = numbers(text, "--start-attitude", 2, 3)?;
+        if !(-90.0..=90.0).contains(&v[1]) {
+            return Err(CliError::Input(format!(
+                "--start-attitude: declination {} is outside [-90, 90]",
+                v[1]
+            )));
+        }
+        profile.start_pointing = Some(StartPointing {
+            ra_deg: v[0],
+            dec_deg: v[1],
+            roll_deg: v.get(2).copied().unwrap_or(0.0),
+        });
+    }
+    if let Some(text) = &a.start_momentum {
+        let v = numbers(text, "--start-momentum", 3, 3)?;
+        profile.start_momentum_nms = [v[0], v[1], v[2]];
+    }
+    if let Some(text) = &a.roll_range {
+        let v = numbers(text, "--roll-range", 2, 2)?;
+        if !(-180.0 <= v[0] && v[0] <= v[1] && v[1] <= 180.0) {
+            return Err(CliError::Input(format!(
+                "--roll-range: need -180 <= MIN <= MAX <= 180, got {text}"
+            )));
+        }
+        profile.roll_range_deg = (v[0], v[1]);
+    }
+    let (targets, start_text) = match targets_path {
         Some(path) => {
             let targets = read_targets(path, &profile).map_err(input_error)?;
             let start = a.start.clone().ok_or_else(|| {
@@ -156,6 +276,11 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
             a.start.clone().unwrap_or_else(|| DEMO_START_UTC.into()),
         ),
     };
+    let links = match (&a.links, targets_path) {
+        (Some(path), _) => wend_sky::links::read_links(path, &targets).map_err(input_error)?,
+        (None, None) => demo_links(&targets),
+        (None, Some(_)) => Vec::new(),
+    };
     let start = parse_utc(&start_text).map_err(|e| CliError::Input(format!("--start: {e}")))?;
     if !(a.horizon_days.is_finite() && a.horizon_days > 0.0 && a.horizon_days <= 3660.0) {
         return Err(CliError::Input(format!(
@@ -163,6 +288,36 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
             a.horizon_days
         )));
     }
+    let shown = |p: &Option<PathBuf>, demo: &str| {
+        p.as_ref()
+            .map_or_else(|| demo.to_string(), |p| p.display().to_string())
+    };
+    let names = format!(
+        "{} (profile {})",
+        shown(targets_path, "demo targets (built in)"),
+        shown(&a.profile, "demo profile (built in)")
+    );
+    Ok(Pool {
+        profile,
+        targets,
+        links,
+        start,
+        horizon_days: a.horizon_days,
+        names,
+    })
+}
+
+fn run_plan(a: PlanArgs) -> Result<(), CliError> {
+    let pool = load_pool(&a.targets, &a.pool)?;
+    let Pool {
+        profile,
+        targets,
+        links,
+        start,
+        horizon_days,
+        names,
+    } = &pool;
+    let planning_error = |e: &dyn std::fmt::Display| CliError::Input(format!("{names}: {e}"));
     let time_limit = match a.time_limit {
         None => None,
         Some(s) if s.is_finite() && s > 0.0 && s < 1e9 => Some(Duration::from_secs_f64(s)),
@@ -178,12 +333,11 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
     if let Some(dir) = &a.out {
         output::check_out_dir(dir).map_err(CliError::Input)?;
     }
-    let mut options = PlanOptions::new(start);
-    options.horizon_days = a.horizon_days;
+    let mut options = PlanOptions::new(*start);
+    options.horizon_days = *horizon_days;
     options.time_limit = time_limit;
     options.seed = a.seed;
     options.threads = a.threads;
-    options.method = Method::Lk;
     options.stop = super::interrupt::handle();
     // The caution reaches the terminal once: on stdout, first line of the text summary or the
     // `caution` key of the JSON; stderr carries progress only.
@@ -192,8 +346,8 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
             "planning {} targets of {} from {} over {} days ...",
             targets.len(),
             profile.name,
-            format_utc(start),
-            a.horizon_days
+            format_utc(*start),
+            horizon_days
         );
     }
     let (made, front) = if a.front {
@@ -203,42 +357,36 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
         }
         let quiet = a.json;
         let progress = move |p: FrontProgress| {
-            if quiet {
-                return;
-            }
-            match (p.hypervolume, p.reference) {
-                (Some(hv), Some(r)) => eprintln!(
+            if !quiet {
+                eprintln!(
                     "front: {} plans, hypervolume {:.1} h·g {}, {} plans played, {:.0} s",
                     p.plans,
-                    hour_grams(hv),
-                    reference_text(r),
+                    hour_grams(p.hypervolume),
+                    reference_text(p.reference),
                     p.evaluations,
                     p.seconds
-                ),
-                _ => eprintln!(
-                    "front: {} plans from the weighted runs (the hypervolume follows once they \
-                     fix its reference), {} plans played, {:.0} s",
-                    p.plans, p.evaluations, p.seconds
-                ),
+                );
             }
         };
-        let front =
-            search_front(&profile, &targets, &fo, &progress).map_err(|e| planning_error(&a, e))?;
+        let front = search_front(profile, targets, links, &fo, &progress)
+            .map_err(|e| planning_error(&e))?;
         (front.single.clone(), Some(front))
     } else {
         (
-            plan(&profile, &targets, &options).map_err(|e| planning_error(&a, e))?,
+            plan(profile, targets, links, &options).map_err(|e| planning_error(&e))?,
             None,
         )
     };
-    let mut summary = plan_json(&profile, &targets, &made, start, a.horizon_days);
+    let mut summary = plan_json(profile, targets, &made, *start, *horizon_days);
     if let (Some(front), Some(obj)) = (&front, summary.as_object_mut()) {
-        obj.extend(front_json(front, start));
+        obj.extend(front_json(front, *start));
     }
     if let Some(dir) = &a.out {
-        write_outputs(dir, &profile, &targets, &made, &summary, start)?;
+        let ctx = Context::with_links(profile, targets, links, *start, *horizon_days)
+            .map_err(|e| planning_error(&e))?;
+        write_outputs(dir, &ctx, &made.schedule, &summary)?;
         if let Some(front) = &front {
-            write_front_files(dir, &profile, &targets, front, start)?;
+            write_front_files(dir, profile, targets, front, *start)?;
         }
     }
     if a.json {
@@ -252,7 +400,7 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
         "{}: {} targets, plan {} to {}",
         profile.name,
         targets.len(),
-        format_utc(start),
+        format_utc(*start),
         format_utc(s.end)
     );
     println!(
@@ -263,42 +411,32 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
     );
     println!(
         "elapsed {:.2} h until the last observation ends (busy overhead {:.2} h, waiting {:.2} h), \
-         slewing {:.1} deg, {} dumps, propellant {:.4} kg, {} repairs",
-        elapsed_s(s, start) / 3600.0,
+         slewing {:.1} deg, {} dumps, propellant {:.2} g, largest stored momentum {:.2} of {:.2} N·m·s",
+        elapsed_s(s, *start) / 3600.0,
         busy_overhead_s(s) / 3600.0,
         s.wait_s / 3600.0,
         s.slew_deg,
         s.dumps,
-        s.propellant_kg,
-        s.repairs
+        s.propellant_kg * 1000.0,
+        s.peak_momentum_nms,
+        profile.wheel_limit_nms * profile.wheel_margin
     );
     println!(
-        "nearest neighbour in time: scheduled {}, elapsed {:.2} h (busy overhead {:.2} h, \
-         waiting {:.2} h), {} dumps, propellant {:.4} kg",
+        "baseline (targets in the order their windows close): scheduled {}, elapsed {:.2} h \
+         (busy overhead {:.2} h, waiting {:.2} h), {} dumps, propellant {:.2} g",
         b.observations.len(),
-        elapsed_s(b, start) / 3600.0,
+        elapsed_s(b, *start) / 3600.0,
         busy_overhead_s(b) / 3600.0,
         b.wait_s / 3600.0,
         b.dumps,
-        b.propellant_kg
+        b.propellant_kg * 1000.0
     );
     if let Some(r) = busy_overhead_ratio(&made) {
-        println!("busy overhead per observation, plan / nearest neighbour: {r:.3}");
+        println!("busy overhead per observation, plan / baseline: {r:.3}");
     }
     println!(
-        "order made by the {} strategy ({}); {}",
-        made.strategy.name(),
-        made.strategy.describe(),
-        if made.polished {
-            "re-searching it a day at a time then improved it"
-        } else {
-            "re-searching it a day at a time found nothing better"
-        }
-    );
-    println!(
-        "planning took {:.2} s (searches and simulations {:.2} s) and ended because {}",
+        "planning took {:.2} s and ended because {}",
         made.seconds,
-        made.search_seconds,
         made.stop_reason.explain()
     );
     if let Some(front) = &front {
@@ -314,27 +452,31 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
         );
         if let (Some(f), Some(l)) = (front.plans.first(), front.plans.last()) {
             println!(
-                "  fastest (plan 1): {:.2} h busy overhead, {:.1} g; most sparing (plan {}): {:.2} h busy overhead, {:.1} g",
-                f.busy_overhead_s / 3600.0,
+                "  fastest (plan 1): elapsed {:.2} h, {:.2} g; most sparing (plan {}): elapsed {:.2} h, {:.2} g",
+                f.elapsed_s / 3600.0,
                 f.propellant_kg * 1000.0,
                 front.plans.len(),
-                l.busy_overhead_s / 3600.0,
+                l.elapsed_s / 3600.0,
                 l.propellant_kg * 1000.0
             );
         }
+        if !end_times_differ(front) {
+            println!(
+                "  every plan of the front ends at the same time: they differ in propellant only"
+            );
+        }
         println!(
-            "  hypervolume of the {} reported plans {:.1} h·g {}; every plan found {:.1} h·g; \
-             weighted runs alone {:.1} h·g",
+            "  hypervolume of the {} reported plans {:.1} h·g {}; every plan found {:.1} h·g",
             front.plans.len(),
             hour_grams(front.hypervolume),
             reference_text(front.reference),
             hour_grams(front.archive_hypervolume),
-            hour_grams(front.scalarised_hypervolume)
         );
     }
     if let Some(dir) = &a.out {
         println!(
-            "wrote {}: plan.csv, unscheduled.csv, sky-map.svg, momentum.svg, summary.json{}",
+            "wrote {}: plan.csv, momentum.csv, visibility.csv, unscheduled.csv, CAUTION.txt, \
+             sky-map.svg, momentum.svg, summary.json{}",
             dir.display(),
             if front.is_some() {
                 ", front.csv, plan-K.csv, front.svg, report.html"
@@ -342,21 +484,24 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
                 ""
             }
         );
+        if front.is_some() {
+            println!("report page: {}", dir.join("report.html").display());
+        }
     }
     Ok(())
 }
 
-/// "against the reference (X h busy overhead, Y g)", the hypervolume's reference point as every
+/// "against the reference (X h elapsed, Y g)", the hypervolume's reference point as every
 /// line shows it.
 fn reference_text(r: (f64, f64)) -> String {
     format!(
-        "against the reference ({:.2} h busy overhead, {:.1} g)",
+        "against the reference ({:.2} h elapsed, {:.2} g)",
         r.0 / 3600.0,
         r.1 * 1000.0
     )
 }
 
-fn reasons_text(s: &wend_sky::schedule::Schedule) -> String {
+fn reasons_text(s: &Schedule) -> String {
     let mut counts: Vec<(&str, usize)> = Vec::new();
     for u in &s.unscheduled {
         match counts.iter_mut().find(|(c, _)| *c == u.reason.code()) {
@@ -373,17 +518,22 @@ fn reasons_text(s: &wend_sky::schedule::Schedule) -> String {
 
 fn write_outputs(
     dir: &Path,
-    profile: &Profile,
-    targets: &[Target],
-    made: &wend_sky::plan::Plan,
+    ctx: &Context,
+    s: &Schedule,
     summary: &serde_json::Value,
-    start: Epoch,
 ) -> Result<(), CliError> {
     std::fs::create_dir_all(dir)
         .map_err(|e| CliError::Failure(format!("{}: cannot create: {e}", dir.display())))?;
-    let s = &made.schedule;
+    let targets = ctx.targets();
+    write_file(&dir.join("CAUTION.txt"), |w| {
+        use std::io::Write;
+        w.write_all(CAUTION_TXT.as_bytes())
+    })?;
     write_file(&dir.join("unscheduled.csv"), |w| {
         output::write_unscheduled_csv(w, targets, &s.unscheduled)
+    })?;
+    write_file(&dir.join("visibility.csv"), |w| {
+        output::write_visibility_csv(w, ctx)
     })?;
     write_file(&dir.join("summary.json"), |w| {
         use std::io::Write;
@@ -395,19 +545,20 @@ fn write_outputs(
     })?;
     write_plan_files(
         dir,
-        ["plan.csv", "sky-map.svg", "momentum.svg"],
-        profile,
+        ["plan.csv", "sky-map.svg", "momentum.svg", "momentum.csv"],
+        ctx.profile(),
         targets,
         s,
-        start,
+        ctx.start(),
         "",
     )
 }
 
-/// Writes one plan's table, sky map and momentum chart under the three `names`.
+/// Writes one plan's table, sky map, momentum chart and momentum trace under the four
+/// `names`.
 fn write_plan_files(
     dir: &Path,
-    names: [&str; 3],
+    names: [&str; 4],
     profile: &Profile,
     targets: &[Target],
     s: &Schedule,
@@ -415,8 +566,9 @@ fn write_plan_files(
     label: &str,
 ) -> Result<(), CliError> {
     write_file(&dir.join(names[0]), |w| {
-        output::write_plan_csv(w, targets, s)
+        output::write_plan_csv(w, profile, targets, s)
     })?;
+    write_file(&dir.join(names[3]), |w| output::write_momentum_csv(w, s))?;
     let mut scheduled = vec![false; targets.len()];
     for o in &s.observations {
         scheduled[o.target] = true;
@@ -456,14 +608,16 @@ fn write_plan_files(
     )
     .map_err(draw_error)?;
     let points: Vec<(f64, f64)> = s
-        .momentum_trace
+        .momentum_trace()
         .iter()
         .map(|&(t, h)| (t / 3600.0, h))
         .collect();
-    let dumps_hours: Vec<f64> = s.dump_times_s.iter().map(|t| t / 3600.0).collect();
+    let dumps_hours: Vec<f64> = s.dump_times_s().iter().map(|t| t / 3600.0).collect();
     let momentum_title = format!(
-        "{}{label}: stored momentum, {} dumps, {:.4} kg propellant",
-        profile.name, s.dumps, s.propellant_kg
+        "{}{label}: stored momentum, {} dumps, {:.2} g propellant",
+        profile.name,
+        s.dumps,
+        s.propellant_kg * 1000.0
     );
     write_momentum_chart(
         &dir.join(names[2]),
@@ -487,7 +641,7 @@ fn front_rows(front: &Front) -> Vec<FrontRow> {
         .enumerate()
         .map(|(k, p)| FrontRow {
             plan: k + 1,
-            busy_overhead_s: p.busy_overhead_s,
+            busy_overhead_s: p.elapsed_s,
             wait_s: p.schedule.wait_s,
             propellant_kg: p.propellant_kg,
             dumps: p.schedule.dumps,
@@ -496,7 +650,7 @@ fn front_rows(front: &Front) -> Vec<FrontRow> {
         .collect()
 }
 
-/// front.csv, plan-K.csv (with plan-K-sky-map.svg and plan-K-momentum.svg), front.svg and
+/// front.csv, plan-K.csv (with its sky map, momentum chart and trace), front.svg and
 /// report.html.
 fn write_front_files(
     dir: &Path,
@@ -515,10 +669,11 @@ fn write_front_files(
             format!("plan-{}.csv", k + 1),
             format!("plan-{}-sky-map.svg", k + 1),
             format!("plan-{}-momentum.svg", k + 1),
+            format!("plan-{}-momentum.csv", k + 1),
         ];
         write_plan_files(
             dir,
-            [&names[0], &names[1], &names[2]],
+            [&names[0], &names[1], &names[2], &names[3]],
             profile,
             targets,
             &p.schedule,
@@ -527,37 +682,38 @@ fn write_front_files(
         )?;
     }
     let title = format!(
-        "{}: {} targets from {}, the front of busy overhead against propellant",
+        "{}: {} targets from {}, the front of elapsed time against propellant",
         profile.name,
         targets.len(),
         format_utc(start)
     );
     let single = &front.single.schedule;
-    let notes = vec![
+    let mut notes = vec![
         format!(
-            "Time objective: busy overhead (slews, settling, thermal settling, setups, dumps), waiting excluded; waiting is reported apart. Every plan schedules at least {} observations, as many as the single-objective plan.",
-            front.min_scheduled
+            "Time objective: elapsed time from the plan start until the last observation ends, waiting and dumps included; the busy overhead (slews, settling, thermal settling, setups, dumps) is reported beside it. Every plan schedules the same {} targets, those of the fastest plan.",
+            single.observations.len()
         ),
         format!(
-            "Single-objective plan (wend sky plan without --front): busy overhead {:.2} h, propellant {:.1} g.",
-            busy_overhead_s(single) / 3600.0,
-            single.propellant_kg * 1000.0
-        ),
-        format!(
-            "Hypervolume {} (1.1 times the largest busy overhead and propellant of the weighted runs): weighted runs alone {:.1} h·g ({} plans); with the Pareto local search {:.1} h·g ({} non-dominated plans, of which this report shows {} spread along the front, {:.1} h·g).",
+            "Hypervolume {}: {:.1} h·g over the {} non-dominated plans found, {:.1} h·g over the {} shown here.",
             reference_text(front.reference),
-            hour_grams(front.scalarised_hypervolume),
-            front.scalarised_plans,
             hour_grams(front.archive_hypervolume),
             front.archive_plans,
+            hour_grams(front.hypervolume),
             front.plans.len(),
-            hour_grams(front.hypervolume)
         ),
+        "No lower bound on propellant is given: none is provably valid in the model (transitions, waits and the Sun's motion all add impulse).".to_string(),
         format!(
             "{} plans played out in {:.1} s.",
             front.evaluations, front.seconds
         ),
     ];
+    if !end_times_differ(front) {
+        notes.insert(
+            0,
+            "Every plan of this front ends at the same time: they differ in propellant only."
+                .to_string(),
+        );
+    }
     let report = FrontReport {
         title: &title,
         caution: CAUTION,
@@ -573,8 +729,9 @@ fn write_front_files(
     write_report_html(&dir.join("report.html"), &report).map_err(draw_error)
 }
 
-/// Removes `plan-K.csv`, `plan-K-sky-map.svg` and `plan-K-momentum.svg` of an earlier front
-/// in `dir`, so that a smaller front does not leave plans of another run beside it.
+/// Removes `plan-K.csv`, `plan-K-sky-map.svg`, `plan-K-momentum.svg` and
+/// `plan-K-momentum.csv` of an earlier front in `dir`, so that a smaller front does not leave
+/// plans of another run beside it.
 fn remove_old_plan_files(dir: &Path) -> Result<(), CliError> {
     let fail = |e: std::io::Error| CliError::Failure(format!("{}: {e}", dir.display()));
     for entry in std::fs::read_dir(dir).map_err(fail)? {
@@ -587,9 +744,167 @@ fn remove_old_plan_files(dir: &Path) -> Result<(), CliError> {
         };
         let digits = rest.bytes().take_while(u8::is_ascii_digit).count();
         let tail = &rest[digits..];
-        if digits > 0 && [".csv", "-sky-map.svg", "-momentum.svg"].contains(&tail) {
+        let ours = [
+            ".csv",
+            "-sky-map.svg",
+            "-momentum.svg",
+            "-momentum.csv",
+            "-timeline.svg",
+        ];
+        if digits > 0 && ours.contains(&tail) {
             std::fs::remove_file(&path).map_err(fail)?;
         }
+    }
+    Ok(())
+}
+
+/// One finding of `wend sky check`.
+#[derive(serde::Serialize)]
+struct Finding {
+    /// Line of the plan file.
+    line: usize,
+    /// Target id.
+    target: String,
+    /// What is wrong.
+    problem: String,
+}
+
+fn run_check(a: CheckArgs) -> Result<(), CliError> {
+    let pool = load_pool(&a.targets, &a.pool)?;
+    let planned =
+        wend_sky::plan_file::read_plan_file(&a.plan, &pool.targets).map_err(input_error)?;
+    let ctx = Context::with_links(
+        &pool.profile,
+        &pool.targets,
+        &pool.links,
+        pool.start,
+        pool.horizon_days,
+    )
+    .map_err(|e| CliError::Input(format!("{}: {e}", pool.names)))?;
+    let plan_name = a.plan.display().to_string();
+    let mut findings: Vec<Finding> = Vec::new();
+    let mut play = Play::new(&ctx);
+    for o in &planned {
+        let id = pool.targets[o.target].id.clone();
+        let rolls = ctx.rolls(o.target);
+        // The planned roll must be one the target allows; the nearest candidate is replayed.
+        let (lo, hi) = pool.targets[o.target]
+            .roll_range_deg
+            .unwrap_or(pool.profile.roll_range_deg);
+        if o.roll_deg < lo - 1e-6 || o.roll_deg > hi + 1e-6 {
+            findings.push(Finding {
+                line: o.line,
+                target: id.clone(),
+                problem: format!(
+                    "roll {:.2}° is outside the allowed range [{lo}, {hi}]°",
+                    o.roll_deg
+                ),
+            });
+        }
+        let roll = rolls
+            .iter()
+            .enumerate()
+            .min_by(|x, y| (x.1 - o.roll_deg).abs().total_cmp(&(y.1 - o.roll_deg).abs()))
+            .map_or(0, |(k, _)| k as u8);
+        if (rolls[roll as usize] - o.roll_deg).abs() > 1e-6 && o.roll_deg >= lo && o.roll_deg <= hi
+        {
+            findings.push(Finding {
+                line: o.line,
+                target: id.clone(),
+                problem: format!(
+                    "roll {:.2}° is replayed at the nearest candidate roll {:.2}°",
+                    o.roll_deg, rolls[roll as usize]
+                ),
+            });
+        }
+        let v = Visit {
+            target: o.target,
+            roll,
+        };
+        let result = match o.start {
+            Some(at) => play.push_not_before(v, at),
+            None => play.push(v),
+        };
+        match result {
+            Err(reason) => findings.push(Finding {
+                line: o.line,
+                target: id,
+                problem: format!("cannot be observed at its turn: {reason}"),
+            }),
+            Ok(()) => {
+                if let (Some(at), Some(done)) = (o.start, play.schedule().observations.last()) {
+                    let late = (done.start.jd - at.jd) * 86_400.0;
+                    if late > 1.0 {
+                        findings.push(Finding {
+                            line: o.line,
+                            target: id,
+                            problem: format!(
+                                "planned start {} is not possible: the earliest start that keeps the band, its windows, links and momentum rules is {} ({:.0} s later)",
+                                format_utc(at),
+                                format_utc(done.start),
+                                late
+                            ),
+                        });
+                    }
+                }
+            }
+        }
+    }
+    let s = play.finish(&[]);
+    let bad = findings
+        .iter()
+        .any(|f| !f.problem.starts_with("roll") || f.problem.contains("outside"));
+    if a.json {
+        let summary = serde_json::json!({
+            "caution": CAUTION,
+            "plan": plan_name,
+            "observations": planned.len(),
+            "replayed": s.observations.len(),
+            "violations": findings,
+            "ok": !bad,
+            "elapsed_s": elapsed_s(&s, pool.start),
+            "busy_overhead_s": busy_overhead_s(&s),
+            "wait_s": s.wait_s,
+            "dumps": s.dumps,
+            "propellant_kg": s.propellant_kg,
+            "peak_momentum_nms": s.peak_momentum_nms,
+            "dump_threshold_nms": pool.profile.wheel_limit_nms * pool.profile.wheel_margin,
+            "final_momentum_nms": s.final_momentum_nms,
+        });
+        println!("{summary}");
+    } else {
+        println!("CAUTION: {CAUTION}");
+        println!(
+            "{plan_name}: {} observations, {} replayed by the planner's rules",
+            planned.len(),
+            s.observations.len()
+        );
+        for f in &findings {
+            println!("{plan_name}:{}: {}: {}", f.line, f.target, f.problem);
+        }
+        println!(
+            "elapsed {:.2} h (busy overhead {:.2} h, waiting {:.2} h), {} dumps, propellant {:.2} g, largest stored momentum {:.2} of {:.2} N·m·s",
+            elapsed_s(&s, pool.start) / 3600.0,
+            busy_overhead_s(&s) / 3600.0,
+            s.wait_s / 3600.0,
+            s.dumps,
+            s.propellant_kg * 1000.0,
+            s.peak_momentum_nms,
+            pool.profile.wheel_limit_nms * pool.profile.wheel_margin
+        );
+        println!(
+            "{}",
+            if bad {
+                "violations found"
+            } else {
+                "no violation"
+            }
+        );
+    }
+    if bad {
+        return Err(CliError::Infeasible(format!(
+            "{plan_name}: the plan breaks the rules above"
+        )));
     }
     Ok(())
 }
