@@ -31,6 +31,7 @@ pub mod sun;
 pub mod visibility;
 
 pub mod demo;
+pub mod links;
 pub mod output;
 pub mod profile;
 pub mod targets;
@@ -45,6 +46,7 @@ mod testing;
 
 pub use demo::{demo_profile, demo_targets, DEMO_PROFILE_TOML, DEMO_TARGETS_CSV};
 pub(crate) use input::{line_of, line_part, read_utf8};
+pub use links::{parse_links, read_links, LinksError};
 pub use model::{
     Epoch, Instrument, Link, LinkKind, Profile, StartPointing, Target, DEFAULT_PRIORITY,
     LOWEST_PRIORITY,
