@@ -33,6 +33,7 @@ pub mod visibility;
 pub mod demo;
 pub mod links;
 pub mod output;
+pub mod plan_file;
 pub mod profile;
 pub mod targets;
 
@@ -51,5 +52,6 @@ pub use model::{
     Epoch, Instrument, Link, LinkKind, Profile, StartPointing, Target, DEFAULT_PRIORITY,
     LOWEST_PRIORITY,
 };
+pub use plan_file::{parse_plan_file, read_plan_file, PlanFileError, PlannedObservation};
 pub use profile::{parse_profile, read_profile, ProfileError};
 pub use targets::{parse_targets, read_targets, TargetsError};
