@@ -46,7 +46,8 @@ pub struct PlannedObservation {
     pub roll_deg: f64,
     /// When the dwell starts; `None`: as early as possible after the previous observation.
     pub start: Option<Epoch>,
-    /// The 1-based line of the file the row is on (for the checker's messages).
+    /// The 1-based line of the file the row starts on, counting line feeds (for the checker's
+    /// messages; a lone carriage return ends a row but not a line).
     pub line: usize,
 }
 
@@ -485,6 +486,24 @@ mod tests {
             shown.contains("3 fields, but the header has 2 columns"),
             "{shown}"
         );
+    }
+
+    #[test]
+    fn a_lone_carriage_return_ends_a_row_but_not_a_line() {
+        // Found by fuzzing: rows split by a lone CR share the line counted by line feeds.
+        let text = "target,roll_deg;,s\u{feff}t_utc\nA,10,2027-03-01T00:00:00Z\nB,,\n\
+                    C,-5.5,2027-03\rD,180,201_-03-02\n";
+        assert!(close(
+            &parse(text).unwrap(),
+            &[
+                obs(0, 0.0, None, 2),
+                obs(1, 0.0, None, 3),
+                obs(2, 0.0, None, 4),
+                obs(3, 0.0, None, 4),
+            ]
+        ));
+        let shown = error_at("target,roll_deg\nA,1\rB,500\n", 2);
+        assert!(shown.contains("target `B`: `roll_deg` is 500"), "{shown}");
     }
 
     #[test]
