@@ -447,6 +447,38 @@ fn cases() -> Vec<(&'static str, Args, Expect)> {
             PLAN_TARGETS,
             refused("targets-fields.csv", 3),
         ),
+        // The optional columns: priority, proposal window, roll range. The windows hold the
+        // whole 14-day horizon, so every target is still scheduled.
+        (
+            "targets-new-columns.csv",
+            PLAN_TARGETS,
+            Planned {
+                targets: 3,
+                scheduled: 3,
+            },
+        ),
+        (
+            "targets-priority-0.csv",
+            PLAN_TARGETS,
+            refused("targets-priority-0.csv", 3),
+        ),
+        // A comment line first: the window that ends before it starts is on line 4.
+        (
+            "targets-window-reversed.csv",
+            PLAN_TARGETS,
+            refused("targets-window-reversed.csv", 4),
+        ),
+        // `roll_min_deg` without `roll_max_deg`: the header is at fault.
+        (
+            "targets-roll-half.csv",
+            PLAN_TARGETS,
+            refused("targets-roll-half.csv", 1),
+        ),
+        (
+            "targets-roll-nan.csv",
+            PLAN_TARGETS,
+            refused("targets-roll-nan.csv", 2),
+        ),
         // ---- Profile TOML: wend sky plan targets-3.csv --profile FILE ----
         (
             "profile-good.toml",
@@ -551,6 +583,27 @@ fn cases() -> Vec<(&'static str, Args, Expect)> {
                 targets: 3,
                 scheduled: 3,
             },
+        ),
+        // The optional keys, every one given.
+        (
+            "profile-optional.toml",
+            PLAN_PROFILE,
+            Planned {
+                targets: 3,
+                scheduled: 3,
+            },
+        ),
+        // A start momentum of 16 N·m·s is not below 20 × 0.8 (line 19).
+        (
+            "profile-start-momentum.toml",
+            PLAN_PROFILE,
+            refused("profile-start-momentum.toml", 19),
+        ),
+        // One candidate roll (line 21): at least 2 are needed.
+        (
+            "profile-roll-steps.toml",
+            PLAN_PROFILE,
+            refused("profile-roll-steps.toml", 21),
         ),
         // A second instrument named "a\nb" without setup tables: refused, in one line.
         (

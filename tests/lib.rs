@@ -63,6 +63,10 @@ fn find_or_build_wend() -> PathBuf {
         "bench-harness/Cargo.toml",
         "bench-harness/build.rs",
         "bench-harness/src",
+        // The sky adapter's readers and its embedded demo files are in the binary too.
+        "sky/Cargo.toml",
+        "sky/src",
+        "instances/sky",
     ];
     let newest = sources
         .iter()

@@ -1,5 +1,6 @@
 //! The sky targets CSV reader on arbitrary UTF-8 text, against the built-in demo profile;
-//! every target that parses must have finite, in-range values.
+//! every target that parses must have finite, in-range values, a priority from 1 to 9, a
+//! window that ends after it starts and an ordered roll range within a half turn.
 #![no_main]
 
 use libfuzzer_sys::fuzz_target;
@@ -23,5 +24,12 @@ fuzz_target!(|data: &[u8]| {
         assert!(t.dec_deg.is_finite() && (-90.0..=90.0).contains(&t.dec_deg));
         assert!(t.duration_s.is_finite() && t.duration_s >= 0.0);
         assert!(t.instrument < profile().instruments.len());
+        assert!((1..=wend_sky::LOWEST_PRIORITY).contains(&t.priority));
+        if let Some((start, end)) = t.window {
+            assert!(start.jd.is_finite() && end.jd.is_finite() && start.jd < end.jd);
+        }
+        if let Some((lo, hi)) = t.roll_range_deg {
+            assert!(-180.0 <= lo && lo <= hi && hi <= 180.0);
+        }
     }
 });

@@ -32,7 +32,9 @@ pub mod sun;
 pub mod visibility;
 
 pub mod demo;
+pub mod links;
 pub mod output;
+pub mod plan_file;
 pub mod profile;
 pub mod targets;
 
@@ -48,9 +50,11 @@ pub use demo::{
     demo_links, demo_profile, demo_targets, DEMO_LINKS_CSV, DEMO_PROFILE_TOML, DEMO_TARGETS_CSV,
 };
 pub(crate) use input::{line_of, line_part, read_utf8};
+pub use links::{parse_links, read_links, LinksError};
 pub use model::{
     Epoch, Instrument, Link, LinkKind, Profile, StartPointing, Target, DEFAULT_PRIORITY,
     LOWEST_PRIORITY,
 };
+pub use plan_file::{parse_plan_file, read_plan_file, PlanFileError, PlannedObservation};
 pub use profile::{parse_profile, read_profile, ProfileError};
 pub use targets::{parse_targets, read_targets, TargetsError};

@@ -5,8 +5,8 @@
 //!
 //! # Keys
 //!
-//! Units are in the key names. All top-level keys are required; unknown keys are refused
-//! anywhere. Integers are accepted where a number is expected. `instances/sky/demo-profile.toml`
+//! Units are in the key names. Top-level keys are required unless the second table below marks
+//! them optional; unknown keys are refused anywhere. Integers are accepted where a number is expected. `instances/sky/demo-profile.toml`
 //! is a commented example.
 //!
 //! | key                      | unit / range                                                              |
@@ -29,6 +29,21 @@
 //! | `thruster_isp_s`         | seconds, > 0 (Isp)                                                        |
 //! | `dump_s`                 | seconds one momentum dump takes, ≥ 0                                      |
 //!
+//! Optional keys (top level, before the first `[[instrument]]` table), with their defaults:
+//!
+//! | key                  | unit / range                                                              | default   |
+//! |----------------------|---------------------------------------------------------------------------|-----------|
+//! | `roll_min_deg`       | least roll offset from the nominal roll, degrees, −180 ≤ min ≤ max        | 0         |
+//! | `roll_max_deg`       | greatest roll offset, degrees, min ≤ max ≤ 180; with `roll_min_deg` only  | 0         |
+//! | `roll_steps`         | whole number of candidate rolls tried across the range (ends included), 2 to 9 | 3     |
+//! | `start_ra_deg`       | right ascension pointed at when the plan starts, ICRS, degrees in [0, 360) | none: already on the first target |
+//! | `start_dec_deg`      | declination pointed at then, degrees in [−90, 90]; with `start_ra_deg` only | none    |
+//! | `start_roll_deg`     | roll offset then, degrees in [−180, 180]; only with the two above         | 0         |
+//! | `start_momentum_nms` | wheel momentum at the plan start, inertial frame, `[x, y, z]`, finite; its length below `wheel_limit_nms × wheel_margin` | `[0, 0, 0]` |
+//!
+//! `roll_min_deg` and `roll_max_deg` come together (both or neither), and so do `start_ra_deg`
+//! and `start_dec_deg`.
+//!
 //! Instruments, at least one, in `[[instrument]]` tables (the first is the default for targets
 //! that name none): `name` (unique, not empty, no leading or trailing spaces) and `settle_s`
 //! (seconds, ≥ 0).
@@ -49,7 +64,7 @@ use std::collections::HashMap;
 use std::ops::Range;
 use std::path::Path;
 
-use crate::{Instrument, Profile};
+use crate::{Instrument, Profile, StartPointing};
 use serde::Deserialize;
 use toml::Spanned;
 
@@ -109,6 +124,13 @@ struct RawProfile {
     thruster_arm_m: Spanned<f64>,
     thruster_isp_s: Spanned<f64>,
     dump_s: Spanned<f64>,
+    roll_min_deg: Option<Spanned<f64>>,
+    roll_max_deg: Option<Spanned<f64>>,
+    roll_steps: Option<Spanned<i64>>,
+    start_ra_deg: Option<Spanned<f64>>,
+    start_dec_deg: Option<Spanned<f64>>,
+    start_roll_deg: Option<Spanned<f64>>,
+    start_momentum_nms: Option<Spanned<[f64; 3]>>,
     instrument: Vec<RawInstrument>,
     #[serde(default)]
     setup: Vec<RawSetup>,
@@ -401,6 +423,47 @@ impl Ctx<'_> {
             ));
         }
 
+        let wheel_limit_nms = self.positive("wheel_limit_nms", &raw.wheel_limit_nms)?;
+        let roll_range_deg = self.roll_range(&raw)?;
+        let roll_steps = match &raw.roll_steps {
+            None => 3,
+            Some(v) => {
+                let n = *v.get_ref();
+                match usize::try_from(n) {
+                    Ok(n) if (2..=9).contains(&n) => n,
+                    _ => {
+                        return Err(self.err(
+                            "roll_steps",
+                            Some(v.span()),
+                            format!("must be a whole number from 2 to 9, found {n}"),
+                        ))
+                    }
+                }
+            }
+        };
+        let start_pointing = self.start_pointing(&raw)?;
+        let start_momentum_nms = match &raw.start_momentum_nms {
+            None => [0.0; 3],
+            Some(v) => {
+                let h = self.vector("start_momentum_nms", v)?;
+                let length = h.iter().map(|c| c * c).sum::<f64>().sqrt();
+                let limit = wheel_limit_nms * wheel_margin;
+                // An overflowing length (inf) is refused too.
+                if !length.is_finite() || length >= limit {
+                    return Err(self.err(
+                        "start_momentum_nms",
+                        Some(v.span()),
+                        format!(
+                            "its length, {length:.6e} N·m·s, must be below wheel_limit_nms × \
+                             wheel_margin = {limit} N·m·s (the wheels would need a dump before \
+                             the plan starts), found {h:?}"
+                        ),
+                    ));
+                }
+                h
+            }
+        };
+
         Ok(Profile {
             name,
             slew_rate_deg_s,
@@ -424,16 +487,94 @@ impl Ctx<'_> {
             specular_reflectivity,
             diffuse_reflectivity,
             pressure_offset_m: self.vector("pressure_offset_m", &raw.pressure_offset_m)?,
-            wheel_limit_nms: self.positive("wheel_limit_nms", &raw.wheel_limit_nms)?,
+            wheel_limit_nms,
             wheel_margin,
             thruster_arm_m: self.positive("thruster_arm_m", &raw.thruster_arm_m)?,
             thruster_isp_s: self.positive("thruster_isp_s", &raw.thruster_isp_s)?,
             dump_s: self.step_time("dump_s", &raw.dump_s, 1.0)?,
-            roll_range_deg: (0.0, 0.0),
-            roll_steps: 3,
-            start_pointing: None,
-            start_momentum_nms: [0.0; 3],
+            roll_range_deg,
+            roll_steps,
+            start_pointing,
+            start_momentum_nms,
         })
+    }
+
+    /// Two keys that come together: both values, or None; one alone is refused.
+    #[allow(clippy::type_complexity)]
+    fn both<'v>(
+        &self,
+        (a, va): (&str, &'v Option<Spanned<f64>>),
+        (b, vb): (&str, &'v Option<Spanned<f64>>),
+    ) -> Result<Option<(&'v Spanned<f64>, &'v Spanned<f64>)>, ProfileError> {
+        match (va, vb) {
+            (Some(x), Some(y)) => Ok(Some((x, y))),
+            (None, None) => Ok(None),
+            (Some(x), None) => Err(self.err(
+                a,
+                Some(x.span()),
+                format!("is given without {b}: give both or neither"),
+            )),
+            (None, Some(y)) => Err(self.err(
+                b,
+                Some(y.span()),
+                format!("is given without {a}: give both or neither"),
+            )),
+        }
+    }
+
+    fn roll_range(&self, raw: &RawProfile) -> Result<(f64, f64), ProfileError> {
+        let Some((lo, hi)) = self.both(
+            ("roll_min_deg", &raw.roll_min_deg),
+            ("roll_max_deg", &raw.roll_max_deg),
+        )?
+        else {
+            return Ok((0.0, 0.0));
+        };
+        let min = self.within("roll_min_deg", lo, -180.0, 180.0)?;
+        let max = self.within("roll_max_deg", hi, -180.0, 180.0)?;
+        if min > max {
+            return Err(self.err(
+                "roll_max_deg",
+                Some(hi.span()),
+                format!("must be at least roll_min_deg ({min}), found {max}"),
+            ));
+        }
+        Ok((min, max))
+    }
+
+    fn start_pointing(&self, raw: &RawProfile) -> Result<Option<StartPointing>, ProfileError> {
+        let Some((ra, dec)) = self.both(
+            ("start_ra_deg", &raw.start_ra_deg),
+            ("start_dec_deg", &raw.start_dec_deg),
+        )?
+        else {
+            return match &raw.start_roll_deg {
+                None => Ok(None),
+                Some(v) => Err(self.err(
+                    "start_roll_deg",
+                    Some(v.span()),
+                    "is given without start_ra_deg and start_dec_deg, which it goes with",
+                )),
+            };
+        };
+        let ra_deg = self.finite("start_ra_deg", ra)?;
+        if !(0.0..360.0).contains(&ra_deg) {
+            return Err(self.err(
+                "start_ra_deg",
+                Some(ra.span()),
+                format!("must be in [0, 360), found {ra_deg}"),
+            ));
+        }
+        let dec_deg = self.within("start_dec_deg", dec, -90.0, 90.0)?;
+        let roll_deg = match &raw.start_roll_deg {
+            None => 0.0,
+            Some(v) => self.within("start_roll_deg", v, -180.0, 180.0)?,
+        };
+        Ok(Some(StartPointing {
+            ra_deg,
+            dec_deg,
+            roll_deg,
+        }))
     }
 
     /// The instruments and the full setup matrix.
@@ -1077,6 +1218,228 @@ time_s = 20
 
         std::fs::write(&path, BASE).unwrap();
         assert_eq!(read_profile(&path).unwrap().name, "Test bench");
+    }
+
+    /// BASE with `lines` added after `dump_s` (line 18), so that they are lines 19, 20, ...
+    fn plus(lines: &str) -> String {
+        with("dump_s", &format!("dump_s = 500\n{lines}"))
+    }
+
+    #[test]
+    fn reads_the_optional_keys() {
+        let p = parse(&plus(
+            "roll_min_deg = -30\nroll_max_deg = 45.5\nroll_steps = 7\nstart_ra_deg = 359.5\n\
+             start_dec_deg = -90\nstart_roll_deg = -180\nstart_momentum_nms = [3, -4, 12]",
+        ))
+        .unwrap();
+        assert_eq!(p.roll_range_deg, (-30.0, 45.5));
+        assert_eq!(p.roll_steps, 7);
+        assert_eq!(
+            p.start_pointing,
+            Some(StartPointing {
+                ra_deg: 359.5,
+                dec_deg: -90.0,
+                roll_deg: -180.0
+            })
+        );
+        // |(3, -4, 12)| = 13, below 30 × 0.75 = 22.5.
+        assert_eq!(p.start_momentum_nms, [3.0, -4.0, 12.0]);
+        // The start roll defaults to 0.
+        let p = parse(&plus("start_ra_deg = 0\nstart_dec_deg = 12.5")).unwrap();
+        assert_eq!(
+            p.start_pointing,
+            Some(StartPointing {
+                ra_deg: 0.0,
+                dec_deg: 12.5,
+                roll_deg: 0.0
+            })
+        );
+        assert_eq!((p.roll_range_deg, p.roll_steps), ((0.0, 0.0), 3));
+    }
+
+    #[test]
+    fn pairs_of_keys_come_together() {
+        for (line, key, other) in [
+            ("roll_min_deg = -5", "roll_min_deg", "roll_max_deg"),
+            ("roll_max_deg = 5", "roll_max_deg", "roll_min_deg"),
+            ("start_ra_deg = 10", "start_ra_deg", "start_dec_deg"),
+            ("start_dec_deg = 10", "start_dec_deg", "start_ra_deg"),
+        ] {
+            let shown = error_at(&plus(line), key, 19);
+            assert!(
+                shown.contains(&format!("is given without {other}: give both or neither")),
+                "{shown}"
+            );
+        }
+        let shown = error_at(&plus("start_roll_deg = 10"), "start_roll_deg", 19);
+        assert!(
+            shown.contains("is given without start_ra_deg and start_dec_deg"),
+            "{shown}"
+        );
+    }
+
+    #[test]
+    fn roll_ranges_are_ordered_within_a_half_turn() {
+        let shown = error_at(
+            &plus("roll_min_deg = -180.5\nroll_max_deg = 0"),
+            "roll_min_deg",
+            19,
+        );
+        assert!(
+            shown.contains("must be in [-180, 180], found -180.5"),
+            "{shown}"
+        );
+        let shown = error_at(
+            &plus("roll_min_deg = 0\nroll_max_deg = nan"),
+            "roll_max_deg",
+            20,
+        );
+        assert!(shown.contains("must be a finite number"), "{shown}");
+        let shown = error_at(
+            &plus("roll_min_deg = 10\nroll_max_deg = -10"),
+            "roll_max_deg",
+            20,
+        );
+        assert!(
+            shown.contains("must be at least roll_min_deg (10), found -10"),
+            "{shown}"
+        );
+        let p = parse(&plus("roll_min_deg = -180\nroll_max_deg = 180")).unwrap();
+        assert_eq!(p.roll_range_deg, (-180.0, 180.0));
+    }
+
+    #[test]
+    fn roll_steps_is_a_whole_number_from_2_to_9() {
+        for bad in ["1", "10", "-3", "0"] {
+            let shown = error_at(&plus(&format!("roll_steps = {bad}")), "roll_steps", 19);
+            assert!(
+                shown.contains(&format!("must be a whole number from 2 to 9, found {bad}")),
+                "{shown}"
+            );
+        }
+        let shown = error_at(&plus("roll_steps = 3.5"), "roll_steps", 19);
+        assert!(shown.contains("invalid type: floating point"), "{shown}");
+        let shown = error_at(&plus("roll_steps = 99999999999999999999"), "roll_steps", 19);
+        assert!(!shown.is_empty());
+        assert_eq!(parse(&plus("roll_steps = 2")).unwrap().roll_steps, 2);
+        assert_eq!(parse(&plus("roll_steps = 9")).unwrap().roll_steps, 9);
+    }
+
+    #[test]
+    fn the_start_pointing_is_on_the_sky() {
+        for (lines, key, line, wanted) in [
+            (
+                "start_ra_deg = 360\nstart_dec_deg = 0",
+                "start_ra_deg",
+                19,
+                "must be in [0, 360), found 360",
+            ),
+            (
+                "start_ra_deg = -1\nstart_dec_deg = 0",
+                "start_ra_deg",
+                19,
+                "must be in [0, 360), found -1",
+            ),
+            (
+                "start_ra_deg = inf\nstart_dec_deg = 0",
+                "start_ra_deg",
+                19,
+                "must be a finite number",
+            ),
+            (
+                "start_ra_deg = 1\nstart_dec_deg = 90.5",
+                "start_dec_deg",
+                20,
+                "must be in [-90, 90], found 90.5",
+            ),
+            (
+                "start_ra_deg = 1\nstart_dec_deg = 0\nstart_roll_deg = 181",
+                "start_roll_deg",
+                21,
+                "must be in [-180, 180], found 181",
+            ),
+            (
+                "start_ra_deg = 1\nstart_dec_deg = 0\nstart_roll_deg = nan",
+                "start_roll_deg",
+                21,
+                "must be a finite number",
+            ),
+        ] {
+            let shown = error_at(&plus(lines), key, line);
+            assert!(shown.contains(wanted), "{lines}: {shown}");
+        }
+    }
+
+    #[test]
+    fn the_start_momentum_is_finite_and_below_the_planning_limit() {
+        // BASE: wheel_limit_nms = 30, wheel_margin = 0.75, so the limit is 22.5 N·m·s.
+        let shown = error_at(
+            &plus("start_momentum_nms = [0, 22.5, 0]"),
+            "start_momentum_nms",
+            19,
+        );
+        assert!(
+            shown.contains("must be below wheel_limit_nms × wheel_margin = 22.5 N·m·s"),
+            "{shown}"
+        );
+        // |(13.5, 18, 0)| = 22.5 too, from components each below the limit.
+        error_at(
+            &plus("start_momentum_nms = [13.5, -18, 0]"),
+            "start_momentum_nms",
+            19,
+        );
+        // Components that overflow the length.
+        error_at(
+            &plus("start_momentum_nms = [1e200, 1e200, 0]"),
+            "start_momentum_nms",
+            19,
+        );
+        let shown = error_at(
+            &plus("start_momentum_nms = [0, nan, 0]"),
+            "start_momentum_nms",
+            19,
+        );
+        assert!(
+            shown.contains("every component must be a finite number"),
+            "{shown}"
+        );
+        let shown = error_at(
+            &plus("start_momentum_nms = [1, 2]"),
+            "start_momentum_nms",
+            19,
+        );
+        assert!(shown.contains("length 3"), "{shown}");
+        assert_eq!(
+            parse(&plus("start_momentum_nms = [0, 22.4, 0]"))
+                .unwrap()
+                .start_momentum_nms,
+            [0.0, 22.4, 0.0]
+        );
+    }
+
+    #[test]
+    fn the_demo_profile_keeps_the_defaults_of_the_optional_keys() {
+        // The examples in the demo file are commented out: the demo reads as before.
+        let p = parse(crate::DEMO_PROFILE_TOML).unwrap();
+        assert_eq!((p.roll_range_deg, p.roll_steps), ((0.0, 0.0), 3));
+        assert_eq!((p.start_pointing, p.start_momentum_nms), (None, [0.0; 3]));
+        // And uncommented (the example lines start with `# ` and a key), they are read.
+        let uncommented: String = crate::DEMO_PROFILE_TOML
+            .lines()
+            .map(|l| match l.strip_prefix("# ") {
+                Some(rest)
+                    if rest.split_once(" = ").is_some_and(|(k, _)| {
+                        !k.contains(' ') && (k.starts_with("roll_") || k.starts_with("start_"))
+                    }) =>
+                {
+                    rest.to_string() + "\n"
+                }
+                _ => l.to_string() + "\n",
+            })
+            .collect();
+        let p = parse(&uncommented).unwrap();
+        assert_ne!(p.roll_range_deg, (0.0, 0.0));
+        assert!(p.start_pointing.is_some());
     }
 
     proptest! {

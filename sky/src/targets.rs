@@ -8,13 +8,23 @@
 //! Comma-separated, UTF-8 (a byte-order mark and CRLF line endings are accepted). The first
 //! line that is not a comment is the header; it names the columns, in any order:
 //!
-//! | column       | required | meaning                                                      |
-//! |--------------|----------|--------------------------------------------------------------|
-//! | `id`         | yes      | the target's identifier, unique in the file, not empty       |
-//! | `ra_deg`     | yes      | right ascension, ICRS, degrees in [0, 360)                   |
-//! | `dec_deg`    | yes      | declination, ICRS, degrees in [−90, 90]                      |
-//! | `duration_s` | yes      | dwell time, seconds, at least 0                              |
-//! | `instrument` | no       | an instrument name of the profile; absent or empty: the first |
+//! | column         | required | meaning                                                             |
+//! |----------------|----------|---------------------------------------------------------------------|
+//! | `id`           | yes      | the target's identifier, unique in the file, not empty              |
+//! | `ra_deg`       | yes      | right ascension, ICRS, degrees in [0, 360)                          |
+//! | `dec_deg`      | yes      | declination, ICRS, degrees in [−90, 90]                             |
+//! | `duration_s`   | yes      | dwell time, seconds, at least 0                                     |
+//! | `instrument`   | no       | an instrument name of the profile; absent or empty: the first       |
+//! | `priority`     | no       | whole number 1 (highest) to 9 (lowest); absent or empty: 5          |
+//! | `window_start` | no       | proposal window opens: ISO 8601 time with a UTC offset (`Z`, `+02:00`) or a bare date (00:00 UTC) |
+//! | `window_end`   | no       | proposal window closes, same form, after `window_start`             |
+//! | `roll_min_deg` | no       | least roll offset allowed for this target, degrees                  |
+//! | `roll_max_deg` | no       | greatest roll offset allowed, degrees; −180 ≤ min ≤ max ≤ 180       |
+//!
+//! `window_start` and `window_end` come together (both columns or neither), and so do
+//! `roll_min_deg` and `roll_max_deg`. In a row, both cells of a pair are given or both are
+//! empty (empty: no proposal window; the profile's roll range). The observation must start and
+//! end inside its window. A roll range given here replaces the profile's for this target.
 //!
 //! Columns not in this table are **refused** (a misspelt `instrument` column would otherwise
 //! silently send every target to the default instrument). Every row must have as many fields
@@ -23,7 +33,7 @@
 //! must be finite (`nan`, `inf` and overflowing values such as `1e999` are refused).
 //!
 //! Errors name the file, the line in the file (comments and blank lines counted) and, for
-//! data, the row (1-based, counting data rows only).
+//! data, the row (1-based, counting data rows only) and the target's id once it is read.
 
 use std::collections::HashMap;
 use std::path::Path;
@@ -94,9 +104,37 @@ pub(crate) fn escape_controls(text: &str) -> String {
 }
 
 /// The columns a targets file may have, in the order the documentation lists them.
-const COLUMNS: [&str; 5] = ["id", "ra_deg", "dec_deg", "duration_s", "instrument"];
-/// How many of [`COLUMNS`] (from the front) are required.
-const REQUIRED: usize = 4;
+const COLUMNS: [&str; 10] = [
+    "id",
+    "ra_deg",
+    "dec_deg",
+    "duration_s",
+    "instrument",
+    "priority",
+    "window_start",
+    "window_end",
+    "roll_min_deg",
+    "roll_max_deg",
+];
+/// Indices into [`COLUMNS`].
+const ID: usize = 0;
+const RA: usize = 1;
+const DEC: usize = 2;
+const DURATION: usize = 3;
+const INSTRUMENT: usize = 4;
+const PRIORITY: usize = 5;
+const WINDOW_START: usize = 6;
+const WINDOW_END: usize = 7;
+const ROLL_MIN: usize = 8;
+const ROLL_MAX: usize = 9;
+/// The table of columns, the first four required, others refused.
+const TABLE: super::input::Columns<'static> = super::input::Columns {
+    names: &COLUMNS,
+    required: 4,
+    ignore_unknown: false,
+};
+/// Columns that come in pairs: both or neither.
+const PAIRS: [(usize, usize); 2] = [(WINDOW_START, WINDOW_END), (ROLL_MIN, ROLL_MAX)];
 
 /// Reads a targets CSV file; see [`parse_targets`]. The path, as displayed, names the file in
 /// errors. Bytes that are not UTF-8 are refused.
@@ -111,11 +149,14 @@ pub fn read_targets(path: &Path, profile: &Profile) -> Result<Vec<Target>, Targe
 /// order, instrument names turned into indices of `profile.instruments`. `source` names the
 /// text in errors (usually the file name).
 ///
-/// Refused, with the file, line and row named: an empty file or one without data rows,
-/// missing, unknown or repeated columns, rows with the wrong number of fields, empty ids,
-/// duplicate ids (both rows named), values that are not finite numbers, RA outside [0, 360),
-/// Dec outside [−90, 90], negative durations, and instruments the profile does not know (the
-/// known ones listed).
+/// Refused, with the file, line and row named (and the target id, once read): an empty file or
+/// one without data rows, missing, unknown or repeated columns, one column of a pair without
+/// the other, rows with the wrong number of fields, empty ids, duplicate ids (both rows named),
+/// values that are not finite numbers, RA outside [0, 360), Dec outside [−90, 90], negative
+/// durations, instruments the profile does not know (the known ones listed), priorities that
+/// are not whole numbers from 1 to 9, one cell of a pair without the other, times that are not
+/// ISO 8601 with a UTC offset, windows that do not end after they start, and roll ranges
+/// outside [−180, 180] or with min above max.
 pub fn parse_targets(
     text: &str,
     source: &str,
@@ -123,14 +164,9 @@ pub fn parse_targets(
 ) -> Result<Vec<Target>, TargetsError> {
     let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let err = |line: usize, row: usize, m: String| TargetsError::new(source, line, row, m);
-    let mut reader = csv::ReaderBuilder::new()
-        .has_headers(false)
-        .flexible(true)
-        .trim(csv::Trim::All)
-        .comment(Some(b'#'))
-        .from_reader(text.as_bytes());
+    let mut reader = super::input::csv_reader(text);
 
-    let mut header: Option<(usize, [Option<usize>; 5])> = None;
+    let mut header: Option<(usize, Vec<Option<usize>>)> = None;
     let mut header_len = 0;
     let mut targets = Vec::new();
     let mut seen: HashMap<String, (usize, usize)> = HashMap::new();
@@ -144,14 +180,13 @@ pub fn parse_targets(
         if record.iter().all(str::is_empty) {
             continue;
         }
-        let Some((_, cols)) = header else {
+        let Some((_, cols)) = &header else {
             header_len = record.len();
             header = Some((line, read_header(&record).map_err(|m| err(line, 0, m))?));
             continue;
         };
         let row = targets.len() + 1;
-        let target =
-            read_row(&record, &cols, header_len, profile).map_err(|m| err(line, row, m))?;
+        let target = read_row(&record, cols, header_len, profile).map_err(|m| err(line, row, m))?;
         if let Some(&(first_row, first_line)) = seen.get(&target.id) {
             return Err(err(
                 line,
@@ -184,141 +219,162 @@ pub fn parse_targets(
     }
 }
 
-/// The 1-based line a record starts on, from the byte offset the CSV reader reports (the
-/// reader's own line count skips comments and blank lines, and its offset may point at the
-/// blank or comment lines before the record, which are stepped over here).
-fn record_line(text: &str, byte: u64) -> usize {
-    let mut at = usize::try_from(byte).unwrap_or(usize::MAX).min(text.len());
-    while at < text.len() {
-        let rest = &text.as_bytes()[at..];
-        let end = rest.iter().position(|&b| b == b'\n');
-        let this = &rest[..end.unwrap_or(rest.len())];
-        let skip = this.is_empty() || this == b"\r" || this.first() == Some(&b'#');
-        match end {
-            Some(e) if skip => at += e + 1,
-            _ => break,
-        }
-    }
-    super::line_of(text, at)
-}
+use super::input::record_line;
 
 fn column_list() -> String {
-    format!(
-        "{} (required) and `{}` (optional)",
-        COLUMNS[..REQUIRED]
-            .iter()
-            .map(|c| format!("`{c}`"))
-            .collect::<Vec<_>>()
-            .join(", "),
-        COLUMNS[REQUIRED]
-    )
+    TABLE.list()
 }
 
 /// The field index of each of [`COLUMNS`] (None: absent, only allowed for optional ones).
-fn read_header(record: &csv::StringRecord) -> Result<[Option<usize>; 5], String> {
-    let mut cols = [None; 5];
-    for (i, name) in record.iter().enumerate() {
-        let Some(k) = COLUMNS.iter().position(|c| *c == name) else {
-            let shown = if name.is_empty() {
-                format!("column {} has no name", i + 1)
-            } else {
-                format!("unknown column `{}` (column {})", shown(name), i + 1)
-            };
-            return Err(format!(
-                "{shown}; the header must name the columns {} and no others",
-                column_list()
-            ));
-        };
-        if let Some(first) = cols[k] {
-            return Err(format!(
-                "column `{}` appears twice (columns {} and {})",
-                shown(name),
-                first + 1,
-                i + 1
-            ));
+fn read_header(record: &csv::StringRecord) -> Result<Vec<Option<usize>>, String> {
+    let cols = TABLE.find(record)?;
+    for (a, b) in PAIRS {
+        for (given, lacking) in [(a, b), (b, a)] {
+            if cols[given].is_some() && cols[lacking].is_none() {
+                return Err(format!(
+                    "column `{}` needs column `{}` too: give both or neither",
+                    COLUMNS[given], COLUMNS[lacking]
+                ));
+            }
         }
-        cols[k] = Some(i);
-    }
-    let missing: Vec<String> = COLUMNS[..REQUIRED]
-        .iter()
-        .zip(&cols)
-        .filter(|(_, c)| c.is_none())
-        .map(|(name, _)| format!("`{name}`"))
-        .collect();
-    if !missing.is_empty() {
-        return Err(format!(
-            "the header lacks the required column{} {}; it must name {}",
-            if missing.len() > 1 { "s" } else { "" },
-            missing.join(", "),
-            column_list()
-        ));
     }
     Ok(cols)
 }
 
 fn read_row(
     record: &csv::StringRecord,
-    cols: &[Option<usize>; 5],
+    cols: &[Option<usize>],
     header_len: usize,
     profile: &Profile,
 ) -> Result<Target, String> {
-    if record.len() != header_len {
-        return Err(format!(
-            "{} field{}, but the header has {} columns",
-            record.len(),
-            if record.len() == 1 { "" } else { "s" },
-            header_len
-        ));
-    }
+    super::input::check_row_len(record, header_len)?;
     let cell = |k: usize| cols[k].and_then(|i| record.get(i)).unwrap_or("");
-    let id = cell(0);
+    let id = cell(ID);
     if id.is_empty() {
         return Err("`id` is empty".to_string());
     }
+    read_values(id, &cell, profile).map_err(|m| format!("target `{}`: {m}", shown(id)))
+}
+
+/// The values of the row of target `id` (`cell(k)`: the cell of column `k`, "" when absent).
+fn read_values<'a>(
+    id: &str,
+    cell: &dyn Fn(usize) -> &'a str,
+    profile: &Profile,
+) -> Result<Target, String> {
     // Values out of range are quoted as written: `Display` would spell 1e300 in 301 digits.
-    let ra_deg = number(cell(1), COLUMNS[1])?;
+    let ra_deg = number(cell(RA), COLUMNS[RA])?;
     if !(0.0..360.0).contains(&ra_deg) {
-        return Err(format!("`ra_deg` is {}, outside [0, 360)", shown(cell(1))));
+        return Err(format!("`ra_deg` is {}, outside [0, 360)", shown(cell(RA))));
     }
-    let dec_deg = number(cell(2), COLUMNS[2])?;
+    let dec_deg = number(cell(DEC), COLUMNS[DEC])?;
     if !(-90.0..=90.0).contains(&dec_deg) {
         return Err(format!(
             "`dec_deg` is {}, outside [-90, 90]",
-            shown(cell(2))
+            shown(cell(DEC))
         ));
     }
-    let duration_s = number(cell(3), COLUMNS[3])?;
+    let duration_s = number(cell(DURATION), COLUMNS[DURATION])?;
     if duration_s < 0.0 {
-        return Err(format!("`duration_s` is {}, negative", shown(cell(3))));
+        return Err(format!(
+            "`duration_s` is {}, negative",
+            shown(cell(DURATION))
+        ));
     }
-    let instrument = instrument_index(cell(4), profile)?;
+    let instrument = instrument_index(cell(INSTRUMENT), profile)?;
+    let priority = priority(cell(PRIORITY))?;
+    let window = match pair(cell, WINDOW_START, WINDOW_END)? {
+        None => None,
+        Some((a, b)) => {
+            let start = super::input::utc(a, COLUMNS[WINDOW_START])?;
+            let end = super::input::utc(b, COLUMNS[WINDOW_END])?;
+            if start.jd >= end.jd {
+                return Err(format!(
+                    "`window_end` {} is not after `window_start` {}: the window must end after \
+                     it starts",
+                    shown(b),
+                    shown(a)
+                ));
+            }
+            Some((start, end))
+        }
+    };
+    let roll_range_deg = match pair(cell, ROLL_MIN, ROLL_MAX)? {
+        None => None,
+        Some((a, b)) => {
+            let min = number(a, COLUMNS[ROLL_MIN])?;
+            let max = number(b, COLUMNS[ROLL_MAX])?;
+            for (v, text, k) in [(min, a, ROLL_MIN), (max, b, ROLL_MAX)] {
+                if !(-180.0..=180.0).contains(&v) {
+                    return Err(format!(
+                        "`{}` is {}, outside [-180, 180]",
+                        COLUMNS[k],
+                        shown(text)
+                    ));
+                }
+            }
+            if min > max {
+                return Err(format!(
+                    "`roll_min_deg` {} is above `roll_max_deg` {}",
+                    shown(a),
+                    shown(b)
+                ));
+            }
+            Some((min, max))
+        }
+    };
     Ok(Target {
         id: id.to_string(),
         ra_deg,
         dec_deg,
         duration_s,
         instrument,
-        priority: crate::DEFAULT_PRIORITY,
-        window: None,
-        roll_range_deg: None,
+        priority,
+        window,
+        roll_range_deg,
     })
 }
 
-fn number(text: &str, column: &str) -> Result<f64, String> {
-    if text.is_empty() {
-        return Err(format!("`{column}` is empty"));
+/// The two cells of a pair of columns: both given, or both empty (None); one alone is refused.
+fn pair<'a>(
+    cell: &dyn Fn(usize) -> &'a str,
+    a: usize,
+    b: usize,
+) -> Result<Option<(&'a str, &'a str)>, String> {
+    match (cell(a), cell(b)) {
+        ("", "") => Ok(None),
+        (x, "") | ("", x) => {
+            let (given, empty) = if cell(a).is_empty() { (b, a) } else { (a, b) };
+            Err(format!(
+                "`{}` is {} but `{}` is empty: give both or neither",
+                COLUMNS[given],
+                shown(x),
+                COLUMNS[empty]
+            ))
+        }
+        (x, y) => Ok(Some((x, y))),
     }
-    let v: f64 = text
-        .parse()
-        .map_err(|_| format!("`{column}` value `{}` is not a number", shown(text)))?;
-    if !v.is_finite() {
-        return Err(format!(
-            "`{column}` value `{}` is not a finite number",
-            shown(text)
-        ));
-    }
-    Ok(v)
 }
+
+/// The priority grade of a cell: empty for the default, else a whole number from 1 to
+/// [`crate::LOWEST_PRIORITY`].
+fn priority(text: &str) -> Result<u8, String> {
+    if text.is_empty() {
+        return Ok(crate::DEFAULT_PRIORITY);
+    }
+    let range = format!(
+        "a whole number from 1 (highest) to {} (lowest)",
+        crate::LOWEST_PRIORITY
+    );
+    match text.parse::<i64>() {
+        Ok(p) if (1..=i64::from(crate::LOWEST_PRIORITY)).contains(&p) => {
+            u8::try_from(p).map_err(|_| format!("`priority` is {}, not {range}", shown(text)))
+        }
+        _ => Err(format!("`priority` is {}, not {range}", shown(text))),
+    }
+}
+
+use super::input::number;
 
 fn instrument_index(name: &str, profile: &Profile) -> Result<usize, String> {
     if profile.instruments.is_empty() {
@@ -663,7 +719,11 @@ mod tests {
             shown.contains("unknown column `instrumnet` (column 5)"),
             "{shown}"
         );
-        assert!(shown.contains("`instrument` (optional)"), "{shown}");
+        assert!(
+            shown.contains("(required) and `instrument`, `priority`, `window_start`"),
+            "{shown}"
+        );
+        assert!(shown.contains("`roll_max_deg` (optional)"), "{shown}");
         let shown = error_at("id,ra_deg,dec_deg,duration_s,\nA,1,2,3,\n", 1, 0);
         assert!(shown.contains("column 5 has no name"), "{shown}");
         let shown = error_at("id,ra_deg,id,dec_deg,duration_s\n", 1, 0);
@@ -718,7 +778,164 @@ mod tests {
         );
     }
 
-    const GOOD: &str = "id,ra_deg,dec_deg,duration_s,instrument\nA,1,2,3,cam\nB,4.5,-6,700,spec\n";
+    /// Julian date of a UTC time given by hand: days since 2000-01-01T12:00 UTC (JD
+    /// 2451545.0 in UTC) plus this crate's fixed TT − UTC of 69.184 s.
+    fn jd_utc(days_after_2000_noon: f64) -> f64 {
+        2_451_545.0 + days_after_2000_noon + 69.184 / 86_400.0
+    }
+
+    #[test]
+    fn reads_priority_window_and_roll_range() {
+        let text = "id,ra_deg,dec_deg,duration_s,priority,window_start,window_end,roll_min_deg,roll_max_deg\n\
+                    A,1,2,3,1,2027-03-01T00:00:00Z,2027-03-02T12:00:00+02:00,-15,20.5\n\
+                    B,4,5,6,,,,,\n\
+                    C,7,8,9,9,2027-03-01,2027-03-03,0,0\n";
+        let got = parse(text).unwrap();
+        // 2027-03-01T00:00Z is 9920.5 days after 2000-01-01T12:00 UTC (27 years of which 7
+        // leap years, 2000 to 2024, then the 59 days of January and February 2027, less the
+        // half day; counted by hand); +02:00 makes the end 10:00Z.
+        let d0 = 27.0 * 365.0 + 7.0 + 59.0 - 0.5;
+        let mut a = target("A", 1.0, 2.0, 3.0, 0);
+        a.priority = 1;
+        a.roll_range_deg = Some((-15.0, 20.5));
+        let (s, e) = got[0].window.unwrap();
+        assert!((s.jd - jd_utc(d0)).abs() < 1e-9, "{}", s.jd);
+        assert!(
+            (e.jd - jd_utc(d0 + 1.0 + 10.0 / 24.0)).abs() < 1e-9,
+            "{}",
+            e.jd
+        );
+        a.window = got[0].window;
+        assert_eq!(got[0], a);
+        assert_eq!(got[1], target("B", 4.0, 5.0, 6.0, 0));
+        assert_eq!(got[1].priority, 5);
+        assert_eq!(got[2].priority, 9);
+        assert_eq!(got[2].roll_range_deg, Some((0.0, 0.0)));
+        let (s, e) = got[2].window.unwrap();
+        assert!((s.jd - jd_utc(d0)).abs() < 1e-9 && (e.jd - jd_utc(d0 + 2.0)).abs() < 1e-9);
+    }
+
+    #[test]
+    fn priorities_must_be_whole_numbers_from_1_to_9() {
+        let h = "id,ra_deg,dec_deg,duration_s,priority\nA,1,2,3,2\n";
+        for bad in [
+            "0",
+            "10",
+            "-1",
+            "2.5",
+            "high",
+            "300",
+            "99999999999999999999999",
+            "nan",
+        ] {
+            let shown = error_at(&format!("{h}B,1,2,3,{bad}\n"), 3, 2);
+            assert!(
+                shown.contains(&format!(
+                    "target `B`: `priority` is {bad}, not a whole number from 1 (highest) to 9"
+                )),
+                "{shown}"
+            );
+        }
+    }
+
+    #[test]
+    fn window_columns_and_cells_come_in_pairs() {
+        let shown = error_at(
+            "id,ra_deg,dec_deg,duration_s,window_start\nA,1,2,3,2027-03-01\n",
+            1,
+            0,
+        );
+        assert!(
+            shown.contains("column `window_start` needs column `window_end` too"),
+            "{shown}"
+        );
+        let shown = error_at("id,ra_deg,dec_deg,window_end,duration_s\n", 1, 0);
+        assert!(
+            shown.contains("column `window_end` needs column `window_start` too"),
+            "{shown}"
+        );
+        let h = "id,ra_deg,dec_deg,duration_s,window_start,window_end\n";
+        let shown = error_at(&format!("{h}A,1,2,3,2027-03-01,\n"), 2, 1);
+        assert!(
+            shown.contains("target `A`: `window_start` is 2027-03-01 but `window_end` is empty"),
+            "{shown}"
+        );
+        let shown = error_at(&format!("{h}A,1,2,3,,2027-03-01\n"), 2, 1);
+        assert!(
+            shown.contains("`window_end` is 2027-03-01 but `window_start` is empty"),
+            "{shown}"
+        );
+    }
+
+    #[test]
+    fn windows_must_be_utc_times_that_end_after_they_start() {
+        let h = "id,ra_deg,dec_deg,duration_s,window_start,window_end\n";
+        for (cells, column) in [
+            ("2027-03-01T00:00:00,2027-03-02", "window_start"),
+            ("2027-03-01,tomorrow", "window_end"),
+            ("2027-02-30,2027-03-02", "window_start"),
+            ("2027-03-01,99999-01-01T00:00:00Z", "window_end"),
+            ("nan,2027-03-02", "window_start"),
+        ] {
+            let shown = error_at(&format!("{h}A,1,2,3,{cells}\n"), 2, 1);
+            assert!(
+                shown.contains(&format!("target `A`: `{column}` value `"))
+                    && shown.contains("is not an ISO 8601 time with a UTC offset"),
+                "{cells}: {shown}"
+            );
+        }
+        for cells in [
+            "2027-03-02,2027-03-01",
+            "2027-03-01T00:00:00Z,2027-03-01T02:00:00+02:00",
+        ] {
+            let shown = error_at(&format!("{h}A,1,2,3,{cells}\n"), 2, 1);
+            assert!(
+                shown.contains("is not after `window_start`"),
+                "{cells}: {shown}"
+            );
+        }
+    }
+
+    #[test]
+    fn roll_ranges_must_be_finite_ordered_and_within_a_half_turn() {
+        let shown = error_at("id,ra_deg,dec_deg,duration_s,roll_max_deg\n", 1, 0);
+        assert!(
+            shown.contains("column `roll_max_deg` needs column `roll_min_deg` too"),
+            "{shown}"
+        );
+        let h = "id,ra_deg,dec_deg,duration_s,roll_min_deg,roll_max_deg\nA,1,2,3,-180,180\n";
+        for (cells, wanted) in [
+            (
+                "-181,0",
+                "target `B`: `roll_min_deg` is -181, outside [-180, 180]",
+            ),
+            ("0,180.5", "`roll_max_deg` is 180.5, outside [-180, 180]"),
+            ("0,1e300", "`roll_max_deg` is 1e300, outside"),
+            ("nan,0", "`roll_min_deg` value `nan` is not a finite number"),
+            ("0,inf", "`roll_max_deg` value `inf` is not a finite number"),
+            ("10,-10", "`roll_min_deg` 10 is above `roll_max_deg` -10"),
+            ("5,", "`roll_min_deg` is 5 but `roll_max_deg` is empty"),
+            ("x,5", "`roll_min_deg` value `x` is not a number"),
+        ] {
+            let shown = error_at(&format!("{h}B,1,2,3,{cells}\n"), 3, 2);
+            assert!(shown.contains(wanted), "{cells}: {shown}");
+        }
+        let got = parse(h).unwrap();
+        assert_eq!(got[0].roll_range_deg, Some((-180.0, 180.0)));
+    }
+
+    #[test]
+    fn errors_after_the_id_name_the_target() {
+        let shown = error_at("id,ra_deg,dec_deg,duration_s\nA,1,2,3\nB-7,1,2,-3\n", 3, 2);
+        assert!(
+            shown.contains("row 2: target `B-7`: `duration_s` is -3, negative"),
+            "{shown}"
+        );
+    }
+
+    const GOOD: &str = "id,ra_deg,dec_deg,duration_s,instrument,priority,window_start,window_end,roll_min_deg,roll_max_deg\n\
+                        A,1,2,3,cam,1,2027-03-01,2027-03-02T00:00:00Z,-10,10\n\
+                        B,4.5,-6,700,spec,,,,,\n";
 
     proptest! {
         #![proptest_config(ProptestConfig::with_cases(512))]
@@ -734,7 +951,7 @@ mod tests {
         }
 
         #[test]
-        fn edited_files_never_panic(at in 0usize..GOOD.len(), insert in "[-,0-9.eEinfa\"#\r\n ]{0,6}") {
+        fn edited_files_never_panic(at in 0usize..GOOD.len(), insert in "[-,0-9.eEinfaTZ:+\"#\r\n ]{0,6}") {
             let mut text = GOOD.to_string();
             let mut at = at;
             while !text.is_char_boundary(at) { at -= 1; }
