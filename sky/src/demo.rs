@@ -84,7 +84,8 @@ mod tests {
         assert_eq!(p.name, "Lantern Deep-Sky Observatory");
         assert_eq!((p.elongation_min_deg, p.elongation_max_deg), (97.0, 153.0));
         assert_eq!(p.shield_area_m2, 64.0);
-        assert_eq!(p.pressure_offset_m, [0.0, 0.2, 1.5]);
+        assert_eq!(p.pressure_offset_m, [0.0, 0.03, 0.25]);
+        assert_eq!((p.roll_range_deg, p.roll_steps), ((-20.0, 20.0), 3));
         assert_eq!(p.shield_normal, [1.0, 0.0, 0.0]);
         assert_eq!(
             (p.specular_reflectivity, p.diffuse_reflectivity),
@@ -123,47 +124,59 @@ mod tests {
         let first = DEMO_PROFILE_TOML.lines().next().unwrap_or("");
         assert!(first.starts_with("# CAUTION: "), "{first}");
         assert!(first.contains(CAUTION), "{first}");
-        assert!(DEMO_TARGETS_CSV.contains(CAUTION));
+        // The targets file is plain CSV (pandas reads it with no options).
+        assert!(DEMO_TARGETS_CSV.starts_with("id,ra_deg,dec_deg,duration_s,instrument,priority"));
     }
 
     #[test]
-    fn the_demo_targets_are_72_invented_targets_with_a_mix_of_instruments() {
+    fn the_demo_targets_are_60_invented_targets_with_priorities_windows_and_links() {
         let p = demo_profile();
         let t = demo_targets(&p);
-        assert_eq!(t.len(), 72);
+        assert_eq!(t.len(), 60);
         for (k, target) in t.iter().enumerate() {
             assert_eq!(target.id, format!("LDS-{:03}", k + 1));
-            assert!((600.0..=7200.0).contains(&target.duration_s), "{target:?}");
-            assert_eq!(target.duration_s % 60.0, 0.0, "{target:?}");
+            // Dwells of 4 to 14 hours in whole 10 minutes (make_demo_targets.py).
+            assert!(
+                (14_400.0..=50_400.0).contains(&target.duration_s),
+                "{target:?}"
+            );
+            assert_eq!(target.duration_s % 600.0, 0.0, "{target:?}");
+            assert!((1..=3).contains(&target.priority));
         }
+        // Counts as in the file (seed 20270301 of the script).
         let mut uses = [0; 3];
+        let mut priorities = [0; 4];
         for target in &t {
             uses[target.instrument] += 1;
+            priorities[target.priority as usize] += 1;
         }
-        assert_eq!(uses, [34, 18, 20]);
-        // Spread over the sky: every quadrant of right ascension and both hemispheres.
-        for q in 0..4 {
-            let lo = 90.0 * q as f64;
-            assert!(
-                t.iter().any(|x| x.ra_deg >= lo && x.ra_deg < lo + 90.0),
-                "quadrant {q}"
-            );
-        }
-        assert!(t.iter().any(|x| x.dec_deg > 30.0));
-        assert!(t.iter().any(|x| x.dec_deg < -30.0));
+        assert_eq!(uses, [27, 23, 10]);
+        assert_eq!(priorities, [0, 13, 29, 18]);
+        assert_eq!(t.iter().filter(|x| x.window.is_some()).count(), 7);
         // The first row as written in the file.
+        let at = |s: &str| crate::output::parse_utc(s).unwrap();
         assert_eq!(
             t[0],
             Target {
                 id: "LDS-001".to_string(),
-                ra_deg: 118.5657,
-                dec_deg: -0.8963,
-                duration_s: 3120.0,
+                ra_deg: 128.0457,
+                dec_deg: -5.7805,
+                duration_s: 27_000.0,
                 instrument: 2,
-                priority: crate::DEFAULT_PRIORITY,
-                window: None,
+                priority: 1,
+                window: Some((at("2027-03-10T00:00:00Z"), at("2027-03-17T00:00:00Z"))),
                 roll_range_deg: None,
             }
         );
+        // The links: a monitoring pair two to four days apart and a back-to-back group.
+        let links = demo_links(&t);
+        assert_eq!(links.len(), 2);
+        assert_eq!((links[0].first, links[0].second), (3, 16));
+        assert_eq!(
+            (links[0].min_lag_s, links[0].max_lag_s),
+            (Some(172_800.0), Some(345_600.0))
+        );
+        assert_eq!(links[1].kind, crate::LinkKind::Group);
+        assert_eq!((links[1].first, links[1].second), (20, 21));
     }
 }

@@ -1419,9 +1419,9 @@ time_s = 20
 
     #[test]
     fn the_demo_profile_keeps_the_defaults_of_the_optional_keys() {
-        // The examples in the demo file are commented out: the demo reads as before.
+        // The demo sets a roll range; the start examples are commented out: defaults.
         let p = parse(crate::DEMO_PROFILE_TOML).unwrap();
-        assert_eq!((p.roll_range_deg, p.roll_steps), ((0.0, 0.0), 3));
+        assert_eq!((p.roll_range_deg, p.roll_steps), ((-20.0, 20.0), 3));
         assert_eq!((p.start_pointing, p.start_momentum_nms), (None, [0.0; 3]));
         // And uncommented (the example lines start with `# ` and a key), they are read.
         let uncommented: String = crate::DEMO_PROFILE_TOML
@@ -1438,7 +1438,6 @@ time_s = 20
             })
             .collect();
         let p = parse(&uncommented).unwrap();
-        assert_ne!(p.roll_range_deg, (0.0, 0.0));
         assert!(p.start_pointing.is_some());
     }
 
