@@ -455,12 +455,6 @@ fn write_plan_files(
         },
     )
     .map_err(draw_error)?;
-    let points: Vec<(f64, f64)> = s
-        .momentum_trace
-        .iter()
-        .map(|&(t, h)| (t / 3600.0, h))
-        .collect();
-    let dumps_hours: Vec<f64> = s.dump_times_s.iter().map(|t| t / 3600.0).collect();
     let momentum_title = format!(
         "{}{label}: stored momentum, {} dumps, {:.4} kg propellant",
         profile.name, s.dumps, s.propellant_kg
@@ -469,10 +463,12 @@ fn write_plan_files(
         &dir.join(names[2]),
         &MomentumTrace {
             title: &momentum_title,
-            points: &points,
+            start,
+            points_s: &s.momentum_trace,
+            components_nms: &[],
             limit_nms: profile.wheel_limit_nms,
             threshold_nms: profile.wheel_limit_nms * profile.wheel_margin,
-            dumps_hours: &dumps_hours,
+            dumps_s: &s.dump_times_s,
             caution: CAUTION,
         },
     )
