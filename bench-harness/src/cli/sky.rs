@@ -10,7 +10,7 @@ use std::time::Duration;
 use wend::Method;
 use wend_sky::draw::{write_momentum_chart, write_sky_map, MomentumTrace, SkyMap};
 use wend_sky::front::{search_front, Front, FrontOptions, FrontProgress};
-use wend_sky::front_report::{write_front_svg, write_report_html, FrontReport, FrontRow};
+use wend_sky::front_report::{write_front_svg, write_report_html, FrontReport, FrontRow, PlanPage};
 use wend_sky::output::{
     self, busy_overhead_ratio, busy_overhead_s, elapsed_s, format_utc, front_json, hour_grams,
     parse_utc, plan_json, CAUTION, DEMO_START_UTC,
@@ -18,6 +18,7 @@ use wend_sky::output::{
 use wend_sky::plan::{plan, PlanOptions, DEFAULT_HORIZON_DAYS};
 use wend_sky::schedule::Schedule;
 use wend_sky::sun::sun_j2000;
+use wend_sky::timeline::{write_timeline, Timeline, TimelineItem, TimelineKind};
 use wend_sky::{demo_profile, demo_targets, read_profile, read_targets};
 use wend_sky::{Epoch, Profile, Target};
 
@@ -334,7 +335,7 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
     }
     if let Some(dir) = &a.out {
         println!(
-            "wrote {}: plan.csv, unscheduled.csv, sky-map.svg, momentum.svg, summary.json{}",
+            "wrote {}: plan.csv, unscheduled.csv, sky-map.svg, momentum.svg, timeline.svg, summary.json{}",
             dir.display(),
             if front.is_some() {
                 ", front.csv, plan-K.csv, front.svg, report.html"
@@ -395,7 +396,7 @@ fn write_outputs(
     })?;
     write_plan_files(
         dir,
-        ["plan.csv", "sky-map.svg", "momentum.svg"],
+        ["plan.csv", "sky-map.svg", "momentum.svg", "timeline.svg"],
         profile,
         targets,
         s,
@@ -404,10 +405,10 @@ fn write_outputs(
     )
 }
 
-/// Writes one plan's table, sky map and momentum chart under the three `names`.
+/// Writes one plan's table, sky map, momentum chart and timeline under the four `names`.
 fn write_plan_files(
     dir: &Path,
-    names: [&str; 3],
+    names: [&str; 4],
     profile: &Profile,
     targets: &[Target],
     s: &Schedule,
@@ -472,7 +473,111 @@ fn write_plan_files(
             caution: CAUTION,
         },
     )
+    .map_err(draw_error)?;
+    let items = timeline_items(profile, targets, s, start);
+    let timeline_title = format!(
+        "{}{label}: {} observations, {} dumps",
+        profile.name,
+        s.observations.len(),
+        s.dumps
+    );
+    write_timeline(
+        &dir.join(names[3]),
+        &Timeline {
+            title: &timeline_title,
+            start,
+            end: if s.end.jd > start.jd { s.end } else { start },
+            items: &items,
+            caution: CAUTION,
+        },
+    )
     .map_err(draw_error)
+}
+
+/// The bars of a plan's timeline: each observation, the waiting before it, its slew (with
+/// settling and setup: the busy time before it less any dump) and the dumps.
+fn timeline_items(
+    profile: &Profile,
+    targets: &[Target],
+    s: &Schedule,
+    start: Epoch,
+) -> Vec<TimelineItem> {
+    let since = |e: Epoch| ((e.jd - start.jd) * 86_400.0).max(0.0);
+    let mut items = Vec::new();
+    let mut prev_end = 0.0_f64;
+    for o in &s.observations {
+        let (o_start, o_end) = (since(o.start), since(o.end));
+        if o.wait_s > 0.0 {
+            items.push(TimelineItem {
+                kind: TimelineKind::Wait,
+                start_s: prev_end,
+                end_s: (prev_end + o.wait_s).min(o_start),
+                label: None,
+            });
+        }
+        let dump = if o.dump { profile.dump_s } else { 0.0 };
+        let busy = (o.overhead_s - o.wait_s - dump).max(0.0);
+        if busy > 0.0 {
+            items.push(TimelineItem {
+                kind: TimelineKind::Slew,
+                start_s: (o_start - busy).max(prev_end),
+                end_s: o_start,
+                label: None,
+            });
+        }
+        items.push(TimelineItem {
+            kind: TimelineKind::Observe,
+            start_s: o_start,
+            end_s: o_end.max(o_start),
+            label: targets.get(o.target).map(|t| t.id.clone()),
+        });
+        prev_end = o_end;
+    }
+    let span = since(s.end);
+    for &t in &s.dump_times_s {
+        items.push(TimelineItem {
+            kind: TimelineKind::Dump,
+            start_s: t.min(span),
+            end_s: (t + profile.dump_s).min(span).max(t.min(span)),
+            label: None,
+        });
+    }
+    items
+}
+
+/// A plan's table as the report shows it: the rows of its CSV file, less the caution line.
+fn plan_page(
+    targets: &[Target],
+    s: &Schedule,
+    k: usize,
+    names: &[String; 4],
+) -> Result<PlanPage, CliError> {
+    let mut text = Vec::new();
+    output::write_plan_csv(&mut text, targets, s)
+        .map_err(|e| CliError::Failure(format!("plan {k}: {e}")))?;
+    let mut reader = csv::ReaderBuilder::new()
+        .comment(Some(b'#'))
+        .from_reader(text.as_slice());
+    let fail = |e: csv::Error| CliError::Failure(format!("plan {k}: {e}"));
+    let columns: Vec<String> = reader
+        .headers()
+        .map_err(fail)?
+        .iter()
+        .map(str::to_string)
+        .collect();
+    let mut rows = Vec::new();
+    for record in reader.records() {
+        rows.push(record.map_err(fail)?.iter().map(str::to_string).collect());
+    }
+    Ok(PlanPage {
+        plan: k,
+        columns,
+        rows,
+        csv: names[0].clone(),
+        sky_map: names[1].clone(),
+        momentum: names[2].clone(),
+        timeline: names[3].clone(),
+    })
 }
 
 /// The front's plans as the report shows them.
@@ -506,15 +611,18 @@ fn write_front_files(
     write_file(&dir.join("front.csv"), |w| {
         output::write_front_csv(w, front, start)
     })?;
+    let mut pages = Vec::new();
     for (k, p) in front.plans.iter().enumerate() {
         let names = [
             format!("plan-{}.csv", k + 1),
             format!("plan-{}-sky-map.svg", k + 1),
             format!("plan-{}-momentum.svg", k + 1),
+            format!("plan-{}-timeline.svg", k + 1),
         ];
+        pages.push(plan_page(targets, &p.schedule, k + 1, &names)?);
         write_plan_files(
             dir,
-            [&names[0], &names[1], &names[2]],
+            [&names[0], &names[1], &names[2], &names[3]],
             profile,
             targets,
             &p.schedule,
@@ -563,13 +671,15 @@ fn write_front_files(
         hypervolume: front.hypervolume,
         reference: front.reference,
         notes: &notes,
+        plans: &pages,
     };
     let draw_error = |e: wend_sky::draw::DrawError| CliError::Failure(e.to_string());
     write_front_svg(&dir.join("front.svg"), &report).map_err(draw_error)?;
     write_report_html(&dir.join("report.html"), &report).map_err(draw_error)
 }
 
-/// Removes `plan-K.csv`, `plan-K-sky-map.svg` and `plan-K-momentum.svg` of an earlier front
+/// Removes `plan-K.csv`, `plan-K-sky-map.svg`, `plan-K-momentum.svg` and `plan-K-timeline.svg`
+/// of an earlier front
 /// in `dir`, so that a smaller front does not leave plans of another run beside it.
 fn remove_old_plan_files(dir: &Path) -> Result<(), CliError> {
     let fail = |e: std::io::Error| CliError::Failure(format!("{}: {e}", dir.display()));
@@ -583,7 +693,8 @@ fn remove_old_plan_files(dir: &Path) -> Result<(), CliError> {
         };
         let digits = rest.bytes().take_while(u8::is_ascii_digit).count();
         let tail = &rest[digits..];
-        if digits > 0 && [".csv", "-sky-map.svg", "-momentum.svg"].contains(&tail) {
+        if digits > 0 && [".csv", "-sky-map.svg", "-momentum.svg", "-timeline.svg"].contains(&tail)
+        {
             std::fs::remove_file(&path).map_err(fail)?;
         }
     }
