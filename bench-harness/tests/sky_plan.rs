@@ -781,6 +781,7 @@ fn every_output_file_carries_the_caution() {
         "unscheduled.csv",
         "sky-map.svg",
         "momentum.svg",
+        "timeline.svg",
         "summary.json",
     ] {
         let text = std::fs::read_to_string(dir.join(name)).unwrap();

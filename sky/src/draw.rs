@@ -13,8 +13,12 @@
 //! match and indices out of range give a [`DrawError`] rather than a panic or a wrong picture.
 //! An empty plan (no targets, no sequence, no momentum samples) still gives a picture.
 
-use crate::geometry::{separation_deg, unit_vector, Vec3};
-use crate::Target;
+use crate::geometry::{
+    cross, normalize, ra_dec_deg, separation, separation_deg, unit_vector, Vec3,
+};
+use crate::place::{around, nearest_in, square, Placer, Rect};
+use crate::utc_axis::utc_chart;
+use crate::{Epoch, Target};
 use plotters::element::DashedPathElement;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -23,11 +27,11 @@ use std::path::Path;
 use wend_charts::frame::Framed;
 use wend_charts::legend::{Key, LegendEntry, LegendKey, LegendLayout};
 use wend_charts::style::{
-    AXIS_TITLE_PX, BLUE, FONT, GREEN, GRID, INK, LEGEND_PX, ORANGE, OUTLINE, PURPLE, SOFT_TEXT,
-    VERMILLION,
+    AXIS_TITLE_PX, BLUE, FONT, GREEN, GRID, INK, LEGEND_PX, ORANGE, OUTLINE, PURPLE, SKY_BLUE,
+    SOFT_TEXT, VERMILLION,
 };
 use wend_charts::text::{boxed_text, em, text_width};
-use wend_charts::{linear_chart, number_label, write_checked, Area, DrawResult};
+use wend_charts::{number_label, write_checked, Area, DrawResult};
 
 pub use wend_charts::DrawError;
 
@@ -63,18 +67,24 @@ pub struct SkyMap<'a> {
 pub struct MomentumTrace<'a> {
     /// Title drawn at the top (wrapped when it is longer than the picture is wide).
     pub title: &'a str,
-    /// (hours since plan start, |H| in N·m·s) samples in time order (hours never decrease,
+    /// The plan's start: the time axis is in UTC from here.
+    pub start: Epoch,
+    /// (seconds since `start`, |H| in N·m·s) samples in time order (times never decrease,
     /// both values finite and at least 0); |H| jumps to 0 at a dump (two points at the same
-    /// hour). May be empty (an empty plan).
-    pub points: &'a [(f64, f64)],
-    /// Wheel momentum limit, N·m·s, finite and above 0 (a solid horizontal line, labelled).
+    /// time). May be empty (an empty plan).
+    pub points_s: &'a [(f64, f64)],
+    /// Optional: the three components of H (N·m·s, any sign, finite) at each of `points_s`,
+    /// drawn as thin lines; empty to leave them out, else exactly one per point.
+    pub components_nms: &'a [[f64; 3]],
+    /// Wheel momentum limit, N·m·s, finite and above 0 (a solid horizontal line, labelled
+    /// with its value).
     pub limit_nms: f64,
     /// Planning threshold (limit times the margin), N·m·s, finite and at least 0 (a dashed
-    /// horizontal line, labelled).
+    /// horizontal line, labelled with its value).
     pub threshold_nms: f64,
-    /// Hours since plan start (finite, at least 0) at which momentum dumps happen: thin
-    /// vertical markers, and their count in the legend.
-    pub dumps_hours: &'a [f64],
+    /// Seconds since `start` (finite, at least 0) at which momentum dumps happen: markers in a
+    /// strip above the lines, and their count in the legend.
+    pub dumps_s: &'a [f64],
     /// A caution sentence that appears at the bottom of the picture (wrapped to its width).
     /// Must not be blank.
     pub caution: &'a str,
@@ -96,9 +106,10 @@ pub fn write_sky_map(path: &Path, map: &SkyMap) -> Result<(), DrawError> {
 }
 
 /// Draws `trace` as an SVG file at `path` (about 900×500 px; taller when the title or the
-/// caution needs more lines). The y axis runs from 0 to 1.1 times the largest of the limit,
-/// the threshold and the samples; the x axis from 0 to the last sample or dump (1 hour when
-/// that is 0).
+/// caution needs more lines). The x axis is UTC from `start` to the last sample or dump (one
+/// hour when that is the start). The y axis runs from 0 (or below, for negative components)
+/// to a strip above the largest of the limit, the threshold and the samples; the dumps are
+/// marked in that strip, so that no marker crosses a line.
 ///
 /// # Errors
 /// [`DrawError::Input`] when the trace cannot be drawn faithfully (see [`MomentumTrace`] for
@@ -117,6 +128,12 @@ pub fn write_momentum_chart(path: &Path, trace: &MomentumTrace) -> Result<(), Dr
 
 const GRID_LABEL_PX: u32 = 15;
 const SUN_LABEL_PX: u32 = 17;
+/// Numbers of the observing order beside the targets.
+const NUMBER_PX: u32 = 15;
+/// Names of the targets.
+const NAME_PX: u32 = 14;
+/// Above this many targets no names are tried (the map is too crowded for them anyway).
+const MAX_NAMED_TARGETS: usize = 3000;
 const ZONE_ALWAYS: RGBColor = RGBColor(150, 150, 150);
 const ZONE_SOMETIMES: RGBColor = RGBColor(222, 222, 222);
 
@@ -134,6 +151,8 @@ enum SkyKey {
     SunPath,
     /// The Sun marker, hollow (start) or filled (end).
     Sun { filled: bool },
+    /// A number of the observing order, on its pale box.
+    Number,
 }
 
 impl LegendKey for SkyKey {
@@ -162,6 +181,16 @@ impl LegendKey for SkyKey {
                 ))
             }
             SkyKey::Sun { filled } => draw_sun_marker(area, c, filled),
+            SkyKey::Number => {
+                let style = TextStyle::from((FONT, NUMBER_PX).into_font().style(FontStyle::Bold))
+                    .color(&INK)
+                    .pos(Pos::new(HPos::Center, VPos::Center));
+                area.draw(&Rectangle::new(
+                    [(x - 10, y - 8), (x + 10, y + 8)],
+                    GRID.stroke_width(1),
+                ))?;
+                area.draw(&Text::new("12", (x, y), style))
+            }
         }
     }
 }
@@ -383,20 +412,96 @@ fn thin_path(path: &[(f64, f64)], step_deg: f64) -> Vec<(f64, f64)> {
 
 /// The map polylines of a path of (RA, Dec) in degrees: a new piece starts wherever two
 /// neighbours lie more than 180° apart in map longitude, that is where the path crosses the
-/// map's edge.
+/// map's edge (RA 0°). There the piece that ends and the piece that starts both reach the
+/// edge, at the declination interpolated linearly in RA between the two neighbours.
 fn map_pieces(path: impl IntoIterator<Item = (f64, f64)>) -> Vec<Vec<(f64, f64)>> {
     let mut pieces: Vec<Vec<(f64, f64)>> = Vec::new();
-    let mut last_lambda: Option<f64> = None;
+    let mut last: Option<(f64, f64, f64)> = None; // (λ, ra, dec) of the previous point
     for (ra, dec) in path {
         let lambda = lambda_of(ra);
         let p = hammer(lambda, dec.to_radians());
-        match (last_lambda, pieces.last_mut()) {
-            (Some(l), Some(piece)) if (lambda - l).abs() <= PI => piece.push(p),
+        match (last, pieces.last_mut()) {
+            (Some((l, _, _)), Some(piece)) if (lambda - l).abs() <= PI => piece.push(p),
+            (Some((l, ra0, dec0)), Some(piece)) => {
+                // RA distance from the previous point to the edge and on to this one.
+                let (to_edge, beyond) = if l > 0.0 {
+                    // From a small RA (right edge) down through RA 0 to an RA near 360.
+                    (ra0.rem_euclid(360.0), 360.0 - ra.rem_euclid(360.0))
+                } else {
+                    (360.0 - ra0.rem_euclid(360.0), ra.rem_euclid(360.0))
+                };
+                let f = if to_edge + beyond > 0.0 {
+                    to_edge / (to_edge + beyond)
+                } else {
+                    0.5
+                };
+                let dec_edge = (dec0 + f * (dec - dec0)).to_radians();
+                piece.push(hammer(PI.copysign(l), dec_edge));
+                pieces.push(vec![hammer(PI.copysign(lambda), dec_edge), p]);
+            }
             _ => pieces.push(vec![p]),
         }
-        last_lambda = Some(lambda);
+        last = Some((lambda, ra, dec));
     }
     pieces
+}
+
+/// Largest step between samples of a great-circle arc, degrees.
+const ARC_STEP_DEG: f64 = 2.0;
+
+/// The great-circle arc from `a` to `b` (RA, Dec in degrees) sampled at most
+/// [`ARC_STEP_DEG`] apart, both ends included. Opposite points have no single shortest arc:
+/// the arc then runs through a point a quarter turn from both.
+fn great_circle(a: (f64, f64), b: (f64, f64)) -> Vec<(f64, f64)> {
+    let (ua, ub) = (unit_vector(a.0, a.1), unit_vector(b.0, b.1));
+    let theta = separation(&ua, &ub);
+    if theta < 1e-9 {
+        return vec![a, b];
+    }
+    if PI - theta < 1e-6 {
+        // Any direction square to `a` will do; the one toward the pole keeps arcs tidy.
+        let side = normalize(&cross(&ua, &[0.0, 0.0, 1.0]))
+            .or_else(|| normalize(&cross(&ua, &[1.0, 0.0, 0.0])))
+            .unwrap_or([0.0, 1.0, 0.0]);
+        let mid = normalize(&cross(&side, &ua)).unwrap_or(side);
+        let m = ra_dec_deg(&mid);
+        let mut first = great_circle(a, m);
+        first.pop();
+        first.extend(great_circle(m, b));
+        return first;
+    }
+    // A hair below each whole step, so that rounding does not add a step.
+    let n = ((theta.to_degrees() / ARC_STEP_DEG - 1e-9).ceil() as usize).clamp(1, 180);
+    let sin_t = theta.sin();
+    let mut out = Vec::with_capacity(n + 1);
+    out.push(a);
+    for k in 1..n {
+        let t = k as f64 / n as f64;
+        let (wa, wb) = (((1.0 - t) * theta).sin() / sin_t, (t * theta).sin() / sin_t);
+        let v = [
+            wa * ua[0] + wb * ub[0],
+            wa * ua[1] + wb * ub[1],
+            wa * ua[2] + wb * ub[2],
+        ];
+        out.push(ra_dec_deg(&v));
+    }
+    out.push(b);
+    out
+}
+
+/// The observing sequence's path on the sky: the great-circle arcs between consecutive
+/// observations, joined, as (RA, Dec) in degrees.
+fn sequence_path(points: &[(f64, f64)]) -> Vec<(f64, f64)> {
+    let mut path: Vec<(f64, f64)> = Vec::new();
+    for pair in points.windows(2) {
+        let arc = great_circle(pair[0], pair[1]);
+        let skip = usize::from(!path.is_empty());
+        path.extend(arc.into_iter().skip(skip));
+    }
+    if path.is_empty() {
+        path.extend(points.first());
+    }
+    path
 }
 
 /// Why `map` cannot be drawn, or Ok.
@@ -485,7 +590,14 @@ fn sky_legend(map: &SkyMap) -> Vec<LegendEntry<SkyKey>> {
         kit(Key::Swatch(WHITE.to_rgba()), "never (allowed)".into()),
         kit(Key::Dot(BLUE, 4), format!("scheduled target ({n_sched})")),
         kit(Key::Ring(INK), format!("not scheduled ({n_other})")),
-        kit(Key::Line(BLUE, 2), "observing sequence".into()),
+        kit(
+            Key::Line(BLUE, 2),
+            "observing sequence (slews as great-circle arcs)".into(),
+        ),
+        e(
+            SkyKey::Number,
+            "place in the observing order (left out where crowded)".into(),
+        ),
         e(SkyKey::Triangle(GREEN), "first observation".into()),
         e(SkyKey::Square(VERMILLION), "last observation".into()),
         kit(
@@ -522,7 +634,7 @@ fn render_sky_map(map: &SkyMap) -> DrawResult<String> {
         map.caution,
         &legend,
     )
-    .render(|_, area| draw_sky(area, map, &suns, &shapes))
+    .render(|root, area| draw_sky(root, area, map, &suns, &shapes))
 }
 
 /// The frame of both pictures: title, the body beside its legend, the caution.
@@ -547,6 +659,7 @@ pub(super) fn framed<'a, K: LegendKey>(
 
 /// Draws the map itself into `area`: zones, grid, outline, Sun, targets and sequence.
 fn draw_sky(
+    root: &Area,
     area: &Area,
     map: &SkyMap,
     suns: &[(f64, f64)],
@@ -608,19 +721,12 @@ fn draw_sky(
         })
         .collect();
     plot.draw(&PathElement::new(outline, OUTLINE.stroke_width(1)))?;
-    let label = |h: HPos, v: VPos| {
-        TextStyle::from((FONT, GRID_LABEL_PX).into_font())
-            .color(&SOFT_TEXT)
-            .pos(Pos::new(h, v))
-    };
+    // Grid labels: (text, map point, anchor); drawn after the Sun's labels, where clear.
+    let mut grid_labels: Vec<(String, (f64, f64), HPos, VPos)> = Vec::new();
     for k in 1..12 {
         let ra = k * 30;
         let (x, y) = grid_point(f64::from(ra), 0.0);
-        plot.draw(&Text::new(
-            format!("{ra}°"),
-            (x, y - 3.0 * px),
-            label(HPos::Center, VPos::Top),
-        ))?;
+        grid_labels.push((format!("{ra}°"), (x, y - 3.0 * px), HPos::Center, VPos::Top));
     }
     for k in -2..=2 {
         let dec = k * 30;
@@ -630,21 +736,19 @@ fn draw_sky(
         } else {
             format!("{dec}°").replace('-', "−")
         };
-        plot.draw(&Text::new(
-            text,
-            (x - 6.0 * px, y),
-            label(HPos::Right, VPos::Center),
-        ))?;
+        grid_labels.push((text, (x - 6.0 * px, y), HPos::Right, VPos::Center));
     }
 
-    // The sequence, then the targets, then its first and last observations.
+    // The sequence as great-circle arcs, then the targets, then its first and last
+    // observations.
     let n = map.targets.len();
     let line_w = if map.sequence.len() > 1000 { 1 } else { 2 };
-    let seq = map
+    let seq: Vec<(f64, f64)> = map
         .sequence
         .iter()
-        .map(|&i| (map.targets[i].ra_deg, map.targets[i].dec_deg));
-    for piece in map_pieces(seq) {
+        .map(|&i| (map.targets[i].ra_deg, map.targets[i].dec_deg))
+        .collect();
+    for piece in map_pieces(sequence_path(&seq)) {
         if piece.len() > 1 {
             plot.draw(&PathElement::new(piece, BLUE.mix(0.8).stroke_width(line_w)))?;
         }
@@ -672,47 +776,211 @@ fn draw_sky(
         plot.draw(&PathElement::new(piece.clone(), INK.stroke_width(5)))?;
         plot.draw(&PathElement::new(piece, ORANGE.stroke_width(3)))?;
     }
+    let at = |i: usize| project(map.targets[i].ra_deg, map.targets[i].dec_deg);
     if let (Some(&first), Some(&last)) = (map.sequence.first(), map.sequence.last()) {
-        let at = |i: usize| project(map.targets[i].ra_deg, map.targets[i].dec_deg);
         draw_square(plot, at(last), VERMILLION)?;
         draw_triangle(plot, at(first), GREEN)?;
     }
-
-    // The Sun at the plan's start and end, labelled above and below so that the labels stay
-    // apart even when the Sun barely moves, on a pale box that keeps them legible on any
-    // shade, and kept inside the map's area.
-    let sun_text = TextStyle::from((FONT, SUN_LABEL_PX).into_font().style(FontStyle::Bold))
-        .pos(Pos::new(HPos::Center, VPos::Center));
-    let sun_label = |text: &str, at: (f64, f64), above: bool| -> DrawResult<()> {
-        let w = (text_width(text, SUN_LABEL_PX, 0.66) + 8.0) * px;
-        let h = em(SUN_LABEL_PX) * 1.3 * px;
-        let gap = 11.0 * px;
-        let cx = at.0.clamp(x0 + w / 2.0, (x1 - w / 2.0).max(x0 + w / 2.0));
-        let (y0, y1) = if above {
-            (at.1 + gap, at.1 + gap + h)
-        } else {
-            (at.1 - gap - h, at.1 - gap)
-        };
-        boxed_text(
-            plot,
-            [(cx - w / 2.0, y0), (cx + w / 2.0, y1)],
-            text.to_string(),
-            (cx, (y0 + y1) / 2.0),
-            &sun_text,
-        )
-    };
     let (start, end) = (suns[0], suns[suns.len() - 1]);
     let (p_start, p_end) = (project(start.0, start.1), project(end.0, end.1));
     if suns.len() == 1 {
         draw_sun_marker(plot, p_start, true)?;
-        sun_label("Sun", p_start, true)?;
     } else {
         draw_sun_marker(plot, p_start, false)?;
         draw_sun_marker(plot, p_end, true)?;
-        sun_label("Sun, start", p_start, true)?;
-        sun_label("Sun, end", p_end, false)?;
+    }
+
+    // Labels, each placed clear of the markers and of every label placed before it, or left
+    // out: the Sun's first, then the grid's, then the observing order's numbers, then the
+    // targets' names.
+    let pixel = |p: (f64, f64)| {
+        let (x, y) = plot.map_coordinate(&p);
+        (f64::from(x), f64::from(y))
+    };
+    let (xr, yr) = plot.get_pixel_range();
+    let mut placer = Placer::new((
+        f64::from(xr.start),
+        f64::from(yr.start),
+        f64::from(xr.end),
+        f64::from(yr.end),
+    ));
+    let rf = f64::from(r) + 1.0;
+    for t in map.targets {
+        placer.block(square(pixel(project(t.ra_deg, t.dec_deg)), rf));
+    }
+    if let (Some(&first), Some(&last)) = (map.sequence.first(), map.sequence.last()) {
+        placer.block(square(pixel(at(first)), 10.0));
+        placer.block(square(pixel(at(last)), 8.0));
+    }
+    let sun_points: Vec<(f64, f64)> = if suns.len() == 1 {
+        vec![p_start]
+    } else {
+        vec![p_start, p_end]
+    };
+    for &p in &sun_points {
+        placer.block(square(pixel(p), 9.0));
+    }
+    // A text on a pale box filling `rect`.
+    let boxed = |rect: Rect, text: &str, style: &TextStyle| -> DrawResult<()> {
+        boxed_text(
+            root,
+            [
+                (rect.0.round() as i32, rect.1.round() as i32),
+                (rect.2.round() as i32, rect.3.round() as i32),
+            ],
+            text.to_string(),
+            (
+                ((rect.0 + rect.2) / 2.0).round() as i32,
+                ((rect.1 + rect.3) / 2.0).round() as i32,
+            ),
+            style,
+        )
+    };
+    // A thin line from a marker of radius `marker` at `p` to its label at `rect`, when the
+    // label does not touch the marker.
+    let leader = |p: (f64, f64), marker: f64, rect: &Rect| -> DrawResult<()> {
+        let near = nearest_in(rect, p);
+        let (dx, dy) = (near.0 - p.0, near.1 - p.1);
+        let dist = dx.hypot(dy);
+        if dist > marker + 6.0 {
+            let from = (p.0 + dx * marker / dist, p.1 + dy * marker / dist);
+            root.draw(&PathElement::new(
+                vec![
+                    (from.0.round() as i32, from.1.round() as i32),
+                    (near.0.round() as i32, near.1.round() as i32),
+                ],
+                SOFT_TEXT.stroke_width(1),
+            ))?;
+        }
+        Ok(())
+    };
+
+    // The Sun at the plan's start and end: the start's label above it, the end's below
+    // (so that they stay apart when the Sun barely moves), else wherever there is room.
+    let sun_text = TextStyle::from((FONT, SUN_LABEL_PX).into_font().style(FontStyle::Bold))
+        .pos(Pos::new(HPos::Center, VPos::Center));
+    let sun_names: Vec<(&str, (f64, f64), bool)> = if suns.len() == 1 {
+        vec![("Sun", p_start, true)]
+    } else {
+        vec![("Sun, start", p_start, true), ("Sun, end", p_end, false)]
+    };
+    for (text, at_map, above) in sun_names {
+        let p = pixel(at_map);
+        let w = text_width(text, SUN_LABEL_PX, 0.66) + 8.0;
+        let h = em(SUN_LABEL_PX) * 1.3;
+        let up = (p.0 - w / 2.0, p.1 - 11.0 - h, p.0 + w / 2.0, p.1 - 11.0);
+        let down = (p.0 - w / 2.0, p.1 + 11.0, p.0 + w / 2.0, p.1 + 11.0 + h);
+        let first = if above { [up, down] } else { [down, up] };
+        // Near the map's side edges: the same heights, moved inside.
+        let inside = |rect: Rect| {
+            let dx =
+                (f64::from(xr.start) - rect.0).max(0.0) - (rect.2 - f64::from(xr.end)).max(0.0);
+            (rect.0 + dx, rect.1, rect.2 + dx, rect.3)
+        };
+        let candidates = first
+            .into_iter()
+            .chain(first.into_iter().map(inside))
+            .chain(around(p, 9.0, w, h, 3));
+        if let Some(rect) = placer.place(candidates) {
+            leader(p, 9.0, &rect)?;
+            boxed(rect, text, &sun_text)?;
+        }
+    }
+
+    // The grid's labels where they are clear.
+    for (text, at_map, h_pos, v_pos) in grid_labels {
+        let (x, y) = pixel(at_map);
+        let w = text_width(&text, GRID_LABEL_PX, 0.62);
+        let h = em(GRID_LABEL_PX) * 1.2;
+        let x0 = match h_pos {
+            HPos::Right => x - w,
+            HPos::Center => x - w / 2.0,
+            HPos::Left => x,
+        };
+        let y0 = match v_pos {
+            VPos::Top => y,
+            VPos::Center => y - h / 2.0,
+            VPos::Bottom => y - h,
+        };
+        if placer.place([(x0, y0, x0 + w, y0 + h)]).is_some() {
+            let style = TextStyle::from((FONT, GRID_LABEL_PX).into_font())
+                .color(&SOFT_TEXT)
+                .pos(Pos::new(h_pos, v_pos));
+            root.draw(&Text::new(
+                text,
+                (x.round() as i32, y.round() as i32),
+                style,
+            ))?;
+        }
+    }
+
+    // The observing order's numbers beside their targets: the first and the last, then
+    // every tenth, every fifth, and the others, each where it fits.
+    let m = map.sequence.len();
+    let mut order: Vec<usize> = Vec::with_capacity(m);
+    if m > 0 {
+        order.push(0);
+        if m > 1 {
+            order.push(m - 1);
+        }
+    }
+    // Every tenth first, then every fifth, then the others (a stable sort keeps the order).
+    let rank = |k: &usize| match k + 1 {
+        x if x % 10 == 0 => 0,
+        x if x % 5 == 0 => 1,
+        _ => 2,
+    };
+    let mut middle: Vec<usize> = (1..m.saturating_sub(1)).collect();
+    middle.sort_by_key(rank);
+    order.extend(middle);
+    let number_style = TextStyle::from((FONT, NUMBER_PX).into_font().style(FontStyle::Bold))
+        .color(&INK)
+        .pos(Pos::new(HPos::Center, VPos::Center));
+    let marker_of = |k: usize| {
+        if k == 0 {
+            10.0
+        } else if k + 1 == m {
+            8.0
+        } else {
+            rf
+        }
+    };
+    for k in order {
+        let text = (k + 1).to_string();
+        let (w, h) = label_size(&text, NUMBER_PX);
+        let p = pixel(at(map.sequence[k]));
+        if let Some(rect) = placer.place(around(p, marker_of(k), w, h, 0)) {
+            boxed(rect, &text, &number_style)?;
+        }
+    }
+
+    // The targets' names where room is left: scheduled ones in the observing order first.
+    if n <= MAX_NAMED_TARGETS {
+        let name_style = TextStyle::from((FONT, NAME_PX).into_font())
+            .color(&SOFT_TEXT)
+            .pos(Pos::new(HPos::Center, VPos::Center));
+        let mut seen = vec![false; n];
+        let named = map
+            .sequence
+            .iter()
+            .copied()
+            .chain(0..n)
+            .filter(|&i| !std::mem::replace(&mut seen[i], true));
+        for i in named {
+            let t = &map.targets[i];
+            let (w, h) = label_size(&t.id, NAME_PX);
+            let p = pixel(project(t.ra_deg, t.dec_deg));
+            if let Some(rect) = placer.place(around(p, rf, w, h, 0)) {
+                boxed(rect, &t.id, &name_style)?;
+            }
+        }
     }
     Ok(())
+}
+
+/// Width and height in pixels of a boxed label of `text` at library size `px`.
+fn label_size(text: &str, px: u32) -> (f64, f64) {
+    (text_width(text, px, 0.62) + 6.0, em(px) * 1.25)
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -725,22 +993,31 @@ const MOMENTUM_LEGEND_W: u32 = 250;
 /// Height of the band holding the chart and its legend, pixels.
 const MOMENTUM_MIDDLE_H: u32 = 390;
 
-/// The axes' upper ends: (hours, N·m·s).
+/// The axes' ends: x in seconds from the start, y in N·m·s.
 #[derive(Clone, Copy, Debug, PartialEq)]
 struct Ranges {
     x_max: f64,
+    y_min: f64,
+    /// The largest value drawn (line or sample); the strip of dump markers lies above it.
+    top: f64,
     y_max: f64,
 }
 
+/// Share of the y axis kept free above the largest value, for the dump markers.
+const DUMP_STRIP: f64 = 0.12;
+
 /// Why `trace` cannot be drawn, or the ranges of its axes.
 fn check_momentum(trace: &MomentumTrace) -> Result<Ranges, String> {
-    let mut last_hour = f64::NEG_INFINITY;
+    let mut last_s = f64::NEG_INFINITY;
     let (mut x_max, mut h_max) = (0.0_f64, 0.0_f64);
-    for (k, &(hour, h)) in trace.points.iter().enumerate() {
-        if !(hour.is_finite() && hour >= 0.0) {
+    if !trace.start.to_unix_seconds().is_finite() {
+        return Err("the plan's start is not a finite time".into());
+    }
+    for (k, &(t, h)) in trace.points_s.iter().enumerate() {
+        if !(t.is_finite() && t >= 0.0) {
             return Err(format!(
-                "momentum sample {k} is at hour {hour}, not a finite time at or after the \
-                 plan's start"
+                "momentum sample {k} is at {t} s, not a finite time at or after the plan's \
+                 start"
             ));
         }
         if !(h.is_finite() && h >= 0.0) {
@@ -748,15 +1025,35 @@ fn check_momentum(trace: &MomentumTrace) -> Result<Ranges, String> {
                 "momentum sample {k} has |H| = {h} N·m·s, not a finite value at least 0"
             ));
         }
-        if hour < last_hour {
+        if t < last_s {
             return Err(format!(
-                "momentum sample {k} (hour {hour}) comes before the sample preceding it \
-                 (hour {last_hour}); samples must be in time order"
+                "momentum sample {k} ({t} s) comes before the sample preceding it ({last_s} \
+                 s); samples must be in time order"
             ));
         }
-        last_hour = hour;
-        x_max = x_max.max(hour);
+        last_s = t;
+        x_max = x_max.max(t);
         h_max = h_max.max(h);
+    }
+    let comps = trace.components_nms;
+    if !comps.is_empty() && comps.len() != trace.points_s.len() {
+        return Err(format!(
+            "{} momentum components for {} samples (give none or one per sample)",
+            comps.len(),
+            trace.points_s.len()
+        ));
+    }
+    let mut c_min = 0.0_f64;
+    for (k, c) in comps.iter().enumerate() {
+        if !c.iter().all(|v| v.is_finite()) {
+            return Err(format!(
+                "momentum components of sample {k} are {c:?}, not finite values"
+            ));
+        }
+        for &v in c {
+            c_min = c_min.min(v);
+            h_max = h_max.max(v);
+        }
     }
     if !(trace.limit_nms.is_finite() && trace.limit_nms > 0.0) {
         return Err(format!(
@@ -770,65 +1067,124 @@ fn check_momentum(trace: &MomentumTrace) -> Result<Ranges, String> {
             trace.threshold_nms
         ));
     }
-    for (k, &hour) in trace.dumps_hours.iter().enumerate() {
-        if !(hour.is_finite() && hour >= 0.0) {
+    for (k, &t) in trace.dumps_s.iter().enumerate() {
+        if !(t.is_finite() && t >= 0.0) {
             return Err(format!(
-                "momentum dump {k} is at hour {hour}, not a finite time at or after the \
-                 plan's start"
+                "momentum dump {k} is at {t} s, not a finite time at or after the plan's start"
             ));
         }
-        x_max = x_max.max(hour);
+        x_max = x_max.max(t);
     }
     if trace.caution.trim().is_empty() {
         return Err("the caution text is blank; the picture must carry it".into());
     }
-    let y_max = h_max.max(trace.limit_nms).max(trace.threshold_nms) * 1.1;
-    if !y_max.is_finite() {
+    let top = h_max.max(trace.limit_nms).max(trace.threshold_nms);
+    let y_min = if c_min < 0.0 { c_min * 1.1 } else { 0.0 };
+    let y_max = top + (top - y_min) * DUMP_STRIP / (1.0 - DUMP_STRIP);
+    if !(y_max.is_finite() && y_min.is_finite() && (y_max - y_min).is_finite()) {
         return Err(format!(
             "momentum values up to {h_max} N·m·s are too large to draw"
         ));
     }
     if x_max <= 0.0 {
-        x_max = 1.0;
+        x_max = 3600.0;
     }
-    Ok(Ranges { x_max, y_max })
+    Ok(Ranges {
+        x_max,
+        y_min,
+        top,
+        y_max,
+    })
 }
 
+/// How a legend entry of the momentum chart shows what it explains.
+#[derive(Clone, Copy)]
+enum MomentumKey {
+    Kit(Key),
+    /// The dump marker: a triangle pointing down.
+    Dump,
+}
+
+impl LegendKey for MomentumKey {
+    fn text_only(&self) -> Option<bool> {
+        match self {
+            MomentumKey::Kit(k) => k.text_only(),
+            MomentumKey::Dump => None,
+        }
+    }
+
+    fn draw(&self, area: &Area, c: (i32, i32)) -> DrawResult<()> {
+        match *self {
+            MomentumKey::Kit(k) => k.draw(area, c),
+            MomentumKey::Dump => draw_dump_marker(area, c),
+        }
+    }
+}
+
+/// Height of a dump marker, pixels.
+const DUMP_MARK_H: i32 = 12;
+
+/// A dump marker: a purple triangle pointing down, its tip `DUMP_MARK_H / 2` below `at`.
+fn draw_dump_marker<CT: CoordTranslate>(
+    area: &DrawingArea<SVGBackend<'_>, CT>,
+    at: CT::From,
+) -> DrawResult<()> {
+    let h = DUMP_MARK_H / 2;
+    let pts = vec![(-6, -h), (6, -h), (0, h)];
+    let mut closed = pts.clone();
+    closed.push(pts[0]);
+    area.draw(
+        &(EmptyElement::at(at)
+            + Polygon::new(pts, PURPLE.filled())
+            + PathElement::new(closed, INK.stroke_width(1))),
+    )
+}
+
+/// Colours of the three components.
+const COMPONENT_COLOURS: [RGBColor; 3] = [GREEN, ORANGE, SKY_BLUE];
+
 /// The legend of the momentum chart.
-fn momentum_legend(trace: &MomentumTrace) -> Vec<LegendEntry<Key>> {
-    let dumps = match trace.dumps_hours.len() {
+fn momentum_legend(trace: &MomentumTrace) -> Vec<LegendEntry<MomentumKey>> {
+    let dumps = match trace.dumps_s.len() {
         0 => "no momentum dumps".to_string(),
-        1 => "1 momentum dump".to_string(),
-        n => format!("{n} momentum dumps"),
+        1 => "1 momentum dump (marked above the lines)".to_string(),
+        n => format!("{n} momentum dumps (marked above the lines)"),
     };
-    vec![
-        LegendEntry {
-            key: Key::Line(BLUE, 2),
-            label: "stored momentum |H|".into(),
+    let kit = |key: Key, label: &str| LegendEntry {
+        key: MomentumKey::Kit(key),
+        label: label.to_string(),
+    };
+    let mut entries = vec![kit(Key::Line(BLUE, 2), "stored momentum |H|")];
+    if !trace.components_nms.is_empty() {
+        for (axis, colour) in ["x", "y", "z"].iter().zip(COMPONENT_COLOURS) {
+            entries.push(kit(Key::Line(colour, 1), &format!("component H{axis}")));
+        }
+    }
+    entries.push(kit(Key::Line(VERMILLION, 2), "wheel limit"));
+    entries.push(kit(
+        Key::Dashed {
+            colour: INK,
+            width: 2,
+            dash: 7,
+            gap: 4,
         },
-        LegendEntry {
-            key: Key::Line(VERMILLION, 2),
-            label: "wheel limit".into(),
-        },
-        LegendEntry {
-            key: Key::Dashed {
-                colour: INK,
-                width: 2,
-                dash: 7,
-                gap: 4,
-            },
-            label: "planning threshold".into(),
-        },
-        LegendEntry {
-            key: Key::Tick(PURPLE),
-            label: dumps,
-        },
-    ]
+        "planning threshold",
+    ));
+    entries.push(LegendEntry {
+        key: MomentumKey::Dump,
+        label: dumps,
+    });
+    entries
 }
 
 /// The momentum chart as SVG text.
 fn render_momentum(trace: &MomentumTrace, ranges: Ranges) -> DrawResult<String> {
-    let Ranges { x_max, y_max } = ranges;
+    let Ranges {
+        x_max,
+        y_min,
+        top,
+        y_max,
+    } = ranges;
     let legend = momentum_legend(trace);
     let frame = framed(
         MOMENTUM_W,
@@ -838,25 +1194,28 @@ fn render_momentum(trace: &MomentumTrace, ranges: Ranges) -> DrawResult<String> 
         trace.caution,
         &legend,
     );
-    frame.render(|_, chart_area| {
-        let chart = linear_chart(
+    frame.render(|root, chart_area| {
+        let chart = utc_chart(
             chart_area,
-            (0.0, x_max),
-            (0.0, y_max),
-            "hours since plan start",
+            trace.start,
+            x_max,
+            (y_min, y_max),
             "stored momentum |H| (N·m·s)",
+            true,
+            84,
         )?;
         let plot = chart.plotting_area();
-        let (_, plot_h) = plot.dim_in_pixel();
-        let px = y_max / f64::from(plot_h.max(1)); // one pixel in N·m·s
-
-        for &hour in trace.dumps_hours {
+        let pixel = |p: (f64, f64)| {
+            let (x, y) = plot.map_coordinate(&p);
+            (f64::from(x), f64::from(y))
+        };
+        let (limit, threshold) = (trace.limit_nms, trace.threshold_nms);
+        if y_min < 0.0 {
             plot.draw(&PathElement::new(
-                vec![(hour, 0.0), (hour, y_max)],
-                PURPLE.stroke_width(2),
+                vec![(0.0, 0.0), (x_max, 0.0)],
+                GRID.stroke_width(1),
             ))?;
         }
-        let (limit, threshold) = (trace.limit_nms, trace.threshold_nms);
         plot.draw(&PathElement::new(
             vec![(0.0, limit), (x_max, limit)],
             VERMILLION.stroke_width(2),
@@ -867,57 +1226,101 @@ fn render_momentum(trace: &MomentumTrace, ranges: Ranges) -> DrawResult<String> 
             4,
             INK.stroke_width(2),
         ))?;
-        if trace.points.len() > 1 {
+        for (axis, colour) in COMPONENT_COLOURS.iter().enumerate() {
+            if trace.components_nms.len() > 1 {
+                let line: Vec<(f64, f64)> = trace
+                    .points_s
+                    .iter()
+                    .zip(trace.components_nms)
+                    .map(|(&(t, _), c)| (t, c[axis]))
+                    .collect();
+                plot.draw(&PathElement::new(line, colour.stroke_width(1)))?;
+            }
+        }
+        if trace.points_s.len() > 1 {
             plot.draw(&PathElement::new(
-                trace.points.to_vec(),
+                trace.points_s.to_vec(),
                 BLUE.stroke_width(2),
             ))?;
-        } else if let Some(&p) = trace.points.first() {
+        } else if let Some(&p) = trace.points_s.first() {
             plot.draw(&Circle::new(p, 3, BLUE.filled()))?;
         }
 
-        // Names and values at the right end of the two lines: each above its line, unless
-        // the lower one's would run into the upper line, then below it.
-        let (plot_w, _) = plot.dim_in_pixel();
-        let px_x = x_max / f64::from(plot_w.max(1)); // one pixel in hours
-        let text =
-            TextStyle::from((FONT, LEGEND_PX).into_font()).pos(Pos::new(HPos::Right, VPos::Center));
-        // A name on a pale box at the right end of a line, above or below it.
-        let line_label = |label: String, at: f64, above: bool| -> DrawResult<()> {
-            let w = (text_width(&label, LEGEND_PX, 0.6) + 6.0) * px_x;
-            let h = em(LEGEND_PX) * 1.3 * px;
-            let (y0, y1) = if above {
-                (at + 2.0 * px, at + 2.0 * px + h)
-            } else {
-                (at - 2.0 * px - h, at - 2.0 * px)
-            };
-            let x1 = x_max - 2.0 * px_x;
-            boxed_text(
-                plot,
-                [(x1 - w, y0), (x1, y1)],
-                label,
-                (x1 - 3.0 * px_x, (y0 + y1) / 2.0),
-                &text,
-            )
-        };
+        // Dump markers in the strip above every line: half-way between the highest value
+        // and the top of the chart.
+        let (xr, yr) = plot.get_pixel_range();
+        let bounds = (
+            f64::from(xr.start),
+            f64::from(yr.start),
+            f64::from(xr.end),
+            f64::from(yr.end),
+        );
+        let mut placer = Placer::new(bounds);
+        let strip_y = (pixel((0.0, top)).1 + bounds.1) / 2.0;
+        let mut marked = std::collections::HashSet::new();
+        for &t in trace.dumps_s {
+            let (x, _) = pixel((t, top));
+            let at = (x.round() as i32, strip_y.round() as i32);
+            placer.block(square((x, strip_y), f64::from(DUMP_MARK_H) / 2.0 + 1.0));
+            if marked.insert(at.0) {
+                draw_dump_marker(root, at)?;
+            }
+        }
+
+        // Each line's name and value on a pale box beside it, clear of the other line, the
+        // dump markers and the other label: at the right end above it, below it, then at
+        // the left end, then in the middle.
         let value = |v: f64| number_label(v, v.abs());
-        let limit_text = format!("limit, {} N·m·s", value(limit));
-        let threshold_text = format!("threshold, {} N·m·s", value(threshold));
-        let (upper, lower) = if limit >= threshold {
-            ((limit, limit_text), (threshold, threshold_text))
-        } else {
-            ((threshold, threshold_text), (limit, limit_text))
-        };
-        let room = (upper.0 - lower.0) / px;
-        line_label(upper.1, upper.0, true)?;
-        line_label(lower.1, lower.0, room >= 2.0 * em(LEGEND_PX))?;
-        if trace.points.is_empty() {
+        let labels = [
+            (limit, format!("wheel limit, {} N·m·s", value(limit))),
+            (
+                threshold,
+                format!("planning threshold, {} N·m·s", value(threshold)),
+            ),
+        ];
+        for &(v, _) in &labels {
+            let y = pixel((0.0, v)).1;
+            placer.block((bounds.0, y - 1.5, bounds.2, y + 1.5));
+        }
+        let text = TextStyle::from((FONT, LEGEND_PX).into_font())
+            .pos(Pos::new(HPos::Center, VPos::Center));
+        for (v, label) in labels {
+            let y = pixel((0.0, v)).1;
+            let (w, h) = label_size(&label, LEGEND_PX);
+            let mut candidates = Vec::new();
+            for x0 in [
+                bounds.2 - 4.0 - w,
+                bounds.0 + 4.0,
+                (bounds.0 + bounds.2 - w) / 2.0,
+                bounds.0 + (bounds.2 - bounds.0) * 0.25 - w / 2.0,
+                bounds.0 + (bounds.2 - bounds.0) * 0.75 - w / 2.0,
+            ] {
+                candidates.push((x0, y - 3.0 - h, x0 + w, y - 3.0));
+                candidates.push((x0, y + 3.0, x0 + w, y + 3.0 + h));
+            }
+            if let Some(rect) = placer.place(candidates) {
+                boxed_text(
+                    root,
+                    [
+                        (rect.0.round() as i32, rect.1.round() as i32),
+                        (rect.2.round() as i32, rect.3.round() as i32),
+                    ],
+                    label,
+                    (
+                        ((rect.0 + rect.2) / 2.0).round() as i32,
+                        ((rect.1 + rect.3) / 2.0).round() as i32,
+                    ),
+                    &text,
+                )?;
+            }
+        }
+        if trace.points_s.is_empty() {
             let style = TextStyle::from((FONT, AXIS_TITLE_PX).into_font())
                 .color(&SOFT_TEXT)
                 .pos(Pos::new(HPos::Center, VPos::Center));
             plot.draw(&Text::new(
                 "no momentum samples (empty plan)",
-                (x_max / 2.0, y_max / 2.0),
+                (x_max / 2.0, (y_min + top) / 2.0),
                 style,
             ))?;
         }
@@ -1151,13 +1554,59 @@ mod tests {
 
     #[test]
     fn paths_break_where_they_cross_the_edge() {
-        // RA 350° → 10° crosses the edge at RA 0°; 10° → 40° does not.
+        // RA 350° → 10° crosses the edge at RA 0°, half-way: Dec 1.5°; 10° → 40° does not.
         let pieces = map_pieces([(340.0, 0.0), (350.0, 1.0), (10.0, 2.0), (40.0, 3.0)]);
         assert_eq!(pieces.len(), 2);
-        assert_eq!(pieces[0].len(), 2);
-        assert_eq!(pieces[1].len(), 2);
+        assert_eq!(pieces[0].len(), 3);
+        assert_eq!(pieces[1].len(), 3);
+        // The first piece ends on the left edge (RA 360°), the second starts on the right
+        // edge (RA 0°), both at Dec 1.5°.
+        assert!(close(pieces[0][2], grid_point(360.0, 1.5), 1e-12));
+        assert!(close(pieces[1][0], grid_point(0.0, 1.5), 1e-12));
+        // The other way round: 5° → 345°, a quarter of the way: Dec 10 + (−10) / 4 = 7.5.
+        let pieces = map_pieces([(5.0, 10.0), (345.0, 0.0)]);
+        assert!(close(pieces[0][1], grid_point(0.0, 7.5), 1e-12));
+        assert!(close(pieces[1][0], grid_point(360.0, 7.5), 1e-12));
         // 170° → 190° crosses the centre, not the edge.
         assert_eq!(map_pieces([(170.0, 0.0), (190.0, 0.0)]).len(), 1);
+    }
+
+    #[test]
+    fn slews_follow_great_circles() {
+        // Along the equator from RA 0° to 90°: 45 steps of 2°, Dec 0 throughout.
+        let arc = great_circle((0.0, 0.0), (90.0, 0.0));
+        assert_eq!(arc.len(), 46);
+        for (k, &(ra, dec)) in arc.iter().enumerate() {
+            assert!(
+                (ra - 2.0 * k as f64).abs() < 1e-9 && dec.abs() < 1e-9,
+                "{k}: {ra}, {dec}"
+            );
+        }
+        // From (10°, +60°) to (190°, +60°): 60° apart, the shortest way runs over the pole
+        // (a straight line in RA and Dec would stay at +60°).
+        let arc = great_circle((10.0, 60.0), (190.0, 60.0));
+        let top = arc.iter().map(|p| p.1).fold(f64::MIN, f64::max);
+        assert!(top > 89.99, "{top}");
+        assert_eq!(arc.len(), 31);
+        // Neighbouring samples at most 2° apart.
+        for pair in arc.windows(2) {
+            let d = separation_deg(
+                &unit_vector(pair[0].0, pair[0].1),
+                &unit_vector(pair[1].0, pair[1].1),
+            );
+            assert!(d <= 2.0 + 1e-9, "{d}");
+        }
+        // Opposite points: through the north pole (a quarter turn from both).
+        let arc = great_circle((0.0, 0.0), (180.0, 0.0));
+        let top = arc.iter().map(|p| p.1).fold(f64::MIN, f64::max);
+        assert!((top - 90.0).abs() < 1e-6, "{top}");
+        // The same point twice: both ends, nothing else.
+        assert_eq!(great_circle((5.0, 5.0), (5.0, 5.0)).len(), 2);
+        // A sequence's path joins its arcs without repeating the shared ends.
+        let path = sequence_path(&[(0.0, 0.0), (10.0, 0.0), (20.0, 0.0)]);
+        assert_eq!(path.len(), 11);
+        assert_eq!(sequence_path(&[(3.0, 4.0)]), vec![(3.0, 4.0)]);
+        assert!(sequence_path(&[]).is_empty());
     }
 
     #[test]
@@ -1213,6 +1662,11 @@ mod tests {
         // Both zone tones and the start and end markers are there.
         assert!(svg.contains("#969696") && svg.contains("#DEDEDE"));
         assert!(svg.contains("#009E73") && svg.contains("#D55E00"));
+        // Labels never overlap; the first and the last place of the order are numbered.
+        assert!(no_label_overlaps(&svg) > 10);
+        let bold = bold_texts(&svg);
+        assert!(bold.contains(&"1".to_string()), "{bold:?}");
+        assert!(bold.contains(&sequence.len().to_string()), "{bold:?}");
         text_fits(&svg);
     }
 
@@ -1239,10 +1693,12 @@ mod tests {
 
         let trace = MomentumTrace {
             title: "t",
-            points: &[],
+            start: march_first(),
+            points_s: &[],
+            components_nms: &[],
             limit_nms: 10.0,
             threshold_nms: 9.0,
-            dumps_hours: &[],
+            dumps_s: &[],
             caution,
         };
         let path = dir.path().join("h.svg");
@@ -1268,28 +1724,113 @@ mod tests {
         write_sky_map(&path, &map).unwrap();
         let bytes = std::fs::metadata(&path).unwrap().len();
         assert!(bytes < 1_500_000, "{bytes} bytes");
+        let svg = std::fs::read_to_string(&path).unwrap();
+        no_label_overlaps(&svg);
+    }
+
+    /// 2027-03-01T00:00:00Z.
+    fn march_first() -> Epoch {
+        Epoch::from_unix_seconds(1_803_859_200.0).unwrap()
+    }
+
+    /// The points of every SVG element of `tag` whose attributes hold `needle`.
+    fn element_points(svg: &str, tag: &str, needle: &str) -> Vec<Vec<(f64, f64)>> {
+        svg.split(&format!("<{tag}"))
+            .skip(1)
+            .map(|e| e.split('>').next().unwrap_or(""))
+            .filter(|e| e.contains(needle))
+            .map(|e| {
+                let pts = e.split("points=\"").nth(1).unwrap_or("");
+                let pts = pts.split('"').next().unwrap_or("");
+                pts.split_whitespace()
+                    .filter_map(|p| {
+                        let (x, y) = p.split_once(',')?;
+                        Some((x.parse().ok()?, y.parse().ok()?))
+                    })
+                    .collect()
+            })
+            .collect()
+    }
+
+    /// The contents of the SVG's bold texts, in order.
+    fn bold_texts(svg: &str) -> Vec<String> {
+        svg.split("<text")
+            .skip(1)
+            .filter(|t| {
+                t.split('>')
+                    .next()
+                    .unwrap_or("")
+                    .contains("font-weight=\"bold\"")
+            })
+            .filter_map(|t| {
+                t.split_once('>').map(|(_, rest)| {
+                    rest.split("</text>")
+                        .next()
+                        .unwrap_or("")
+                        .trim()
+                        .to_string()
+                })
+            })
+            .collect()
+    }
+
+    /// The pale label boxes of an SVG: (x0, y0, x1, y1).
+    fn label_boxes(svg: &str) -> Vec<(f64, f64, f64, f64)> {
+        let attr = |e: &str, name: &str| -> f64 {
+            e.split(&format!(" {name}=\""))
+                .nth(1)
+                .and_then(|v| v.split('"').next())
+                .and_then(|v| v.parse().ok())
+                .unwrap_or(f64::NAN)
+        };
+        svg.split("<rect")
+            .skip(1)
+            .map(|e| e.split('>').next().unwrap_or(""))
+            .filter(|e| e.contains("opacity=\"0.8\"") && e.contains("fill=\"#FFFFFF\""))
+            .map(|e| {
+                let (x, y) = (attr(e, "x"), attr(e, "y"));
+                (x, y, x + attr(e, "width"), y + attr(e, "height"))
+            })
+            .collect()
+    }
+
+    /// No two label boxes of `svg` share area.
+    pub(crate) fn no_label_overlaps(svg: &str) -> usize {
+        let boxes = label_boxes(svg);
+        for (i, a) in boxes.iter().enumerate() {
+            for b in &boxes[i + 1..] {
+                assert!(
+                    !crate::place::overlaps(a, b),
+                    "labels overlap: {a:?} and {b:?}"
+                );
+            }
+        }
+        boxes.len()
     }
 
     #[test]
     fn momentum_chart_is_written_with_its_lines_and_dumps() {
         let dir = tempfile::tempdir().unwrap();
+        let h = 3600.0;
         let points = [
             (0.0, 0.0),
-            (10.0, 150.0),
-            (20.0, 240.0),
-            (20.0, 0.0),
-            (35.0, 200.0),
-            (48.0, 240.0),
-            (48.0, 0.0),
-            (60.0, 90.0),
+            (10.0 * h, 150.0),
+            (20.0 * h, 240.0),
+            (20.0 * h, 0.0),
+            (35.0 * h, 200.0),
+            (48.0 * h, 240.0),
+            (48.0 * h, 0.0),
+            (60.0 * h, 90.0),
         ];
         let title = "Momentum over the plan";
         let trace = MomentumTrace {
             title,
-            points: &points,
+            start: march_first(),
+            points_s: &points,
+            components_nms: &[],
             limit_nms: 300.0,
             threshold_nms: 240.0,
-            dumps_hours: &[20.0, 48.0],
+            dumps_s: &[20.0 * h, 48.0 * h],
             caution: CAUTION,
         };
         let path = dir.path().join("h.svg");
@@ -1297,31 +1838,78 @@ mod tests {
         let svg = std::fs::read_to_string(&path).unwrap();
         assert!(svg.contains(title));
         assert!(svg.contains(&escaped(CAUTION)));
-        assert!(svg.contains("hours since plan start"));
+        // 60 hours from 1 March 00:00: 2 and 3 March at midnight on the axis.
+        assert!(svg.contains("time, UTC (2027-03-01 00:00 to 2027-03-03 12:00)"));
+        assert!(svg.contains(">\n2 Mar\n<") && svg.contains(">\n3 Mar\n<"));
         assert!(svg.contains("stored momentum |H| (N·m·s)"));
-        assert!(svg.contains("wheel limit") && svg.contains("limit, 300 N·m·s"));
-        assert!(svg.contains("planning threshold") && svg.contains("threshold, 240 N·m·s"));
-        assert!(svg.contains("2 momentum dumps"));
+        assert!(svg.contains("wheel limit, 300 N·m·s"));
+        assert!(svg.contains("planning threshold, 240 N·m·s"));
+        let legend: Vec<String> = momentum_legend(&trace)
+            .into_iter()
+            .map(|e| e.label)
+            .collect();
+        assert!(legend.contains(&"2 momentum dumps (marked above the lines)".to_string()));
+        // The dump markers (purple triangles left of the legend) lie wholly above the limit
+        // line (the long vermillion line): smaller y in the picture.
+        let chart_right = f64::from(MOMENTUM_W - MOMENTUM_LEGEND_W);
+        let marks: Vec<Vec<(f64, f64)>> = element_points(&svg, "polygon", "#CC79A7")
+            .into_iter()
+            .filter(|m| m.iter().all(|p| p.0 < chart_right))
+            .collect();
+        assert_eq!(marks.len(), 2);
+        let limit_y = element_points(&svg, "polyline", "#D55E00")
+            .into_iter()
+            .filter(|l| l.len() == 2 && (l[1].0 - l[0].0).abs() > 200.0)
+            .map(|l| l[0].1)
+            .next()
+            .unwrap();
+        for m in &marks {
+            assert!(m.iter().all(|p| p.1 < limit_y - 2.0), "{m:?} vs {limit_y}");
+        }
+        no_label_overlaps(&svg);
         text_fits(&svg);
+
+        // With the three components, some negative, the axis goes below 0.
+        let comps: Vec<[f64; 3]> = points
+            .iter()
+            .map(|&(_, h)| [0.6 * h, -0.8 * h, 0.0])
+            .collect();
+        let with = MomentumTrace {
+            components_nms: &comps,
+            ..trace
+        };
+        let r = check_momentum(&with).unwrap();
+        // Lowest component −0.8 × 240 = −192, with a tenth more room: −211.2.
+        assert!((r.y_min + 211.2).abs() < 1e-9, "{r:?}");
+        write_momentum_chart(&path, &with).unwrap();
+        let svg = std::fs::read_to_string(&path).unwrap();
+        assert!(svg.contains("component Hy"));
+        no_label_overlaps(&svg);
     }
 
     #[test]
     fn momentum_ranges_cover_limit_samples_and_dumps() {
         let trace = |points: &'static [(f64, f64)], dumps: &'static [f64]| MomentumTrace {
             title: "",
-            points,
+            start: march_first(),
+            points_s: points,
+            components_nms: &[],
             limit_nms: 100.0,
             threshold_nms: 80.0,
-            dumps_hours: dumps,
+            dumps_s: dumps,
             caution: CAUTION,
         };
+        // Top 100 (the limit); the strip adds 0.12 / 0.88 of it: 113.6363...
         let r = check_momentum(&trace(&[(0.0, 10.0), (5.0, 50.0)], &[])).unwrap();
-        assert!((r.x_max - 5.0).abs() < TOL && (r.y_max - 110.0).abs() < 1e-9);
+        assert!((r.x_max - 5.0).abs() < TOL && (r.top - 100.0).abs() < 1e-9);
+        assert!((r.y_max - 113.636_363_636_363_6).abs() < 1e-9, "{r:?}");
+        assert_eq!(r.y_min, 0.0);
         let r = check_momentum(&trace(&[(0.0, 10.0), (5.0, 150.0)], &[7.0])).unwrap();
-        assert!((r.x_max - 7.0).abs() < TOL && (r.y_max - 165.0).abs() < 1e-9);
-        // A single sample at the start still gets a span.
+        // Top 150: 150 + 150 × 0.12 / 0.88 = 170.4545...
+        assert!((r.x_max - 7.0).abs() < TOL && (r.y_max - 170.454_545_454_545_4).abs() < 1e-9);
+        // A single sample at the start still gets an hour.
         let r = check_momentum(&trace(&[(0.0, 10.0)], &[])).unwrap();
-        assert!(r.x_max > 0.0);
+        assert_eq!(r.x_max, 3600.0);
         let r = check_momentum(&trace(&[], &[])).unwrap();
         assert!(r.x_max > 0.0 && r.y_max > 0.0);
     }
@@ -1428,14 +2016,16 @@ mod tests {
         let path = dir.path().join("h.svg");
         let ok = MomentumTrace {
             title: "",
-            points: &[(0.0, 1.0), (2.0, 3.0)],
+            start: march_first(),
+            points_s: &[(0.0, 1.0), (2.0, 3.0)],
+            components_nms: &[],
             limit_nms: 10.0,
             threshold_nms: 9.0,
-            dumps_hours: &[1.0],
+            dumps_s: &[1.0],
             caution: CAUTION,
         };
         let go = |t: &MomentumTrace| write_momentum_chart(&path, t);
-        let with_points = |points| MomentumTrace { points, ..ok };
+        let with_points = |points_s| MomentumTrace { points_s, ..ok };
         refused(go(&with_points(&[(f64::NAN, 1.0)])), &path, "sample 0");
         refused(
             go(&with_points(&[(0.0, 1.0), (1.0, f64::INFINITY)])),
@@ -1475,11 +2065,27 @@ mod tests {
         );
         refused(
             go(&MomentumTrace {
-                dumps_hours: &[f64::NAN],
+                dumps_s: &[f64::NAN],
                 ..ok
             }),
             &path,
             "dump 0",
+        );
+        refused(
+            go(&MomentumTrace {
+                components_nms: &[[1.0, 0.0, 0.0]],
+                ..ok
+            }),
+            &path,
+            "1 momentum components for 2 samples",
+        );
+        refused(
+            go(&MomentumTrace {
+                components_nms: &[[1.0, 0.0, 0.0], [f64::NAN, 0.0, 0.0]],
+                ..ok
+            }),
+            &path,
+            "components of sample 1",
         );
         refused(go(&MomentumTrace { caution: "", ..ok }), &path, "caution");
         refused(go(&with_points(&[(0.0, f64::MAX)])), &path, "too large");

@@ -4,16 +4,16 @@
 //! validated tools. Spacecraft operations can damage hardware; nothing made here is a command
 //! to a spacecraft.
 //!
-//! `wend sky plan --front` searches the plans that trade overhead time against
+//! `wend sky plan --front` searches the plans that trade elapsed time against
 //! momentum-dump propellant. Two files present its result to the people who choose a plan:
 //!
-//! - [`write_front_svg`]: `front.svg`, propellant (g) against overhead (h): the other plans
+//! - [`write_front_svg`]: `front.svg`, propellant (g) against elapsed time (h): the other plans
 //!   evaluated as faint grey dots, the front as numbered dots joined by its staircase, the
 //!   knee ringed, the reference point crossed and the area the hypervolume measures shaded.
-//! - [`write_report_html`]: `report.html`, a self-contained page (inline style, no script, no
+//! - [`write_report_html`]: `report.html`, a self-contained page (inline style and script, no
 //!   external address) with the caution, a plain explanation, the trade-off table, the front
-//!   and each plan's sky map and momentum chart. It refers to files beside it: `front.svg`,
-//!   `plan-K.csv`, `plan-K-sky-map.svg` and `plan-K-momentum.svg` for each plan number K.
+//!   as points to choose from, and the chosen plan's pictures and table. It refers to files
+//!   beside it: `front.svg` and the files each [`PlanPage`] names.
 //!
 //! Units: the input is in seconds and kilograms; the pictures and the page show hours and
 //! grams (hypervolume in s·kg is shown in h·g: divided by 3600, times 1000).
@@ -33,14 +33,18 @@ use wend_charts::text::{boxed_text, em, text_width};
 use wend_charts::{linear_chart, write_checked, Area, DrawResult};
 
 use super::draw::{framed, DrawError};
+use crate::place::{around, nearest_in, Placer, Rect};
 
 /// One plan of the front.
 #[derive(Clone, Debug, PartialEq)]
 pub struct FrontRow {
     /// 1-based plan number K (files plan-K.csv, plan-K-sky-map.svg, plan-K-momentum.svg).
     pub plan: usize,
-    /// Time objective: busy overhead (slews, settles, thermal, setups, dumps; no waiting),
-    /// seconds.
+    /// Time objective: elapsed time from the plan start until the last observation ends,
+    /// waiting and dumps included, seconds.
+    pub elapsed_s: f64,
+    /// Busy overhead (slews, settles, thermal, setups, dumps; no waiting), seconds (reported,
+    /// not an objective).
     pub busy_overhead_s: f64,
     /// Waiting, seconds (reported, not an objective).
     pub wait_s: f64,
@@ -52,11 +56,31 @@ pub struct FrontRow {
     pub scheduled: usize,
 }
 
+/// One plan's material for the page: its table of observations and the file names of its
+/// pictures, which the page shows when the plan is chosen on the front.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct PlanPage {
+    /// The plan number K of a row of [`FrontReport::front`].
+    pub plan: usize,
+    /// The table's column names (plain text).
+    pub columns: Vec<String>,
+    /// The table's rows, each with one cell per column (plain text).
+    pub rows: Vec<Vec<String>>,
+    /// File name of the plan's sky map, beside the page (no directory, no address).
+    pub sky_map: String,
+    /// File name of the plan's timeline picture, beside the page.
+    pub timeline: String,
+    /// File name of the plan's momentum chart, beside the page.
+    pub momentum: String,
+    /// File name of the plan's table as CSV, beside the page.
+    pub csv: String,
+}
+
 /// What the picture and the page show.
 ///
 /// Checked before anything is written: every number finite and at least 0 (the reference
-/// only finite); plan numbers at least 1 and unique; the front sorted by overhead ascending
-/// with propellant never rising along it (a row with more overhead and more propellant than
+/// only finite); plan numbers at least 1 and unique; the front sorted by elapsed time ascending
+/// with propellant never rising along it (a row with more elapsed time and more propellant than
 /// the row before it is dominated, not on the front); `knee` inside the front; the caution
 /// not blank.
 pub struct FrontReport<'a> {
@@ -64,7 +88,7 @@ pub struct FrontReport<'a> {
     pub title: &'a str,
     /// The caution sentence, at the top and the bottom of the page and under the picture.
     pub caution: &'a str,
-    /// The front, sorted by overhead ascending (so propellant descending). Non-empty for a
+    /// The front, sorted by elapsed time ascending (so propellant descending). Non-empty for a
     /// real report; an empty front still produces a page that says so.
     pub front: &'a [FrontRow],
     /// Index into `front` of the knee plan, if any.
@@ -79,10 +103,14 @@ pub struct FrontReport<'a> {
     /// Free lines shown under the title (settings, timing, the single-objective comparison),
     /// plain text: they are escaped here.
     pub notes: &'a [String],
+    /// Per plan of the front, at most one each (plans without one are shown by their
+    /// figures only): the table and pictures the page shows when the plan is chosen. The
+    /// picture `front.svg` does not use them.
+    pub plans: &'a [PlanPage],
 }
 
 /// Draws `front.svg` at `path` (900 px wide, about 560 tall; taller when the title or the
-/// caution needs more lines): propellant (g) against overhead (h), the other plans evaluated
+/// caution needs more lines): propellant (g) against elapsed time (h), the other plans evaluated
 /// as small faint grey dots, the front as larger dots joined by its staircase, each labelled
 /// with its plan number K, the knee ringed and labelled "K (knee)", the reference point
 /// crossed, the region the hypervolume measures shaded, a legend, the title and the caution.
@@ -98,17 +126,19 @@ pub fn write_front_svg(path: &Path, report: &FrontReport) -> Result<(), DrawErro
     )
 }
 
-/// Writes `report.html` at `path`: a self-contained page (inline style, no script, no
-/// external address) for the people who choose a plan. It shows the caution at the top and
-/// the bottom, a plain explanation of the front and the hypervolume, the trade-off table
-/// (one row per plan, with what it costs and saves against the fastest), `front.svg`, and for
-/// each plan its `plan-K-sky-map.svg` and `plan-K-momentum.svg` (open for the fastest plan and
-/// the knee, folded for the others), and the notes under the title. Every text is escaped.
+/// Writes `report.html` at `path`: a self-contained page (inline style and script, no
+/// external address, works opened from a file) for the people who choose a plan. It shows
+/// the caution at the top and the bottom, the notes under the title, a plain explanation of
+/// the front and the hypervolume, the trade-off table (one row per plan, with what it costs
+/// and saves against the fastest), the front drawn in the page with a point per plan that can
+/// be chosen by mouse or keyboard, and the chosen plan's summary, pictures (relative links to
+/// the files [`PlanPage`] names) and table, taken from data embedded in the page. The knee is
+/// chosen at first (the fastest when there is no knee). Every text is escaped.
 ///
 /// # Errors
 /// As [`write_front_svg`].
 pub fn write_report_html(path: &Path, report: &FrontReport) -> Result<(), DrawError> {
-    write_checked(path, || check(report), |_| render_html(report))
+    write_checked(path, || check(report), |ranges| render_html(report, ranges))
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -149,7 +179,7 @@ fn fmt_g(kg: f64) -> String {
     fixed(grams(kg), 1)
 }
 
-/// The axes' ends: overhead in hours, propellant in grams.
+/// The axes' ends: elapsed time in hours, propellant in grams.
 #[derive(Clone, Copy, Debug, PartialEq)]
 struct Ranges {
     x: (f64, f64),
@@ -190,6 +220,7 @@ fn check(r: &FrontReport) -> Result<Ranges, String> {
             ));
         }
         for (what, v, unit) in [
+            ("elapsed time", row.elapsed_s, "s"),
             ("overhead", row.busy_overhead_s, "s"),
             ("waiting", row.wait_s, "s"),
             ("propellant", row.propellant_kg, "kg"),
@@ -204,20 +235,20 @@ fn check(r: &FrontReport) -> Result<Ranges, String> {
         }
         if i > 0 {
             let prev = &r.front[i - 1];
-            if row.busy_overhead_s < prev.busy_overhead_s {
+            if row.elapsed_s < prev.elapsed_s {
                 return Err(format!(
-                    "the front is not sorted by overhead: row {i} (plan {}, {} s) comes after \
-                     row {} (plan {}, {} s)",
+                    "the front is not sorted by elapsed time: row {i} (plan {}, {} s) comes \
+                     after row {} (plan {}, {} s)",
                     row.plan,
-                    row.busy_overhead_s,
+                    row.elapsed_s,
                     i - 1,
                     prev.plan,
-                    prev.busy_overhead_s
+                    prev.elapsed_s
                 ));
             }
             if row.propellant_kg > prev.propellant_kg {
                 return Err(format!(
-                    "row {i} (plan {}) has more overhead and more propellant ({} kg) than row \
+                    "row {i} (plan {}) takes longer and uses more propellant ({} kg) than row \
                      {} (plan {}, {} kg): it is dominated, not on the front",
                     row.plan,
                     row.propellant_kg,
@@ -239,7 +270,7 @@ fn check(r: &FrontReport) -> Result<Ranges, String> {
     for (j, &(o, p)) in r.dominated.iter().enumerate() {
         if !(o.is_finite() && o >= 0.0 && p.is_finite() && p >= 0.0) {
             return Err(format!(
-                "dominated plan {j} has overhead {o} s and propellant {p} kg; both must be \
+                "dominated plan {j} has elapsed time {o} s and propellant {p} kg; both must be \
                  finite and at least 0"
             ));
         }
@@ -257,10 +288,48 @@ fn check(r: &FrontReport) -> Result<Ranges, String> {
         ));
     }
 
+    let mut pages = HashSet::new();
+    for (j, page) in r.plans.iter().enumerate() {
+        if !r.front.iter().any(|row| row.plan == page.plan) {
+            return Err(format!(
+                "plan page {j} is for plan {}, which is not on the front",
+                page.plan
+            ));
+        }
+        if !pages.insert(page.plan) {
+            return Err(format!(
+                "plan page {j} is for plan {}, which an earlier page is for too",
+                page.plan
+            ));
+        }
+        for (k, row) in page.rows.iter().enumerate() {
+            if row.len() != page.columns.len() {
+                return Err(format!(
+                    "row {k} of plan {}'s table has {} cells for {} columns",
+                    page.plan,
+                    row.len(),
+                    page.columns.len()
+                ));
+            }
+        }
+        for name in [&page.sky_map, &page.timeline, &page.momentum, &page.csv] {
+            let plain = !name.is_empty()
+                && name != "."
+                && name != ".."
+                && !name.contains(['/', '\\', ':', '"', '<', '>', '?', '#']);
+            if !plain {
+                return Err(format!(
+                    "plan {}'s file name {name:?} is not a plain file name beside the page",
+                    page.plan
+                ));
+            }
+        }
+    }
+
     let points = r
         .front
         .iter()
-        .map(|row| (row.busy_overhead_s, row.propellant_kg))
+        .map(|row| (row.elapsed_s, row.propellant_kg))
         .chain(r.dominated.iter().copied())
         .chain(std::iter::once(r.reference))
         .map(|(o, p)| (hours(o), grams(p)));
@@ -413,7 +482,7 @@ fn front_legend(r: &FrontReport) -> Vec<LegendEntry<FrontKey>> {
     entries.push(e(
         FrontKey::Reference,
         format!(
-            "reference point ({} h busy overhead, {} g)",
+            "reference point ({} h elapsed, {} g)",
             fmt_h(ro),
             fmt_g(rp)
         ),
@@ -428,7 +497,7 @@ fn front_legend(r: &FrontReport) -> Vec<LegendEntry<FrontKey>> {
         ));
         entries.push(e(
             FrontKey::Kit(Key::Note),
-            "Lower is less propellant, left is less busy overhead: no plan of the front is \
+            "Lower is less propellant, left is less elapsed time: no plan of the front is \
              better than another in both."
                 .into(),
         ));
@@ -438,19 +507,11 @@ fn front_legend(r: &FrontReport) -> Vec<LegendEntry<FrontKey>> {
     entries
 }
 
-/// A rectangle in pixels: (x0, y0, x1, y1), y downwards.
-type Rect = (f64, f64, f64, f64);
-
-fn overlaps(a: &Rect, b: &Rect) -> bool {
-    a.0 < b.2 && b.0 < a.2 && a.1 < b.3 && b.1 < a.3
-}
-
-/// Where to put a label of `w`×`h` pixels for a point at pixel `p` drawn with a marker of
-/// radius `radius`: the first of the places around it that stays inside `bounds` and clear
-/// of `taken`. Places below and left come first (the front leaves that side empty), then the
-/// other sides, then the same sides farther out (for a crowded front). When none is clear,
-/// the place inside the bounds that overlaps `taken` least.
-fn place_label(p: (f64, f64), radius: f64, w: f64, h: f64, bounds: &Rect, taken: &[Rect]) -> Rect {
+/// Candidate places for a label of `w`×`h` pixels for a point at pixel `p` drawn with a
+/// marker of radius `radius`: below and left first (the front leaves that side empty), then
+/// the other sides, then the same sides farther out (with a leader line, for a crowded
+/// front), then a wide ring around the point.
+fn label_candidates(p: (f64, f64), radius: f64, w: f64, h: f64) -> Vec<Rect> {
     let (x, y) = p;
     let g = radius + 3.0;
     let mut corners = vec![
@@ -468,33 +529,12 @@ fn place_label(p: (f64, f64), radius: f64, w: f64, h: f64, bounds: &Rect, taken:
         corners.push((x - g - w - k * w, y - h / 2.0));
         corners.push((x + 2.0 + 0.5 * k * w, y + g + k * h));
     }
-    let rects: Vec<Rect> = corners
+    let mut rects: Vec<Rect> = corners
         .iter()
         .map(|&(x0, y0)| (x0, y0, x0 + w, y0 + h))
         .collect();
-    let inside =
-        |r: &Rect| r.0 >= bounds.0 && r.1 >= bounds.1 && r.2 <= bounds.2 && r.3 <= bounds.3;
-    let clash = |r: &Rect| -> f64 {
-        taken
-            .iter()
-            .filter(|t| overlaps(r, t))
-            .map(|t| (r.2.min(t.2) - r.0.max(t.0)) * (r.3.min(t.3) - r.1.max(t.1)))
-            .sum()
-    };
-    if let Some(r) = rects.iter().find(|r| inside(r) && clash(r) == 0.0) {
-        return *r;
-    }
+    rects.extend(around(p, radius, w, h, 6));
     rects
-        .iter()
-        .filter(|r| inside(r))
-        .min_by(|a, b| clash(a).total_cmp(&clash(b)))
-        .copied()
-        .unwrap_or(rects[0])
-}
-
-/// The point of `r` nearest to `p`.
-fn nearest_in(r: &Rect, p: (f64, f64)) -> (f64, f64) {
-    (p.0.clamp(r.0, r.2), p.1.clamp(r.1, r.3))
 }
 
 /// Width and height in pixels of a label of `text` at library size `px`, with a margin.
@@ -512,7 +552,7 @@ fn render_front(r: &FrontReport, ranges: Ranges) -> DrawResult<String> {
     let pts: Vec<(f64, f64)> = r
         .front
         .iter()
-        .map(|row| (hours(row.busy_overhead_s), grams(row.propellant_kg)))
+        .map(|row| (hours(row.elapsed_s), grams(row.propellant_kg)))
         .collect();
     let reference = (hours(r.reference.0), grams(r.reference.1));
 
@@ -529,7 +569,7 @@ fn render_front(r: &FrontReport, ranges: Ranges) -> DrawResult<String> {
             chart_area,
             (x_lo, x_hi),
             (y_lo, y_hi),
-            "busy overhead, waiting excluded (h)",
+            "elapsed time, waiting and dumps included (h)",
             "momentum-dump propellant (g)",
         )?;
         let plot = chart.plotting_area();
@@ -565,7 +605,7 @@ fn render_front(r: &FrontReport, ranges: Ranges) -> DrawResult<String> {
             }
         }
 
-        // The staircase: across at a plan's propellant to the next plan's overhead, then down.
+        // The staircase: across at a plan's propellant to the next plan's time, then down.
         let mut stairs = Vec::new();
         for (i, &p) in pts.iter().enumerate() {
             if i > 0 {
@@ -592,10 +632,10 @@ fn render_front(r: &FrontReport, ranges: Ranges) -> DrawResult<String> {
             f64::from(xr.end),
             f64::from(yr.end),
         );
-        let mut taken: Vec<Rect> = Vec::new();
+        let mut placer = Placer::new(bounds);
         for pair in stairs.windows(2) {
             let (a, b) = (pixel(pair[0]), pixel(pair[1]));
-            taken.push((
+            placer.block((
                 a.0.min(b.0) - 1.5,
                 a.1.min(b.1) - 1.5,
                 a.0.max(b.0) + 1.5,
@@ -609,7 +649,7 @@ fn render_front(r: &FrontReport, ranges: Ranges) -> DrawResult<String> {
             } else {
                 FRONT_R + 1
             });
-            taken.push((x - rad, y - rad, x + rad, y + rad));
+            placer.block((x - rad, y - rad, x + rad, y + rad));
         }
         // A label on a pale box filling `rect`, centred in it.
         let label_box = |rect: Rect, text: String, style: &TextStyle| -> DrawResult<()> {
@@ -627,25 +667,30 @@ fn render_front(r: &FrontReport, ranges: Ranges) -> DrawResult<String> {
                 .color(&SOFT_TEXT)
                 .pos(Pos::new(HPos::Center, VPos::Center))
         };
-        // The reference's label first: up and left of its cross.
+        // The reference's label first: up and left of its cross, else below it.
         {
             let (x, y) = pixel(reference);
             let text = "reference";
             let (w, h) = label_size(text, LEGEND_PX);
             let c = f64::from(CROSS_R) + 2.0;
-            let mut rect = (x - c - w, y - c - h, x - c, y - c);
-            if rect.1 < bounds.1 {
-                rect = (rect.0, y + c, rect.2, y + c + h);
+            placer.block((x - c, y - c, x + c, y + c));
+            let candidates = [
+                (x - c - w, y - c - h, x - c, y - c),
+                (x - c - w, y + c, x - c, y + c + h),
+            ]
+            .into_iter()
+            .chain(around((x, y), c, w, h, 2));
+            if let Some(rect) = placer.place(candidates) {
+                label_box(rect, text.to_string(), &soft_centred(LEGEND_PX))?;
             }
-            taken.push((x - c, y - c, x + c, y + c));
-            taken.push(rect);
-            label_box(rect, text.to_string(), &soft_centred(LEGEND_PX))?;
         }
-        // The knee's first, then the others from the fastest.
+        // The knee's first, then the others from the fastest; a label with no clear place
+        // is left out, and a note under the chart names those plans.
         let order = r
             .knee
             .into_iter()
             .chain((0..pts.len()).filter(|&i| Some(i) != r.knee));
+        let mut left_out = Vec::new();
         for i in order {
             let (text, colour) = if r.knee == Some(i) {
                 (format!("{} (knee)", r.front[i].plan), VERMILLION)
@@ -659,8 +704,10 @@ fn render_front(r: &FrontReport, ranges: Ranges) -> DrawResult<String> {
                 FRONT_R
             };
             let at = pixel(pts[i]);
-            let rect = place_label(at, f64::from(marker), w, h, &bounds, &taken);
-            taken.push(rect);
+            let Some(rect) = placer.place(label_candidates(at, f64::from(marker), w, h)) else {
+                left_out.push(r.front[i].plan);
+                continue;
+            };
             // A thin leader line to a label pushed away from its point.
             let near = nearest_in(&rect, at);
             let (dx, dy) = (near.0 - at.0, near.1 - at.1);
@@ -680,6 +727,45 @@ fn render_front(r: &FrontReport, ranges: Ranges) -> DrawResult<String> {
                 .color(&colour)
                 .pos(Pos::new(HPos::Center, VPos::Center));
             label_box(rect, text, &style)?;
+        }
+        if !left_out.is_empty() {
+            left_out.sort_unstable();
+            let list: Vec<String> = left_out.iter().map(ToString::to_string).collect();
+            let text = match list.len() {
+                1 => format!("no room to label plan {}", list[0]),
+                2..=6 => format!("no room to label plans {}", list.join(", ")),
+                n => format!("no room to label {n} plans"),
+            };
+            let (w, h) = label_size(&text, LEGEND_PX);
+            let candidates = [
+                (
+                    bounds.2 - 4.0 - w,
+                    bounds.1 + 4.0,
+                    bounds.2 - 4.0,
+                    bounds.1 + 4.0 + h,
+                ),
+                (
+                    bounds.2 - 4.0 - w,
+                    bounds.3 - 4.0 - h,
+                    bounds.2 - 4.0,
+                    bounds.3 - 4.0,
+                ),
+                (
+                    bounds.0 + 4.0,
+                    bounds.3 - 4.0 - h,
+                    bounds.0 + 4.0 + w,
+                    bounds.3 - 4.0,
+                ),
+                (
+                    bounds.0 + 4.0,
+                    bounds.1 + 4.0,
+                    bounds.0 + 4.0 + w,
+                    bounds.1 + 4.0 + h,
+                ),
+            ];
+            if let Some(rect) = placer.place(candidates) {
+                label_box(rect, text, &soft_centred(LEGEND_PX))?;
+            }
         }
 
         // An empty front says so, on a pale box in the lower part of the chart (the
@@ -714,6 +800,7 @@ const PAGE: &str = include_str!("../templates/report.html");
 #[derive(Serialize)]
 struct PageRow {
     plan: usize,
+    elapsed: String,
     overhead: String,
     wait: String,
     propellant: String,
@@ -743,6 +830,270 @@ struct Page<'a> {
     reference_h: String,
     reference_g: String,
     alt: String,
+    /// The front drawn in the page.
+    chart: InlineChart,
+    /// The plans' data as JSON, safe inside a script element.
+    data: String,
+}
+
+/// A plan as the page's script gets it.
+#[derive(Serialize)]
+struct PlanData<'a> {
+    plan: usize,
+    heading: String,
+    summary: String,
+    page: Option<&'a PlanPage>,
+}
+
+/// The plans' data for the script.
+#[derive(Serialize)]
+struct ScriptData<'a> {
+    plans: Vec<PlanData<'a>>,
+    /// Plan number chosen at first.
+    initial: Option<usize>,
+}
+
+/// A tick of the inline chart: position in pixels and label.
+#[derive(Serialize)]
+struct InlineTick {
+    at: f64,
+    label: String,
+}
+
+/// A plan's point on the inline chart.
+#[derive(Serialize)]
+struct InlinePoint {
+    plan: usize,
+    x: f64,
+    y: f64,
+    knee: bool,
+    /// Where its label goes (centre), if it has room.
+    label: Option<(f64, f64)>,
+    text: String,
+    /// Leader line from the marker to the label, when the label is away from it.
+    leader: Option<(f64, f64, f64, f64)>,
+    /// What a screen reader says.
+    aria: String,
+}
+
+/// The front drawn in the page, in pixels of its view box.
+#[derive(Serialize)]
+struct InlineChart {
+    width: f64,
+    height: f64,
+    /// The plotting area: left, top, right, bottom.
+    plot: (f64, f64, f64, f64),
+    x_ticks: Vec<InlineTick>,
+    y_ticks: Vec<InlineTick>,
+    /// The staircase as SVG points.
+    stairs: String,
+    /// The hypervolume's region as SVG points (empty when none).
+    shade: String,
+    dominated: Vec<(f64, f64)>,
+    reference: (f64, f64),
+    points: Vec<InlinePoint>,
+    /// Plans whose label had no room.
+    unlabelled: String,
+}
+
+/// Round ticks over `lo..hi`: steps of 1, 2 or 5 times a power of ten, at most about six.
+fn nice_ticks(lo: f64, hi: f64) -> Vec<f64> {
+    let span = hi - lo;
+    if !(span.is_finite() && span > 0.0) {
+        return vec![lo];
+    }
+    let raw = span / 6.0;
+    let pow = 10f64.powf(raw.log10().floor());
+    let step = [1.0, 2.0, 5.0, 10.0]
+        .iter()
+        .map(|m| m * pow)
+        .find(|&st| st >= raw)
+        .unwrap_or(10.0 * pow);
+    let mut out = Vec::new();
+    let mut v = (lo / step).ceil() * step;
+    while v <= hi + step * 1e-9 && out.len() < 20 {
+        out.push(v);
+        v += step;
+    }
+    out
+}
+
+/// The front for the page: the same axes as the picture, its points with labels placed
+/// clear of each other.
+fn inline_chart(r: &FrontReport, ranges: Ranges) -> InlineChart {
+    let (width, height) = (640.0, 400.0);
+    let plot = (78.0, 14.0, 624.0, 330.0);
+    let Ranges {
+        x: (x_lo, x_hi),
+        y: (y_lo, y_hi),
+    } = ranges;
+    let px = |(x, y): (f64, f64)| {
+        (
+            plot.0 + (x - x_lo) / (x_hi - x_lo) * (plot.2 - plot.0),
+            plot.3 - (y - y_lo) / (y_hi - y_lo) * (plot.3 - plot.1),
+        )
+    };
+    let round = |v: f64| (v * 10.0).round() / 10.0;
+    let pr = |p: (f64, f64)| {
+        let (x, y) = px(p);
+        (round(x), round(y))
+    };
+    let pts: Vec<(f64, f64)> = r
+        .front
+        .iter()
+        .map(|row| (hours(row.elapsed_s), grams(row.propellant_kg)))
+        .collect();
+    let reference = (hours(r.reference.0), grams(r.reference.1));
+    let points_text = |v: &[(f64, f64)]| {
+        v.iter()
+            .map(|&p| {
+                let (x, y) = pr(p);
+                format!("{x},{y}")
+            })
+            .collect::<Vec<_>>()
+            .join(" ")
+    };
+    let mut stairs = Vec::new();
+    for (i, &p) in pts.iter().enumerate() {
+        if i > 0 {
+            stairs.push((p.0, pts[i - 1].1));
+        }
+        stairs.push(p);
+    }
+    let inside: Vec<(f64, f64)> = pts
+        .iter()
+        .copied()
+        .filter(|&(x, y)| x < reference.0 && y < reference.1)
+        .collect();
+    let mut shade = Vec::new();
+    if let (Some(first), Some(last)) = (inside.first(), inside.last()) {
+        shade = vec![(first.0, reference.1), *first];
+        for pair in inside.windows(2) {
+            shade.push((pair[1].0, pair[0].1));
+            shade.push(pair[1]);
+        }
+        shade.push((reference.0, last.1));
+        shade.push(reference);
+    }
+    let x_ticks = nice_ticks(x_lo, x_hi)
+        .into_iter()
+        .map(|v| InlineTick {
+            at: round(px((v, y_lo)).0),
+            label: wend_charts::number_label(v, x_hi - x_lo),
+        })
+        .collect();
+    let y_ticks = nice_ticks(y_lo, y_hi)
+        .into_iter()
+        .map(|v| InlineTick {
+            at: round(px((x_lo, v)).1),
+            label: wend_charts::number_label(v, y_hi - y_lo),
+        })
+        .collect();
+
+    // Labels: 15 px bold text, about 0.62 em a character.
+    let mut placer = Placer::new(plot);
+    for pair in stairs.windows(2) {
+        let (a, b) = (px(pair[0]), px(pair[1]));
+        placer.block((
+            a.0.min(b.0) - 1.5,
+            a.1.min(b.1) - 1.5,
+            a.0.max(b.0) + 1.5,
+            a.1.max(b.1) + 1.5,
+        ));
+    }
+    for &p in &pts {
+        let (x, y) = px(p);
+        placer.block((x - 9.0, y - 9.0, x + 9.0, y + 9.0));
+    }
+    let rp = px(reference);
+    placer.block((rp.0 - 7.0, rp.1 - 7.0, rp.0 + 7.0, rp.1 + 7.0));
+    let mut points: Vec<InlinePoint> = pts
+        .iter()
+        .enumerate()
+        .map(|(i, &p)| {
+            let row = &r.front[i];
+            let (x, y) = pr(p);
+            InlinePoint {
+                plan: row.plan,
+                x,
+                y,
+                knee: r.knee == Some(i),
+                label: None,
+                text: if r.knee == Some(i) {
+                    format!("{} (knee)", row.plan)
+                } else {
+                    row.plan.to_string()
+                },
+                leader: None,
+                aria: format!(
+                    "Plan {}: {} h elapsed, {} g propellant{}",
+                    row.plan,
+                    fmt_h(row.elapsed_s),
+                    fmt_g(row.propellant_kg),
+                    if r.knee == Some(i) { ", the knee" } else { "" }
+                ),
+            }
+        })
+        .collect();
+    let order: Vec<usize> = r
+        .knee
+        .into_iter()
+        .chain((0..points.len()).filter(|&i| Some(i) != r.knee))
+        .collect();
+    let mut unlabelled = Vec::new();
+    for i in order {
+        let point = &mut points[i];
+        let w = point.text.chars().count() as f64 * 0.62 * 15.0 + 6.0;
+        let h = 19.0;
+        let at = (point.x, point.y);
+        match placer.place(label_candidates(at, 8.0, w, h)) {
+            Some(rect) => {
+                point.label = Some((
+                    round((rect.0 + rect.2) / 2.0),
+                    round((rect.1 + rect.3) / 2.0),
+                ));
+                let near = nearest_in(&rect, at);
+                let (dx, dy) = (near.0 - at.0, near.1 - at.1);
+                let dist = dx.hypot(dy);
+                if dist > 15.0 {
+                    let from = (at.0 + dx * 9.0 / dist, at.1 + dy * 9.0 / dist);
+                    point.leader =
+                        Some((round(from.0), round(from.1), round(near.0), round(near.1)));
+                }
+            }
+            None => unlabelled.push(point.plan),
+        }
+    }
+    unlabelled.sort_unstable();
+    InlineChart {
+        width,
+        height,
+        plot,
+        x_ticks,
+        y_ticks,
+        stairs: points_text(&stairs),
+        shade: points_text(&shade),
+        dominated: r
+            .dominated
+            .iter()
+            .map(|&(o, p)| pr((hours(o), grams(p))))
+            .collect(),
+        reference: pr(reference),
+        points,
+        unlabelled: unlabelled
+            .iter()
+            .map(ToString::to_string)
+            .collect::<Vec<_>>()
+            .join(", "),
+    }
+}
+
+/// `json` made safe inside an HTML script element: no `<`, `>` or `&` left as such (JSON
+/// reads the escapes back as the same characters).
+fn script_safe(json: &str) -> String {
+    json.replace('<', "\\u003c")
+        .replace('>', "\\u003e")
+        .replace('&', "\\u0026")
 }
 
 /// What row `i` is: the fastest, the knee, the one with the least propellant.
@@ -771,6 +1122,23 @@ fn plan_heading(r: &FrontReport, i: usize) -> String {
     }
 }
 
+/// A plan's figures in a sentence.
+fn plan_summary(row: &FrontRow) -> String {
+    let plural = |n: usize| if n == 1 { "" } else { "s" };
+    format!(
+        "{} h elapsed ({} h of busy overhead), {} h of waiting, {} g of propellant, {} momentum \
+         dump{}, {} target{} scheduled.",
+        fmt_h(row.elapsed_s),
+        fmt_h(row.busy_overhead_s),
+        fmt_h(row.wait_s),
+        fmt_g(row.propellant_kg),
+        row.dumps,
+        plural(row.dumps),
+        row.scheduled,
+        plural(row.scheduled)
+    )
+}
+
 /// The page's rows.
 fn page_rows(r: &FrontReport) -> Vec<PageRow> {
     r.front
@@ -787,10 +1155,10 @@ fn page_rows(r: &FrontReport) -> Vec<PageRow> {
             }
             let trade = if i > 0 {
                 format!(
-                    "plan {} costs {} h more than the fastest (plan {}) and saves {} g of \
+                    "plan {} ends {} h later than the fastest (plan {}) and saves {} g of \
                      propellant",
                     row.plan,
-                    fixed(hours(row.busy_overhead_s - fastest.busy_overhead_s), 2),
+                    fixed(hours(row.elapsed_s - fastest.elapsed_s), 2),
                     fastest.plan,
                     fixed(grams(fastest.propellant_kg - row.propellant_kg), 1),
                 )
@@ -799,6 +1167,7 @@ fn page_rows(r: &FrontReport) -> Vec<PageRow> {
             };
             PageRow {
                 plan: row.plan,
+                elapsed: fmt_h(row.elapsed_s),
                 overhead: fmt_h(row.busy_overhead_s),
                 wait: fmt_h(row.wait_s),
                 propellant: fmt_g(row.propellant_kg),
@@ -815,13 +1184,13 @@ fn page_rows(r: &FrontReport) -> Vec<PageRow> {
 }
 
 /// The page as HTML text.
-fn render_html(r: &FrontReport) -> Result<String, minijinja::Error> {
+fn render_html(r: &FrontReport, ranges: Ranges) -> Result<String, minijinja::Error> {
     let n = r.front.len();
     let alt = if n == 0 {
-        "Chart of propellant against busy overhead: no plan on the front.".to_string()
+        "Chart of propellant against elapsed time: no plan on the front.".to_string()
     } else {
         format!(
-            "Chart of propellant in grams against busy overhead in hours: the {n} plans of the \
+            "Chart of propellant in grams against elapsed time in hours: the {n} plans of the \
              front as numbered blue dots joined by a staircase{}, {} other plans evaluated as \
              grey dots, and the reference point as a cross.",
             r.knee
@@ -840,6 +1209,29 @@ fn render_html(r: &FrontReport) -> Result<String, minijinja::Error> {
         reference_h: fmt_h(r.reference.0),
         reference_g: fmt_g(r.reference.1),
         alt,
+        chart: inline_chart(r, ranges),
+        data: script_safe(
+            &serde_json::to_string(&ScriptData {
+                plans: r
+                    .front
+                    .iter()
+                    .enumerate()
+                    .map(|(i, row)| PlanData {
+                        plan: row.plan,
+                        heading: plan_heading(r, i),
+                        summary: plan_summary(row),
+                        page: r.plans.iter().find(|p| p.plan == row.plan),
+                    })
+                    .collect(),
+                initial: r
+                    .knee
+                    .or(if r.front.is_empty() { None } else { Some(0) })
+                    .map(|i| r.front[i].plan),
+            })
+            .map_err(|e| {
+                minijinja::Error::new(minijinja::ErrorKind::BadSerialization, e.to_string())
+            })?,
+        ),
     };
     let mut env = minijinja::Environment::new();
     env.set_auto_escape_callback(|_| minijinja::AutoEscape::Html);
@@ -859,6 +1251,7 @@ fn render_html(r: &FrontReport) -> Result<String, minijinja::Error> {
 mod tests {
     use super::*;
     use crate::draw::text_fits;
+    use crate::place::overlaps;
     use wend_charts::legend::{legend_lines, LegendLayout};
     use wend_charts::style::CAUTION_PX;
     use wend_charts::text::{wrap, PAD};
@@ -871,10 +1264,12 @@ mod tests {
     const CAUTION: &str = "Plans are planning proposals to be confirmed by the operations \
                            team's validated tools. Spacecraft operations can damage hardware.";
 
-    fn row(plan: usize, busy_overhead_s: f64, wait_s: f64, propellant_kg: f64) -> FrontRow {
+    /// A row whose busy overhead is a tenth of its elapsed time.
+    fn row(plan: usize, elapsed_s: f64, wait_s: f64, propellant_kg: f64) -> FrontRow {
         FrontRow {
             plan,
-            busy_overhead_s,
+            elapsed_s,
+            busy_overhead_s: elapsed_s / 10.0,
             wait_s,
             propellant_kg,
             dumps: 3,
@@ -883,7 +1278,7 @@ mod tests {
     }
 
     /// Three plans, numbered out of order on purpose (numbers are names, not positions).
-    /// - plan 5: 36000 s = 10.00 h overhead, 1800 s = 0.50 h waiting, 0.0500 kg = 50.0 g;
+    /// - plan 5: 36000 s = 10.00 h elapsed, 1800 s = 0.50 h waiting, 0.0500 kg = 50.0 g;
     /// - plan 2: 41400 s = 11.50 h, no waiting, 0.0377 kg = 37.7 g;
     /// - plan 7: 50400 s = 14.00 h, 900 s = 0.25 h waiting, 0.0210 kg = 21.0 g.
     fn three() -> Vec<FrontRow> {
@@ -913,7 +1308,27 @@ mod tests {
             // 54000 s = 15.00 h, 0.060 kg = 60.0 g.
             reference: (54_000.0, 0.060),
             notes,
+            plans: &[],
         }
+    }
+
+    /// Page material for plans 5 and 7 (none for plan 2).
+    fn pages() -> Vec<PlanPage> {
+        [5, 7]
+            .iter()
+            .map(|&k| PlanPage {
+                plan: k,
+                columns: vec!["position".into(), "id".into()],
+                rows: vec![
+                    vec!["1".into(), format!("P{k}-first <&>")],
+                    vec!["2".into(), format!("P{k}-second")],
+                ],
+                sky_map: format!("plan-{k}-sky-map.svg"),
+                timeline: format!("plan-{k}-timeline.svg"),
+                momentum: format!("plan-{k}-momentum.svg"),
+                csv: format!("plan-{k}.csv"),
+            })
+            .collect()
     }
 
     /// Text as the SVG writer escapes it.
@@ -982,10 +1397,10 @@ mod tests {
         }
         let legend = legend.concat().join(" ");
         assert!(legend.contains("knee, plan 2: the most balanced trade"));
-        assert!(legend.contains("reference point (15.00 h busy overhead, 60.0 g)"));
+        assert!(legend.contains("reference point (15.00 h elapsed, 60.0 g)"));
         assert!(legend.contains("hypervolume 2000.0 h·g"));
         assert!(legend.contains("other plan evaluated, beaten in both (4)"));
-        assert!(svg.contains("busy overhead, waiting excluded (h)"));
+        assert!(svg.contains("elapsed time, waiting and dumps included (h)"));
         assert!(svg.contains("momentum-dump propellant (g)"));
         for line in wrap(CAUTION, CAUTION_PX, FRONT_W - 2 * PAD as u32) {
             assert!(svg.contains(&svg_escaped(&line)), "{line}");
@@ -1011,41 +1426,130 @@ mod tests {
         // plan 2: 41400 − 36000 = 5400 s = 1.50 h more, 50.0 − 37.7 = 12.3 g saved; the knee;
         // plan 7: 50400 − 36000 = 14400 s = 4.00 h more, 50.0 − 21.0 = 29.0 g saved.
         let row5 = "<tr class=\"fastest\"><th scope=\"row\"><a href=\"plan-5.csv\">5</a></th>\
-                    <td class=\"num\">10.00</td><td class=\"num\">0.50</td>\
+                    <td class=\"num\">10.00</td><td class=\"num\">1.00</td><td class=\"num\">0.50</td>\
                     <td class=\"num\">50.0</td><td class=\"num\">3</td><td class=\"num\">60</td>\
-                    <td><span class=\"tag\">fastest</span></td></tr>";
+                    <td><span class=\"tag\">fastest</span></td>\
+                    <td><button type=\"button\" class=\"choose\" data-plan=\"5\">Show</button></td></tr>";
         let row2 = "<tr class=\"knee\"><th scope=\"row\"><a href=\"plan-2.csv\">2</a></th>\
-                    <td class=\"num\">11.50</td><td class=\"num\">0.00</td>\
+                    <td class=\"num\">11.50</td><td class=\"num\">1.15</td><td class=\"num\">0.00</td>\
                     <td class=\"num\">37.7</td><td class=\"num\">3</td><td class=\"num\">60</td>\
-                    <td><span class=\"tag\">knee: the most balanced trade</span>; plan 2 costs \
-                    1.50 h more than the fastest (plan 5) and saves 12.3 g of propellant</td></tr>";
+                    <td><span class=\"tag\">knee: the most balanced trade</span>; plan 2 ends \
+                    1.50 h later than the fastest (plan 5) and saves 12.3 g of propellant</td>\
+                    <td><button type=\"button\" class=\"choose\" data-plan=\"2\">Show</button></td></tr>";
         let row7 = "<tr><th scope=\"row\"><a href=\"plan-7.csv\">7</a></th>\
-                    <td class=\"num\">14.00</td><td class=\"num\">0.25</td>\
+                    <td class=\"num\">14.00</td><td class=\"num\">1.40</td><td class=\"num\">0.25</td>\
                     <td class=\"num\">21.0</td><td class=\"num\">3</td><td class=\"num\">60</td>\
-                    <td><span class=\"tag\">least propellant</span>; plan 7 costs 4.00 h more \
-                    than the fastest (plan 5) and saves 29.0 g of propellant</td></tr>";
+                    <td><span class=\"tag\">least propellant</span>; plan 7 ends 4.00 h later \
+                    than the fastest (plan 5) and saves 29.0 g of propellant</td>\
+                    <td><button type=\"button\" class=\"choose\" data-plan=\"7\">Show</button></td></tr>";
         for r in [row5, row2, row7] {
             assert!(html.contains(r), "missing row {r}");
         }
-        // Fastest first, then by overhead.
+        // Fastest first, then by elapsed time.
         assert!(html.find(row5) < html.find(row2) && html.find(row2) < html.find(row7));
         // Hypervolume in h·g with its reference.
         assert!(html
-            .contains("2000.0 h·g against the reference point (15.00 h of busy overhead, 60.0 g"));
+            .contains("2000.0 h·g against the reference point (15.00 h elapsed, 60.0 g"));
 
-        assert!(html.contains("<img src=\"front.svg\" alt=\"Chart of propellant"));
+        // The front in the page: one point per plan, reachable by keyboard.
         for k in [5, 2, 7] {
-            assert!(html.contains(&format!("<img src=\"plan-{k}-sky-map.svg\" alt=\"Sky map")));
-            assert!(html.contains(&format!("<img src=\"plan-{k}-momentum.svg\" alt=\"Stored")));
+            assert!(html.contains(&format!("data-plan=\"{k}\" role=\"button\" tabindex=\"0\"")));
         }
-        // The fastest and the knee open, the third folded.
-        assert!(html.contains("<section class=\"plan featured\" id=\"plan-5\">"));
-        assert!(html.contains("<section class=\"plan featured\" id=\"plan-2\">"));
-        assert!(html.contains("<details class=\"plan\" id=\"plan-7\">"));
-        assert_eq!(html.matches("<details").count(), 1);
-        // Self-contained: no address elsewhere, no script.
-        assert!(!html.contains("http://") && !html.contains("https://") && !html.contains("//"));
-        assert!(!html.contains("<script"));
+        assert!(html.contains("<a href=\"front.svg\">front.svg</a>"));
+        // No pictures are linked until a plan has page material.
+        assert!(!html.contains("plan-5-sky-map.svg"));
+        // Self-contained: no address elsewhere, no script from a file.
+        assert!(!html.contains("http://") && !html.contains("https://"));
+        assert!(!html.contains("<script src"));
+        assert!(!html.contains("<link"));
+    }
+
+    /// The JSON embedded in a page.
+    fn page_data(html: &str) -> serde_json::Value {
+        let start = "<script type=\"application/json\" id=\"plan-data\">";
+        let text = html
+            .split(start)
+            .nth(1)
+            .unwrap()
+            .split("</script>")
+            .next()
+            .unwrap();
+        serde_json::from_str(text).unwrap()
+    }
+
+    #[test]
+    fn the_page_embeds_each_plans_table_and_pictures() {
+        let dir = tempfile::tempdir().unwrap();
+        let front = three();
+        let pages = pages();
+        let r = FrontReport {
+            plans: &pages,
+            ..report("t", &front, &[])
+        };
+        let path = dir.path().join("report.html");
+        write_report_html(&path, &r).unwrap();
+        let html = std::fs::read_to_string(&path).unwrap();
+        // Markup in the data cannot end the script element.
+        assert!(!html.contains("P5-first <&>"));
+        assert!(html.contains("P5-first \\u003c\\u0026\\u003e"));
+        let data = page_data(&html);
+        // The knee (plan 2) is chosen first.
+        assert_eq!(data["initial"], 2);
+        let plans = data["plans"].as_array().unwrap();
+        assert_eq!(plans.len(), 3);
+        assert_eq!(plans[0]["plan"], 5);
+        assert_eq!(plans[0]["heading"], "Plan 5 (fastest)");
+        assert_eq!(
+            plans[0]["summary"],
+            "10.00 h elapsed (1.00 h of busy overhead), 0.50 h of waiting, 50.0 g of propellant, 3 momentum \
+             dumps, 60 targets scheduled."
+        );
+        assert_eq!(plans[0]["page"]["rows"][0][1], "P5-first <&>");
+        assert_eq!(plans[0]["page"]["timeline"], "plan-5-timeline.svg");
+        assert!(plans[1]["page"].is_null());
+        assert_eq!(plans[2]["page"]["columns"][1], "id");
+
+        // Pages that do not match the front are refused.
+        let bad = |page: PlanPage, needle: &str| {
+            let one = [page];
+            let r = FrontReport {
+                plans: &one,
+                ..report("t", &front, &[])
+            };
+            let path = dir.path().join("bad.html");
+            refused(write_report_html(&path, &r), &path, needle);
+        };
+        let good = pages[0].clone();
+        bad(
+            PlanPage {
+                plan: 4,
+                ..good.clone()
+            },
+            "not on the front",
+        );
+        bad(
+            PlanPage {
+                rows: vec![vec!["1".into()]],
+                ..good.clone()
+            },
+            "1 cells for 2 columns",
+        );
+        for name in ["../x.svg", "https://example.invalid/x.svg", "", "a\"b.svg"] {
+            bad(
+                PlanPage {
+                    sky_map: name.into(),
+                    ..good.clone()
+                },
+                "plain file name",
+            );
+        }
+        let twice = [good.clone(), good];
+        let r = FrontReport {
+            plans: &twice,
+            ..report("t", &front, &[])
+        };
+        let path = dir.path().join("bad.html");
+        refused(write_report_html(&path, &r), &path, "earlier page");
     }
 
     #[test]
@@ -1122,6 +1626,55 @@ mod tests {
         text_fits(&svg);
     }
 
+    #[test]
+    fn a_very_crowded_front_leaves_labels_out_rather_than_overlap() {
+        // Forty plans within a few pixels of each other.
+        let front: Vec<FrontRow> = (0..40)
+            .map(|i| {
+                let t = f64::from(i);
+                row(i as usize + 1, 36_000.0 + 5.0 * t, 0.0, 0.05 - 0.00001 * t)
+            })
+            .collect();
+        let r = FrontReport {
+            knee: Some(20),
+            ..report("Very crowded", &front, &[])
+        };
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("front.svg");
+        write_front_svg(&path, &r).unwrap();
+        let svg = std::fs::read_to_string(&path).unwrap();
+        let labels = bold_texts(&svg);
+        // The knee's label goes first, so it is there; not all forty fit.
+        assert!(labels.contains(&"21 (knee)".to_string()), "{labels:?}");
+        assert!(labels.len() < 40, "{}", labels.len());
+        assert!(
+            svg.contains("no room to label"),
+            "no note of the plans left out"
+        );
+        let boxes: Vec<Rect> = svg
+            .split("<rect")
+            .skip(1)
+            .filter(|t| t.contains("fill=\"#FFFFFF\"") && t.contains("opacity=\"0.8\""))
+            .map(|t| {
+                let attr = |name: &str| -> f64 {
+                    t.split(&format!(" {name}=\""))
+                        .nth(1)
+                        .and_then(|s| s.split('"').next())
+                        .and_then(|s| s.parse().ok())
+                        .unwrap()
+                };
+                let (x, y) = (attr("x"), attr("y"));
+                (x, y, x + attr("width"), y + attr("height"))
+            })
+            .collect();
+        for (i, a) in boxes.iter().enumerate() {
+            for b in &boxes[i + 1..] {
+                assert!(!overlaps(a, b), "{a:?} and {b:?} overlap");
+            }
+        }
+        text_fits(&svg);
+    }
+
     /// `result` is an input error naming `needle`, and nothing was written at `path`.
     fn refused(result: Result<(), DrawError>, path: &Path, needle: &str) {
         match result {
@@ -1145,8 +1698,8 @@ mod tests {
         };
 
         let mut bad = good.clone();
-        bad[1].busy_overhead_s = f64::NAN;
-        check_both(&report("t", &bad, &[]), "row 1 (plan 2) has overhead NaN");
+        bad[1].elapsed_s = f64::NAN;
+        check_both(&report("t", &bad, &[]), "row 1 (plan 2) has elapsed time NaN");
         let mut bad = good.clone();
         bad[2].propellant_kg = f64::INFINITY;
         check_both(&report("t", &bad, &[]), "row 2 (plan 7) has propellant inf");
@@ -1161,7 +1714,7 @@ mod tests {
         check_both(&report("t", &bad, &[]), "plan number 0");
         let mut bad = good.clone();
         bad.swap(0, 2);
-        check_both(&report("t", &bad, &[]), "not sorted by overhead");
+        check_both(&report("t", &bad, &[]), "not sorted by elapsed time");
         let mut bad = good.clone();
         bad[2].propellant_kg = 0.040;
         check_both(&report("t", &bad, &[]), "dominated");
@@ -1242,8 +1795,9 @@ mod tests {
         text_fits(&svg);
         let html = std::fs::read_to_string(&html_path).unwrap();
         assert!(html.contains("No plan on the front"));
-        assert!(html.contains("<td colspan=\"7\">no plan on the front</td>"));
-        assert!(html.contains("<img src=\"front.svg\""));
+        assert!(html.contains("<td colspan=\"8\">no plan on the front</td>"));
+        assert!(html.contains("<a href=\"front.svg\">"));
+        assert_eq!(page_data(&html)["initial"], serde_json::Value::Null);
         assert!(!html.contains("plan-1"));
         assert_eq!(html.matches(CAUTION_HTML).count(), 2);
     }

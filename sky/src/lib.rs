@@ -42,6 +42,12 @@ pub mod targets;
 pub mod draw;
 #[cfg(feature = "pictures")]
 pub mod front_report;
+#[cfg(feature = "pictures")]
+mod place;
+#[cfg(feature = "pictures")]
+pub mod timeline;
+#[cfg(feature = "pictures")]
+mod utc_axis;
 
 #[cfg(test)]
 mod testing;

@@ -9,13 +9,14 @@ use std::path::{Path, PathBuf};
 use std::time::Duration;
 use wend_sky::draw::{write_momentum_chart, write_sky_map, MomentumTrace, SkyMap};
 use wend_sky::front::{search_front, Front, FrontOptions, FrontProgress};
-use wend_sky::front_report::{write_front_svg, write_report_html, FrontReport, FrontRow};
+use wend_sky::front_report::{write_front_svg, write_report_html, FrontReport, FrontRow, PlanPage};
 use wend_sky::output::{
     self, busy_overhead_ratio, busy_overhead_s, elapsed_s, end_times_differ, format_utc,
     front_json, hour_grams, parse_utc, plan_json, CAUTION, CAUTION_TXT, DEMO_START_UTC,
 };
 use wend_sky::plan::{plan, PlanOptions, DEFAULT_HORIZON_DAYS};
-use wend_sky::schedule::{Context, Play, Schedule, Visit};
+use wend_sky::schedule::{Activity, Context, Play, Schedule, Visit};
+use wend_sky::timeline::{write_timeline, Timeline, TimelineItem, TimelineKind};
 use wend_sky::sun::sun_j2000;
 use wend_sky::{demo_links, demo_profile, demo_targets, read_profile, read_targets};
 use wend_sky::{Epoch, Link, Profile, StartPointing, Target};
@@ -476,7 +477,7 @@ fn run_plan(a: PlanArgs) -> Result<(), CliError> {
     if let Some(dir) = &a.out {
         println!(
             "wrote {}: plan.csv, momentum.csv, visibility.csv, unscheduled.csv, CAUTION.txt, \
-             sky-map.svg, momentum.svg, summary.json{}",
+             sky-map.svg, momentum.svg, timeline.svg, summary.json{}",
             dir.display(),
             if front.is_some() {
                 ", front.csv, plan-K.csv, front.svg, report.html"
@@ -545,7 +546,13 @@ fn write_outputs(
     })?;
     write_plan_files(
         dir,
-        ["plan.csv", "sky-map.svg", "momentum.svg", "momentum.csv"],
+        [
+            "plan.csv",
+            "sky-map.svg",
+            "momentum.svg",
+            "momentum.csv",
+            "timeline.svg",
+        ],
         ctx.profile(),
         targets,
         s,
@@ -554,11 +561,11 @@ fn write_outputs(
     )
 }
 
-/// Writes one plan's table, sky map, momentum chart and momentum trace under the four
-/// `names`.
+/// Writes one plan's table, sky map, momentum chart, momentum trace and timeline under the
+/// five `names`.
 fn write_plan_files(
     dir: &Path,
-    names: [&str; 4],
+    names: [&str; 5],
     profile: &Profile,
     targets: &[Target],
     s: &Schedule,
@@ -607,12 +614,8 @@ fn write_plan_files(
         },
     )
     .map_err(draw_error)?;
-    let points: Vec<(f64, f64)> = s
-        .momentum_trace()
-        .iter()
-        .map(|&(t, h)| (t / 3600.0, h))
-        .collect();
-    let dumps_hours: Vec<f64> = s.dump_times_s().iter().map(|t| t / 3600.0).collect();
+    let trace = s.momentum_trace();
+    let dumps = s.dump_times_s();
     let momentum_title = format!(
         "{}{label}: stored momentum, {} dumps, {:.2} g propellant",
         profile.name,
@@ -623,14 +626,77 @@ fn write_plan_files(
         &dir.join(names[2]),
         &MomentumTrace {
             title: &momentum_title,
-            points: &points,
+            start,
+            points_s: &trace,
+            components_nms: &[],
             limit_nms: profile.wheel_limit_nms,
             threshold_nms: profile.wheel_limit_nms * profile.wheel_margin,
-            dumps_hours: &dumps_hours,
+            dumps_s: &dumps,
+            caution: CAUTION,
+        },
+    )
+    .map_err(draw_error)?;
+    let items = timeline_items(targets, s, start);
+    let timeline_title = format!(
+        "{}{label}: {} observations, {} dumps",
+        profile.name,
+        s.observations.len(),
+        s.dumps
+    );
+    write_timeline(
+        &dir.join(names[4]),
+        &Timeline {
+            title: &timeline_title,
+            start,
+            end: if s.end.jd > start.jd { s.end } else { start },
+            items: &items,
             caution: CAUTION,
         },
     )
     .map_err(draw_error)
+}
+
+/// The bars of a plan's timeline, straight from its events: observations (labelled with the
+/// target), slews (to targets and parking attitudes, with settling and setups), waits and
+/// dumps.
+fn timeline_items(targets: &[Target], s: &Schedule, start: Epoch) -> Vec<TimelineItem> {
+    let since = |e: Epoch| ((e.jd - start.jd) * 86_400.0).max(0.0);
+    s.events
+        .iter()
+        .map(|e| TimelineItem {
+            kind: match e.activity {
+                Activity::Observe => TimelineKind::Observe,
+                Activity::Slew => TimelineKind::Slew,
+                Activity::Wait => TimelineKind::Wait,
+                Activity::Dump => TimelineKind::Dump,
+            },
+            start_s: since(e.start),
+            end_s: since(e.end).max(since(e.start)),
+            label: match e.activity {
+                Activity::Observe => e.target.and_then(|j| targets.get(j)).map(|t| t.id.clone()),
+                _ => None,
+            },
+        })
+        .collect()
+}
+
+/// A plan's table as the report shows it: the rows of its CSV file.
+fn plan_page(
+    profile: &Profile,
+    targets: &[Target],
+    s: &Schedule,
+    k: usize,
+    names: &[String; 5],
+) -> PlanPage {
+    PlanPage {
+        plan: k,
+        columns: output::PLAN_COLUMNS.iter().map(|c| c.to_string()).collect(),
+        rows: output::plan_rows(profile, targets, s),
+        csv: names[0].clone(),
+        sky_map: names[1].clone(),
+        momentum: names[2].clone(),
+        timeline: names[4].clone(),
+    }
 }
 
 /// The front's plans as the report shows them.
@@ -641,7 +707,8 @@ fn front_rows(front: &Front) -> Vec<FrontRow> {
         .enumerate()
         .map(|(k, p)| FrontRow {
             plan: k + 1,
-            busy_overhead_s: p.elapsed_s,
+            elapsed_s: p.elapsed_s,
+            busy_overhead_s: busy_overhead_s(&p.schedule),
             wait_s: p.schedule.wait_s,
             propellant_kg: p.propellant_kg,
             dumps: p.schedule.dumps,
@@ -664,16 +731,19 @@ fn write_front_files(
     write_file(&dir.join("front.csv"), |w| {
         output::write_front_csv(w, front, start)
     })?;
+    let mut pages = Vec::new();
     for (k, p) in front.plans.iter().enumerate() {
         let names = [
             format!("plan-{}.csv", k + 1),
             format!("plan-{}-sky-map.svg", k + 1),
             format!("plan-{}-momentum.svg", k + 1),
             format!("plan-{}-momentum.csv", k + 1),
+            format!("plan-{}-timeline.svg", k + 1),
         ];
+        pages.push(plan_page(profile, targets, &p.schedule, k + 1, &names));
         write_plan_files(
             dir,
-            [&names[0], &names[1], &names[2], &names[3]],
+            [&names[0], &names[1], &names[2], &names[3], &names[4]],
             profile,
             targets,
             &p.schedule,
@@ -723,6 +793,7 @@ fn write_front_files(
         hypervolume: front.hypervolume,
         reference: front.reference,
         notes: &notes,
+        plans: &pages,
     };
     let draw_error = |e: wend_sky::draw::DrawError| CliError::Failure(e.to_string());
     write_front_svg(&dir.join("front.svg"), &report).map_err(draw_error)?;
