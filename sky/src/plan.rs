@@ -75,10 +75,11 @@ impl PlanOptions {
 /// Planning horizon by default, days.
 pub const DEFAULT_HORIZON_DAYS: f64 = 30.0;
 
-/// Planning time by default for `n` targets: 3 s, plus a second per hundred targets past two
-/// hundred (6 s at 500 targets, 21 s at 2,000), so that large pools get time in proportion.
+/// Planning time by default for `n` targets: 10 s, plus a second per hundred targets past two
+/// hundred (13 s at 500 targets, 28 s at 2,000). Pools of a hundred targets or so end on their
+/// budgets well before it (the demo in about 5 s), so that the plan is reproducible.
 pub fn default_time_limit(n: usize) -> Duration {
-    Duration::from_secs_f64(3.0 + n.saturating_sub(200) as f64 / 100.0)
+    Duration::from_secs_f64(10.0 + n.saturating_sub(200) as f64 / 100.0)
 }
 
 /// Share of the time for the core's search.
@@ -86,6 +87,25 @@ pub const CORE_SHARE: f64 = 0.4;
 /// Share of the time left after the core for fitting in the targets its order leaves out (only
 /// while some are left out); the polish has the rest.
 pub const FIT_SHARE: f64 = 0.5;
+
+/// Kicks of the core's search for `n` targets: `20 + n / 10` (a kick costs a full schedule
+/// of every move tried, as links and the momentum rule need; the polish after it is cheaper
+/// per move).
+pub fn core_kicks(n: usize) -> u64 {
+    20 + n as u64 / 10
+}
+
+/// Plays of the polish for `n` targets: `2000 + 30 n`. The searches after the core end on
+/// budgets of plays, so that the same seed gives the same plan whatever the machine's speed,
+/// when the time limit does not cut them first (the summary says which).
+pub fn polish_plays(n: usize) -> u64 {
+    2000 + 30 * n as u64
+}
+
+/// Plays of the search that fits in left-out targets, for `n` targets: `500 + 20 n`.
+pub fn fit_plays(n: usize) -> u64 {
+    500 + 20 * n as u64
+}
 
 /// Why planning failed.
 #[derive(Debug, thiserror::Error)]
@@ -213,9 +233,50 @@ pub fn priority_penalties(counts: &[usize; 10], base: i64) -> [i64; 10] {
 /// hold, in milliseconds.
 pub struct MomentumRule<'c, 'a> {
     ctx: &'c Context<'a>,
-    /// Pool index of each core node (node 0, the start, has none).
-    nodes: Vec<Option<usize>>,
+    /// Torques of each core node (node 0, the start, has none) at the start of each day of the
+    /// horizon and its end, inertial, N·m; read between samples by linear interpolation.
+    torques: Vec<Vec<Vec3>>,
     dump_ms: i64,
+}
+
+impl<'c, 'a> MomentumRule<'c, 'a> {
+    /// The rule over the core nodes `[start, cands…]`.
+    pub fn new(ctx: &'c Context<'a>, cands: &[usize], horizon_days: f64) -> Self {
+        let days = horizon_days.ceil().max(1.0) as usize;
+        let torques = std::iter::once(Vec::new())
+            .chain(cands.iter().map(|&j| {
+                (0..=days)
+                    .map(|d| {
+                        ctx.nominal_torque(
+                            j,
+                            Epoch {
+                                jd: ctx.start().jd + d as f64,
+                            },
+                        )
+                    })
+                    .collect()
+            }))
+            .collect();
+        MomentumRule {
+            ctx,
+            torques,
+            dump_ms: (ctx.profile().dump_s * 1000.0).ceil() as i64,
+        }
+    }
+
+    fn torque(&self, node: usize, at_ms: i64) -> Option<Vec3> {
+        let t = self.torques.get(node)?;
+        let last = t.len().checked_sub(1)?;
+        let day = (at_ms as f64 / 86_400_000.0).clamp(0.0, last as f64);
+        let k = (day.floor() as usize).min(last.saturating_sub(1));
+        let f = day - k as f64;
+        let (a, b) = (t[k], t[(k + 1).min(last)]);
+        Some([
+            a[0] + f * (b[0] - a[0]),
+            a[1] + f * (b[1] - a[1]),
+            a[2] + f * (b[2] - a[2]),
+        ])
+    }
 }
 
 impl StepRule for MomentumRule<'_, '_> {
@@ -226,13 +287,9 @@ impl StepRule for MomentumRule<'_, '_> {
     }
 
     fn step(&self, h: &mut Vec3, from: &Row, to: &Row) -> i64 {
-        let Some(Some(j)) = self.nodes.get(to.stop) else {
+        let Some(tau) = self.torque(to.stop, to.start) else {
             return 0;
         };
-        let at = Epoch {
-            jd: self.ctx.start().jd + to.start as f64 / 86_400_000.0,
-        };
-        let tau = self.ctx.nominal_torque(*j, at);
         let dt = (to.departure - from.departure) as f64 / 1000.0;
         let next = [h[0] + tau[0] * dt, h[1] + tau[1] * dt, h[2] + tau[2] * dt];
         if norm(&next) <= self.ctx.threshold_nms() {
@@ -321,17 +378,15 @@ fn core_order(
     c.route = Route::Path;
     c.objective = Objective::Completion;
     c.start_time = 0;
-    let rule = MomentumRule {
-        ctx,
-        nodes: std::iter::once(None)
-            .chain(cands.iter().map(|&j| Some(j)))
-            .collect(),
-        dump_ms: (ctx.profile().dump_s * 1000.0).ceil() as i64,
-    };
+    let rule = MomentumRule::new(ctx, cands, options.horizon_days);
+    // Budgets of their own, so that the core ends before its share of the time on pools of
+    // a few hundred targets and the plan is reproducible; the time limit cuts larger ones.
     let settings = Settings {
         seed: options.seed,
         time_limit: Some(limit.as_secs_f64().max(0.05)),
         threads: options.threads,
+        runs: Some(1),
+        iterations: Some(core_kicks(n)),
         ..Default::default()
     };
     let hooks = Hooks {
@@ -467,11 +522,16 @@ pub fn plan(
         }
         let mut cur = (seq, best.clone());
         let mut stall = 0u64;
+        let mut tried = 0u64;
         while cur.1.observations.len() < cands.len()
-            && Instant::now() < share_end
-            && !stop.is_stopped()
+            && tried < fit_plays(cands.len())
             && stall < 200 + 20 * cands.len() as u64
         {
+            if Instant::now() >= share_end || stop.is_stopped() {
+                cut = true;
+                break;
+            }
+            tried += 1;
             let Some((cand, _)) = random_chain(&ctx, &cur.0, 3, &mut rng) else {
                 stall += 1;
                 continue;
@@ -505,7 +565,8 @@ pub fn plan(
         };
         let mut count = 0u64;
         let mut seen = |_: &[Visit], _: Point| count += 1;
-        if let Some((v2, _)) = improve(&ctx, &v, objective, u64::MAX, &mut rng, &mut seen, &timeout)
+        let budget = polish_plays(v.len());
+        if let Some((v2, _)) = improve(&ctx, &v, objective, budget, &mut rng, &mut seen, &timeout)
         {
             if let Ok(Ok(s)) = ctx.play(&v2) {
                 let keep_out = best.unscheduled.clone();
@@ -521,6 +582,7 @@ pub fn plan(
         *plays += count;
     };
     polish(&mut best, &mut plays);
+    let polish_cut = timeout();
     // The targets left out, highest priority first: each tried at every position.
     let mut out: Vec<usize> = cands
         .iter()
@@ -554,6 +616,7 @@ pub fn plan(
     if Instant::now() >= deadline {
         cut = true;
     }
+    cut |= polish_cut;
     // What is still left out: the replay's reasons for what the core kept, priority for what
     // the core or the insertions could not fit.
     let kept_visits = best.visits();
