@@ -29,12 +29,13 @@
 
 use std::time::{Duration, Instant};
 
-use rand::{Rng, SeedableRng};
+use rand::Rng;
 use rand_pcg::Pcg64;
+use wend::{run_steps, Step, StepLimits};
 
 use super::plan::{plan, Plan, PlanFailure, PlanOptions};
 use super::schedule::{Context, Schedule, Visit};
-use super::search::{improve, neighbourhood, random_chain, Replayer, Scalar};
+use super::search::{improve, neighbourhood, random_chain, Descent, Replayer, Scalar};
 use super::{Link, Profile, Target};
 
 pub use super::search::Point;
@@ -286,6 +287,94 @@ pub struct Front {
 /// Most dominated points kept for pictures.
 pub const MAX_DOMINATED_KEPT: usize = 2_000;
 
+/// What the searches have seen: the archive, and dominated points for pictures.
+struct Found {
+    archive: Archive,
+    dominated: Vec<Point>,
+    evaluations: u64,
+}
+
+impl Found {
+    fn note(&mut self, v: &[Visit], p: Point) {
+        self.evaluations += 1;
+        if !self.archive.insert(v, p) && self.dominated.len() < 4 * MAX_DOMINATED_KEPT {
+            self.dominated.push(p);
+        }
+    }
+}
+
+/// The Pareto local search: each step explores one archive plan not yet explored (every plan
+/// one move away when the plans are small, and chains of up to three random moves), or, when
+/// every plan is explored, restarts from a kicked plan of the archive with a short descent on
+/// a random weight. Finished when small plans have seen [`QUIET_RESTARTS`] restarts in a row
+/// without a change of the archive.
+struct ParetoLocal<'c, 'a> {
+    ctx: &'c Context<'a>,
+    found: Found,
+    time_scale: f64,
+    kg_scale: f64,
+    quiet: usize,
+    small: bool,
+}
+
+impl Step for ParetoLocal<'_, '_> {
+    fn step(&mut self, rng: &mut Pcg64, should_stop: &mut dyn FnMut() -> bool) {
+        let ctx = self.ctx;
+        if let Some(v) = self.found.archive.unexplored() {
+            let mut rep = Replayer::new(ctx, &v);
+            if self.small {
+                for (cand, at) in neighbourhood(ctx, &v) {
+                    if let Some(p) = rep.score(&cand, at) {
+                        self.found.note(&cand, p);
+                    }
+                    if should_stop() {
+                        return;
+                    }
+                }
+            }
+            for _ in 0..CHAINS_PER_PLAN {
+                if let Some((cand, at)) = random_chain(ctx, &v, 3, rng) {
+                    if let Some(p) = rep.score(&cand, at) {
+                        self.found.note(&cand, p);
+                    }
+                }
+            }
+            return;
+        }
+        let before = self.found.archive.points();
+        let all = self.found.archive.sorted();
+        if all.is_empty() {
+            self.quiet = QUIET_RESTARTS;
+            return;
+        }
+        let pick = &all[rng.gen_range(0..all.len())].0;
+        if let Some((kicked, _)) = random_chain(ctx, pick, 5, rng) {
+            let objective = Scalar {
+                time_scale: self.time_scale,
+                kg_scale: self.kg_scale,
+                weight: rng.gen_range(0.0..10.0),
+            };
+            let found = &mut self.found;
+            let mut seen = |v: &[Visit], p: Point| found.note(v, p);
+            if let Some(mut d) = Descent::new(ctx, &kicked, objective, &mut seen) {
+                let budget = 20 * kicked.len() as u64 + 50;
+                for _ in 0..budget {
+                    if should_stop() {
+                        break;
+                    }
+                    d.step(rng, should_stop);
+                }
+            }
+        }
+        let changed = self.found.archive.points() != before;
+        self.quiet = if changed { 0 } else { self.quiet + 1 };
+    }
+
+    fn finished(&self) -> bool {
+        self.small && self.quiet >= QUIET_RESTARTS
+    }
+}
+
 /// Searches the front of `targets` under `links` (see the module documentation), calling
 /// `progress` about once a second.
 pub fn search_front(
@@ -309,45 +398,34 @@ pub fn search_front(
     )?;
     let base = single.schedule.visits();
     let stop = options.plan.stop.clone();
-    let out_of_time = || Instant::now() >= deadline || stop.is_stopped();
-    let mut archive = Archive::new();
-    let mut dominated: Vec<Point> = Vec::new();
-    let mut evaluations = 0u64;
-    let mut rng = Pcg64::seed_from_u64(options.plan.seed ^ 0x5eed_f00d);
-    let p0 = (
-        single.schedule.elapsed_s(),
-        single.schedule.propellant_kg,
-    );
-    archive.insert(&base, p0);
+    let mut found = Found {
+        archive: Archive::new(),
+        dominated: Vec::new(),
+        evaluations: 0,
+    };
+    let p0 = (single.schedule.elapsed_s(), single.schedule.propellant_kg);
+    found.archive.insert(&base, p0);
+    let time_scale = p0.0.max(1.0);
+    let kg_scale = p0.1.max(1e-9);
     let mut last_report = Instant::now();
-    let mut report = |archive: &Archive, evaluations: u64| {
+    let mut report = |found: &Found| {
         if last_report.elapsed() >= Duration::from_secs(1) {
             last_report = Instant::now();
-            let pts = archive.points();
+            let pts = found.archive.points();
             let reference = nadir(&pts);
             progress(FrontProgress {
                 plans: pts.len(),
                 hypervolume: hypervolume(&pts, reference),
                 reference,
-                evaluations,
+                evaluations: found.evaluations,
                 seconds: began.elapsed().as_secs_f64(),
             });
         }
     };
-    let note = |archive: &mut Archive, dominated: &mut Vec<Point>, v: &[Visit], p: Point| {
-        if !archive.insert(v, p) && dominated.len() < 4 * MAX_DOMINATED_KEPT {
-            dominated.push(p);
-        }
-    };
-    // Scalarised runs from the fastest plan.
+    // Scalarised runs from the fastest plan, each under the loop owner with a slice of time.
     let weights = options.weights.max(1);
-    let scal_deadline = Instant::now()
-        + options
-            .time_limit
-            .mul_f64(SCALARISED_SHARE)
-            .min(deadline.saturating_duration_since(Instant::now()));
-    let time_scale = p0.0.max(1.0);
-    let kg_scale = p0.1.max(1e-9);
+    let scal_deadline =
+        (Instant::now() + options.time_limit.mul_f64(SCALARISED_SHARE)).min(deadline);
     if !base.is_empty() {
         for k in 0..weights {
             let weight = if k == 0 {
@@ -360,83 +438,52 @@ pub fn search_front(
                 + scal_deadline
                     .saturating_duration_since(Instant::now())
                     .div_f64((weights - k) as f64);
-            let timeout = || Instant::now() >= slice_end || out_of_time();
+            let limits = StepLimits {
+                seed: options.plan.seed,
+                run: 10 + k as u64,
+                steps: None,
+                deadline: Some(slice_end),
+                stop: stop.clone(),
+                ..StepLimits::new(options.plan.seed)
+            };
             let objective = Scalar {
                 time_scale,
                 kg_scale,
                 weight,
             };
-            let mut seen = |v: &[Visit], p: Point| {
-                evaluations += 1;
-                note(&mut archive, &mut dominated, v, p);
-            };
-            improve(&ctx, &base, objective, u64::MAX, &mut rng, &mut seen, &timeout);
-            report(&archive, evaluations);
+            let mut seen = |v: &[Visit], p: Point| found.note(v, p);
+            improve(&ctx, &base, objective, &limits, &mut seen);
+            report(&found);
         }
     }
-    let scalarised = archive.points();
-    // Pareto local search.
-    let mut quiet = 0usize;
-    let mut settled = false;
-    while !out_of_time() && !base.is_empty() {
-        let before = archive.len();
-        let snapshot_points = archive.points();
-        match archive.unexplored() {
-            Some(v) => {
-                let mut rep = Replayer::new(&ctx, &v);
-                if v.len() <= FULL_NEIGHBOURHOOD_MAX {
-                    for (cand, at) in neighbourhood(&ctx, &v) {
-                        if let Some(p) = rep.score(&cand, at) {
-                            evaluations += 1;
-                            note(&mut archive, &mut dominated, &cand, p);
-                        }
-                        if out_of_time() {
-                            break;
-                        }
-                    }
-                }
-                for _ in 0..CHAINS_PER_PLAN {
-                    if let Some((cand, at)) = random_chain(&ctx, &v, 3, &mut rng) {
-                        if let Some(p) = rep.score(&cand, at) {
-                            evaluations += 1;
-                            note(&mut archive, &mut dominated, &cand, p);
-                        }
-                    }
-                }
-            }
-            None => {
-                // Every plan explored: restart from a kicked plan of the archive.
-                let all = archive.sorted();
-                let pick = &all[rng.gen_range(0..all.len())].0;
-                if let Some((kicked, _)) = random_chain(&ctx, pick, 5, &mut rng) {
-                    let mut rep = Replayer::new(&ctx, &kicked);
-                    if let Some(p) = rep.score(&kicked, kicked.len()) {
-                        evaluations += 1;
-                        note(&mut archive, &mut dominated, &kicked, p);
-                        // A short descent toward the front from the kicked plan.
-                        let objective = Scalar {
-                            time_scale,
-                            kg_scale,
-                            weight: rng.gen_range(0.0..10.0),
-                        };
-                        let mut seen = |v: &[Visit], p: Point| {
-                            evaluations += 1;
-                            note(&mut archive, &mut dominated, v, p);
-                        };
-                        let budget = 20 * kicked.len() as u64 + 50;
-                        improve(&ctx, &kicked, objective, budget, &mut rng, &mut seen, &out_of_time);
-                    }
-                }
-                let changed = archive.len() != before || archive.points() != snapshot_points;
-                quiet = if changed { 0 } else { quiet + 1 };
-                if quiet >= QUIET_RESTARTS && base.len() <= FULL_NEIGHBOURHOOD_MAX {
-                    settled = true;
-                    break;
-                }
-            }
-        }
-        report(&archive, evaluations);
+    let scalarised = found.archive.points();
+    // Pareto local search under the loop owner, one archive plan explored (or one restart) a
+    // step.
+    let mut pls = ParetoLocal {
+        ctx: &ctx,
+        found,
+        time_scale,
+        kg_scale,
+        quiet: 0,
+        small: base.len() <= FULL_NEIGHBOURHOOD_MAX,
+    };
+    if !base.is_empty() {
+        let limits = StepLimits {
+            seed: options.plan.seed,
+            run: 9,
+            steps: None,
+            deadline: Some(deadline),
+            stop: stop.clone(),
+            report_every: Duration::from_secs(1),
+        };
+        run_steps(&limits, &mut pls, &mut |p| report(&p.found));
     }
+    let settled = pls.finished();
+    let Found {
+        archive,
+        mut dominated,
+        evaluations,
+    } = pls.found;
     // The reported plans, played out again in full.
     let sorted = archive.sorted();
     let archive_points: Vec<Point> = sorted.iter().map(|s| s.1).collect();

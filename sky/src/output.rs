@@ -507,6 +507,14 @@ pub fn front_json(front: &Front, start: Epoch) -> serde_json::Map<String, serde_
     );
     m.insert("archive_plans".into(), json!(front.archive_plans));
     m.insert(
+        "archive_points".into(),
+        json!(front
+            .archive_points
+            .iter()
+            .map(|p| [p.0, p.1])
+            .collect::<Vec<_>>()),
+    );
+    m.insert(
         "archive_hypervolume_h_g".into(),
         json!(hour_grams(front.archive_hypervolume)),
     );

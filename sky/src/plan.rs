@@ -27,13 +27,12 @@
 
 use std::time::{Duration, Instant};
 
-use rand::SeedableRng;
 use rand_pcg::Pcg64;
 use wend::constraints::{
     solve_sequence_with, Constraints, Objective, Precedence, Route, Row, SequenceError,
     StepRule, Window as CoreWindow,
 };
-use wend::{Hooks, MatrixCost, Settings, StopHandle, StopReason};
+use wend::{run_steps, Hooks, MatrixCost, Settings, Step, StepLimits, StopHandle, StopReason};
 
 use super::geometry::{norm, Vec3};
 use super::schedule::{Context, PlanError, Reason, Schedule, Unscheduled, Visit};
@@ -220,9 +219,9 @@ pub fn priority_penalties(counts: &[usize; 10], base: i64) -> [i64; 10] {
     // Geometric: the largest ratio r with base · r^8 within the room.
     let levels = LOWEST_PRIORITY as i32 - 1;
     let r = ((room as f64 / base.max(1) as f64).powf(1.0 / levels as f64)).max(1.0);
-    for p in 1..=LOWEST_PRIORITY as usize {
+    for (p, wp) in w.iter_mut().enumerate().skip(1) {
         let k = (LOWEST_PRIORITY as usize - p) as i32;
-        w[p] = ((base as f64) * r.powi(k)).min(room as f64) as i64;
+        *wp = ((base as f64) * r.powi(k)).min(room as f64) as i64;
     }
     w
 }
@@ -300,6 +299,49 @@ impl StepRule for MomentumRule<'_, '_> {
         *h = [tau[0] * dwell, tau[1] * dwell, tau[2] * dwell];
         let room = to.wait + to.slack.unwrap_or(0).max(0);
         (self.dump_ms - room).max(0)
+    }
+}
+
+/// The search that fits in left-out targets: the whole sequence (kept and left out), each
+/// candidate (a chain of up to three random moves) played leaving out what does not fit at
+/// its turn, kept when it is no worse by priority, then time.
+struct Fit<'c, 'a, 't> {
+    ctx: &'c Context<'a>,
+    screened: &'t [Unscheduled],
+    cur: (Vec<Visit>, Schedule),
+    wanted: usize,
+    stall: u64,
+    error: Option<PlanError>,
+}
+
+impl Step for Fit<'_, '_, '_> {
+    fn step(&mut self, rng: &mut Pcg64, _should_stop: &mut dyn FnMut() -> bool) {
+        let Some((cand, _)) = random_chain(self.ctx, &self.cur.0, 3, rng) else {
+            self.stall += 1;
+            return;
+        };
+        let s = match self.ctx.play_lenient(&cand, self.screened) {
+            Ok(s) => s,
+            Err(e) => {
+                self.error = Some(e);
+                return;
+            }
+        };
+        let targets = self.ctx.targets();
+        self.stall = if better(targets, &s, &self.cur.1) {
+            0
+        } else {
+            self.stall + 1
+        };
+        if !better(targets, &self.cur.1, &s) {
+            self.cur = (cand, s);
+        }
+    }
+
+    fn finished(&self) -> bool {
+        self.error.is_some()
+            || self.cur.1.observations.len() >= self.wanted
+            || self.stall >= 200 + 20 * self.wanted as u64
     }
 }
 
@@ -505,7 +547,6 @@ pub fn plan(
     };
     let stop = options.stop.clone();
     let timeout = || Instant::now() >= deadline || stop.is_stopped();
-    let mut rng = Pcg64::seed_from_u64(options.seed ^ 0x91a7);
     let mut plays = 0u64;
     // While targets are left out: search the whole sequence (kept and left out), each
     // candidate played leaving out what does not fit, for more targets by priority.
@@ -520,40 +561,34 @@ pub fn plan(
                 seq.push(Visit { target: j, roll: 0 });
             }
         }
-        let mut cur = (seq, best.clone());
-        let mut stall = 0u64;
-        let mut tried = 0u64;
-        while cur.1.observations.len() < cands.len()
-            && tried < fit_plays(cands.len())
-            && stall < 200 + 20 * cands.len() as u64
-        {
-            if Instant::now() >= share_end || stop.is_stopped() {
-                cut = true;
-                break;
-            }
-            tried += 1;
-            let Some((cand, _)) = random_chain(&ctx, &cur.0, 3, &mut rng) else {
-                stall += 1;
-                continue;
-            };
-            plays += 1;
-            let s = ctx.play_lenient(&cand, &screened)?;
-            let not_worse = !better(targets, &cur.1, &s);
-            if better(targets, &s, &cur.1) {
-                stall = 0;
-            } else {
-                stall += 1;
-            }
-            if not_worse {
-                cur = (cand, s);
-            }
+        let mut fit = Fit {
+            ctx: &ctx,
+            screened: &screened,
+            cur: (seq, best.clone()),
+            wanted: cands.len(),
+            stall: 0,
+            error: None,
+        };
+        let limits = StepLimits {
+            seed: options.seed,
+            run: 1,
+            steps: Some(fit_plays(cands.len())),
+            deadline: Some(share_end),
+            stop: options.stop.clone(),
+            ..StepLimits::new(options.seed)
+        };
+        let out = run_steps(&limits, &mut fit, &mut |_| {});
+        plays += out.steps;
+        if let Some(e) = fit.error {
+            return Err(e.into());
         }
-        if better(targets, &cur.1, &best) {
-            best = cur.1;
+        cut |= matches!(out.stop_reason, Some(StopReason::TimeLimit));
+        if better(targets, &fit.cur.1, &best) {
+            best = fit.cur.1;
         }
     }
     // Polish: elapsed time first, propellant to break ties, on the targets kept.
-    let mut polish = |best: &mut Schedule, plays: &mut u64| {
+    let polish = |best: &mut Schedule, plays: &mut u64| {
         let v = best.visits();
         if v.is_empty() {
             return;
@@ -565,9 +600,15 @@ pub fn plan(
         };
         let mut count = 0u64;
         let mut seen = |_: &[Visit], _: Point| count += 1;
-        let budget = polish_plays(v.len());
-        if let Some((v2, _)) = improve(&ctx, &v, objective, budget, &mut rng, &mut seen, &timeout)
-        {
+        let limits = StepLimits {
+            seed: options.seed,
+            run: 2,
+            steps: Some(polish_plays(v.len())),
+            deadline: Some(deadline),
+            stop: options.stop.clone(),
+            ..StepLimits::new(options.seed)
+        };
+        if let Some(((v2, _), _)) = improve(&ctx, &v, objective, &limits, &mut seen) {
             if let Ok(Ok(s)) = ctx.play(&v2) {
                 let keep_out = best.unscheduled.clone();
                 let s = Schedule {

@@ -13,6 +13,7 @@
 
 use rand::Rng;
 use rand_pcg::Pcg64;
+use wend::{run_steps, Step, StepLimits, Stepped};
 
 use super::schedule::{Context, Play, Visit};
 
@@ -205,62 +206,117 @@ impl Scalar {
     }
 }
 
-/// Iterated local search on a scalarised objective from `start` (which must play), calling
-/// `seen` with every candidate that plays, until `budget` plays or `stop()` says so. Returns
-/// the best sequence and its point.
+/// Iterated local search on a scalarised objective, one candidate a step: a chain of one or
+/// two random moves from the current sequence, kept when not worse; after a stall, a kick of
+/// up to four moves from the best. Every candidate that plays goes to `seen`. Run it with
+/// [`wend::run_steps`] (see [`improve`]).
+pub struct Descent<'c, 'a, 's> {
+    ctx: &'c Context<'a>,
+    rep: Replayer<'c, 'a>,
+    cur: (Vec<Visit>, Point),
+    best: (Vec<Visit>, Point),
+    objective: Scalar,
+    stall: u64,
+    stall_limit: u64,
+    seen: &'s mut dyn FnMut(&[Visit], Point),
+}
+
+impl<'c, 'a, 's> Descent<'c, 'a, 's> {
+    /// A descent from `start`; `None` when `start` does not play.
+    pub fn new(
+        ctx: &'c Context<'a>,
+        start: &[Visit],
+        objective: Scalar,
+        seen: &'s mut dyn FnMut(&[Visit], Point),
+    ) -> Option<Descent<'c, 'a, 's>> {
+        let mut rep = Replayer::new(ctx, start);
+        let p0 = rep.score(start, start.len())?;
+        seen(start, p0);
+        Some(Descent {
+            ctx,
+            rep,
+            cur: (start.to_vec(), p0),
+            best: (start.to_vec(), p0),
+            objective,
+            stall: 0,
+            stall_limit: 50 + 4 * start.len() as u64,
+            seen,
+        })
+    }
+
+    /// The best sequence so far and its point.
+    pub fn best(&self) -> &(Vec<Visit>, Point) {
+        &self.best
+    }
+
+    /// Plays made.
+    pub fn plays(&self) -> u64 {
+        self.rep.plays
+    }
+
+    fn take(&mut self, cand: Vec<Visit>, p: Point) {
+        let v = |q: Point| self.objective.value(q);
+        if v(p) < v(self.best.1) {
+            self.best = (cand.clone(), p);
+        }
+        self.cur = (cand, p);
+        self.rep.rebase(&self.cur.0);
+    }
+}
+
+impl Step for Descent<'_, '_, '_> {
+    fn step(&mut self, rng: &mut Pcg64, _should_stop: &mut dyn FnMut() -> bool) {
+        let value = |q: Point| self.objective.value(q);
+        if self.stall > self.stall_limit {
+            // A kick from the best: a few moves at once.
+            self.stall = 0;
+            if let Some((kicked, _)) = random_chain(self.ctx, &self.best.0, 4, rng) {
+                match self.rep.score(&kicked, 0) {
+                    Some(p) => {
+                        (self.seen)(&kicked, p);
+                        self.take(kicked, p);
+                    }
+                    None => {
+                        let best = self.best.clone();
+                        self.take(best.0, best.1);
+                    }
+                }
+            }
+            return;
+        }
+        let Some((cand, at)) = random_chain(self.ctx, &self.cur.0, 2, rng) else {
+            self.stall += 1;
+            return;
+        };
+        match self.rep.score(&cand, at) {
+            Some(p) if value(p) <= value(self.cur.1) => {
+                (self.seen)(&cand, p);
+                self.stall = if value(p) < value(self.cur.1) {
+                    0
+                } else {
+                    self.stall + 1
+                };
+                self.take(cand, p);
+            }
+            Some(p) => {
+                (self.seen)(&cand, p);
+                self.stall += 1;
+            }
+            None => self.stall += 1,
+        }
+    }
+}
+
+/// [`Descent`] from `start` under [`wend::run_steps`] with `limits` (one step a candidate):
+/// the best sequence and its point, and how the loop ended; `None` when `start` does not play.
 pub fn improve(
     ctx: &Context,
     start: &[Visit],
     objective: Scalar,
-    budget: u64,
-    rng: &mut Pcg64,
+    limits: &StepLimits,
     seen: &mut dyn FnMut(&[Visit], Point),
-    stop: &dyn Fn() -> bool,
-) -> Option<(Vec<Visit>, Point)> {
-    let mut rep = Replayer::new(ctx, start);
-    let p0 = rep.score(start, start.len())?;
-    seen(start, p0);
-    let mut cur = (start.to_vec(), p0);
-    let mut best = cur.clone();
-    let mut stall = 0u64;
-    let stall_limit = 50 + 4 * start.len() as u64;
-    while rep.plays < budget && !stop() {
-        let Some((cand, at)) = random_chain(ctx, &cur.0, 2, rng) else {
-            stall += 1;
-            if stall > stall_limit * 4 {
-                break;
-            }
-            continue;
-        };
-        if let Some(p) = rep.score(&cand, at) {
-            seen(&cand, p);
-            if objective.value(p) <= objective.value(cur.1) {
-                let better = objective.value(p) < objective.value(cur.1);
-                cur = (cand, p);
-                rep.rebase(&cur.0);
-                if objective.value(p) < objective.value(best.1) {
-                    best = cur.clone();
-                }
-                stall = if better { 0 } else { stall + 1 };
-                continue;
-            }
-        }
-        stall += 1;
-        if stall > stall_limit {
-            // A kick from the best: a few moves at once.
-            stall = 0;
-            if let Some((kicked, _)) = random_chain(ctx, &best.0, 4, rng) {
-                let mut r = Replayer::new(ctx, &kicked);
-                if let Some(p) = r.score(&kicked, kicked.len()) {
-                    seen(&kicked, p);
-                    cur = (kicked, p);
-                    rep.rebase(&cur.0);
-                } else {
-                    cur = best.clone();
-                    rep.rebase(&cur.0);
-                }
-            }
-        }
-    }
-    Some(best)
+) -> Option<((Vec<Visit>, Point), Stepped)> {
+    let mut d = Descent::new(ctx, start, objective, seen)?;
+    let out = run_steps(limits, &mut d, &mut |_| {});
+    Some((d.best.clone(), out))
 }
