@@ -9,9 +9,9 @@ than 0.01 degrees, and times are rounded to whole seconds). Prints the worst mar
 1 when a row is outside. Run from the repository root:
 
     python3 -m venv /tmp/astro && /tmp/astro/bin/pip install astropy
-    wend sky plan --out /tmp/demo-plan
+    wend sky plan --front --out /tmp/demo-plan
     /tmp/astro/bin/python sky/scripts/check_plan.py instances/sky/demo-targets.csv \
-        /tmp/demo-plan/plan.csv --band 97 153
+        /tmp/demo-plan/plan.csv /tmp/demo-plan/plan-*.csv --band 97 153
 
 Plans are planning proposals to be confirmed by the operations team's validated tools; this
 check is one of the planner's own tests, not a substitute for them.
@@ -39,17 +39,17 @@ def rows(path):
 def main():
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("targets")
-    ap.add_argument("plan")
+    ap.add_argument("plans", nargs="+", help="plan.csv files (plan.csv, plan-K.csv of a front)")
     ap.add_argument("--band", nargs=2, type=float, default=[97.0, 153.0])
     ap.add_argument("--tolerance", type=float, default=0.02)
     args = ap.parse_args()
     lo, hi = args.band
     where = {r["id"].strip(): r for r in rows(args.targets)}
-    plan = rows(args.plan)
+    plan = [r for path in args.plans for r in rows(path)]
     ids, times = [], []
     for r in plan:
         for key in ("start_utc", "end_utc"):
-            ids.append(r["id"])
+            ids.append(r.get("target") or r["id"])
             times.append(r[key].replace("Z", ""))
     t = Time(times, scale="utc", format="isot")
     sun = get_sun(t)
@@ -68,7 +68,7 @@ def main():
         csv_e += [float(r["elongation_start_deg"]), float(r["elongation_end_deg"])]
     worst_diff = max((abs(a - b) for a, b in zip(sep, csv_e)), default=0.0)
     print(
-        f"astropy {astropy.__version__}: {len(plan)} observations, {len(sep)} checks, "
+        f"astropy {astropy.__version__}: {len(args.plans)} plans, {len(plan)} observations, {len(sep)} checks, "
         f"smallest margin to the band {min(margin, default=0.0):.4f} deg, "
         f"largest difference from the plan's elongations {worst_diff:.4f} deg, "
         f"{len(bad)} outside"
