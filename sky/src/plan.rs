@@ -87,6 +87,11 @@ pub const CORE_SHARE: f64 = 0.4;
 /// while some are left out); the polish has the rest.
 pub const FIT_SHARE: f64 = 0.5;
 
+/// Most targets the core's constrained search takes: each of its moves schedules the whole
+/// order (links and the momentum rule need it), so that a descent over more targets takes
+/// longer than a planning budget; larger pools start from the closing order.
+pub const CORE_MAX_TARGETS: usize = 200;
+
 /// Kicks of the core's search for `n` targets: `20 + n / 10` (a kick costs a full schedule
 /// of every move tried, as links and the momentum rule need; the polish after it is cheaper
 /// per move).
@@ -129,7 +134,8 @@ pub struct Plan {
     pub baseline: Schedule,
     /// The core search's order (pool indices), before the replay and the polish.
     pub core_order: Vec<usize>,
-    /// True when the core found an order that keeps every window and link on its costs.
+    /// True when the core found an order that keeps every window and link on its costs (false
+    /// also when the pool is larger than [`CORE_MAX_TARGETS`] and the core did not run).
     pub core_feasible: bool,
     /// Objective values (elapsed seconds, propellant kilograms) of the core's order played
     /// out, before the polish.
@@ -523,6 +529,10 @@ pub fn plan(
     let mut cut = false;
     let (core, core_feasible) = if cands.is_empty() {
         (Vec::new(), true)
+    } else if cands.len() > CORE_MAX_TARGETS {
+        // Too many for the core's full-schedule moves: the searches start from the closing
+        // order.
+        (closing.clone(), false)
     } else {
         let (order, feasible, c) =
             core_order(&ctx, &cands, &closing, limit.mul_f64(CORE_SHARE), options)?;
