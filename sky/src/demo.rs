@@ -84,7 +84,7 @@ mod tests {
         assert_eq!(p.name, "Lantern Deep-Sky Observatory");
         assert_eq!((p.elongation_min_deg, p.elongation_max_deg), (97.0, 153.0));
         assert_eq!(p.shield_area_m2, 64.0);
-        assert_eq!(p.pressure_offset_m, [0.0, 0.03, 0.25]);
+        assert_eq!(p.pressure_offset_m, [0.0, 0.035, 0.3]);
         assert_eq!((p.roll_range_deg, p.roll_steps), ((-20.0, 20.0), 3));
         assert_eq!(p.shield_normal, [1.0, 0.0, 0.0]);
         assert_eq!(

@@ -74,15 +74,15 @@ impl PlanOptions {
 /// Planning horizon by default, days.
 pub const DEFAULT_HORIZON_DAYS: f64 = 30.0;
 
-/// Planning time by default for `n` targets: 10 s, plus a second per hundred targets past two
-/// hundred (13 s at 500 targets, 28 s at 2,000). Pools of a hundred targets or so end on their
+/// Planning time by default for `n` targets: 15 s, plus a second per hundred targets past two
+/// hundred (18 s at 500 targets, 33 s at 2,000). Pools of a hundred targets or so end on their
 /// budgets well before it (the demo in about 5 s), so that the plan is reproducible.
 pub fn default_time_limit(n: usize) -> Duration {
-    Duration::from_secs_f64(10.0 + n.saturating_sub(200) as f64 / 100.0)
+    Duration::from_secs_f64(15.0 + n.saturating_sub(200) as f64 / 100.0)
 }
 
 /// Share of the time for the core's search.
-pub const CORE_SHARE: f64 = 0.4;
+pub const CORE_SHARE: f64 = 0.5;
 /// Share of the time left after the core for fitting in the targets its order leaves out (only
 /// while some are left out); the polish has the rest.
 pub const FIT_SHARE: f64 = 0.5;
