@@ -31,7 +31,7 @@ use serde_json::{json, Map, Value};
 use wend::{solve_with, CoordCost, Cost, Ends, Hooks, MatrixCost, Method, Metric, Outcome};
 use wend::{Settings, StopHandle};
 use wend_sky::front::{search_front, Front, FrontOptions, FrontProgress};
-use wend_sky::output::{format_utc, parse_utc, plan_json, CAUTION, DEMO_START_UTC};
+use wend_sky::output::{parse_utc, plan_json, CAUTION, DEMO_START_UTC};
 use wend_sky::plan::{plan, Plan, PlanOptions};
 use wend_sky::schedule::Schedule;
 use wend_sky::{demo_links, demo_profile, demo_targets, parse_profile, parse_targets};
@@ -629,7 +629,9 @@ fn schedule_columns<'py>(
         } else if ints.contains(name) {
             d.set_item(
                 *name,
-                cells.map(|c| c.parse::<i64>().unwrap_or(0)).collect::<Vec<_>>(),
+                cells
+                    .map(|c| c.parse::<i64>().unwrap_or(0))
+                    .collect::<Vec<_>>(),
             )?;
         } else {
             d.set_item(

@@ -58,7 +58,9 @@ fn main() {
     p.roll_steps = 3;
     let start = parse_utc("2027-03-01").expect("a valid date");
     let days = 6.0;
-    println!("pool,plays,full_plays,exact_front,found_front,hypervolume_ratio,front_seconds,evaluations");
+    println!(
+        "pool,plays,full_plays,exact_front,found_front,hypervolume_ratio,front_seconds,evaluations"
+    );
     let mut good = 0;
     let mut worst: f64 = f64::INFINITY;
     for pool in 0..pools {

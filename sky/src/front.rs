@@ -155,11 +155,7 @@ impl Archive {
         if !(p.0.is_finite() && p.1.is_finite()) {
             return false;
         }
-        if self
-            .items
-            .iter()
-            .any(|q| dominates(q.1, p) || same(q.1, p))
-        {
+        if self.items.iter().any(|q| dominates(q.1, p) || same(q.1, p)) {
             return false;
         }
         self.items.retain(|q| !dominates(p, q.1));
@@ -570,11 +566,9 @@ pub fn spread(front: Vec<FrontPlan>, keep: usize) -> Vec<FrontPlan> {
     front
 }
 
-
 /// 1.1 times the largest value of each objective (the reference point of the hypervolume).
 pub fn nadir(points: &[Point]) -> Point {
     let mx = points.iter().map(|p| p.0).fold(0.0f64, f64::max);
     let my = points.iter().map(|p| p.1).fold(0.0f64, f64::max);
     (1.1 * mx, 1.1 * my)
 }
-

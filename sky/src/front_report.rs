@@ -481,11 +481,7 @@ fn front_legend(r: &FrontReport) -> Vec<LegendEntry<FrontKey>> {
     ));
     entries.push(e(
         FrontKey::Reference,
-        format!(
-            "reference point ({} h elapsed, {} g)",
-            fmt_h(ro),
-            fmt_g(rp)
-        ),
+        format!("reference point ({} h elapsed, {} g)", fmt_h(ro), fmt_g(rp)),
     ));
     if n > 0 {
         entries.push(e(
@@ -1448,8 +1444,7 @@ mod tests {
         // Fastest first, then by elapsed time.
         assert!(html.find(row5) < html.find(row2) && html.find(row2) < html.find(row7));
         // Hypervolume in h·g with its reference.
-        assert!(html
-            .contains("2000.0 h·g against the reference point (15.00 h elapsed, 60.0 g"));
+        assert!(html.contains("2000.0 h·g against the reference point (15.00 h elapsed, 60.0 g"));
 
         // The front in the page: one point per plan, reachable by keyboard.
         for k in [5, 2, 7] {
@@ -1699,7 +1694,10 @@ mod tests {
 
         let mut bad = good.clone();
         bad[1].elapsed_s = f64::NAN;
-        check_both(&report("t", &bad, &[]), "row 1 (plan 2) has elapsed time NaN");
+        check_both(
+            &report("t", &bad, &[]),
+            "row 1 (plan 2) has elapsed time NaN",
+        );
         let mut bad = good.clone();
         bad[2].propellant_kg = f64::INFINITY;
         check_both(&report("t", &bad, &[]), "row 2 (plan 7) has propellant inf");

@@ -126,7 +126,6 @@ impl Columns<'_> {
     /// The field index of each column of `names` (None: absent, only allowed for optional
     /// ones), from the header record.
     pub(crate) fn find(&self, record: &csv::StringRecord) -> Result<Vec<Option<usize>>, String> {
-        use crate::targets::shown;
         let mut cols = vec![None; self.names.len()];
         for (i, name) in record.iter().enumerate() {
             let Some(k) = self.names.iter().position(|c| *c == name) else {
@@ -186,7 +185,6 @@ pub(crate) fn check_row_len(record: &csv::StringRecord, header_len: usize) -> Re
 
 /// A finite number from a cell (`column` names it in messages); empty cells are refused.
 pub(crate) fn number(text: &str, column: &str) -> Result<f64, String> {
-    use crate::targets::shown;
     if text.is_empty() {
         return Err(format!("`{column}` is empty"));
     }
@@ -204,12 +202,36 @@ pub(crate) fn number(text: &str, column: &str) -> Result<f64, String> {
 
 /// A UTC time from a cell (`column` names it in messages), by [`crate::output::parse_utc`].
 pub(crate) fn utc(text: &str, column: &str) -> Result<crate::Epoch, String> {
-    use crate::targets::shown;
-    crate::output::parse_utc(text).map_err(|_| {
+    crate::utc::parse_utc(text).map_err(|_| {
         format!(
             "`{column}` value `{}` is not an ISO 8601 time with a UTC offset (like \
              2027-03-01T00:00:00Z) within the calendar",
             shown(text)
         )
     })
+}
+
+/// A value from the file for an error message: control characters (line breaks, NUL, ...)
+/// escaped so that the message stays one line, and cut short so that a megabyte field does
+/// not end up in it.
+pub(crate) fn shown(value: &str) -> String {
+    const MAX: usize = 40;
+    let (head, cut) = match value.char_indices().nth(MAX) {
+        Some((at, _)) => (&value[..at], "..."),
+        None => (value, ""),
+    };
+    format!("{}{cut}", escape_controls(head))
+}
+
+/// `text` with every control character written as its Rust escape (`\n`, `\u{0}`).
+pub(crate) fn escape_controls(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        if c.is_control() {
+            out.extend(c.escape_default());
+        } else {
+            out.push(c);
+        }
+    }
+    out
 }

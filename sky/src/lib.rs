@@ -20,6 +20,7 @@
 
 mod input;
 mod model;
+mod utc;
 
 pub mod front;
 pub mod geometry;

@@ -45,7 +45,7 @@
 use std::collections::HashMap;
 use std::path::Path;
 
-use crate::targets::{escape_controls, shown};
+use crate::input::{escape_controls, shown};
 use crate::{Link, LinkKind, Target};
 
 /// A links file that could not be read, with the place the trouble was found.

@@ -59,8 +59,6 @@ use crate::{Epoch, Profile, Target};
 use rand::{Rng, SeedableRng};
 use rand_pcg::Pcg64;
 use serde_json::json;
-use time::format_description::well_known::{Iso8601, Rfc3339};
-use time::OffsetDateTime;
 
 /// The caution every output of the sky adapter carries.
 pub const CAUTION: &str = "Plans are planning proposals to be confirmed by the operations team's validated tools. Spacecraft operations can damage hardware.";
@@ -71,38 +69,7 @@ pub const CAUTION_TXT: &str = "CAUTION\n\nPlans are planning proposals to be con
 /// The demo's plan start, 2027-03-01T00:00:00Z (the start its targets were chosen for).
 pub const DEMO_START_UTC: &str = "2027-03-01T00:00:00Z";
 
-/// Parses an ISO 8601 UTC time (`2027-03-01T12:30:00Z`, an explicit offset such as `+02:00`,
-/// or a bare date `2027-03-01`, taken as 00:00 UTC) into an [`Epoch`] (TT, see
-/// [`Epoch::from_unix_seconds`]). Times without an offset are refused: a plan must not shift
-/// by the local time zone.
-pub fn parse_utc(text: &str) -> Result<Epoch, String> {
-    let t = text.trim();
-    let full = if t.len() == 10 && t.as_bytes().get(4) == Some(&b'-') {
-        format!("{t}T00:00:00Z")
-    } else {
-        t.to_string()
-    };
-    let when = OffsetDateTime::parse(&full, &Iso8601::DEFAULT).map_err(|e| {
-        format!(
-            "'{text}' is not an ISO 8601 time with a UTC offset (like 2027-03-01T00:00:00Z): {e}"
-        )
-    })?;
-    let unix = when.unix_timestamp_nanos() as f64 / 1e9;
-    Epoch::from_unix_seconds(unix).ok_or_else(|| format!("'{text}' is out of range"))
-}
-
-/// The epoch as ISO 8601 UTC to the nearest second (`2027-03-01T00:00:00Z`); `invalid` for a
-/// time out of the calendar's range.
-pub fn format_utc(epoch: Epoch) -> String {
-    let secs = epoch.to_unix_seconds().round();
-    if !(secs.is_finite() && secs.abs() < 1e15) {
-        return "invalid".into();
-    }
-    OffsetDateTime::from_unix_timestamp(secs as i64)
-        .ok()
-        .and_then(|t| t.format(&Rfc3339).ok())
-        .unwrap_or_else(|| "invalid".into())
-}
+pub use crate::utc::{format_utc, parse_utc};
 
 fn csv_error(e: csv::Error) -> std::io::Error {
     std::io::Error::other(e)
@@ -333,9 +300,9 @@ pub fn plan_json(
             .or_insert(serde_json::Value::from(0u64));
         *n = serde_json::Value::from(n.as_u64().unwrap_or(0) + 1);
     }
-    let start_pointing = profile.start_pointing.map(|p| {
-        json!({"ra_deg": p.ra_deg, "dec_deg": p.dec_deg, "roll_deg": p.roll_deg})
-    });
+    let start_pointing = profile
+        .start_pointing
+        .map(|p| json!({"ra_deg": p.ra_deg, "dec_deg": p.dec_deg, "roll_deg": p.roll_deg}));
     json!({
         "caution": CAUTION,
         "observatory": profile.name,
@@ -523,10 +490,7 @@ pub fn front_json(front: &Front, start: Epoch) -> serde_json::Map<String, serde_
     m.insert("front_evaluations".into(), json!(front.evaluations));
     m.insert("front_seconds".into(), json!(front.seconds));
     m.insert("front_settled".into(), json!(front.settled));
-    m.insert(
-        "propellant_lower_bound_kg".into(),
-        serde_json::Value::Null,
-    );
+    m.insert("propellant_lower_bound_kg".into(), serde_json::Value::Null);
     m
 }
 

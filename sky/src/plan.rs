@@ -29,8 +29,8 @@ use std::time::{Duration, Instant};
 
 use rand_pcg::Pcg64;
 use wend::constraints::{
-    solve_sequence_with, Constraints, Objective, Precedence, Route, Row, SequenceError,
-    StepRule, Window as CoreWindow,
+    solve_sequence_with, Constraints, Objective, Precedence, Route, Row, SequenceError, StepRule,
+    Window as CoreWindow,
 };
 use wend::{run_steps, Hooks, MatrixCost, Settings, Step, StepLimits, StopHandle, StopReason};
 

@@ -34,7 +34,7 @@
 use std::collections::HashMap;
 use std::path::Path;
 
-use crate::targets::{escape_controls, shown};
+use crate::input::{escape_controls, shown};
 use crate::{Epoch, Target};
 
 /// One observation of a plan file.

@@ -68,7 +68,7 @@ use crate::{Instrument, Profile, StartPointing};
 use serde::Deserialize;
 use toml::Spanned;
 
-use super::targets::{escape_controls, shown};
+use super::input::{escape_controls, shown};
 
 /// The longest time any one step of a plan may take, seconds (about 32 years, far beyond the
 /// longest horizon of ten years): settling, a setup change, a momentum dump, the thermal

@@ -41,8 +41,7 @@ use std::fmt;
 use serde::Serialize;
 
 use super::geometry::{
-    cross, dot, eigen_axis_angle_deg, elongation_deg, norm, normalize, unit_vector, Attitude,
-    Vec3,
+    cross, dot, eigen_axis_angle_deg, elongation_deg, norm, normalize, unit_vector, Attitude, Vec3,
 };
 use super::momentum::{dump_propellant_kg, solar_torque_nm};
 use super::slew::{check_profile, slew_time_s, thermal_s, SlewCostError};
@@ -64,6 +63,10 @@ pub const MAX_WAIT_DUMPS: usize = 10_000;
 pub const PARK_AZIMUTHS: usize = 6;
 /// Most candidate rolls a target may have.
 pub const MAX_ROLLS: usize = 9;
+/// The cost the core sees for a transition that is undefined or leads back to the start,
+/// milliseconds: four times the longest step any profile allows (10⁹ s), so that the core never
+/// takes one while another exists.
+const UNUSABLE_MS: i64 = 4_000_000_000_000;
 /// Tolerance of time comparisons, days (a millisecond).
 const EPS_DAYS: f64 = 1.0e-3 / SECONDS_PER_DAY;
 
@@ -697,7 +700,9 @@ impl<'a> Context<'a> {
             }
             let range = t.roll_range_deg.unwrap_or(profile.roll_range_deg);
             if !roll_ok(range) {
-                return Err(bad("its roll range must be finite, min <= max, within ±180°"));
+                return Err(bad(
+                    "its roll range must be finite, min <= max, within ±180°",
+                ));
             }
             units.push(unit_vector(t.ra_deg, t.dec_deg));
             rolls.push(candidate_rolls(range, profile.roll_steps));
@@ -1164,7 +1169,9 @@ impl<'a> Context<'a> {
         };
         for (k, pc) in pieces.iter().enumerate() {
             match *pc {
-                Piece::Wait { pose, seconds } => self.wait(&mut o, &mut t, &mut h, pose, seconds)?,
+                Piece::Wait { pose, seconds } => {
+                    self.wait(&mut o, &mut t, &mut h, pose, seconds)?
+                }
                 Piece::Move { tr, target, .. } => {
                     let mut ahead = vec![(tr.total_s, tr.torque)];
                     let waits_after = pieces[k + 1..]
@@ -1374,10 +1381,8 @@ fn allowed_windows(t: &Target, v: &Visibility) -> Vec<Window> {
                     if pe.jd < w.end.jd { pe } else { w.end },
                 ),
             };
-            (b.jd - a.jd >= t.duration_s / SECONDS_PER_DAY - EPS_DAYS).then_some(Window {
-                start: a,
-                end: b,
-            })
+            (b.jd - a.jd >= t.duration_s / SECONDS_PER_DAY - EPS_DAYS)
+                .then_some(Window { start: a, end: b })
         })
         .collect()
 }
@@ -1455,8 +1460,7 @@ impl<'c, 'a> Play<'c, 'a> {
     /// [`Play::push`], the dwell starting no earlier than `not_before` (a start a planner
     /// chose, replayed by `wend sky check`).
     pub fn push_not_before(&mut self, v: Visit, not_before: Epoch) -> Result<(), Reason> {
-        self.step(v, Some(not_before))
-            .map_err(|Block::Reason(r)| r)
+        self.step(v, Some(not_before)).map_err(|Block::Reason(r)| r)
     }
 
     fn step(&mut self, v: Visit, not_before: Option<Epoch>) -> Result<(), Block> {
@@ -1760,7 +1764,7 @@ impl Context<'_> {
             .chain(nodes.iter().map(|&j| Some(self.targets[j].instrument)))
             .collect();
         // A large finite cost where a transition is undefined or leads back to the start.
-        let unusable = (super::profile::MAX_STEP_S * 4.0 * 1000.0) as i64;
+        let unusable = UNUSABLE_MS;
         (0..poses.len())
             .into_par_iter()
             .map(|a| {
@@ -1845,7 +1849,11 @@ mod tests {
                 assert!(o.start.jd >= a.jd - 1e-9 && o.end.jd <= b.jd + 1e-9);
             }
             assert!(o.start.jd >= prev_end.jd - 1e-9 && o.end.jd <= ctx.end().jd + 1e-9);
-            assert!(close(seconds_between(prev_end, o.start), o.overhead_s, 1e-3));
+            assert!(close(
+                seconds_between(prev_end, o.start),
+                o.overhead_s,
+                1e-3
+            ));
             assert!(close(o.wait_s + o.busy_s, o.overhead_s, 1e-3));
             assert!(close(seconds_between(o.start, o.end), t.duration_s, 1e-3));
             prev_end = o.end;
@@ -1873,7 +1881,11 @@ mod tests {
         assert_eq!(dumps, s.dumps);
         let kg = (dumped + s.final_momentum_nms)
             / (p.thruster_arm_m * p.thruster_isp_s * STANDARD_GRAVITY_M_S2);
-        assert!(close(s.propellant_kg, kg, 1e-12), "{} {kg}", s.propellant_kg);
+        assert!(
+            close(s.propellant_kg, kg, 1e-12),
+            "{} {kg}",
+            s.propellant_kg
+        );
         let dwell: f64 = s
             .observations
             .iter()
@@ -1916,7 +1928,11 @@ mod tests {
             check(&ctx, &s);
             dumps += s.dumps;
             waits += s.observations.iter().filter(|o| o.wait_s > 0.0).count();
-            parked += s.observations.iter().filter(|o| o.idle == Idle::Park).count();
+            parked += s
+                .observations
+                .iter()
+                .filter(|o| o.idle == Idle::Park)
+                .count();
             // The same order played strictly up to its first failure agrees.
             if let Ok(Ok(strict)) = ctx.play(&s.visits()) {
                 assert!(close(strict.elapsed_s(), s.elapsed_s(), 1e-6));
@@ -1924,7 +1940,10 @@ mod tests {
             }
         }
         // The pools exercise what the checks are about.
-        assert!(dumps > 0 && waits > 0 && parked > 0, "{dumps} {waits} {parked}");
+        assert!(
+            dumps > 0 && waits > 0 && parked > 0,
+            "{dumps} {waits} {parked}"
+        );
     }
 
     #[test]
@@ -1963,7 +1982,11 @@ mod tests {
         let j = cands[0];
         let t = &targets[j];
         // 40° away in declination (or the other way near the pole).
-        let dec = if t.dec_deg > 40.0 { t.dec_deg - 40.0 } else { t.dec_deg + 40.0 };
+        let dec = if t.dec_deg > 40.0 {
+            t.dec_deg - 40.0
+        } else {
+            t.dec_deg + 40.0
+        };
         p.start_pointing = Some(crate::StartPointing {
             ra_deg: t.ra_deg,
             dec_deg: dec,
@@ -1977,7 +2000,11 @@ mod tests {
             &unit_vector(t.ra_deg, t.dec_deg),
         );
         assert!(close(sep, 40.0, 1e-6));
-        assert!(s.observations[0].slew_deg >= sep - 1e-6, "{}", s.observations[0].slew_deg);
+        assert!(
+            s.observations[0].slew_deg >= sep - 1e-6,
+            "{}",
+            s.observations[0].slew_deg
+        );
         assert!(s.observations[0].slew_s > 0.0);
         // A pure roll about the boresight by ψ is a rotation by ψ (geometry).
         let sun = sun_j2000(START).direction;
@@ -2016,7 +2043,10 @@ mod tests {
         if let Ok(Ok(s)) = ctx.play(&[v(a), v(b), v(c)]) {
             let (oa, ob, oc) = (&s.observations[0], &s.observations[1], &s.observations[2]);
             let lag = seconds_between(oa.start, ob.start);
-            assert!((86_400.0 - 1e-3..=3.0 * 86_400.0 + 1e-3).contains(&lag), "{lag}");
+            assert!(
+                (86_400.0 - 1e-3..=3.0 * 86_400.0 + 1e-3).contains(&lag),
+                "{lag}"
+            );
             assert!(oc.wait_s < 1e-3, "{}", oc.wait_s);
             check(&ctx, &s);
         }
@@ -2058,7 +2088,10 @@ mod tests {
         q.start_momentum_nms = [100.0, 0.0, 0.0];
         assert!(matches!(
             Context::new(&q, &targets, START, 1.0),
-            Err(PlanError::Profile { what: "start_momentum_nms", .. })
+            Err(PlanError::Profile {
+                what: "start_momentum_nms",
+                ..
+            })
         ));
         assert!(Context::new(&p, &targets, START, f64::NAN).is_err());
         let ctx = Context::new(&p, &targets, START, 1.0).unwrap();

@@ -80,7 +80,11 @@ impl<'c, 'a> Replayer<'c, 'a> {
 
 /// A random change of `visits` by one move: the new sequence and the first position it
 /// changes. `None` when the sequence is too short for the move drawn.
-pub fn random_move(ctx: &Context, visits: &[Visit], rng: &mut Pcg64) -> Option<(Vec<Visit>, usize)> {
+pub fn random_move(
+    ctx: &Context,
+    visits: &[Visit],
+    rng: &mut Pcg64,
+) -> Option<(Vec<Visit>, usize)> {
     let n = visits.len();
     if n == 0 {
         return None;

@@ -78,31 +78,6 @@ impl TargetsError {
     }
 }
 
-/// A value from the file for an error message: control characters (line breaks, NUL, ...)
-/// escaped so that the message stays one line, and cut short so that a megabyte field does
-/// not end up in it.
-pub(crate) fn shown(value: &str) -> String {
-    const MAX: usize = 40;
-    let (head, cut) = match value.char_indices().nth(MAX) {
-        Some((at, _)) => (&value[..at], "..."),
-        None => (value, ""),
-    };
-    format!("{}{cut}", escape_controls(head))
-}
-
-/// `text` with every control character written as its Rust escape (`\n`, `\u{0}`).
-pub(crate) fn escape_controls(text: &str) -> String {
-    let mut out = String::with_capacity(text.len());
-    for c in text.chars() {
-        if c.is_control() {
-            out.extend(c.escape_default());
-        } else {
-            out.push(c);
-        }
-    }
-    out
-}
-
 /// The columns a targets file may have, in the order the documentation lists them.
 const COLUMNS: [&str; 10] = [
     "id",
@@ -220,6 +195,7 @@ pub fn parse_targets(
 }
 
 use super::input::record_line;
+use super::input::{escape_controls, shown};
 
 fn column_list() -> String {
     TABLE.list()

@@ -16,8 +16,8 @@ use wend_sky::output::{
 };
 use wend_sky::plan::{plan, PlanOptions, DEFAULT_HORIZON_DAYS};
 use wend_sky::schedule::{Activity, Context, Play, Schedule, Visit};
-use wend_sky::timeline::{write_timeline, Timeline, TimelineItem, TimelineKind};
 use wend_sky::sun::sun_j2000;
+use wend_sky::timeline::{write_timeline, Timeline, TimelineItem, TimelineKind};
 use wend_sky::{demo_links, demo_profile, demo_targets, read_profile, read_targets};
 use wend_sky::{Epoch, Link, Profile, StartPointing, Target};
 
@@ -875,7 +875,11 @@ fn run_check(a: CheckArgs) -> Result<(), CliError> {
         let roll = rolls
             .iter()
             .enumerate()
-            .min_by(|x, y| (x.1 - o.roll_deg).abs().total_cmp(&(y.1 - o.roll_deg).abs()))
+            .min_by(|x, y| {
+                (x.1 - o.roll_deg)
+                    .abs()
+                    .total_cmp(&(y.1 - o.roll_deg).abs())
+            })
             .map_or(0, |(k, _)| k as u8);
         if (rolls[roll as usize] - o.roll_deg).abs() > 1e-6 && o.roll_deg >= lo && o.roll_deg <= hi
         {
