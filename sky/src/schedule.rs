@@ -1243,19 +1243,21 @@ impl<'a> Context<'a> {
         }
     }
 
-    /// A dump now, at `pose`: moved to the end of the waiting just before when that waiting
-    /// holds it (nothing is delayed), else made now (what follows is delayed by the dump).
+    /// A dump now, at `pose`: moved into the waiting just before when there is one (at its end
+    /// when it holds the whole dump, nothing delayed; else from its start, what follows
+    /// delayed by the part it does not hold), else made now (what follows delayed by the dump).
     fn dump_now(&self, o: &mut Outcome, t: &mut Epoch, h: &mut Vec3, pose: Pose) {
         let dump_s = self.profile.dump_s;
         // Before the first observation without a start pointing the attitude is unknown.
         let tau = self.torque(&pose, *t).unwrap_or([0.0; 3]);
-        let held = o.delay_s == 0.0
-            && matches!(o.events.last(), Some(e) if e.activity == Activity::Wait
-                && seconds_between(e.start, e.end) >= dump_s);
+        let waiting = o.delay_s == 0.0
+            && matches!(o.events.last(), Some(e) if e.activity == Activity::Wait);
         match o.events.pop() {
-            Some(e) if held => {
-                let cut = later(e.end, -dump_s);
-                let h_cut = axpy(h, -dump_s, &tau);
+            Some(e) if waiting => {
+                let w = seconds_between(e.start, e.end);
+                let back = w.min(dump_s);
+                let cut = later(e.end, -back);
+                let h_cut = axpy(h, -back, &tau);
                 if seconds_between(e.start, cut) > 1e-6 {
                     o.events.push(Event {
                         end: cut,
@@ -1266,6 +1268,7 @@ impl<'a> Context<'a> {
                 *t = cut;
                 *h = h_cut;
                 self.dump(o, t, h, &tau);
+                o.delay_s += dump_s - back;
             }
             other => {
                 o.events.extend(other);
