@@ -308,18 +308,22 @@ class SkyPlan:
     operations team's validated tools.
 
     Attributes:
-        plan: one row per observation in time order, the columns of ``plan.csv``:
-            position, id, start_utc, end_utc, elongation_start_deg, elongation_end_deg,
-            slew_deg, slew_s, wait_before_s, busy_before_s, momentum_nms, dump.
-        unscheduled: one row per target left out, the columns of ``unscheduled.csv``: id,
-            reason, explanation, min_elongation_deg, max_elongation_deg.
+        plan: one row per observation in time order, the columns of ``plan.csv``: seq,
+            target, instrument, roll_deg, start_utc, end_utc, wait_before_s, idle,
+            busy_before_s, dumps_before, dump_propellant_before_kg, slew_deg, slew_s,
+            elongation_start_deg, elongation_end_deg, hx_nms, hy_nms, hz_nms,
+            momentum_after_nms (numbers as numbers, the times as UTC timestamps).
+        unscheduled: one row per target left out, lowest priority first, the columns of
+            ``unscheduled.csv``: target, priority, reason, explanation, min_elongation_deg,
+            max_elongation_deg.
         summary: the JSON summary of ``wend sky plan --json`` as a dictionary (``elapsed_s``:
-            until the last observation ends, waiting included; ``busy_overhead_s``: slews,
-            settles, thermal, setups and dumps, no waiting; ``wait_s``; with ``front=True``
-            also ``hypervolume_h_g`` and its ``hypervolume_reference``).
-        front: with ``front=True``, one row per plan of the front of busy overhead against
-            propellant, the columns of ``front.csv`` (plan, busy_overhead_s, wait_s,
-            elapsed_s, propellant_kg, dumps, scheduled); else ``None``.
+            until the last observation ends, waiting and dumps included; ``busy_overhead_s``:
+            slews, settles, thermal, setups and dumps, no waiting; ``wait_s``;
+            ``propellant_kg``; with ``front=True`` also ``hypervolume_h_g`` and its
+            ``hypervolume_reference``).
+        front: with ``front=True``, one row per plan of the front of elapsed time against
+            propellant, the columns of ``front.csv`` (plan, elapsed_s, end_utc,
+            busy_overhead_s, wait_s, propellant_kg, dumps, scheduled); else ``None``.
         front_plans: with ``front=True``, each front plan's table (like ``plan``), in the
             order of ``front``; else an empty list.
         cancelled: ``True`` when Ctrl-C stopped the search (the plan is then made from the best
@@ -767,8 +771,9 @@ def _targets_csv(targets: _t.Any) -> str:
         data = {str(c): list(_np.asarray(v, dtype=object).ravel()) for c, v in targets.items()}
     else:
         raise ValueError(
-            "targets must be a pandas DataFrame or a dict of arrays with the columns "
-            "id, ra_deg, dec_deg, duration_s and optionally instrument"
+            "targets must be a pandas DataFrame, a dict of arrays or a CSV path with the "
+            "columns id, ra_deg, dec_deg, duration_s and optionally instrument, priority, "
+            "window_start, window_end, roll_min_deg, roll_max_deg"
         )
     lengths = {len(v) for v in data.values()}
     if len(lengths) > 1:
@@ -779,14 +784,84 @@ def _targets_csv(targets: _t.Any) -> str:
     w = csv.writer(out, lineterminator="\n")
     w.writerow(columns)
     n = lengths.pop() if lengths else 0
-    text_columns = {"id", "instrument"}
+    # Columns whose empty cell means a default: the profile's first instrument, priority 5,
+    # no proposal window, the profile's roll range.
+    optional_columns = {
+        "id",
+        "instrument",
+        "priority",
+        "window_start",
+        "window_end",
+        "roll_min_deg",
+        "roll_max_deg",
+    }
     for i in range(n):
         row = []
         for c in columns:
             v = data[c][i]
-            # An empty cell of a text column (NaN or None in pandas) stays empty: for the
-            # instrument, the profile's first.
-            if c in text_columns and (v is None or (isinstance(v, float) and _math.isnan(v))):
+            # An empty cell (NaN or None in pandas) of such a column stays empty.
+            if c in optional_columns and _missing(v):
+                row.append("")
+            elif c == "priority" and isinstance(v, (float, _np.floating)) and float(v).is_integer():
+                # A column of whole numbers with empty cells reads as floats in pandas.
+                row.append(str(int(v)))
+            else:
+                row.append(_cell(v))
+        w.writerow(row)
+    return out.getvalue()
+
+
+def _missing(v: _t.Any) -> bool:
+    """An empty cell: None, NaN, or pandas' missing values (``pd.NA``, ``NaT``)."""
+    if v is None:
+        return True
+    if isinstance(v, (float, _np.floating)):
+        return _math.isnan(v)
+    return type(v).__name__ in ("NAType", "NaTType")
+
+
+def _table_csv(table: _t.Any, what: str) -> _t.Tuple[str, str]:
+    """A targets or links table (a DataFrame, a dict of arrays or a CSV path) as CSV text, with
+    the name errors give it."""
+    if isinstance(table, (str, _os.PathLike)):
+        path = _os.fspath(table)
+        try:
+            with open(path, encoding="utf-8") as f:
+                return f.read(), path
+        except OSError as e:
+            raise ValueError(f"{path}: {e}") from None
+    if what == "targets":
+        return _targets_csv(table), "targets"
+    return _links_csv(table), "links"
+
+
+def _links_csv(links: _t.Any) -> str:
+    """The links table as the text of a links CSV (the core checks every value)."""
+    if hasattr(links, "to_dict") and hasattr(links, "columns"):
+        columns = [str(c) for c in links.columns]
+        data = {str(c): list(links[c]) for c in links.columns}
+    elif isinstance(links, _t.Mapping):
+        columns = [str(c) for c in links.keys()]
+        data = {str(c): list(_np.asarray(v, dtype=object).ravel()) for c, v in links.items()}
+    else:
+        raise ValueError(
+            "links must be a pandas DataFrame, a dict of arrays or a CSV path with the columns "
+            "kind, first, second, min_lag_s, max_lag_s"
+        )
+    lengths = {len(v) for v in data.values()}
+    if len(lengths) > 1:
+        raise ValueError(f"the link columns have different lengths: {sorted(lengths)}")
+    import csv
+
+    out = _io.StringIO()
+    w = csv.writer(out, lineterminator="\n")
+    w.writerow(columns)
+    for i in range(lengths.pop() if lengths else 0):
+        row = []
+        for c in columns:
+            v = data[c][i]
+            # Empty cells (NaN or None in pandas) stay empty: a lag not given.
+            if _missing(v):
                 row.append("")
             else:
                 row.append(_cell(v))
@@ -811,8 +886,9 @@ def _start_text(start: _t.Any) -> _t.Optional[str]:
 def plan_sky(
     targets: _t.Any = None,
     *,
+    links: _t.Any = None,
     start: _t.Any = None,
-    horizon_days: float = 14.0,
+    horizon_days: float = 30.0,
     time_limit: _t.Optional[float] = None,
     seed: int = 0,
     threads: _t.Optional[int] = None,
@@ -825,20 +901,29 @@ def plan_sky(
     validated tools. Spacecraft operations can damage hardware.
 
     Args:
-        targets: a pandas DataFrame or a dict of arrays with the targets CSV's columns ``id``,
-            ``ra_deg``, ``dec_deg``, ``duration_s`` and optionally ``instrument``; ``None`` for
-            the built-in demo targets of the invented Lantern Deep-Sky Observatory.
+        targets: a pandas DataFrame, a dict of arrays or the path of a targets CSV, with the
+            columns ``id``, ``ra_deg``, ``dec_deg``, ``duration_s`` and optionally
+            ``instrument``, ``priority`` (1, the highest, to 9), ``window_start`` and
+            ``window_end`` (the proposal window, ISO 8601 UTC), ``roll_min_deg`` and
+            ``roll_max_deg``; ``None`` for the built-in demo targets of the invented Lantern
+            Deep-Sky Observatory.
+        links: timing links between targets, like ``targets`` (a DataFrame, a dict of arrays
+            or the path of a links CSV) with the columns ``kind`` (``after``, ``before`` or
+            ``group``), ``first``, ``second``, ``min_lag_s``, ``max_lag_s``; ``None`` for no
+            links (with the demo targets: the demo's links).
         start: plan start, an ISO 8601 string with a UTC offset (``2027-03-01T00:00:00Z``) or
             a time-zone-aware datetime; needed with targets (the demo starts at
             2027-03-01T00:00:00Z).
         horizon_days: length of the planning horizon, days.
-        time_limit: seconds for the order search (default: as the command; with
-            ``front=True`` the front search's seconds, default 30).
-        seed: seed of the order search.
+        time_limit: seconds for planning (default: as the command; with ``front=True`` the
+            front search's seconds, default 30).
+        seed: seed of the searches; with ``threads=1`` the same seed gives the same plan when
+            the searches end on their budgets (``summary["stop_reason"]`` is
+            ``searches_done``).
         threads: worker threads (default: one per core).
         profile: an observatory profile TOML file (default: the demo profile).
-        front: also search the front of plans over busy overhead (waiting excluded) and
-            propellant.
+        front: also search the Pareto front of plans over elapsed time (until the last
+            observation ends, waiting and dumps included) and propellant.
 
     Returns:
         a :class:`SkyPlan` whose DataFrames (``plan``, ``unscheduled``, ``front``) carry the
@@ -849,10 +934,11 @@ def plan_sky(
     """
     import pandas as pd
 
-    csv_text = None if targets is None else _targets_csv(targets)
+    csv_text, source = (None, "targets") if targets is None else _table_csv(targets, "targets")
+    links_text = None if links is None else _table_csv(links, "links")[0]
     d = _native.plan_sky(
         csv_text,
-        "targets",
+        source,
         None if profile is None else _os.fspath(profile),
         _start_text(start),
         float(horizon_days),
@@ -860,6 +946,7 @@ def plan_sky(
         _int_option("seed", seed, 0, optional=False),
         _int_option("threads", threads, 1),
         bool(front),
+        links_text,
     )
     caution = d["caution"]
 

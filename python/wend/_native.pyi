@@ -28,6 +28,7 @@ def plan_sky(
     seed: int,
     threads: Optional[int],
     front: bool,
+    links_csv: Optional[str] = None,
 ) -> Dict[str, Any]: ...
 def methods() -> List[Tuple[str, str]]: ...
 
