@@ -1250,8 +1250,8 @@ impl<'a> Context<'a> {
         let dump_s = self.profile.dump_s;
         // Before the first observation without a start pointing the attitude is unknown.
         let tau = self.torque(&pose, *t).unwrap_or([0.0; 3]);
-        let waiting = o.delay_s == 0.0
-            && matches!(o.events.last(), Some(e) if e.activity == Activity::Wait);
+        let waiting =
+            o.delay_s == 0.0 && matches!(o.events.last(), Some(e) if e.activity == Activity::Wait);
         match o.events.pop() {
             Some(e) if waiting => {
                 let w = seconds_between(e.start, e.end);
