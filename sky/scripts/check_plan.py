@@ -11,7 +11,8 @@ than 0.01 degrees, and times are rounded to whole seconds). Prints the worst mar
     python3 -m venv /tmp/astro && /tmp/astro/bin/pip install astropy
     wend sky plan --front --out /tmp/demo-plan
     /tmp/astro/bin/python sky/scripts/check_plan.py instances/sky/demo-targets.csv \
-        /tmp/demo-plan/plan.csv /tmp/demo-plan/plan-*.csv --band 97 153
+        /tmp/demo-plan/plan.csv /tmp/demo-plan/plan-[0-9].csv /tmp/demo-plan/plan-[0-9][0-9].csv \
+        --band 97 153
 
 Plans are planning proposals to be confirmed by the operations team's validated tools; this
 check is one of the planner's own tests, not a substitute for them.
