@@ -838,6 +838,9 @@ struct Finding {
     target: String,
     /// What is wrong.
     problem: String,
+    /// True when the plan breaks a rule (false for a note, such as a roll replayed at the
+    /// nearest candidate).
+    violation: bool,
 }
 
 fn run_check(a: CheckArgs) -> Result<(), CliError> {
@@ -870,6 +873,7 @@ fn run_check(a: CheckArgs) -> Result<(), CliError> {
                     "roll {:.2}° is outside the allowed range [{lo}, {hi}]°",
                     o.roll_deg
                 ),
+                violation: true,
             });
         }
         let roll = rolls
@@ -890,6 +894,7 @@ fn run_check(a: CheckArgs) -> Result<(), CliError> {
                     "roll {:.2}° is replayed at the nearest candidate roll {:.2}°",
                     o.roll_deg, rolls[roll as usize]
                 ),
+                violation: false,
             });
         }
         let v = Visit {
@@ -905,6 +910,7 @@ fn run_check(a: CheckArgs) -> Result<(), CliError> {
                 line: o.line,
                 target: id,
                 problem: format!("cannot be observed at its turn: {reason}"),
+                violation: true,
             }),
             Ok(()) => {
                 if let (Some(at), Some(done)) = (o.start, play.schedule().observations.last()) {
@@ -919,6 +925,7 @@ fn run_check(a: CheckArgs) -> Result<(), CliError> {
                                 format_utc(done.start),
                                 late
                             ),
+                            violation: true,
                         });
                     }
                 }
@@ -926,9 +933,7 @@ fn run_check(a: CheckArgs) -> Result<(), CliError> {
         }
     }
     let s = play.finish(&[]);
-    let bad = findings
-        .iter()
-        .any(|f| !f.problem.starts_with("roll") || f.problem.contains("outside"));
+    let bad = findings.iter().any(|f| f.violation);
     if a.json {
         let summary = serde_json::json!({
             "caution": CAUTION,
