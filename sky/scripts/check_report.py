@@ -117,11 +117,34 @@ def main():
             if not points:
                 raise SystemExit(1)
 
+            # Every point's dot must take a click itself, not the shading, a line or another
+            # point's label drawn over it.
+            blocked = driver.execute_script(
+                """
+                var out = [];
+                document.querySelectorAll(".front-point").forEach(function (g) {
+                  var dot = g.querySelector("circle.dot");
+                  dot.scrollIntoView({block: "center"});
+                  var r = dot.getBoundingClientRect();
+                  var hit = document.elementFromPoint(r.left + r.width / 2, r.top + r.height / 2);
+                  if (hit && hit.closest(".front-point") === g) return;
+                  var owner = hit && hit.closest(".front-point");
+                  out.push(g.getAttribute("data-plan") + " under " +
+                           (hit ? hit.tagName + (owner ? " of plan " + owner.getAttribute("data-plan") : "")
+                                : "nothing"));
+                });
+                return out;
+                """
+            )
+            check(not blocked, f"every point's dot takes its own click (covered: {blocked or 'none'})")
+
             # Choose the last point by clicking it (the first plan is seldom the knee, which
             # the page shows at first, so this changes what is shown).
             point = points[-1]
             plan = point.get_attribute("data-plan")
-            point.click()
+            # Click the point itself, where a person would (the group's box also spans its
+            # label and leader line, whose middle may lie on the shading).
+            point.find_element(By.CSS_SELECTOR, "circle.hit").click()
             WebDriverWait(driver, 5).until(
                 lambda d: d.find_element(By.ID, "chosen-heading").text.startswith(f"Plan {plan}")
             )

@@ -856,6 +856,23 @@ struct InlineTick {
     label: String,
 }
 
+/// The click radius of point `i` on the inline chart: 13 px, or half the distance to its
+/// nearest neighbour when that is closer (points closer than that are reached with the Tab
+/// key as well).
+fn hit_radius(pts: &[(f64, f64)], i: usize, pr: &impl Fn((f64, f64)) -> (f64, f64)) -> f64 {
+    let at = pr(pts[i]);
+    let nearest = pts
+        .iter()
+        .enumerate()
+        .filter(|&(j, _)| j != i)
+        .map(|(_, &q)| {
+            let q = pr(q);
+            (q.0 - at.0).hypot(q.1 - at.1)
+        })
+        .fold(f64::INFINITY, f64::min);
+    ((nearest / 2.0).min(13.0) * 10.0).floor() / 10.0
+}
+
 /// A plan's point on the inline chart.
 #[derive(Serialize)]
 struct InlinePoint {
@@ -868,6 +885,9 @@ struct InlinePoint {
     text: String,
     /// Leader line from the marker to the label, when the label is away from it.
     leader: Option<(f64, f64, f64, f64)>,
+    /// Radius of the area that takes its click: at most half the way to the nearest other
+    /// point, so a crowded point's centre is never under a neighbour's area.
+    hit: f64,
     /// What a screen reader says.
     aria: String,
 }
@@ -1021,6 +1041,7 @@ fn inline_chart(r: &FrontReport, ranges: Ranges) -> InlineChart {
                     row.plan.to_string()
                 },
                 leader: None,
+                hit: hit_radius(&pts, i, &pr),
                 aria: format!(
                     "Plan {}: {} h elapsed, {} g propellant{}",
                     row.plan,
@@ -1668,6 +1689,47 @@ mod tests {
             }
         }
         text_fits(&svg);
+    }
+
+    #[test]
+    fn on_the_page_no_point_lies_under_another_points_click_area() {
+        // Forty plans a few pixels apart: each point's centre is inside its
+        // own click circle and outside every other one, so a click on a dot chooses that plan.
+        let front: Vec<FrontRow> = (0..40)
+            .map(|i| {
+                let t = f64::from(i);
+                row(i as usize + 1, 36_000.0 + 60.0 * t, 0.0, 0.05 - 0.00001 * t)
+            })
+            .collect();
+        let r = report("Very crowded", &front, &[]);
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("report.html");
+        write_report_html(&path, &r).unwrap();
+        let html = std::fs::read_to_string(&path).unwrap();
+        let circles: Vec<(f64, f64, f64)> = html
+            .split("<circle class=\"hit\"")
+            .skip(1)
+            .map(|t| {
+                let attr = |name: &str| -> f64 {
+                    t.split(&format!(" {name}=\""))
+                        .nth(1)
+                        .and_then(|s| s.split('"').next())
+                        .and_then(|s| s.parse().ok())
+                        .unwrap()
+                };
+                (attr("cx"), attr("cy"), attr("r"))
+            })
+            .collect();
+        assert_eq!(circles.len(), 40);
+        for (i, a) in circles.iter().enumerate() {
+            assert!(a.2 > 0.0, "point {i} has no click area");
+            for (j, b) in circles.iter().enumerate() {
+                if i != j {
+                    let d = (a.0 - b.0).hypot(a.1 - b.1);
+                    assert!(d > b.2, "point {i} lies under point {j}'s click area");
+                }
+            }
+        }
     }
 
     /// `result` is an input error naming `needle`, and nothing was written at `path`.
