@@ -545,6 +545,48 @@ fn random_pool_plan_keeps_every_observation_inside_the_elongation_band() {
     );
 }
 
+#[test]
+fn random_pool_dwells_keep_to_the_range_asked_and_the_file_names_its_command() {
+    let dir = tempfile::tempdir().unwrap();
+    let pool = dir.path().join("pool.csv");
+    let o = wend(&[
+        "sky",
+        "targets",
+        "--count",
+        "40",
+        "--seed",
+        "3",
+        "--dwell-s",
+        "3600,7200",
+        "-o",
+        pool.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let targets = read_targets(&pool);
+    assert_eq!(targets.len(), 40);
+    for (id, t) in &targets {
+        assert!((3600.0..=7200.0).contains(&t.dwell), "{id}: {} s", t.dwell);
+    }
+    // The file says how to make it again, dwell range included.
+    let first = std::fs::read_to_string(&pool).unwrap();
+    let first = first.lines().next().unwrap_or_default();
+    assert!(
+        first.contains("--count 40 --seed 3 --dwell-s 3600,7200"),
+        "{first}"
+    );
+    // A range upside down is refused.
+    let o = wend(&[
+        "sky",
+        "targets",
+        "--dwell-s",
+        "7200,3600",
+        "-o",
+        dir.path().join("bad.csv").to_str().unwrap(),
+    ]);
+    assert!(!o.status.success());
+    assert!(stderr(&o).contains("--dwell-s"), "{}", stderr(&o));
+}
+
 // ---------------------------------------------------------------------------------------------
 // 2. Accounting
 // ---------------------------------------------------------------------------------------------

@@ -1704,7 +1704,9 @@ impl<'c, 'a> Play<'c, 'a> {
             overhead_s: overhead,
             wait_s: (overhead - o.busy_s).max(0.0),
             busy_s: o.busy_s.min(overhead),
-            idle: if overhead - o.busy_s > 1e-3 {
+            // A park is named even when its slews and a dump fill the whole gap (its two
+            // slews are in slew_s); staying or going early with nothing left to wait is none.
+            idle: if overhead - o.busy_s > 1e-3 || o.idle == Idle::Park {
                 o.idle
             } else {
                 Idle::None

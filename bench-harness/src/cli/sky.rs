@@ -84,7 +84,7 @@ pub struct PlanArgs {
     /// the summary.
     #[arg(long, short, value_name = "DIR")]
     out: Option<PathBuf>,
-    /// Seconds for planning (default: 3 s, plus 1 s per 100 targets past 200), or for the
+    /// Seconds for planning (default: 15 s, plus 1 s per 100 targets past 200), or for the
     /// whole front search with --front (default 30 s).
     #[arg(long, short, value_name = "SECONDS", allow_negative_numbers = true)]
     time_limit: Option<f64>,
@@ -206,8 +206,13 @@ fn run_targets(a: TargetsArgs) -> Result<(), CliError> {
         }
         output::scale_dwells(&mut targets, (v[0], v[1]), a.seed);
     }
+    let dwell = a
+        .dwell_s
+        .as_ref()
+        .map_or(String::new(), |d| format!(" --dwell-s {d}"));
     let comment = format!(
-        "Random targets for benchmarks (wend sky targets --count {} --seed {}); invented data.",
+        "Random targets for benchmarks (wend sky targets --count {} --seed {}{dwell}); invented \
+         data.",
         a.count, a.seed
     );
     write_file(&a.out, |w| {
