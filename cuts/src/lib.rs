@@ -1,0 +1,14 @@
+//! The linear programme of the tour problem, with cutting planes.
+//!
+//! - [`lp`]: the LP solver, held between solves;
+//! - [`support`]: violated subtour cuts from an LP point, found exactly by minimum cuts;
+//! - [`subtour`]: the subtour bound by cutting planes and column generation.
+//!
+//! The core crate (`wend`) knows nothing of this one; the command line and the benchmark
+//! harness bring them together.
+
+pub mod lp;
+pub mod subtour;
+pub mod support;
+
+pub use subtour::{subtour_bound, CutsError, SubtourBound, SubtourOptions};

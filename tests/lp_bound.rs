@@ -1,0 +1,194 @@
+//! The subtour bound of the cutting-plane crate against outside references.
+//!
+//! - `tests/fixtures/subtour_lp.jsonl`: the subtour LP optimum of each instance, computed
+//!   offline by `bench-harness/scripts/subtour_lp.py`, an independent programme (scipy's HiGHS
+//!   through `scipy.optimize.linprog`, cuts found by networkx and scipy max flows). The first
+//!   line of the file says how it was made.
+//! - `instances/optima.txt`: TSPLIB 95's published optimal tour lengths.
+//! - `instances/tours/*.opt.tour`: TSPLIB's optimal tours (att48, pr76, a280).
+//! - The subtour LP equals the Held–Karp bound (Held and Karp 1970), so the 1-tree ascent's
+//!   bound never lies above it.
+
+use std::collections::BTreeMap;
+use std::time::Duration;
+use wend::{held_karp_bound, AscentOptions, Cost, FnCost, MatrixCost, StopHandle, Tour};
+use wend_cuts::{subtour_bound, CutsError, SubtourOptions};
+use wend_tests::{instance, instances_dir};
+use wend_tsplib::{parse_optima, read_instance, read_tour};
+
+fn optima() -> BTreeMap<String, i64> {
+    let path = instances_dir().join("optima.txt");
+    parse_optima(&std::fs::read_to_string(&path).unwrap(), "optima.txt").unwrap()
+}
+
+/// (instance, subtour LP optimum, its ceiling) from the offline reference.
+fn reference() -> Vec<(String, f64, i64)> {
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("fixtures")
+        .join("subtour_lp.jsonl");
+    std::fs::read_to_string(&path)
+        .unwrap()
+        .lines()
+        .filter(|l| l.starts_with('{'))
+        .map(|l| {
+            let v: serde_json::Value = serde_json::from_str(l).unwrap();
+            (
+                v["instance"].as_str().unwrap().to_string(),
+                v["subtour_lp"].as_f64().unwrap(),
+                v["subtour_lp_ceil"].as_i64().unwrap(),
+            )
+        })
+        .collect()
+}
+
+#[test]
+fn the_subtour_bound_matches_an_independent_lp_and_stays_below_the_optima() {
+    let optima = optima();
+    let refs = reference();
+    assert!(
+        refs.len() >= 15,
+        "the fixture should cover the small instances"
+    );
+    for (name, want, want_ceil) in refs {
+        let inst = read_instance(&instance(&format!("{name}.tsp"))).unwrap();
+        let b = subtour_bound(inst.cost(), &SubtourOptions::default(), &StopHandle::new()).unwrap();
+        assert!(b.complete, "{name}: ended early ({:?})", b.stopped);
+        // Both are LP optima to about 1e-6 relative.
+        let tol = 1e-6 * want.abs().max(1.0);
+        assert!(
+            (b.lagrangian - want).abs() <= tol,
+            "{name}: bound {} against the reference {want}",
+            b.lagrangian
+        );
+        assert!(
+            (b.lp_value - want).abs() <= tol,
+            "{name}: LP {}",
+            b.lp_value
+        );
+        assert_eq!(b.lower_bound, want_ceil, "{name}");
+        // TSPLIB 95's published optimum.
+        let opt = optima[&name];
+        assert!(
+            b.lower_bound <= opt,
+            "{name}: {} above {opt}",
+            b.lower_bound
+        );
+    }
+}
+
+#[test]
+fn the_one_tree_ascent_never_passes_the_subtour_bound() {
+    // The ascent's best bound converges to the Held–Karp value from below (Held and Karp 1970).
+    for name in ["eil51", "st70", "kroA100", "gr120"] {
+        let inst = read_instance(&instance(&format!("{name}.tsp"))).unwrap();
+        let lp =
+            subtour_bound(inst.cost(), &SubtourOptions::default(), &StopHandle::new()).unwrap();
+        let opts = AscentOptions {
+            time_limit: Some(Duration::from_secs(2)),
+            max_iterations: Some(3000),
+            upper_bound: None,
+        };
+        let a = held_karp_bound(inst.cost(), &opts, &StopHandle::new()).unwrap();
+        assert!(
+            a.lower_bound <= lp.lower_bound,
+            "{name}: ascent {} above the LP {}",
+            a.lower_bound,
+            lp.lower_bound
+        );
+    }
+}
+
+#[test]
+fn every_cut_holds_for_the_published_optimal_tours() {
+    // An optimal tour crosses every proper node set at least twice; a cut it broke would be a
+    // wrong cut (TSPLIB's optimal tours: att48 10628, pr76 108159, a280 2579).
+    for (inst, tour) in [
+        ("att48.tsp", "att48.opt.tour"),
+        ("pr76.tsp", "pr76.opt.tour"),
+        ("a280.tsp", "a280.opt.tour"),
+    ] {
+        let i = read_instance(&instance(inst)).unwrap();
+        let t = read_tour(&instances_dir().join("tours").join(tour)).unwrap();
+        let t = Tour::new(t.nodes, i.dimension).unwrap();
+        let order = t.order().to_vec();
+        let b = subtour_bound(i.cost(), &SubtourOptions::default(), &StopHandle::new()).unwrap();
+        assert!(!b.cut_sets.is_empty(), "{inst}: no cuts were needed?");
+        let n = i.dimension;
+        for s in &b.cut_sets {
+            assert!(!s.is_empty() && s.len() < n, "{inst}: improper set");
+            let mut inside = vec![false; n];
+            for &v in s {
+                inside[v] = true;
+            }
+            let crossings = (0..n)
+                .filter(|&k| inside[order[k]] != inside[order[(k + 1) % n]])
+                .count();
+            assert!(
+                crossings >= 2,
+                "{inst}: the optimal tour crosses {s:?} {crossings} times"
+            );
+        }
+        // The bound is below the optimal tour's length.
+        assert!(b.lower_bound <= t.length(i.cost()).unwrap(), "{inst}");
+    }
+}
+
+#[test]
+fn a_bound_cut_short_is_still_a_bound() {
+    // With no time the loop stops after its first solve; the bound of those duals over every
+    // edge is still below the complete subtour bound.
+    let inst = read_instance(&instance("kroA100.tsp")).unwrap();
+    let full = subtour_bound(inst.cost(), &SubtourOptions::default(), &StopHandle::new()).unwrap();
+    let short = SubtourOptions {
+        time_limit: Some(Duration::ZERO),
+        ..SubtourOptions::default()
+    };
+    let b = subtour_bound(inst.cost(), &short, &StopHandle::new()).unwrap();
+    assert!(!b.complete);
+    assert_eq!(b.stopped, Some("time_limit"));
+    assert!(
+        b.lower_bound <= full.lower_bound,
+        "{} > {}",
+        b.lower_bound,
+        full.lower_bound
+    );
+    let stop = StopHandle::new();
+    stop.stop();
+    let b = subtour_bound(inst.cost(), &SubtourOptions::default(), &stop).unwrap();
+    assert_eq!(b.stopped, Some("stopped"));
+    assert!(b.lower_bound <= full.lower_bound);
+}
+
+#[test]
+fn tiny_asymmetric_and_malformed_inputs_are_refused() {
+    for n in 0..3 {
+        let m = FnCost::new(n, true, |i: usize, j: usize| (i + j) as i64);
+        assert!(matches!(
+            subtour_bound(&m, &SubtourOptions::default(), &StopHandle::new()),
+            Err(CutsError::TooSmall { .. })
+        ));
+    }
+    let m = MatrixCost::from_row_major(3, vec![0, 1, 2, 3, 0, 4, 5, 6, 0]).unwrap();
+    assert!(!m.is_symmetric());
+    assert!(matches!(
+        subtour_bound(&m, &SubtourOptions::default(), &StopHandle::new()),
+        Err(CutsError::Asymmetric)
+    ));
+    let m = MatrixCost::from_row_major(4, vec![0, 1, 2, 3, 1, 0, 4, 5, 2, 4, 0, 6, 3, 5, 6, 0])
+        .unwrap();
+    for tour in [vec![0, 1, 2], vec![0, 1, 2, 2], vec![0, 1, 2, 7]] {
+        let o = SubtourOptions {
+            tour: Some(tour),
+            ..SubtourOptions::default()
+        };
+        assert!(matches!(
+            subtour_bound(&m, &o, &StopHandle::new()),
+            Err(CutsError::BadTour { n: 4 })
+        ));
+    }
+    // Three nodes have one tour, 0-1-2: 1 + 4 + 2 = 7 (by hand).
+    let m = MatrixCost::from_row_major(3, vec![0, 1, 2, 1, 0, 4, 2, 4, 0]).unwrap();
+    let b = subtour_bound(&m, &SubtourOptions::default(), &StopHandle::new()).unwrap();
+    assert_eq!(b.lower_bound, 7);
+    assert!(b.complete);
+}
