@@ -12,7 +12,7 @@
 use std::collections::BTreeMap;
 use std::time::Duration;
 use wend::{held_karp_bound, AscentOptions, Cost, FnCost, MatrixCost, StopHandle, Tour};
-use wend_cuts::{subtour_bound, CutsError, SubtourOptions};
+use wend_cuts::{branch_and_cut, subtour_bound, BranchCutOptions, CutsError, SubtourOptions};
 use wend_tests::{instance, instances_dir};
 use wend_tsplib::{parse_optima, read_instance, read_tour};
 
@@ -191,4 +191,131 @@ fn tiny_asymmetric_and_malformed_inputs_are_refused() {
     let b = subtour_bound(&m, &SubtourOptions::default(), &StopHandle::new()).unwrap();
     assert_eq!(b.lower_bound, 7);
     assert!(b.complete);
+}
+
+/// A tour of `cost` from the core's Lin–Kernighan-style search, as branch and cut's start.
+fn first_tour(cost: &dyn Cost) -> Vec<usize> {
+    wend::Solver::new(cost)
+        .method(wend::Method::TwoOpt)
+        .seed(1)
+        .threads(1)
+        .solve()
+        .unwrap()
+        .tour
+        .order()
+        .to_vec()
+}
+
+#[test]
+fn branch_and_cut_proves_published_optima() {
+    // TSPLIB 95's published optimal lengths (instances/optima.txt), from a 2-opt tour that is
+    // usually above them, so the tree has to find better tours as well as the bound.
+    let optima = optima();
+    for name in [
+        "gr17",
+        "bays29",
+        "dantzig42",
+        "eil51",
+        "berlin52",
+        "st70",
+        "eil101",
+        "lin105",
+    ] {
+        let inst = read_instance(&instance(&format!("{name}.tsp"))).unwrap();
+        let start = first_tour(inst.cost());
+        let r = branch_and_cut(
+            inst.cost(),
+            &start,
+            &BranchCutOptions::default(),
+            &StopHandle::new(),
+            |_| {},
+        )
+        .unwrap();
+        assert!(r.proven_optimal, "{name}: not proven ({:?})", r.stopped);
+        assert_eq!(r.length, optima[name], "{name}");
+        assert_eq!(r.lower_bound, r.length);
+        let t = Tour::new(r.tour.clone(), inst.dimension).unwrap();
+        assert_eq!(
+            t.length(inst.cost()).unwrap(),
+            r.length,
+            "{name}: the tour's own length"
+        );
+    }
+}
+
+#[test]
+fn branch_and_cut_agrees_with_enumeration_on_small_random_instances() {
+    // Every tour of 8 nodes enumerated ((8−1)!/2 = 2520 tours): the test oracle.
+    let mut state = 99u64;
+    let mut next = move || {
+        state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        (state >> 40) as i64 % 100
+    };
+    for _ in 0..25 {
+        let n = 8;
+        let mut w = vec![0i64; n * n];
+        for i in 0..n {
+            for j in i + 1..n {
+                let c = next() + 1;
+                w[i * n + j] = c;
+                w[j * n + i] = c;
+            }
+        }
+        let m = MatrixCost::from_row_major(n, w).unwrap();
+        let mut best = i64::MAX;
+        let mut rest: Vec<usize> = (1..n).collect();
+        permute(&mut rest, 0, &mut |p| {
+            let mut len = m.cost(0, p[0]) + m.cost(p[n - 2], 0);
+            for k in 0..n - 2 {
+                len += m.cost(p[k], p[k + 1]);
+            }
+            best = best.min(len);
+        });
+        let start: Vec<usize> = (0..n).collect();
+        let r = branch_and_cut(
+            &m,
+            &start,
+            &BranchCutOptions::default(),
+            &StopHandle::new(),
+            |_| {},
+        )
+        .unwrap();
+        assert!(r.proven_optimal);
+        assert_eq!(r.length, best);
+    }
+}
+
+fn permute(v: &mut Vec<usize>, k: usize, f: &mut impl FnMut(&[usize])) {
+    if k == v.len() {
+        f(v);
+        return;
+    }
+    for i in k..v.len() {
+        v.swap(k, i);
+        permute(v, k + 1, f);
+        v.swap(k, i);
+    }
+}
+
+#[test]
+fn branch_and_cut_cut_short_keeps_a_true_bound() {
+    // Two nodes only: no proof for kroA100 (its root bound 20936.5 is below the optimum
+    // 21282, TSPLIB 95), but the bound returned stays at or below the optimum.
+    let inst = read_instance(&instance("kroA100.tsp")).unwrap();
+    let start = first_tour(inst.cost());
+    let o = BranchCutOptions {
+        node_limit: Some(2),
+        ..BranchCutOptions::default()
+    };
+    let r = branch_and_cut(inst.cost(), &start, &o, &StopHandle::new(), |_| {}).unwrap();
+    assert!(!r.proven_optimal);
+    assert_eq!(r.stopped, Some("node_limit"));
+    assert!(
+        r.lower_bound <= 21282 && r.lower_bound >= 20937,
+        "{}",
+        r.lower_bound
+    );
+    assert!(r.length >= 21282);
 }

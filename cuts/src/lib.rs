@@ -2,13 +2,16 @@
 //!
 //! - [`lp`]: the LP solver, held between solves;
 //! - [`support`]: violated subtour cuts from an LP point, found exactly by minimum cuts;
-//! - [`subtour`]: the subtour bound by cutting planes and column generation.
+//! - [`subtour`]: the subtour bound by cutting planes and column generation;
+//! - [`branch`]: branch and cut on that programme, with the best tour known as the upper bound.
 //!
 //! The core crate (`wend`) knows nothing of this one; the command line and the benchmark
 //! harness bring them together.
 
+pub mod branch;
 pub mod lp;
 pub mod subtour;
 pub mod support;
 
+pub use branch::{branch_and_cut, BranchCutOptions, BranchCutResult, TreeProgress};
 pub use subtour::{subtour_bound, CutsError, SubtourBound, SubtourOptions};

@@ -149,6 +149,11 @@ pub(crate) struct SubtourLp<'c, C: Cost + ?Sized> {
     pub cuts: Vec<CutRow>,
     pub cuts_added: usize,
     pub edges_priced_in: usize,
+    /// Columns held at 0 or 1 (branching, reduced-cost fixing).
+    pub fixed: HashMap<usize, bool>,
+    /// Edges `i < j` (index `i·n + j`) left out of every tour that could beat the best known:
+    /// pricing skips them.
+    pub excluded: Option<Vec<bool>>,
 }
 
 fn key(i: usize, j: usize) -> (usize, usize) {
@@ -171,6 +176,8 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
             cuts: Vec::new(),
             cuts_added: 0,
             edges_priced_in: 0,
+            fixed: HashMap::new(),
+            excluded: None,
         };
         me.add_edges(start)?;
         Ok(me)
@@ -286,10 +293,9 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
             .collect()
     }
 
-    /// Prices every edge of the complete graph with the duals of the last solve: the
-    /// Lagrangian bound, and the edges outside the programme of negative reduced cost (most
-    /// negative first, at most `keep`).
-    pub fn price(&self, v: &LpValues, keep: usize) -> (f64, Vec<(usize, usize)>) {
+    /// Calls `f(i, j, reduced cost)` for every edge `i < j` of the complete graph, with the
+    /// duals `v` (cut duals below zero taken as zero); returns `Σ 2 y_v + Σ 2 π_S`.
+    pub fn scan(&self, v: &LpValues, mut f: impl FnMut(usize, usize, f64)) -> f64 {
         let n = self.n;
         let y = &v.row_dual[..n];
         let pi: Vec<f64> = (0..self.cuts.len())
@@ -306,9 +312,8 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
                 }
             }
         }
-        let mut bound: f64 = 2.0 * y.iter().sum::<f64>() + 2.0 * pi.iter().sum::<f64>();
+        // q[j]: Σ π over cuts holding both i and j, for the current i.
         let mut q = vec![0.0; n];
-        let mut negative: Vec<(f64, usize, usize)> = Vec::new();
         for i in 0..n {
             for &k in &by_node[i] {
                 for &m in &self.cuts[k].members {
@@ -317,13 +322,7 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
             }
             for j in i + 1..n {
                 let crossing = p[i] + p[j] - 2.0 * q[j];
-                let rc = self.cost.cost(i, j) as f64 - y[i] - y[j] - crossing;
-                if rc < 0.0 {
-                    bound += rc;
-                    if rc < -PRICE_TOL && !self.column.contains_key(&(i, j)) {
-                        negative.push((rc, i, j));
-                    }
-                }
+                f(i, j, self.cost.cost(i, j) as f64 - y[i] - y[j] - crossing);
             }
             for &k in &by_node[i] {
                 for &m in &self.cuts[k].members {
@@ -331,10 +330,44 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
                 }
             }
         }
+        2.0 * y.iter().sum::<f64>() + 2.0 * pi.iter().sum::<f64>()
+    }
+
+    /// Prices every edge of the complete graph with the duals of the last solve: the
+    /// Lagrangian bound over the tours that keep the current fixings (`fixed`: columns held at
+    /// 0 or 1; `excluded`: edges no better tour uses), and the free edges outside the
+    /// programme of negative reduced cost (most negative first, at most `keep`).
+    pub fn price(&self, v: &LpValues, keep: usize) -> (f64, Vec<(usize, usize)>) {
+        let n = self.n;
+        let mut bound = 0.0;
+        let mut negative: Vec<(f64, usize, usize)> = Vec::new();
+        let base = self.scan(v, |i, j, rc| {
+            match self.column.get(&(i, j)) {
+                Some(c) => match self.fixed.get(c) {
+                    Some(true) => {
+                        bound += rc;
+                        return;
+                    }
+                    Some(false) => return,
+                    None => {}
+                },
+                None => {
+                    if self.excluded.as_ref().is_some_and(|x| x[i * n + j]) {
+                        return;
+                    }
+                }
+            }
+            if rc < 0.0 {
+                bound += rc;
+                if rc < -PRICE_TOL && !self.column.contains_key(&(i, j)) {
+                    negative.push((rc, i, j));
+                }
+            }
+        });
         negative.sort_by(|a, b| a.0.total_cmp(&b.0));
         negative.truncate(keep);
         (
-            bound,
+            base + bound,
             negative.into_iter().map(|(_, i, j)| (i, j)).collect(),
         )
     }
