@@ -577,6 +577,7 @@ fn run_one(
     };
     let hooks = Hooks {
         stop: plan.stop.clone(),
+        prover: Some(std::sync::Arc::new(wend_cuts::BranchCutProver::default())),
         ..Hooks::default()
     };
     let found = if !problem.constraints.has_schedule_rules() {

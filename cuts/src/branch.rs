@@ -11,8 +11,9 @@
 //! whose reduced cost alone lifts the root bound to the best tour's length: no better tour
 //! uses it. Cuts are global: found at one node, they stay for all.
 
+use crate::blossom::violated_blossoms;
 use crate::lp::{LpError, LpStatus, LpValues};
-use crate::subtour::{starting_edges, CutsError, SubtourLp, CUT_TOL};
+use crate::subtour::{starting_edges, Cut, CutsError, SubtourLp, CUT_TOL};
 use crate::support::{violated_subtours, Weighted};
 use std::cmp::Ordering;
 use std::collections::BinaryHeap;
@@ -28,6 +29,8 @@ pub struct BranchCutOptions {
     pub node_limit: Option<u64>,
     /// Candidate neighbours per node in the starting edge set.
     pub neighbours: usize,
+    /// Blossom inequalities besides subtour cuts.
+    pub blossoms: bool,
 }
 
 impl Default for BranchCutOptions {
@@ -36,6 +39,7 @@ impl Default for BranchCutOptions {
             time_limit: None,
             node_limit: None,
             neighbours: 10,
+            blossoms: true,
         }
     }
 }
@@ -66,7 +70,8 @@ pub struct BranchCutResult {
     pub lower_bound: i64,
     /// True when `tour` is proven optimal.
     pub proven_optimal: bool,
-    /// The root's bound (the subtour bound) and its rounding up.
+    /// The root's bound (the subtour bound, or less when the root closed on the first tour's
+    /// length before every edge was priced in); −∞ when the root did not settle.
     pub root_bound: f64,
     /// Nodes settled (the root included).
     pub nodes: u64,
@@ -109,8 +114,8 @@ impl Ord for Open {
 enum Settled {
     /// No tour keeps its fixings.
     Infeasible,
-    /// Its bound cannot beat `best`.
-    Closed,
+    /// Its bound cannot beat `best`: the bound.
+    Closed(f64),
     /// The LP optimum over every edge, no subtour cut violated: bound and point.
     Point(f64, LpValues),
     /// Out of time or stopped.
@@ -128,6 +133,7 @@ struct Tree<'c, 's, C: Cost + ?Sized> {
     best_tour: Vec<usize>,
     deadline: Option<Instant>,
     stop: &'s StopHandle,
+    blossoms: bool,
 }
 
 impl<C: Cost + ?Sized> Tree<'_, '_, C> {
@@ -197,22 +203,29 @@ impl<C: Cost + ?Sized> Tree<'_, '_, C> {
                     self.sub.edges_priced_in += self.sub.add_edges(&all)?;
                     continue;
                 }
-                Err(LpError::Unsolved { .. }) if self.halted().is_some() => {
+                // The solver's own time limit is the deadline: out of time.
+                Err(LpError::Unsolved { .. }) if self.deadline.is_some() => {
                     return Ok(Settled::Halted(self.halted().unwrap_or("time_limit")));
                 }
                 Err(e) => return Err(e.into()),
             }
             let v = self.sub.lp.values();
             let support = self.sub.support(&v);
-            let sets = violated_subtours(n, &support, CUT_TOL);
-            if !sets.is_empty() {
+            let mut cuts: Vec<Cut> = violated_subtours(n, &support, CUT_TOL)
+                .into_iter()
+                .map(Cut::subtour)
+                .collect();
+            if cuts.is_empty() && self.blossoms {
+                cuts = violated_blossoms(n, &support, CUT_TOL);
+            }
+            if !cuts.is_empty() {
                 self.sub.drop_slack_cuts(&v, 3)?;
-                self.sub.add_cuts(sets)?;
+                self.sub.add_cuts(cuts)?;
                 continue;
             }
             let (bound, fresh) = self.sub.price(&v, n.max(100));
             if ceil_bound(bound) >= self.best {
-                return Ok(Settled::Closed);
+                return Ok(Settled::Closed(bound));
             }
             if fresh.is_empty() {
                 return Ok(Settled::Point(bound, v));
@@ -284,6 +297,7 @@ pub fn branch_and_cut<C: Cost + ?Sized>(
         best_tour: start.to_vec(),
         deadline: options.time_limit.map(|d| began + d),
         stop,
+        blossoms: options.blossoms,
     };
     let mut heap = BinaryHeap::new();
     let mut seq = 0u64;
@@ -317,7 +331,12 @@ pub fn branch_and_cut<C: Cost + ?Sized>(
                 halted_bound = halted_bound.min(node.bound);
                 break;
             }
-            Settled::Infeasible | Settled::Closed => {}
+            Settled::Infeasible => {}
+            Settled::Closed(bound) => {
+                if nodes == 1 {
+                    root_bound = bound;
+                }
+            }
             Settled::Point(bound, v) => {
                 if nodes == 1 {
                     root_bound = bound;
@@ -438,4 +457,34 @@ fn fix_by_reduced_cost<C: Cost + ?Sized>(
     }
     tree.sub.excluded = Some(out);
     Ok(count)
+}
+
+/// [`branch_and_cut`] as the core's exact method for `wend::prove_optimal` and
+/// `wend::solve_with` (give it in `ProveOptions::prover` or `Hooks::prover`).
+#[derive(Clone, Debug, Default)]
+pub struct BranchCutProver {
+    /// Options other than the time limit, which the call gives.
+    pub options: BranchCutOptions,
+}
+
+impl wend::Prover for BranchCutProver {
+    fn prove(
+        &self,
+        cost: &dyn Cost,
+        first: &[usize],
+        time_limit: Option<Duration>,
+        stop: &StopHandle,
+    ) -> Result<wend::ProverAnswer, String> {
+        let options = BranchCutOptions {
+            time_limit,
+            ..self.options.clone()
+        };
+        let r = branch_and_cut(cost, first, &options, stop, |_| {}).map_err(|e| e.to_string())?;
+        Ok(wend::ProverAnswer {
+            tour: r.tour,
+            lower_bound: r.lower_bound,
+            proven_optimal: r.proven_optimal,
+            nodes: r.nodes,
+        })
+    }
 }

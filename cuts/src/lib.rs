@@ -2,16 +2,20 @@
 //!
 //! - [`lp`]: the LP solver, held between solves;
 //! - [`support`]: violated subtour cuts from an LP point, found exactly by minimum cuts;
+//! - [`blossom`]: violated blossom inequalities, by the odd-component heuristic;
 //! - [`subtour`]: the subtour bound by cutting planes and column generation;
 //! - [`branch`]: branch and cut on that programme, with the best tour known as the upper bound.
 //!
 //! The core crate (`wend`) knows nothing of this one; the command line and the benchmark
 //! harness bring them together.
 
+pub mod blossom;
 pub mod branch;
 pub mod lp;
 pub mod subtour;
 pub mod support;
 
-pub use branch::{branch_and_cut, BranchCutOptions, BranchCutResult, TreeProgress};
-pub use subtour::{subtour_bound, CutsError, SubtourBound, SubtourOptions};
+pub use branch::{
+    branch_and_cut, BranchCutOptions, BranchCutProver, BranchCutResult, TreeProgress,
+};
+pub use subtour::{subtour_bound, Cut, CutsError, SubtourBound, SubtourOptions};

@@ -22,6 +22,7 @@
 //! any duals (with `π_S ≥ 0`): it equals the LP value once every edge prices out, and stays a
 //! true lower bound on every tour when the loop is cut short.
 
+use crate::blossom::violated_blossoms;
 use crate::lp::{Entries, Lp, LpError, LpStatus, LpValues};
 use crate::support::{violated_subtours, Weighted};
 use std::collections::HashMap;
@@ -47,6 +48,8 @@ pub struct SubtourOptions {
     /// Solves a cut may stay slack before it leaves the programme (separation is exact, so
     /// a cut that leaves is found again if it is ever violated).
     pub slack_solves: usize,
+    /// After the subtour bound, add blossom inequalities (odd-component heuristic).
+    pub blossoms: bool,
 }
 
 impl Default for SubtourOptions {
@@ -56,6 +59,7 @@ impl Default for SubtourOptions {
             neighbours: 10,
             tour: None,
             slack_solves: 3,
+            blossoms: true,
         }
     }
 }
@@ -66,19 +70,24 @@ pub struct SubtourBound {
     /// A lower bound on every tour's length: the Lagrangian bound rounded up (tour lengths are
     /// integers).
     pub lower_bound: i64,
-    /// The Lagrangian bound of the last duals over every edge.
+    /// The best Lagrangian bound over every edge, of all the solves' duals.
     pub lagrangian: f64,
     /// The last LP's value (over the edges in it).
     pub lp_value: f64,
     /// True when the loop ended with no violated cut and no edge pricing in: `lp_value` is
     /// then the subtour bound.
     pub complete: bool,
+    /// The bound when the subtour cuts were done (every edge priced out, no subtour cut
+    /// violated), before any blossom: the subtour bound. `None` when stopped before.
+    pub subtour_only: Option<f64>,
     /// Why the loop ended early, when it did (`time_limit`, `stopped`).
     pub stopped: Option<&'static str>,
     /// LP solves.
     pub solves: usize,
-    /// Subtour cuts added in all.
+    /// Cuts added in all (subtour cuts and blossoms).
     pub cuts_added: usize,
+    /// Blossoms among them.
+    pub blossoms_added: usize,
     /// Cuts in the last LP.
     pub cuts_in_lp: usize,
     /// Edges (columns) in the last LP.
@@ -87,8 +96,8 @@ pub struct SubtourBound {
     pub edges_priced_in: usize,
     /// The last LP point: edges with a positive value.
     pub support: Vec<Weighted>,
-    /// The node sets of the cuts in the last LP, each sorted.
-    pub cut_sets: Vec<Vec<usize>>,
+    /// The cuts in the last LP.
+    pub cuts: Vec<Cut>,
     /// Wall-clock seconds.
     pub seconds: f64,
 }
@@ -126,15 +135,55 @@ pub enum CutsError {
     Infeasible,
 }
 
-/// A subtour cut in the programme.
+/// A cut to add: a node set `S` and, for a blossom, its teeth (edges with one end in `S`).
+///
+/// With no teeth it is the subtour cut `x(δ(S)) ≥ 2`; with an odd number `|T| ≥ 3` of
+/// node-disjoint teeth it is the blossom (2-matching) inequality
+/// `x(δ(S) \ T) − x(T) ≥ 1 − |T|`.
+#[derive(Clone, Debug, PartialEq, Eq, Hash)]
+pub struct Cut {
+    /// The node set (the handle of a blossom), sorted.
+    pub set: Vec<usize>,
+    /// Teeth of a blossom, each `(i, j)` with `i < j`; empty for a subtour cut.
+    pub teeth: Vec<(usize, usize)>,
+}
+
+impl Cut {
+    /// A subtour cut on `set`.
+    pub fn subtour(set: Vec<usize>) -> Cut {
+        Cut {
+            set,
+            teeth: Vec::new(),
+        }
+    }
+}
+
+/// A cut in the programme.
 #[derive(Clone, Debug)]
 pub(crate) struct CutRow {
     /// The node set, sorted.
     pub members: Vec<usize>,
     /// Membership of every node.
     pub inside: Vec<bool>,
+    /// Teeth (coefficient −1), sorted; empty for a subtour cut.
+    pub teeth: Vec<(usize, usize)>,
+    /// Right-hand side: 2, or 1 − |teeth| for a blossom.
+    pub rhs: f64,
     /// Solves in a row it stayed slack with a zero dual.
     pub slack: usize,
+}
+
+impl CutRow {
+    /// The coefficient of edge `{i, j}` in the row.
+    pub fn coef(&self, i: usize, j: usize) -> f64 {
+        if self.inside[i] == self.inside[j] {
+            0.0
+        } else if !self.teeth.is_empty() && self.teeth.binary_search(&key(i, j)).is_ok() {
+            -1.0
+        } else {
+            1.0
+        }
+    }
 }
 
 /// The subtour programme held between solves.
@@ -148,6 +197,8 @@ pub(crate) struct SubtourLp<'c, C: Cost + ?Sized> {
     /// Cut rows, in row order after the n degree rows.
     pub cuts: Vec<CutRow>,
     pub cuts_added: usize,
+    /// Blossoms among them.
+    pub blossoms_added: usize,
     pub edges_priced_in: usize,
     /// Columns held at 0 or 1 (branching, reduced-cost fixing).
     pub fixed: HashMap<usize, bool>,
@@ -175,6 +226,7 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
             column: HashMap::new(),
             cuts: Vec::new(),
             cuts_added: 0,
+            blossoms_added: 0,
             edges_priced_in: 0,
             fixed: HashMap::new(),
             excluded: None,
@@ -199,8 +251,9 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
             .map(|&(i, j)| {
                 let mut e = vec![(i, 1.0), (j, 1.0)];
                 for (k, c) in self.cuts.iter().enumerate() {
-                    if c.inside[i] != c.inside[j] {
-                        e.push((self.n + k, 1.0));
+                    let a = c.coef(i, j);
+                    if a != 0.0 {
+                        e.push((self.n + k, a));
                     }
                 }
                 e
@@ -218,32 +271,44 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
         Ok(k)
     }
 
-    /// Adds subtour cuts `x(δ(S)) ≥ 2` for the node sets given.
-    pub fn add_cuts(&mut self, sets: Vec<Vec<usize>>) -> Result<(), CutsError> {
+    /// Adds the cuts given (subtour cuts and blossoms).
+    pub fn add_cuts(&mut self, cuts: Vec<Cut>) -> Result<(), CutsError> {
         let mut rows = Vec::new();
-        for members in sets {
+        let mut lower = Vec::new();
+        for cut in cuts {
             let mut inside = vec![false; self.n];
-            for &v in &members {
+            for &v in &cut.set {
                 inside[v] = true;
             }
+            let mut teeth = cut.teeth;
+            teeth.sort_unstable();
+            let rhs = if teeth.is_empty() {
+                2.0
+            } else {
+                self.blossoms_added += 1;
+                1.0 - teeth.len() as f64
+            };
+            let row = CutRow {
+                members: cut.set,
+                inside,
+                teeth,
+                rhs,
+                slack: 0,
+            };
             let entries: Vec<(usize, f64)> = self
                 .edges
                 .iter()
                 .enumerate()
-                .filter(|(_, &(i, j))| inside[i] != inside[j])
-                .map(|(c, _)| (c, 1.0))
+                .map(|(c, &(i, j))| (c, row.coef(i, j)))
+                .filter(|&(_, a)| a != 0.0)
                 .collect();
             rows.push(entries);
-            self.cuts.push(CutRow {
-                members,
-                inside,
-                slack: 0,
-            });
+            lower.push(rhs);
+            self.cuts.push(row);
         }
         let refs: Vec<&Entries> = rows.iter().map(Vec::as_slice).collect();
         let k = rows.len();
-        self.lp
-            .add_rows(&vec![2.0; k], &vec![f64::INFINITY; k], &refs)?;
+        self.lp.add_rows(&lower, &vec![f64::INFINITY; k], &refs)?;
         self.cuts_added += k;
         Ok(())
     }
@@ -258,10 +323,9 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
                 .edges
                 .iter()
                 .zip(&v.x)
-                .filter(|(&(i, j), _)| c.inside[i] != c.inside[j])
-                .map(|(_, &x)| x)
+                .map(|(&(i, j), &x)| c.coef(i, j) * x)
                 .sum();
-            if value > 2.0 + 1e-6 && v.row_dual.get(row).is_none_or(|d| d.abs() < 1e-12) {
+            if value > c.rhs + 1e-6 && v.row_dual.get(row).is_none_or(|d| d.abs() < 1e-12) {
                 c.slack += 1;
                 if c.slack >= after {
                     gone.push(k);
@@ -294,7 +358,7 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
     }
 
     /// Calls `f(i, j, reduced cost)` for every edge `i < j` of the complete graph, with the
-    /// duals `v` (cut duals below zero taken as zero); returns `Σ 2 y_v + Σ 2 π_S`.
+    /// duals `v` (cut duals below zero taken as zero); returns `Σ 2 y_v + Σ rhs_S π_S`.
     pub fn scan(&self, v: &LpValues, mut f: impl FnMut(usize, usize, f64)) -> f64 {
         let n = self.n;
         let y = &v.row_dual[..n];
@@ -312,6 +376,15 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
                 }
             }
         }
+        // Teeth have coefficient −1 where the membership sum counts +1: 2π back for each.
+        let mut teeth: HashMap<(usize, usize), f64> = HashMap::new();
+        for (k, c) in self.cuts.iter().enumerate() {
+            if pi[k] > 0.0 {
+                for &t in &c.teeth {
+                    *teeth.entry(t).or_insert(0.0) += 2.0 * pi[k];
+                }
+            }
+        }
         // q[j]: Σ π over cuts holding both i and j, for the current i.
         let mut q = vec![0.0; n];
         for i in 0..n {
@@ -322,7 +395,11 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
             }
             for j in i + 1..n {
                 let crossing = p[i] + p[j] - 2.0 * q[j];
-                f(i, j, self.cost.cost(i, j) as f64 - y[i] - y[j] - crossing);
+                let mut rc = self.cost.cost(i, j) as f64 - y[i] - y[j] - crossing;
+                if !teeth.is_empty() {
+                    rc += teeth.get(&(i, j)).copied().unwrap_or(0.0);
+                }
+                f(i, j, rc);
             }
             for &k in &by_node[i] {
                 for &m in &self.cuts[k].members {
@@ -330,7 +407,13 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
                 }
             }
         }
-        2.0 * y.iter().sum::<f64>() + 2.0 * pi.iter().sum::<f64>()
+        2.0 * y.iter().sum::<f64>()
+            + self
+                .cuts
+                .iter()
+                .zip(&pi)
+                .map(|(c, p)| c.rhs * p)
+                .sum::<f64>()
     }
 
     /// Prices every edge of the complete graph with the duals of the last solve: the
@@ -441,16 +524,22 @@ pub fn subtour_bound<C: Cost + ?Sized>(
     let deadline = options.time_limit.map(|d| began + d);
     let start = starting_edges(cost, options.neighbours, options.tour.as_deref())?;
     let mut sub = SubtourLp::new(cost, &start)?;
-    let mut solves = 0;
+    let mut run = Run {
+        solves: 0,
+        best: f64::NEG_INFINITY,
+        subtour_only: None,
+        value: f64::NAN,
+        support: Vec::new(),
+    };
+    let mut blossom_stage = false;
     let mut stopped = None;
-    let mut last: Option<(LpValues, f64)> = None;
     loop {
         if stop.is_stopped() {
             stopped = Some("stopped");
         } else if deadline.is_some_and(|d| Instant::now() >= d) {
             stopped = Some("time_limit");
         }
-        if stopped.is_some() && last.is_some() {
+        if stopped.is_some() && run.solves > 0 {
             break;
         }
         if let Some(d) = deadline {
@@ -460,60 +549,73 @@ pub fn subtour_bound<C: Cost + ?Sized>(
         match sub.lp.solve() {
             Ok(LpStatus::Optimal) => {}
             Ok(LpStatus::Infeasible) => return Err(CutsError::Infeasible),
-            // A solve cut short by the time limit: keep the last complete solve's duals.
-            Err(LpError::Unsolved { .. }) if last.is_some() && deadline.is_some() => {
+            // A solve cut short by the time limit: the bounds of the solves before stand.
+            Err(LpError::Unsolved { .. }) if run.solves > 0 && deadline.is_some() => {
                 stopped = Some("time_limit");
                 break;
             }
             Err(e) => return Err(e.into()),
         }
-        solves += 1;
+        run.solves += 1;
         let v = sub.lp.values();
-        let value = sub.lp.objective();
-        let support = sub.support(&v);
-        let sets = violated_subtours(n, &support, CUT_TOL);
-        if !sets.is_empty() {
-            // The duals of this solve still give a valid bound if time runs out.
-            last = Some((v.clone(), value));
+        run.value = sub.lp.objective();
+        run.support = sub.support(&v);
+        // Every solve's duals give a true bound; the best of them is kept.
+        let (bound, fresh) = sub.price(&v, n.max(100));
+        run.best = run.best.max(bound);
+        let mut cuts: Vec<Cut> = violated_subtours(n, &run.support, CUT_TOL)
+            .into_iter()
+            .map(Cut::subtour)
+            .collect();
+        if cuts.is_empty() && blossom_stage {
+            cuts = violated_blossoms(n, &run.support, CUT_TOL);
+        }
+        if !cuts.is_empty() {
             sub.drop_slack_cuts(&v, options.slack_solves)?;
-            sub.add_cuts(sets)?;
+            sub.add_cuts(cuts)?;
             continue;
         }
-        let (bound, fresh) = sub.price(&v, n.max(100));
-        last = Some((v, value));
-        if fresh.is_empty() {
-            let (v, value) = last.take().expect("just set");
-            return finish(&sub, v, value, bound, true, None, solves, began);
+        if !fresh.is_empty() {
+            sub.edges_priced_in += sub.add_edges(&fresh)?;
+            continue;
         }
-        sub.edges_priced_in += sub.add_edges(&fresh)?;
+        // The LP optimum over every edge, no cut of the families in use violated.
+        if run.subtour_only.is_none() {
+            run.subtour_only = Some(bound);
+        }
+        if options.blossoms && !blossom_stage {
+            blossom_stage = true;
+            let b = violated_blossoms(n, &run.support, CUT_TOL);
+            if !b.is_empty() {
+                sub.add_cuts(b)?;
+                continue;
+            }
+        }
+        return finish(&sub, run, true, None, began);
     }
-    let (v, value) = last.expect("a solve happened before the loop could stop");
-    // The cuts may have changed since these values: price with the rows they belong to.
-    let rows = sub.lp.rows();
-    let bound = if v.row_dual.len() == rows {
-        sub.price(&v, 0).0
-    } else {
-        // Rows changed after the last solve: a dual of the degree rows alone (cuts' duals
-        // taken as zero) is still valid.
-        let mut w = v.clone();
-        w.row_dual.truncate(n);
-        w.row_dual.resize(rows, 0.0);
-        sub.price(&w, 0).0
-    };
-    finish(&sub, v, value, bound, false, stopped, solves, began)
+    finish(&sub, run, false, stopped, began)
 }
 
-#[allow(clippy::too_many_arguments)]
+/// What the loop keeps between solves.
+struct Run {
+    solves: usize,
+    /// The best Lagrangian bound so far.
+    best: f64,
+    /// The bound when subtour cuts alone were done.
+    subtour_only: Option<f64>,
+    /// The last LP's value and point.
+    value: f64,
+    support: Vec<Weighted>,
+}
+
 fn finish<C: Cost + ?Sized>(
     sub: &SubtourLp<'_, C>,
-    v: LpValues,
-    value: f64,
-    bound: f64,
+    run: Run,
     complete: bool,
     stopped: Option<&'static str>,
-    solves: usize,
     began: Instant,
 ) -> Result<SubtourBound, CutsError> {
+    let bound = run.best;
     let lower = (bound - 1e-6 - 1e-9 * bound.abs()).ceil();
     if !(lower.is_finite() && lower.abs() < 9.0e18) {
         return Err(CutsError::Overflow { value: bound });
@@ -521,16 +623,25 @@ fn finish<C: Cost + ?Sized>(
     Ok(SubtourBound {
         lower_bound: lower as i64,
         lagrangian: bound,
-        lp_value: value,
+        lp_value: run.value,
+        subtour_only: run.subtour_only,
         complete,
         stopped,
-        solves,
+        solves: run.solves,
         cuts_added: sub.cuts_added,
+        blossoms_added: sub.blossoms_added,
         cuts_in_lp: sub.cuts.len(),
         edges_in_lp: sub.edges.len(),
         edges_priced_in: sub.edges_priced_in,
-        support: sub.support(&v),
-        cut_sets: sub.cuts.iter().map(|c| c.members.clone()).collect(),
+        support: run.support,
+        cuts: sub
+            .cuts
+            .iter()
+            .map(|c| Cut {
+                set: c.members.clone(),
+                teeth: c.teeth.clone(),
+            })
+            .collect(),
         seconds: began.elapsed().as_secs_f64(),
     })
 }

@@ -110,7 +110,8 @@ pub use methods::{
 pub use neighbours::{candidates, CandidateSource, ListError, Neighbours};
 pub use solve::{
     lower_bound, prove_optimal, AsymmetricMode, Certificate, ExactMethod, LowerBoundError, Method,
-    ProveError, ProveOptions, Solution, SolveError, Solver, DEFAULT_NEIGHBOURS,
+    ProveError, ProveOptions, Prover, ProverAnswer, Solution, SolveError, Solver,
+    DEFAULT_NEIGHBOURS,
 };
 pub use solve::{solve_with, Hooks, Outcome, Settings, SettingsError, SolveWithError};
 pub use tour::{closed_length, Layout, Overflow, Tour, TourError};

@@ -157,7 +157,10 @@ fn lp(a: &BoundArgs, inst: &wend_tsplib::Instance) -> Result<(), CliError> {
                 "complete": b.complete,
                 "stop_reason": b.stopped,
                 "families": [
-                    {"family": "subtour", "cuts_added": b.cuts_added, "bound_after": b.lagrangian}
+                    {"family": "subtour", "cuts_added": b.cuts_added - b.blossoms_added,
+                     "bound_after": b.subtour_only},
+                    {"family": "blossom", "cuts_added": b.blossoms_added,
+                     "bound_after": b.complete.then_some(b.lagrangian)}
                 ],
                 "lp_solves": b.solves,
                 "cuts_in_lp": b.cuts_in_lp,
@@ -170,15 +173,23 @@ fn lp(a: &BoundArgs, inst: &wend_tsplib::Instance) -> Result<(), CliError> {
     } else {
         println!("instance     {} ({} nodes)", inst.name, inst.dimension);
         println!("lower bound  {}", b.lower_bound);
+        if let Some(st) = b.subtour_only {
+            println!("subtour      {st:.3} (subtour cuts alone)");
+        }
         println!(
-            "LP           {:.3} after {} solve(s): {} subtour cut(s) added, {} in the last LP, \
-             {} edges ({} priced in)",
-            b.lagrangian, b.solves, b.cuts_added, b.cuts_in_lp, b.edges_in_lp, b.edges_priced_in
+            "LP           {:.3} after {} solve(s): {} cut(s) added ({} blossoms), {} in the \
+             last LP, {} edges ({} priced in)",
+            b.lagrangian,
+            b.solves,
+            b.cuts_added,
+            b.blossoms_added,
+            b.cuts_in_lp,
+            b.edges_in_lp,
+            b.edges_priced_in
         );
         match b.stopped {
             None => println!(
-                "status       every subtour cut holds and every edge prices out: the subtour \
-                 bound, in {:.3} s",
+                "status       no cut found violated and every edge prices out, in {:.3} s",
                 b.seconds
             ),
             Some(why) => println!(

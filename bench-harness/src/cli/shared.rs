@@ -19,6 +19,7 @@ pub(super) fn hooks(settings: &Settings, json: bool) -> Hooks {
         stop: super::interrupt::handle(),
         observer: (!settings.exact).then(|| Box::new(progress.observer()) as _),
         after_search: Some(Box::new(move || progress.finish())),
+        prover: Some(std::sync::Arc::new(wend_cuts::BranchCutProver::default())),
     }
 }
 

@@ -76,8 +76,9 @@ pub struct SolveArgs {
     /// With --time-limit, the best tour and bound when time runs out; JSON `proven_optimal`.
     #[arg(long, conflicts_with_all = ["bound", "method", "runs", "iterations", "params", "stall_limit", "target", "neighbour_lists", "layout", "neighbour_count"])]
     exact: bool,
-    /// With --exact: dynamic-programme (up to 24 nodes, either kind of costs) or
-    /// branch-and-bound (symmetric costs); default: chosen by size and symmetry.
+    /// With --exact: dynamic-programme (up to 24 nodes, either kind of costs),
+    /// branch-and-cut (symmetric costs; the default above 16 nodes) or branch-and-bound (on the
+    /// 1-tree bound, symmetric costs, kept for comparison).
     #[arg(long, value_name = "METHOD", requires = "exact")]
     exact_method: Option<String>,
     /// Seconds for the lower bound's ascent (with --bound).
@@ -226,7 +227,8 @@ fn settings_of(a: &SolveArgs) -> Result<Settings, CliError> {
         None => None,
         Some(name) => Some(ExactMethod::from_name(name).ok_or_else(|| {
             CliError::Input(format!(
-                "unknown exact method {name:?}; choose one of: dynamic-programme, branch-and-bound"
+                "unknown exact method {name:?}; choose one of: dynamic-programme, branch-and-cut, \
+                 branch-and-bound"
             ))
         })?),
     };
@@ -416,7 +418,13 @@ fn print_proof(c: &Outcome) {
     match p.exact_method {
         ExactMethod::DynamicProgramme => println!("method     exact: dynamic programme"),
         ExactMethod::BranchAndBound => println!(
-            "method     exact: branch and bound, {} subproblem(s), first tour {}",
+            "method     exact: branch and bound on the 1-tree, {} subproblem(s), first tour {}",
+            p.subproblems,
+            p.first_tour_length.unwrap_or(c.length)
+        ),
+        ExactMethod::BranchAndCut => println!(
+            "method     exact: branch and cut on the linear programme, {} subproblem(s), first \
+             tour {}",
             p.subproblems,
             p.first_tour_length.unwrap_or(c.length)
         ),

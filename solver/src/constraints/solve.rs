@@ -188,6 +188,7 @@ fn solve_sequence_inner<C: Cost + ?Sized, R: StepRule + ?Sized>(
         stop,
         observer,
         after_search,
+        ..
     } = hooks;
     let trace = Mutex::new(Vec::new());
     let record = |imp: Improvement| {

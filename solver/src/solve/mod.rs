@@ -6,7 +6,8 @@ pub(crate) mod settings;
 pub(crate) mod solver;
 
 pub use prove::{
-    lower_bound, prove_optimal, Certificate, ExactMethod, LowerBoundError, ProveError, ProveOptions,
+    lower_bound, prove_optimal, Certificate, ExactMethod, LowerBoundError, ProveError,
+    ProveOptions, Prover, ProverAnswer,
 };
 pub use settings::{solve_with, Hooks, Outcome, Settings, SettingsError, SolveWithError};
 pub use solver::{AsymmetricMode, Method, Solution, SolveError, Solver, DEFAULT_NEIGHBOURS};

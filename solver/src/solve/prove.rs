@@ -5,7 +5,9 @@
 //! - up to [`DP_DIRECT_LIMIT`] nodes, or asymmetric costs up to [`DP_LIMIT`] nodes: the dynamic
 //!   programme of [`crate::exact`], exact for either kind of costs;
 //! - larger symmetric costs: a short iterated Lin–Kernighan-style search for a first tour,
-//!   then the branch and bound of [`crate::bounds::branch`] on the 1-tree bound;
+//!   then branch and cut when a [`Prover`] is supplied ([`ProveOptions::prover`]; the
+//!   cutting-plane crate `wend-cuts` supplies one), else the branch and bound of
+//!   [`crate::bounds::branch`] on the 1-tree bound;
 //! - larger asymmetric costs are refused with [`ProveError::AsymmetricTooLarge`].
 //!
 //! With a time limit the answer may come back unproven: the best tour found, the best lower
@@ -19,7 +21,36 @@ use crate::exact::{optimal_path, DpError, DEFAULT_DP_MEMORY, DP_LIMIT};
 use crate::solve::{Method, SolveError, Solver};
 use crate::tour::{closed_length, Overflow, Tour, TourError};
 use crate::transform::{Ends, FixedCost, FixedEdgesError};
+use std::sync::Arc;
 use std::time::{Duration, Instant};
+
+/// An exact method for symmetric costs supplied from outside the core, as the cutting-plane
+/// crate supplies branch and cut; see [`ProveOptions::prover`].
+pub trait Prover: Send + Sync + std::fmt::Debug {
+    /// Proves `first` (a tour) optimal on symmetric `cost`, or finds a shorter tour and proves
+    /// that, within `time_limit`; when stopped or out of time, the best tour and a true lower
+    /// bound. An `Err` is a message for the user.
+    fn prove(
+        &self,
+        cost: &dyn Cost,
+        first: &[usize],
+        time_limit: Option<Duration>,
+        stop: &StopHandle,
+    ) -> Result<ProverAnswer, String>;
+}
+
+/// What a [`Prover`] established.
+#[derive(Clone, Debug)]
+pub struct ProverAnswer {
+    /// The best tour.
+    pub tour: Vec<usize>,
+    /// A lower bound on every tour.
+    pub lower_bound: i64,
+    /// True when `tour` is proven optimal.
+    pub proven_optimal: bool,
+    /// Subproblems (tree nodes) evaluated.
+    pub nodes: u64,
+}
 
 /// Symmetric instances up to this size go to the dynamic programme (it takes well under a
 /// second there); larger ones to branch and bound.
@@ -47,6 +78,9 @@ pub struct ProveOptions {
     /// Edges every tour must use (see [`Solver::fixed_edges`]), for closed tours only: the
     /// proof then holds over the tours that use them all.
     pub fixed_edges: Vec<(usize, usize)>,
+    /// Branch and cut from outside the core; with it, larger symmetric instances go to it
+    /// rather than to the 1-tree branch and bound (unless `method` says otherwise).
+    pub prover: Option<Arc<dyn Prover>>,
 }
 
 impl Default for ProveOptions {
@@ -60,6 +94,7 @@ impl Default for ProveOptions {
             method: None,
             ends: Ends::Closed,
             fixed_edges: Vec::new(),
+            prover: None,
         }
     }
 }
@@ -72,17 +107,24 @@ pub enum ExactMethod {
     DynamicProgramme,
     /// Branch and bound on the 1-tree bound.
     BranchAndBound,
+    /// Branch and cut on the linear programme, by a [`Prover`] from outside the core.
+    BranchAndCut,
 }
 
 impl ExactMethod {
     /// Both methods.
-    pub const ALL: [ExactMethod; 2] = [ExactMethod::DynamicProgramme, ExactMethod::BranchAndBound];
+    pub const ALL: [ExactMethod; 3] = [
+        ExactMethod::DynamicProgramme,
+        ExactMethod::BranchAndBound,
+        ExactMethod::BranchAndCut,
+    ];
 
     /// Name on the command line and in its JSON output.
     pub fn name(self) -> &'static str {
         match self {
             ExactMethod::DynamicProgramme => "dynamic-programme",
             ExactMethod::BranchAndBound => "branch-and-bound",
+            ExactMethod::BranchAndCut => "branch-and-cut",
         }
     }
 
@@ -107,9 +149,10 @@ pub struct Certificate {
     pub proven_optimal: bool,
     /// The method that answered.
     pub method: ExactMethod,
-    /// Branch-and-bound subproblems evaluated (zero for the dynamic programme).
+    /// Branch-and-bound or branch-and-cut subproblems evaluated (zero for the dynamic
+    /// programme).
     pub subproblems: u64,
-    /// Length of the first tour, from the heuristic search (branch and bound only).
+    /// Length of the first tour, from the heuristic search (the tree methods only).
     pub first_tour_length: Option<i64>,
     /// Wall-clock seconds of the whole call.
     pub seconds: f64,
@@ -144,6 +187,15 @@ pub enum ProveError {
         /// True when branch and bound was asked for.
         branch_asked: bool,
     },
+    /// Branch and cut asked for without a [`Prover`] to run it.
+    #[error(
+        "branch and cut needs the cutting-plane crate (wend-cuts), which was not given to this \
+         call"
+    )]
+    NoProver,
+    /// The [`Prover`] failed.
+    #[error("branch and cut: {0}")]
+    Prover(String),
     /// The dynamic programme refused (memory, overflow).
     #[error(transparent)]
     Dp(#[from] DpError),
@@ -201,7 +253,10 @@ fn prove_closed_or_path<C: Cost + ?Sized>(
     let deadline = opts.time_limit.and_then(|l| began.checked_add(l));
     let remaining = || deadline.map(|d| d.saturating_duration_since(Instant::now()));
     if opts.ends.is_path() {
-        let branch_asked = opts.method == Some(ExactMethod::BranchAndBound);
+        let branch_asked = matches!(
+            opts.method,
+            Some(ExactMethod::BranchAndBound | ExactMethod::BranchAndCut)
+        );
         if branch_asked || n + 1 > DP_LIMIT {
             return Err(ProveError::PathUnsupported {
                 n,
@@ -214,10 +269,15 @@ fn prove_closed_or_path<C: Cost + ?Sized>(
         .method
         .unwrap_or(if n <= DP_DIRECT_LIMIT || (!symmetric && n <= DP_LIMIT) {
             ExactMethod::DynamicProgramme
+        } else if opts.prover.is_some() {
+            ExactMethod::BranchAndCut
         } else {
             ExactMethod::BranchAndBound
         });
-    if !symmetric && method == ExactMethod::BranchAndBound {
+    if method == ExactMethod::BranchAndCut && opts.prover.is_none() {
+        return Err(ProveError::NoProver);
+    }
+    if !symmetric && method != ExactMethod::DynamicProgramme {
         return Err(if opts.method.is_some() {
             ProveError::Bound(BoundError::Asymmetric)
         } else {
@@ -285,6 +345,25 @@ fn prove_closed_or_path<C: Cost + ?Sized>(
         s = s.time_limit(r / 10);
     }
     let first = s.solve()?;
+    if let (ExactMethod::BranchAndCut, Some(prover)) = (method, &opts.prover) {
+        let dynamic: &dyn Cost = &cost;
+        let answer = prover
+            .prove(dynamic, first.tour.order(), remaining(), stop)
+            .map_err(ProveError::Prover)?;
+        let length = closed_length(cost, &answer.tour)?;
+        let mut tour = Tour::new(answer.tour, n)?;
+        tour.rotate_to(0);
+        return Ok(Certificate {
+            tour,
+            length,
+            lower_bound: Some(answer.lower_bound.min(length)),
+            proven_optimal: answer.proven_optimal && answer.lower_bound >= length,
+            method: ExactMethod::BranchAndCut,
+            subproblems: answer.nodes,
+            first_tour_length: Some(first.length),
+            seconds: began.elapsed().as_secs_f64(),
+        });
+    }
     let branch = BranchOptions {
         time_limit: remaining(),
         node_limit: opts.node_limit,

@@ -275,6 +275,9 @@ pub struct Hooks {
     /// Called once when the search or proof is over, before the bound (to end a progress
     /// display, say), whether it succeeded or not.
     pub after_search: Option<Box<dyn FnOnce() + Send>>,
+    /// Branch and cut from outside the core, for [`Settings::exact`] (see
+    /// [`ProveOptions::prover`]).
+    pub prover: Option<std::sync::Arc<dyn crate::solve::prove::Prover>>,
 }
 
 /// What the search found, besides the tour ([`Outcome::search`]).
@@ -467,6 +470,7 @@ pub fn solve_with<C: Cost + ?Sized>(
         stop,
         observer,
         after_search,
+        prover,
     } = hooks;
     let done = || {
         if let Some(f) = after_search {
@@ -482,6 +486,7 @@ pub fn solve_with<C: Cost + ?Sized>(
             method: settings.exact_method,
             ends: settings.ends,
             fixed_edges: settings.fixed_edges.clone(),
+            prover,
             ..ProveOptions::default()
         };
         let opts = ProveOptions {
@@ -1089,6 +1094,7 @@ mod tests {
             observer: Some(Box::new(move |_| {
                 s2.fetch_add(1, Ordering::Relaxed);
             })),
+            prover: None,
             after_search: Some(Box::new(move || {
                 a2.fetch_add(1, Ordering::Relaxed);
             })),
