@@ -291,11 +291,18 @@ fn exact_proves_published_optima_and_says_when_it_cannot() {
         ("br17.atsp", 39, "dynamic-programme"),
         ("eil51.tsp", 426, "branch-and-bound"),
         ("st70.tsp", 675, "branch-and-bound"),
+        // Branch and cut, asked for by name.
+        ("eil51.tsp", 426, "branch-and-cut"),
+        ("st70.tsp", 675, "branch-and-cut"),
     ] {
         let file = instances().join(name).display().to_string();
         let dir = tempfile::tempdir().unwrap();
         let tour = dir.path().join("t.tour").display().to_string();
-        let o = wend(&["solve", &file, "--exact", "--json", "--tour-out", &tour]);
+        let mut args = vec!["solve", &file, "--exact", "--json", "--tour-out", &tour];
+        if method == "branch-and-cut" {
+            args.extend(["--exact-method", method]);
+        }
+        let o = wend(&args);
         assert!(o.status.success(), "{name}: {}", stderr(&o));
         let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
         assert_eq!(v["proven_optimal"], true, "{v}");

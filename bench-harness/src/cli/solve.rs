@@ -77,8 +77,8 @@ pub struct SolveArgs {
     #[arg(long, conflicts_with_all = ["bound", "method", "runs", "iterations", "params", "stall_limit", "target", "neighbour_lists", "layout", "neighbour_count"])]
     exact: bool,
     /// With --exact: dynamic-programme (up to 24 nodes, either kind of costs),
-    /// branch-and-cut (symmetric costs; the default above 16 nodes) or branch-and-bound (on the
-    /// 1-tree bound, symmetric costs, kept for comparison).
+    /// branch-and-bound (on the 1-tree bound, symmetric costs; the default above 16 nodes) or
+    /// branch-and-cut (on the linear programme with subtour cuts and blossoms, symmetric costs).
     #[arg(long, value_name = "METHOD", requires = "exact")]
     exact_method: Option<String>,
     /// Seconds for the lower bound's ascent (with --bound).

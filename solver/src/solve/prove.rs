@@ -5,9 +5,10 @@
 //! - up to [`DP_DIRECT_LIMIT`] nodes, or asymmetric costs up to [`DP_LIMIT`] nodes: the dynamic
 //!   programme of [`crate::exact`], exact for either kind of costs;
 //! - larger symmetric costs: a short iterated Lin–Kernighan-style search for a first tour,
-//!   then branch and cut when a [`Prover`] is supplied ([`ProveOptions::prover`]; the
-//!   cutting-plane crate `wend-cuts` supplies one), else the branch and bound of
-//!   [`crate::bounds::branch`] on the 1-tree bound;
+//!   then the branch and bound of [`crate::bounds::branch`] on the 1-tree bound, or, asked for
+//!   by name, branch and cut from a [`Prover`] supplied in [`ProveOptions::prover`] (the
+//!   cutting-plane crate `wend-cuts` supplies one; it stays a choice until its cut families
+//!   prove every instance the 1-tree branch and bound proves);
 //! - larger asymmetric costs are refused with [`ProveError::AsymmetricTooLarge`].
 //!
 //! With a time limit the answer may come back unproven: the best tour found, the best lower
@@ -78,8 +79,8 @@ pub struct ProveOptions {
     /// Edges every tour must use (see [`Solver::fixed_edges`]), for closed tours only: the
     /// proof then holds over the tours that use them all.
     pub fixed_edges: Vec<(usize, usize)>,
-    /// Branch and cut from outside the core; with it, larger symmetric instances go to it
-    /// rather than to the 1-tree branch and bound (unless `method` says otherwise).
+    /// Branch and cut from outside the core, run when `method` asks for
+    /// [`ExactMethod::BranchAndCut`].
     pub prover: Option<Arc<dyn Prover>>,
 }
 
@@ -269,8 +270,6 @@ fn prove_closed_or_path<C: Cost + ?Sized>(
         .method
         .unwrap_or(if n <= DP_DIRECT_LIMIT || (!symmetric && n <= DP_LIMIT) {
             ExactMethod::DynamicProgramme
-        } else if opts.prover.is_some() {
-            ExactMethod::BranchAndCut
         } else {
             ExactMethod::BranchAndBound
         });
