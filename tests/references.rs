@@ -2,8 +2,8 @@
 
 use std::collections::BTreeMap;
 use std::time::Duration;
-use wend::{Cost, Method, Solver, Tour};
-use wend_tests::{all_instances, instance, instances_dir};
+use wend::{Method, Solver, Tour};
+use wend_tests::{all_instances, instance, instances_dir, shortest_tour_by_enumeration};
 use wend_tsplib::{parse_optima, read_instance, read_tour};
 
 fn optima() -> BTreeMap<String, i64> {
@@ -120,37 +120,7 @@ fn tiny_instances_are_solved_exactly() {
     for n in 0..=9 {
         let sub = wend::FnCost::new(n, true, |i, j| c.cost(i, j));
         let sol = Solver::new(&sub).solve().unwrap();
-        assert_eq!(sol.length, brute_force(&sub), "n = {n}");
-    }
-}
-
-/// Shortest closed tour by trying all (n-1)! orders with node 0 first.
-fn brute_force<C: Cost>(c: &C) -> i64 {
-    let n = c.len();
-    if n < 2 {
-        return 0;
-    }
-    let mut rest: Vec<usize> = (1..n).collect();
-    let mut best = i64::MAX;
-    permute(&mut rest, 0, &mut |p| {
-        let mut len = c.cost(0, p[0]) + c.cost(p[p.len() - 1], 0);
-        for w in p.windows(2) {
-            len += c.cost(w[0], w[1]);
-        }
-        best = best.min(len);
-    });
-    best
-}
-
-fn permute(v: &mut Vec<usize>, k: usize, f: &mut impl FnMut(&[usize])) {
-    if k == v.len() {
-        f(v);
-        return;
-    }
-    for i in k..v.len() {
-        v.swap(k, i);
-        permute(v, k + 1, f);
-        v.swap(k, i);
+        assert_eq!(sol.length, shortest_tour_by_enumeration(&sub), "n = {n}");
     }
 }
 

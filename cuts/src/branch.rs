@@ -13,7 +13,7 @@
 
 use crate::blossom::violated_blossoms;
 use crate::lp::{LpError, LpStatus, LpValues};
-use crate::subtour::{starting_edges, Cut, CutsError, SubtourLp, CUT_TOL};
+use crate::subtour::{check_costs, starting_edges, Cut, CutsError, SubtourLp, CUT_TOL};
 use crate::support::{violated_subtours, Weighted};
 use std::cmp::Ordering;
 use std::collections::BinaryHeap;
@@ -122,9 +122,9 @@ enum Settled {
     Halted(&'static str),
 }
 
-/// Integer tour lengths: a bound `b` proves no tour shorter than `ceil(b)`.
+/// [`crate::subtour::ceil_bound`] as a length.
 fn ceil_bound(b: f64) -> i64 {
-    (b - 1e-6 - 1e-9 * b.abs()).ceil() as i64
+    crate::subtour::ceil_bound(b) as i64
 }
 
 struct Tree<'c, 's, C: Cost + ?Sized> {
@@ -283,13 +283,7 @@ pub fn branch_and_cut<C: Cost + ?Sized>(
     mut progress: impl FnMut(&TreeProgress),
 ) -> Result<BranchCutResult, CutsError> {
     let began = Instant::now();
-    let n = cost.len();
-    if n < 3 {
-        return Err(CutsError::TooSmall { n });
-    }
-    if !cost.is_symmetric() {
-        return Err(CutsError::Asymmetric);
-    }
+    check_costs(cost)?;
     let edges = starting_edges(cost, options.neighbours, Some(start))?;
     let mut tree = Tree {
         sub: SubtourLp::new(cost, &edges)?,

@@ -507,6 +507,24 @@ pub(crate) fn starting_edges<C: Cost + ?Sized>(
     Ok(out)
 }
 
+/// Refuses costs the programme is not for: fewer than 3 nodes, or asymmetric.
+pub(crate) fn check_costs<C: Cost + ?Sized>(cost: &C) -> Result<(), CutsError> {
+    let n = cost.len();
+    if n < 3 {
+        return Err(CutsError::TooSmall { n });
+    }
+    if !cost.is_symmetric() {
+        return Err(CutsError::Asymmetric);
+    }
+    Ok(())
+}
+
+/// Integer tour lengths: a bound `b` proves no tour shorter than `ceil(b)` (less a hair for
+/// the floating point of the duals).
+pub(crate) fn ceil_bound(b: f64) -> f64 {
+    (b - 1e-6 - 1e-9 * b.abs()).ceil()
+}
+
 /// The subtour bound of symmetric `cost`: see the module documentation.
 pub fn subtour_bound<C: Cost + ?Sized>(
     cost: &C,
@@ -515,12 +533,7 @@ pub fn subtour_bound<C: Cost + ?Sized>(
 ) -> Result<SubtourBound, CutsError> {
     let began = Instant::now();
     let n = cost.len();
-    if n < 3 {
-        return Err(CutsError::TooSmall { n });
-    }
-    if !cost.is_symmetric() {
-        return Err(CutsError::Asymmetric);
-    }
+    check_costs(cost)?;
     let deadline = options.time_limit.map(|d| began + d);
     let start = starting_edges(cost, options.neighbours, options.tour.as_deref())?;
     let mut sub = SubtourLp::new(cost, &start)?;
@@ -616,7 +629,7 @@ fn finish<C: Cost + ?Sized>(
     began: Instant,
 ) -> Result<SubtourBound, CutsError> {
     let bound = run.best;
-    let lower = (bound - 1e-6 - 1e-9 * bound.abs()).ceil();
+    let lower = ceil_bound(bound);
     if !(lower.is_finite() && lower.abs() < 9.0e18) {
         return Err(CutsError::Overflow { value: bound });
     }
