@@ -282,24 +282,26 @@ fn asymmetric_instances_get_the_assignment_bound() {
     );
 }
 
-// Optima from the TSPLIB 95 list of optimal tour lengths: burma14 3323, br17 39 (asymmetric),
-// st70 675, eil51 426.
+// Optima from the TSPLIB 95 list of optimal tour lengths: burma14 3323, br17 39, ftv33 1286 and
+// ft53 6905 (asymmetric), st70 675, eil51 426.
 #[test]
 fn exact_proves_published_optima_and_says_when_it_cannot() {
-    for (name, optimum, method) in [
-        ("burma14.tsp", 3323, "dynamic-programme"),
-        ("br17.atsp", 39, "dynamic-programme"),
-        ("eil51.tsp", 426, "branch-and-bound"),
-        ("st70.tsp", 675, "branch-and-bound"),
-        // Branch and cut, asked for by name.
-        ("eil51.tsp", 426, "branch-and-cut"),
-        ("st70.tsp", 675, "branch-and-cut"),
+    for (name, optimum, method, by_name) in [
+        ("burma14.tsp", 3323, "dynamic-programme", false),
+        ("br17.atsp", 39, "dynamic-programme", false),
+        ("eil51.tsp", 426, "branch-and-cut", false),
+        ("st70.tsp", 675, "branch-and-cut", false),
+        ("ftv33.atsp", 1286, "branch-and-cut", false),
+        ("ft53.atsp", 6905, "branch-and-cut", false),
+        // The 1-tree branch and bound, asked for by name.
+        ("eil51.tsp", 426, "branch-and-bound", true),
+        ("st70.tsp", 675, "branch-and-bound", true),
     ] {
         let file = instances().join(name).display().to_string();
         let dir = tempfile::tempdir().unwrap();
         let tour = dir.path().join("t.tour").display().to_string();
         let mut args = vec!["solve", &file, "--exact", "--json", "--tour-out", &tour];
-        if method == "branch-and-cut" {
+        if by_name {
             args.extend(["--exact-method", method]);
         }
         let o = wend(&args);
@@ -328,12 +330,13 @@ fn exact_proves_published_optima_and_says_when_it_cannot() {
     assert!(lb <= 108159 && 108159 <= len, "{v}");
     assert_eq!(v["proven_optimal"], lb == len, "{v}");
 
-    // Asymmetric costs beyond the dynamic programme are refused with one line naming the file.
+    // The 1-tree branch and bound is for symmetric costs: asked for on asymmetric ones, a
+    // one-line refusal naming the file.
     let file = instances().join("ftv33.atsp").display().to_string();
-    let o = wend(&["solve", &file, "--exact"]);
+    let o = wend(&["solve", &file, "--exact", "--exact-method", "branch-and-bound"]);
     assert_eq!(o.status.code(), Some(2));
     let e = stderr(&o);
-    assert!(e.contains("ftv33.atsp") && e.contains("24 nodes"), "{e}");
+    assert!(e.contains("ftv33.atsp") && e.contains("symmetric"), "{e}");
     assert_eq!(e.trim().lines().count(), 1, "{e}");
 }
 

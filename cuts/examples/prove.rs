@@ -1,7 +1,7 @@
 //! Branch and cut on a TSPLIB file, from a short Lin–Kernighan-style search's tour.
 //!
 //! ```sh
-//! cargo run --release -p wend-cuts --example prove -- instances/kroA100.tsp [SECONDS]
+//! cargo run --release -p wend-cuts --example prove -- instances/kroA100.tsp [SECONDS [STRONG]]
 //! ```
 
 use std::time::Duration;
@@ -11,10 +11,16 @@ use wend_cuts::{branch_and_cut, BranchCutOptions};
 fn main() {
     let mut args = std::env::args().skip(1);
     let Some(path) = args.next() else {
-        eprintln!("usage: prove FILE.tsp [SECONDS]");
+        eprintln!("usage: prove FILE.tsp [SECONDS [STRONG]]");
         std::process::exit(2);
     };
     let seconds: f64 = args.next().and_then(|s| s.parse().ok()).unwrap_or(60.0);
+    let defaults = BranchCutOptions::default();
+    // Candidates of strong branching (0: the edge nearest 1/2).
+    let strong: usize = args
+        .next()
+        .and_then(|s| s.parse().ok())
+        .unwrap_or(defaults.strong_candidates);
     let inst = match wend_tsplib::read_instance(std::path::Path::new(&path)) {
         Ok(i) => i,
         Err(e) => {
@@ -32,7 +38,8 @@ fn main() {
         .expect("a first tour");
     let opts = BranchCutOptions {
         time_limit: Some(Duration::from_secs_f64(seconds)),
-        ..BranchCutOptions::default()
+        strong_candidates: strong,
+        ..defaults
     };
     let r = branch_and_cut(
         inst.cost(),

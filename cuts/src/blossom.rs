@@ -1,7 +1,8 @@
 //! Blossom (2-matching) inequalities from an LP point, by the odd-component heuristic.
 //!
 //! For a handle `H` and an odd number `|T| ≥ 3` of node-disjoint teeth (edges with one end in
-//! `H`), every tour satisfies `x(δ(H) \ T) − x(T) ≥ 1 − |T|`. The heuristic takes as handles
+//! `H`), every tour satisfies `x(δ(H) \ T) − x(T) ≥ 1 − |T|`, the comb inequality whose teeth
+//! are single edges (see [`Cut`]). The heuristic takes as handles
 //! the connected components of the fractional edges (`0 < x_e < 1`) and as teeth the edges at
 //! 1 leaving them: when those are odd in number and share no node, the inequality's left side
 //! is `x(δ(H) \ T) − |T|`, and `δ(H) \ T` holds no fractional edge, so it is violated by 1
@@ -48,20 +49,12 @@ pub fn violated_blossoms(n: usize, support: &[Weighted], tol: f64) -> Vec<Cut> {
         if ends.windows(2).any(|w| w[0] == w[1]) {
             continue;
         }
-        let lhs: f64 = support
-            .iter()
-            .filter(|&&(i, j, _)| inside[i] != inside[j])
-            .map(|&(i, j, x)| {
-                if teeth.binary_search(&(i.min(j), i.max(j))).is_ok() {
-                    -x
-                } else {
-                    x
-                }
-            })
-            .sum();
-        let rhs = 1.0 - teeth.len() as f64;
-        if lhs < rhs - tol {
-            out.push(Cut { set: handle, teeth });
+        let cut = Cut {
+            set: handle,
+            teeth: teeth.iter().map(|&(i, j)| vec![i, j]).collect(),
+        };
+        if cut.violated(n, support, tol) {
+            out.push(cut);
         }
     }
     out
@@ -95,7 +88,7 @@ mod tests {
         let b = violated_blossoms(6, &e, 1e-6);
         assert_eq!(b.len(), 2, "{b:?}");
         assert_eq!(b[0].set, vec![0, 1, 2]);
-        assert_eq!(b[0].teeth, vec![(0, 3), (1, 4), (2, 5)]);
+        assert_eq!(b[0].teeth, vec![vec![0, 3], vec![1, 4], vec![2, 5]]);
         // Every tour of the six nodes satisfies it (all 120 orders from node 0, each of the 60
         // tours in both directions).
         let mut order: Vec<usize> = (1..6).collect();
@@ -107,7 +100,7 @@ mod tests {
                 let (i, j) = (t[k], t[(k + 1) % 6]);
                 let inside = |v: usize| v < 3;
                 if inside(i) != inside(j) {
-                    let e = (i.min(j), i.max(j));
+                    let e = vec![i.min(j), i.max(j)];
                     lhs += if b[0].teeth.contains(&e) { -1.0 } else { 1.0 };
                 }
             }

@@ -11,10 +11,8 @@
 //! whose reduced cost alone lifts the root bound to the best tour's length: no better tour
 //! uses it. Cuts are global: found at one node, they stay for all.
 
-use crate::blossom::violated_blossoms;
 use crate::lp::{LpError, LpStatus, LpValues};
-use crate::subtour::{check_costs, starting_edges, Cut, CutsError, SubtourLp, CUT_TOL};
-use crate::support::{violated_subtours, Weighted};
+use crate::subtour::{check_costs, separate, starting_edges, CutsError, Stage, SubtourLp};
 use std::cmp::Ordering;
 use std::collections::BinaryHeap;
 use std::time::{Duration, Instant};
@@ -31,6 +29,12 @@ pub struct BranchCutOptions {
     pub neighbours: usize,
     /// Blossom inequalities besides subtour cuts.
     pub blossoms: bool,
+    /// Comb inequalities besides blossoms.
+    pub combs: bool,
+    /// Strong branching: the fractional edges nearest 1/2 tried as the branching edge (each
+    /// child's LP re-solved for a few simplex iterations), the one whose weaker child rises
+    /// most chosen; 0 or 1 takes the edge nearest 1/2 without trying.
+    pub strong_candidates: usize,
 }
 
 impl Default for BranchCutOptions {
@@ -40,6 +44,8 @@ impl Default for BranchCutOptions {
             node_limit: None,
             neighbours: 10,
             blossoms: true,
+            combs: true,
+            strong_candidates: 8,
         }
     }
 }
@@ -122,6 +128,9 @@ enum Settled {
     Halted(&'static str),
 }
 
+/// Simplex iterations of each child's trial solve in strong branching.
+const STRONG_ITERATIONS: u32 = 100;
+
 /// [`crate::subtour::ceil_bound`] as a length.
 fn ceil_bound(b: f64) -> i64 {
     crate::subtour::ceil_bound(b) as i64
@@ -133,7 +142,8 @@ struct Tree<'c, 's, C: Cost + ?Sized> {
     best_tour: Vec<usize>,
     deadline: Option<Instant>,
     stop: &'s StopHandle,
-    blossoms: bool,
+    /// The cut families in use.
+    stage: Stage,
 }
 
 impl<C: Cost + ?Sized> Tree<'_, '_, C> {
@@ -188,15 +198,7 @@ impl<C: Cost + ?Sized> Tree<'_, '_, C> {
                         return Ok(Settled::Infeasible);
                     }
                     widened = true;
-                    let mut all = Vec::new();
-                    for i in 0..n {
-                        for j in i + 1..n {
-                            let out = self.sub.excluded.as_ref().is_some_and(|x| x[i * n + j]);
-                            if !out && !self.sub.column.contains_key(&(i, j)) {
-                                all.push((i, j));
-                            }
-                        }
-                    }
+                    let all = self.sub.all_missing();
                     if all.is_empty() {
                         return Ok(Settled::Infeasible);
                     }
@@ -211,13 +213,7 @@ impl<C: Cost + ?Sized> Tree<'_, '_, C> {
             }
             let v = self.sub.lp.values();
             let support = self.sub.support(&v);
-            let mut cuts: Vec<Cut> = violated_subtours(n, &support, CUT_TOL)
-                .into_iter()
-                .map(Cut::subtour)
-                .collect();
-            if cuts.is_empty() && self.blossoms {
-                cuts = violated_blossoms(n, &support, CUT_TOL);
-            }
+            let cuts = separate(n, &support, self.stage);
             if !cuts.is_empty() {
                 self.sub.drop_slack_cuts(&v, 3)?;
                 self.sub.add_cuts(cuts)?;
@@ -234,24 +230,74 @@ impl<C: Cost + ?Sized> Tree<'_, '_, C> {
         }
     }
 
-    /// The tour of an integral point without subtours, from node 0.
-    fn tour_of(&self, support: &[Weighted]) -> Option<Vec<usize>> {
-        let n = self.sub.n;
-        let mut adj: Vec<Vec<usize>> = vec![Vec::new(); n];
-        for &(i, j, x) in support {
-            if x > 0.5 {
-                adj[i].push(j);
-                adj[j].push(i);
+    /// The edge to branch on at the point `v`: `None` when it is integral. See
+    /// [`BranchCutOptions::strong_candidates`].
+    fn choose(&mut self, v: &LpValues, candidates: usize) -> Result<Option<usize>, CutsError> {
+        let mut frac: Vec<(f64, usize)> =
+            v.x.iter()
+                .enumerate()
+                .filter(|(_, &x)| x > 1e-6 && x < 1.0 - 1e-6)
+                .map(|(c, &x)| ((x - 0.5).abs(), c))
+                .collect();
+        frac.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+        let Some(&(_, first)) = frac.first() else {
+            return Ok(None);
+        };
+        if candidates <= 1 || frac.len() == 1 {
+            return Ok(Some(first));
+        }
+        frac.truncate(candidates);
+        let z = self.sub.lp.objective();
+        // A child found infeasible on the edges in the programme counts as a large rise.
+        let infeasible = 1e3 * (z.abs() + 1.0);
+        let mut best = (f64::NEG_INFINITY, first);
+        for &(_, c) in &frac {
+            let mut rise = [0.0; 2];
+            for (k, value) in [0.0, 1.0].into_iter().enumerate() {
+                self.sub.lp.set_col_bounds(c, value, value)?;
+                rise[k] = match self.sub.lp.probe(STRONG_ITERATIONS) {
+                    Ok(Some(zc)) => (zc - z).max(0.0),
+                    Ok(None) => infeasible,
+                    // Out of time: the choice so far.
+                    Err(LpError::Unsolved { .. }) => {
+                        self.sub.lp.set_col_bounds(c, 0.0, 1.0)?;
+                        return Ok(Some(best.1));
+                    }
+                    Err(e) => return Err(e.into()),
+                };
+            }
+            self.sub.lp.set_col_bounds(c, 0.0, 1.0)?;
+            // The product rule: both children should rise.
+            let score = rise[0].max(1e-6) * rise[1].max(1e-6);
+            if score > best.0 {
+                best = (score, c);
             }
         }
-        if adj.iter().any(|a| a.len() != 2) {
+        Ok(Some(best.1))
+    }
+
+    /// The tour of an integral point without subtours, from node 0 (over arcs, in their
+    /// direction).
+    fn tour_of(&self, v: &LpValues) -> Option<Vec<usize>> {
+        let n = self.sub.n;
+        let mut adj: Vec<Vec<usize>> = vec![Vec::new(); n];
+        for (&(i, j), &x) in self.sub.edges.iter().zip(&v.x) {
+            if x > 0.5 {
+                adj[i].push(j);
+                if !self.sub.directed {
+                    adj[j].push(i);
+                }
+            }
+        }
+        let degree = if self.sub.directed { 1 } else { 2 };
+        if adj.iter().any(|a| a.len() != degree) {
             return None;
         }
         let mut tour = vec![0];
         let (mut prev, mut at) = (0, adj[0][0]);
         while at != 0 {
             tour.push(at);
-            let next = if adj[at][0] == prev {
+            let next = if adj[at][0] == prev && degree == 2 {
                 adj[at][1]
             } else {
                 adj[at][0]
@@ -273,7 +319,7 @@ fn tour_length<C: Cost + ?Sized>(cost: &C, tour: &[usize]) -> i64 {
         .fold(0i64, i64::saturating_add)
 }
 
-/// Optimal tour of symmetric `cost` by branch and cut, from `start` (a tour: the first upper
+/// Optimal tour of `cost` (symmetric, or asymmetric over arcs) by branch and cut, from `start` (a tour: the first upper
 /// bound). See the module documentation. `progress` is called after every node settled.
 pub fn branch_and_cut<C: Cost + ?Sized>(
     cost: &C,
@@ -291,7 +337,11 @@ pub fn branch_and_cut<C: Cost + ?Sized>(
         best_tour: start.to_vec(),
         deadline: options.time_limit.map(|d| began + d),
         stop,
-        blossoms: options.blossoms,
+        stage: match (options.blossoms, options.combs) {
+            (_, true) => Stage::Comb,
+            (true, false) => Stage::Blossom,
+            (false, false) => Stage::Subtour,
+        },
     };
     let mut heap = BinaryHeap::new();
     let mut seq = 0u64;
@@ -335,19 +385,10 @@ pub fn branch_and_cut<C: Cost + ?Sized>(
                 if nodes == 1 {
                     root_bound = bound;
                 }
-                let support = tree.sub.support(&v);
-                let fractional = tree
-                    .sub
-                    .edges
-                    .iter()
-                    .enumerate()
-                    .zip(&v.x)
-                    .filter(|(_, &x)| x > 1e-6 && x < 1.0 - 1e-6)
-                    .min_by(|a, b| (a.1 - 0.5).abs().total_cmp(&(b.1 - 0.5).abs()))
-                    .map(|((c, _), _)| c);
+                let fractional = tree.choose(&v, options.strong_candidates)?;
                 match fractional {
                     None => {
-                        if let Some(t) = tree.tour_of(&support) {
+                        if let Some(t) = tree.tour_of(&v) {
                             let len = tour_length(cost, &t);
                             if len < tree.best {
                                 tree.best = len;
@@ -453,12 +494,26 @@ fn fix_by_reduced_cost<C: Cost + ?Sized>(
     Ok(count)
 }
 
+/// A callback for the tree's progress.
+pub type TreeObserver = std::sync::Arc<dyn Fn(&TreeProgress) + Send + Sync>;
+
 /// [`branch_and_cut`] as the core's exact method for `wend::prove_optimal` and
 /// `wend::solve_with` (give it in `ProveOptions::prover` or `Hooks::prover`).
-#[derive(Clone, Debug, Default)]
+#[derive(Clone, Default)]
 pub struct BranchCutProver {
     /// Options other than the time limit, which the call gives.
     pub options: BranchCutOptions,
+    /// Called after every node settled (for a progress display).
+    pub progress: Option<TreeObserver>,
+}
+
+impl std::fmt::Debug for BranchCutProver {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("BranchCutProver")
+            .field("options", &self.options)
+            .field("progress", &self.progress.is_some())
+            .finish()
+    }
 }
 
 impl wend::Prover for BranchCutProver {
@@ -473,7 +528,12 @@ impl wend::Prover for BranchCutProver {
             time_limit,
             ..self.options.clone()
         };
-        let r = branch_and_cut(cost, first, &options, stop, |_| {}).map_err(|e| e.to_string())?;
+        let r = branch_and_cut(cost, first, &options, stop, |p| {
+            if let Some(f) = &self.progress {
+                f(p);
+            }
+        })
+        .map_err(|e| e.to_string())?;
         Ok(wend::ProverAnswer {
             tour: r.tour,
             lower_bound: r.lower_bound,

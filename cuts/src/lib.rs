@@ -3,6 +3,7 @@
 //! - [`lp`]: the LP solver, held between solves;
 //! - [`support`]: violated subtour cuts from an LP point, found exactly by minimum cuts;
 //! - [`blossom`]: violated blossom inequalities, by the odd-component heuristic;
+//! - [`comb`]: violated comb inequalities, by heuristics on the LP's support graph;
 //! - [`subtour`]: the subtour bound by cutting planes and column generation;
 //! - [`branch`]: branch and cut on that programme, with the best tour known as the upper bound.
 //!
@@ -11,11 +12,12 @@
 
 pub mod blossom;
 pub mod branch;
+pub mod comb;
 pub mod lp;
 pub mod subtour;
 pub mod support;
 
 pub use branch::{
-    branch_and_cut, BranchCutOptions, BranchCutProver, BranchCutResult, TreeProgress,
+    branch_and_cut, BranchCutOptions, BranchCutProver, BranchCutResult, TreeObserver, TreeProgress,
 };
 pub use subtour::{subtour_bound, Cut, CutsError, SubtourBound, SubtourOptions};

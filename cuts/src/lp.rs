@@ -9,8 +9,9 @@ use highs_sys::{
     HighsInt, Highs_addCols, Highs_addRows, Highs_changeColBounds, Highs_create,
     Highs_deleteRowsBySet, Highs_destroy, Highs_getModelStatus, Highs_getNumCol, Highs_getNumRow,
     Highs_getObjectiveValue, Highs_getSolution, Highs_run, Highs_setBoolOptionValue,
-    Highs_setDoubleOptionValue, Highs_setStringOptionValue, MODEL_STATUS_INFEASIBLE,
-    MODEL_STATUS_OPTIMAL, STATUS_ERROR,
+    Highs_setDoubleOptionValue, Highs_setIntOptionValue, Highs_setStringOptionValue,
+    MODEL_STATUS_INFEASIBLE, MODEL_STATUS_OPTIMAL, MODEL_STATUS_REACHED_ITERATION_LIMIT,
+    STATUS_ERROR,
 };
 use std::ffi::{c_void, CString};
 use std::ptr::NonNull;
@@ -149,6 +150,41 @@ impl Lp {
         // SAFETY: as in `set_bool`.
         let s = unsafe { Highs_setDoubleOptionValue(self.highs.as_ptr(), name.as_ptr(), value) };
         checked(s, "a number option")
+    }
+
+    fn set_int(&mut self, name: &str, value: i32) -> Result<(), LpError> {
+        let name = CString::new(name).map_err(|_| LpError::Refused { call: "option" })?;
+        // SAFETY: as in `set_bool`.
+        let s = unsafe {
+            Highs_setIntOptionValue(self.highs.as_ptr(), name.as_ptr(), HighsInt::from(value))
+        };
+        checked(s, "an integer option")
+    }
+
+    /// A solve of at most `iterations` simplex iterations from the last basis, for an estimate
+    /// (strong branching): the objective where it stopped, or `None` when the programme was
+    /// found infeasible. The limit is lifted again before returning.
+    pub fn probe(&mut self, iterations: u32) -> Result<Option<f64>, LpError> {
+        self.set_int(
+            "simplex_iteration_limit",
+            i32::try_from(iterations).unwrap_or(i32::MAX),
+        )?;
+        // SAFETY: the instance is live.
+        let s = unsafe { Highs_run(self.highs.as_ptr()) };
+        // SAFETY: as above.
+        let status = unsafe { Highs_getModelStatus(self.highs.as_ptr()) };
+        self.set_int("simplex_iteration_limit", i32::MAX)?;
+        if status == MODEL_STATUS_INFEASIBLE {
+            Ok(None)
+        } else if status == MODEL_STATUS_OPTIMAL || status == MODEL_STATUS_REACHED_ITERATION_LIMIT {
+            Ok(Some(self.objective()))
+        } else if s == STATUS_ERROR {
+            Err(LpError::Refused { call: "solve" })
+        } else {
+            Err(LpError::Unsolved {
+                status: i64::from(status),
+            })
+        }
     }
 
     /// A time limit for each solve, seconds.

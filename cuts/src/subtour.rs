@@ -1,5 +1,4 @@
-//! The subtour linear programme of symmetric costs, solved by cutting planes and column
-//! generation.
+//! The subtour linear programme, solved by cutting planes and column generation.
 //!
 //! Over the edges `e = {i, j}` of the complete graph:
 //!
@@ -21,8 +20,15 @@
 //! edge, `Σ 2 y_v + Σ 2 π_S + Σ_e min(0, c_e − y_i − y_j − Σ_{S: e ∈ δ(S)} π_S)`, valid for
 //! any duals (with `π_S ≥ 0`): it equals the LP value once every edge prices out, and stays a
 //! true lower bound on every tour when the loop is cut short.
+//!
+//! Asymmetric costs get the same programme over arcs: the assignment rows (one arc out of and
+//! one into every node) in place of the degree rows, and the same cuts on the sum of the two
+//! directions of each pair, `x(δ(S)) ≥ 2` counting arcs out of and into `S` (with the
+//! assignment rows, one arc out of `S` at least). Every cut family of the undirected programme
+//! holds over arcs, since a directed tour is an undirected one.
 
 use crate::blossom::violated_blossoms;
+use crate::comb::violated_combs;
 use crate::lp::{Entries, Lp, LpError, LpStatus, LpValues};
 use crate::support::{violated_subtours, Weighted};
 use std::collections::HashMap;
@@ -50,6 +56,8 @@ pub struct SubtourOptions {
     pub slack_solves: usize,
     /// After the subtour bound, add blossom inequalities (odd-component heuristic).
     pub blossoms: bool,
+    /// After the blossoms, add comb inequalities (heuristics on the support graph).
+    pub combs: bool,
 }
 
 impl Default for SubtourOptions {
@@ -60,6 +68,7 @@ impl Default for SubtourOptions {
             tour: None,
             slack_solves: 3,
             blossoms: true,
+            combs: true,
         }
     }
 }
@@ -80,6 +89,9 @@ pub struct SubtourBound {
     /// The bound when the subtour cuts were done (every edge priced out, no subtour cut
     /// violated), before any blossom: the subtour bound. `None` when stopped before.
     pub subtour_only: Option<f64>,
+    /// The bound when the blossoms were done too (no blossom found violated), before any comb;
+    /// `None` when stopped before or when blossoms were not asked for.
+    pub with_blossoms: Option<f64>,
     /// Why the loop ended early, when it did (`time_limit`, `stopped`).
     pub stopped: Option<&'static str>,
     /// LP solves.
@@ -88,6 +100,8 @@ pub struct SubtourBound {
     pub cuts_added: usize,
     /// Blossoms among them.
     pub blossoms_added: usize,
+    /// Combs with a tooth of more than two nodes among them.
+    pub combs_added: usize,
     /// Cuts in the last LP.
     pub cuts_in_lp: usize,
     /// Edges (columns) in the last LP.
@@ -111,9 +125,6 @@ pub enum CutsError {
         /// Nodes.
         n: usize,
     },
-    /// Asymmetric costs (this programme is over undirected edges).
-    #[error("the subtour programme over edges needs symmetric costs")]
-    Asymmetric,
     /// The starting tour is not a permutation of the nodes.
     #[error("the starting tour is not a tour of the {n} nodes")]
     BadTour {
@@ -135,17 +146,19 @@ pub enum CutsError {
     Infeasible,
 }
 
-/// A cut to add: a node set `S` and, for a blossom, its teeth (edges with one end in `S`).
+/// A cut to add: a node set `S` (the handle of a comb) and, for a comb, its teeth.
 ///
-/// With no teeth it is the subtour cut `x(δ(S)) ≥ 2`; with an odd number `|T| ≥ 3` of
-/// node-disjoint teeth it is the blossom (2-matching) inequality
-/// `x(δ(S) \ T) − x(T) ≥ 1 − |T|`.
+/// With no teeth it is the subtour cut `x(δ(S)) ≥ 2`. With an odd number `k ≥ 3` of
+/// pairwise disjoint teeth, each meeting the handle and leaving it, it is the comb inequality
+/// `x(δ(H)) + Σ_i x(δ(T_i)) ≥ 3k + 1`; a blossom is the comb whose teeth are single edges
+/// (two nodes each). Over directed arcs, `x(δ(S))` sums the arcs leaving and entering `S`,
+/// and every inequality holds for the same reason: a directed tour is an undirected one.
 #[derive(Clone, Debug, PartialEq, Eq, Hash)]
 pub struct Cut {
-    /// The node set (the handle of a blossom), sorted.
+    /// The node set (the handle of a comb), sorted.
     pub set: Vec<usize>,
-    /// Teeth of a blossom, each `(i, j)` with `i < j`; empty for a subtour cut.
-    pub teeth: Vec<(usize, usize)>,
+    /// The teeth of a comb, each a sorted node set; empty for a subtour cut.
+    pub teeth: Vec<Vec<usize>>,
 }
 
 impl Cut {
@@ -156,77 +169,114 @@ impl Cut {
             teeth: Vec::new(),
         }
     }
+
+    /// The right-hand side: 2 for a subtour cut, `3k + 1` for a comb of `k` teeth.
+    pub fn rhs(&self) -> f64 {
+        if self.teeth.is_empty() {
+            2.0
+        } else {
+            3.0 * self.teeth.len() as f64 + 1.0
+        }
+    }
+
+    /// The left-hand side at the point `edges` over nodes `0..n`: `x(δ(S))` summed over the
+    /// handle and every tooth.
+    pub fn lhs(&self, n: usize, edges: &[Weighted]) -> f64 {
+        std::iter::once(&self.set)
+            .chain(&self.teeth)
+            .map(|s| {
+                let mut inside = vec![false; n];
+                for &v in s {
+                    inside[v] = true;
+                }
+                crate::support::crossing(edges, &inside)
+            })
+            .sum()
+    }
+
+    /// True when the point `edges` breaks the cut by more than `tol`.
+    pub fn violated(&self, n: usize, edges: &[Weighted], tol: f64) -> bool {
+        self.lhs(n, edges) < self.rhs() - tol
+    }
 }
 
 /// A cut in the programme.
 #[derive(Clone, Debug)]
 pub(crate) struct CutRow {
-    /// The node set, sorted.
+    /// The handle, sorted.
     pub members: Vec<usize>,
-    /// Membership of every node.
-    pub inside: Vec<bool>,
-    /// Teeth (coefficient −1), sorted; empty for a subtour cut.
-    pub teeth: Vec<(usize, usize)>,
-    /// Right-hand side: 2, or 1 − |teeth| for a blossom.
+    /// The teeth, each sorted.
+    pub teeth: Vec<Vec<usize>>,
+    /// Membership of every node in the handle (first) and in each tooth.
+    pub inside: Vec<Vec<bool>>,
+    /// Right-hand side: 2, or 3k + 1 for a comb.
     pub rhs: f64,
     /// Solves in a row it stayed slack with a zero dual.
     pub slack: usize,
 }
 
 impl CutRow {
-    /// The coefficient of edge `{i, j}` in the row.
+    /// The coefficient of edge or arc `(i, j)` in the row: how many of its sets it crosses.
     pub fn coef(&self, i: usize, j: usize) -> f64 {
-        if self.inside[i] == self.inside[j] {
-            0.0
-        } else if !self.teeth.is_empty() && self.teeth.binary_search(&key(i, j)).is_ok() {
-            -1.0
-        } else {
-            1.0
-        }
+        self.inside.iter().filter(|s| s[i] != s[j]).count() as f64
+    }
+
+    /// The handle and the teeth.
+    fn sets(&self) -> impl Iterator<Item = &Vec<usize>> {
+        std::iter::once(&self.members).chain(&self.teeth)
     }
 }
 
 /// The subtour programme held between solves.
+///
+/// Over undirected edges (symmetric costs) a column is an edge `{i, j}`, kept as `(i, j)` with
+/// `i < j`, and node `v` has one degree row `x(δ(v)) = 2`. Over directed arcs (asymmetric
+/// costs) a column is an arc `(i, j)`, and node `v` has two rows: one arc out, one arc in (the
+/// assignment rows, `v` and `n + v`). Cuts follow, in row order.
 pub(crate) struct SubtourLp<'c, C: Cost + ?Sized> {
     pub cost: &'c C,
     pub n: usize,
+    /// Columns are arcs (asymmetric costs).
+    pub directed: bool,
     pub lp: Lp,
-    /// Ends of each column's edge (i < j).
+    /// Ends of each column's edge (i < j) or arc.
     pub edges: Vec<(usize, usize)>,
     pub column: HashMap<(usize, usize), usize>,
-    /// Cut rows, in row order after the n degree rows.
+    /// Cut rows, in row order after the degree rows.
     pub cuts: Vec<CutRow>,
     pub cuts_added: usize,
     /// Blossoms among them.
     pub blossoms_added: usize,
+    /// Combs with a tooth of more than two nodes among them.
+    pub combs_added: usize,
     pub edges_priced_in: usize,
     /// Columns held at 0 or 1 (branching, reduced-cost fixing).
     pub fixed: HashMap<usize, bool>,
-    /// Edges `i < j` (index `i·n + j`) left out of every tour that could beat the best known:
-    /// pricing skips them.
+    /// Edges `i < j` or arcs `(i, j)` (index `i·n + j`) left out of every tour that could beat
+    /// the best known: pricing skips them.
     pub excluded: Option<Vec<bool>>,
 }
 
-fn key(i: usize, j: usize) -> (usize, usize) {
-    (i.min(j), i.max(j))
-}
-
 impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
-    /// Degree rows and the starting edges.
+    /// Degree rows and the starting edges; arcs when the costs are asymmetric.
     pub fn new(cost: &'c C, start: &[(usize, usize)]) -> Result<Self, CutsError> {
         let n = cost.len();
+        let directed = !cost.is_symmetric();
         let mut lp = Lp::new()?;
-        let entries: Vec<&Entries> = vec![&[]; n];
-        lp.add_rows(&vec![2.0; n], &vec![2.0; n], &entries)?;
+        let (rows, rhs) = if directed { (2 * n, 1.0) } else { (n, 2.0) };
+        let entries: Vec<&Entries> = vec![&[]; rows];
+        lp.add_rows(&vec![rhs; rows], &vec![rhs; rows], &entries)?;
         let mut me = SubtourLp {
             cost,
             n,
+            directed,
             lp,
             edges: Vec::new(),
             column: HashMap::new(),
             cuts: Vec::new(),
             cuts_added: 0,
             blossoms_added: 0,
+            combs_added: 0,
             edges_priced_in: 0,
             fixed: HashMap::new(),
             excluded: None,
@@ -235,25 +285,64 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
         Ok(me)
     }
 
+    /// Rows before the first cut.
+    pub fn degree_rows(&self) -> usize {
+        if self.directed {
+            2 * self.n
+        } else {
+            self.n
+        }
+    }
+
+    /// The column key of `(i, j)`: the arc itself, or the edge with its smaller end first.
+    pub fn key(&self, i: usize, j: usize) -> (usize, usize) {
+        if self.directed {
+            (i, j)
+        } else {
+            (i.min(j), i.max(j))
+        }
+    }
+
+    /// Every edge or arc of the complete graph not left out and not yet in the programme.
+    pub fn all_missing(&self) -> Vec<(usize, usize)> {
+        let n = self.n;
+        let mut all = Vec::new();
+        for i in 0..n {
+            let from = if self.directed { 0 } else { i + 1 };
+            for j in from..n {
+                let out = self.excluded.as_ref().is_some_and(|x| x[i * n + j]);
+                if i != j && !out && !self.column.contains_key(&(i, j)) {
+                    all.push((i, j));
+                }
+            }
+        }
+        all
+    }
+
     /// Adds the edges not yet in the programme, with their entries in the degree rows and in
     /// every cut they cross.
     pub fn add_edges(&mut self, list: &[(usize, usize)]) -> Result<usize, CutsError> {
         let mut fresh = Vec::new();
         for &(i, j) in list {
-            let k = key(i, j);
+            let k = self.key(i, j);
             if i != j && !self.column.contains_key(&k) {
                 self.column.insert(k, self.edges.len() + fresh.len());
                 fresh.push(k);
             }
         }
+        let base = self.degree_rows();
         let entries: Vec<Vec<(usize, f64)>> = fresh
             .iter()
             .map(|&(i, j)| {
-                let mut e = vec![(i, 1.0), (j, 1.0)];
+                let mut e = if self.directed {
+                    vec![(i, 1.0), (self.n + j, 1.0)]
+                } else {
+                    vec![(i, 1.0), (j, 1.0)]
+                };
                 for (k, c) in self.cuts.iter().enumerate() {
                     let a = c.coef(i, j);
                     if a != 0.0 {
-                        e.push((self.n + k, a));
+                        e.push((base + k, a));
                     }
                 }
                 e
@@ -271,27 +360,33 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
         Ok(k)
     }
 
-    /// Adds the cuts given (subtour cuts and blossoms).
+    /// Adds the cuts given (subtour cuts and combs).
     pub fn add_cuts(&mut self, cuts: Vec<Cut>) -> Result<(), CutsError> {
         let mut rows = Vec::new();
         let mut lower = Vec::new();
         for cut in cuts {
-            let mut inside = vec![false; self.n];
-            for &v in &cut.set {
-                inside[v] = true;
+            let rhs = cut.rhs();
+            if !cut.teeth.is_empty() {
+                if cut.teeth.iter().all(|t| t.len() == 2) {
+                    self.blossoms_added += 1;
+                } else {
+                    self.combs_added += 1;
+                }
             }
-            let mut teeth = cut.teeth;
-            teeth.sort_unstable();
-            let rhs = if teeth.is_empty() {
-                2.0
-            } else {
-                self.blossoms_added += 1;
-                1.0 - teeth.len() as f64
-            };
+            let inside = std::iter::once(&cut.set)
+                .chain(&cut.teeth)
+                .map(|s| {
+                    let mut m = vec![false; self.n];
+                    for &v in s {
+                        m[v] = true;
+                    }
+                    m
+                })
+                .collect();
             let row = CutRow {
                 members: cut.set,
+                teeth: cut.teeth,
                 inside,
-                teeth,
                 rhs,
                 slack: 0,
             };
@@ -316,9 +411,10 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
     /// Removes cuts that stayed slack with a zero dual for `after` solves in a row (counted
     /// with the values of the last solve).
     pub fn drop_slack_cuts(&mut self, v: &LpValues, after: usize) -> Result<(), CutsError> {
+        let base = self.degree_rows();
         let mut gone = Vec::new();
         for (k, c) in self.cuts.iter_mut().enumerate() {
-            let row = self.n + k;
+            let row = base + k;
             let value: f64 = self
                 .edges
                 .iter()
@@ -335,7 +431,7 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
             }
         }
         if !gone.is_empty() {
-            let rows: Vec<usize> = gone.iter().map(|k| self.n + k).collect();
+            let rows: Vec<usize> = gone.iter().map(|k| base + k).collect();
             self.lp.delete_rows(&rows)?;
             let mut k = 0;
             self.cuts.retain(|_| {
@@ -347,67 +443,90 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
         Ok(())
     }
 
-    /// The support graph of the last solve.
+    /// The support graph of the last solve: edges `i < j` with a positive value; over arcs,
+    /// the two directions of each pair summed (what every cut family reads).
     pub fn support(&self, v: &LpValues) -> Vec<Weighted> {
-        self.edges
+        let positive = self
+            .edges
             .iter()
             .zip(&v.x)
-            .filter(|(_, &x)| x > SUPPORT_EPS)
-            .map(|(&(i, j), &x)| (i, j, x.min(1.0)))
-            .collect()
+            .filter(|(_, &x)| x > SUPPORT_EPS);
+        if !self.directed {
+            return positive.map(|(&(i, j), &x)| (i, j, x.min(1.0))).collect();
+        }
+        let mut sum: HashMap<(usize, usize), f64> = HashMap::new();
+        for (&(i, j), &x) in positive {
+            *sum.entry((i.min(j), i.max(j))).or_insert(0.0) += x;
+        }
+        let mut out: Vec<Weighted> = sum
+            .into_iter()
+            .map(|((i, j), x)| (i, j, x.min(1.0)))
+            .collect();
+        out.sort_by_key(|a| (a.0, a.1));
+        out
     }
 
-    /// Calls `f(i, j, reduced cost)` for every edge `i < j` of the complete graph, with the
-    /// duals `v` (cut duals below zero taken as zero); returns `Σ 2 y_v + Σ rhs_S π_S`.
+    /// Calls `f(i, j, reduced cost)` for every column key `(i, j)` of the complete graph
+    /// (edges `i < j`, or every arc), with the duals `v` (cut duals below zero taken as zero);
+    /// returns the dual objective's constant part, `Σ rhs · dual` over the degree rows and cuts.
     pub fn scan(&self, v: &LpValues, mut f: impl FnMut(usize, usize, f64)) -> f64 {
         let n = self.n;
-        let y = &v.row_dual[..n];
+        let base = self.degree_rows();
+        let y = &v.row_dual[..base];
         let pi: Vec<f64> = (0..self.cuts.len())
-            .map(|k| v.row_dual.get(n + k).copied().unwrap_or(0.0).max(0.0))
+            .map(|k| v.row_dual.get(base + k).copied().unwrap_or(0.0).max(0.0))
             .collect();
-        // p[v]: Σ π over cuts holding v; by_node[v]: those cuts.
+        // Every set of every cut with a positive dual: p[v] = Σ π over the sets holding v,
+        // by_node[v] = those sets (cut, set).
         let mut p = vec![0.0; n];
-        let mut by_node: Vec<Vec<usize>> = vec![Vec::new(); n];
+        let mut by_node: Vec<Vec<(usize, usize)>> = vec![Vec::new(); n];
         for (k, c) in self.cuts.iter().enumerate() {
             if pi[k] > 0.0 {
-                for &m in &c.members {
-                    p[m] += pi[k];
-                    by_node[m].push(k);
+                for (s, set) in c.sets().enumerate() {
+                    for &m in set {
+                        p[m] += pi[k];
+                        by_node[m].push((k, s));
+                    }
                 }
             }
         }
-        // Teeth have coefficient −1 where the membership sum counts +1: 2π back for each.
-        let mut teeth: HashMap<(usize, usize), f64> = HashMap::new();
-        for (k, c) in self.cuts.iter().enumerate() {
-            if pi[k] > 0.0 {
-                for &t in &c.teeth {
-                    *teeth.entry(t).or_insert(0.0) += 2.0 * pi[k];
-                }
+        let set = |k: usize, s: usize| -> &Vec<usize> {
+            if s == 0 {
+                &self.cuts[k].members
+            } else {
+                &self.cuts[k].teeth[s - 1]
             }
-        }
-        // q[j]: Σ π over cuts holding both i and j, for the current i.
+        };
+        // q[j]: Σ π over the sets holding both i and j, for the current i; an edge crosses a
+        // set holding exactly one of its ends.
         let mut q = vec![0.0; n];
         for i in 0..n {
-            for &k in &by_node[i] {
-                for &m in &self.cuts[k].members {
+            for &(k, s) in &by_node[i] {
+                for &m in set(k, s) {
                     q[m] += pi[k];
                 }
             }
-            for j in i + 1..n {
-                let crossing = p[i] + p[j] - 2.0 * q[j];
-                let mut rc = self.cost.cost(i, j) as f64 - y[i] - y[j] - crossing;
-                if !teeth.is_empty() {
-                    rc += teeth.get(&(i, j)).copied().unwrap_or(0.0);
+            let from = if self.directed { 0 } else { i + 1 };
+            for j in from..n {
+                if j == i {
+                    continue;
                 }
-                f(i, j, rc);
+                let crossing = p[i] + p[j] - 2.0 * q[j];
+                let degree = if self.directed {
+                    y[i] + y[n + j]
+                } else {
+                    y[i] + y[j]
+                };
+                f(i, j, self.cost.cost(i, j) as f64 - degree - crossing);
             }
-            for &k in &by_node[i] {
-                for &m in &self.cuts[k].members {
+            for &(k, s) in &by_node[i] {
+                for &m in set(k, s) {
                     q[m] = 0.0;
                 }
             }
         }
-        2.0 * y.iter().sum::<f64>()
+        let degree_rhs = if self.directed { 1.0 } else { 2.0 };
+        degree_rhs * y.iter().sum::<f64>()
             + self
                 .cuts
                 .iter()
@@ -501,20 +620,23 @@ pub(crate) fn starting_edges<C: Cost + ?Sized>(
     if k > 0 {
         let lists = candidates(cost, k, CandidateSource::Quadrant);
         for i in 0..n {
-            out.extend(lists.out(i).iter().map(|&j| (i, j as usize)));
+            // Both directions: over arcs, a near pair is a candidate either way.
+            out.extend(
+                lists
+                    .out(i)
+                    .iter()
+                    .flat_map(|&j| [(i, j as usize), (j as usize, i)]),
+            );
         }
     }
     Ok(out)
 }
 
-/// Refuses costs the programme is not for: fewer than 3 nodes, or asymmetric.
+/// Refuses costs the programme is not for: fewer than 3 nodes.
 pub(crate) fn check_costs<C: Cost + ?Sized>(cost: &C) -> Result<(), CutsError> {
     let n = cost.len();
     if n < 3 {
         return Err(CutsError::TooSmall { n });
-    }
-    if !cost.is_symmetric() {
-        return Err(CutsError::Asymmetric);
     }
     Ok(())
 }
@@ -525,7 +647,8 @@ pub(crate) fn ceil_bound(b: f64) -> f64 {
     (b - 1e-6 - 1e-9 * b.abs()).ceil()
 }
 
-/// The subtour bound of symmetric `cost`: see the module documentation.
+/// The subtour bound of `cost` (over arcs when asymmetric), with blossoms and combs when
+/// asked for: see the module documentation.
 pub fn subtour_bound<C: Cost + ?Sized>(
     cost: &C,
     options: &SubtourOptions,
@@ -541,12 +664,14 @@ pub fn subtour_bound<C: Cost + ?Sized>(
         solves: 0,
         best: f64::NEG_INFINITY,
         subtour_only: None,
+        with_blossoms: None,
         value: f64::NAN,
         support: Vec::new(),
     };
-    let mut blossom_stage = false;
+    // The families in use: subtour cuts (stage 0), then blossoms (1), then combs (2).
+    let mut stage = Stage::Subtour;
     let mut stopped = None;
-    loop {
+    'solve: loop {
         if stop.is_stopped() {
             stopped = Some("stopped");
         } else if deadline.is_some_and(|d| Instant::now() >= d) {
@@ -576,13 +701,7 @@ pub fn subtour_bound<C: Cost + ?Sized>(
         // Every solve's duals give a true bound; the best of them is kept.
         let (bound, fresh) = sub.price(&v, n.max(100));
         run.best = run.best.max(bound);
-        let mut cuts: Vec<Cut> = violated_subtours(n, &run.support, CUT_TOL)
-            .into_iter()
-            .map(Cut::subtour)
-            .collect();
-        if cuts.is_empty() && blossom_stage {
-            cuts = violated_blossoms(n, &run.support, CUT_TOL);
-        }
+        let cuts = separate(n, &run.support, stage);
         if !cuts.is_empty() {
             sub.drop_slack_cuts(&v, options.slack_solves)?;
             sub.add_cuts(cuts)?;
@@ -592,21 +711,55 @@ pub fn subtour_bound<C: Cost + ?Sized>(
             sub.edges_priced_in += sub.add_edges(&fresh)?;
             continue;
         }
-        // The LP optimum over every edge, no cut of the families in use violated.
-        if run.subtour_only.is_none() {
-            run.subtour_only = Some(bound);
-        }
-        if options.blossoms && !blossom_stage {
-            blossom_stage = true;
-            let b = violated_blossoms(n, &run.support, CUT_TOL);
-            if !b.is_empty() {
-                sub.add_cuts(b)?;
-                continue;
+        // The LP optimum over every edge, no cut of the families in use violated: the bound
+        // of these families; the next family in turn, if asked for.
+        loop {
+            match stage {
+                Stage::Subtour => run.subtour_only = Some(bound),
+                Stage::Blossom => run.with_blossoms = Some(bound),
+                Stage::Comb => {}
+            }
+            stage = match stage {
+                Stage::Subtour if options.blossoms => Stage::Blossom,
+                Stage::Subtour | Stage::Blossom if options.combs => Stage::Comb,
+                _ => return finish(&sub, run, true, None, began),
+            };
+            let cuts = separate(n, &run.support, stage);
+            if !cuts.is_empty() {
+                sub.add_cuts(cuts)?;
+                continue 'solve;
             }
         }
-        return finish(&sub, run, true, None, began);
     }
     finish(&sub, run, false, stopped, began)
+}
+
+/// The cut families in use, in the order they join.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub(crate) enum Stage {
+    /// Subtour cuts only.
+    Subtour,
+    /// Subtour cuts, then blossoms.
+    Blossom,
+    /// Subtour cuts, blossoms, then combs.
+    Comb,
+}
+
+/// Violated cuts at the point `support`: subtour cuts, else (from stage [`Stage::Blossom`])
+/// blossoms, else (from stage [`Stage::Comb`]) combs.
+pub(crate) fn separate(n: usize, support: &[Weighted], stage: Stage) -> Vec<Cut> {
+    let cuts: Vec<Cut> = violated_subtours(n, support, CUT_TOL)
+        .into_iter()
+        .map(Cut::subtour)
+        .collect();
+    if !cuts.is_empty() || stage == Stage::Subtour {
+        return cuts;
+    }
+    let cuts = violated_blossoms(n, support, CUT_TOL);
+    if !cuts.is_empty() || stage == Stage::Blossom {
+        return cuts;
+    }
+    violated_combs(n, support, CUT_TOL)
 }
 
 /// What the loop keeps between solves.
@@ -616,6 +769,8 @@ struct Run {
     best: f64,
     /// The bound when subtour cuts alone were done.
     subtour_only: Option<f64>,
+    /// The bound when blossoms were done too.
+    with_blossoms: Option<f64>,
     /// The last LP's value and point.
     value: f64,
     support: Vec<Weighted>,
@@ -638,11 +793,13 @@ fn finish<C: Cost + ?Sized>(
         lagrangian: bound,
         lp_value: run.value,
         subtour_only: run.subtour_only,
+        with_blossoms: run.with_blossoms,
         complete,
         stopped,
         solves: run.solves,
         cuts_added: sub.cuts_added,
         blossoms_added: sub.blossoms_added,
+        combs_added: sub.combs_added,
         cuts_in_lp: sub.cuts.len(),
         edges_in_lp: sub.edges.len(),
         edges_priced_in: sub.edges_priced_in,

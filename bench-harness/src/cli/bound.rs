@@ -22,9 +22,10 @@ pub struct BoundArgs {
     /// Length of a known tour: sets the ascent's step size and ends it once reached.
     #[arg(long, value_name = "LENGTH")]
     upper_bound: Option<i64>,
-    /// The bound of the linear programme with cutting planes instead of the 1-tree ascent:
-    /// degree equations over a sparse edge set, subtour cuts found exactly by minimum cuts,
-    /// edges priced in from the complete graph (symmetric costs).
+    /// The bound of the linear programme with cutting planes instead of the 1-tree ascent (or
+    /// the assignment bound): degree equations over a sparse edge set (assignment rows over
+    /// arcs for asymmetric costs), subtour cuts found exactly by minimum cuts, then blossoms
+    /// and combs, edges priced in from the complete graph.
     #[arg(long)]
     lp: bool,
     /// Print exactly one JSON object on stdout instead of a summary.
@@ -126,13 +127,6 @@ fn assignment(a: &BoundArgs, inst: &wend_tsplib::Instance) -> Result<(), CliErro
 
 /// The LP bound with cutting planes.
 fn lp(a: &BoundArgs, inst: &wend_tsplib::Instance) -> Result<(), CliError> {
-    if !inst.cost().is_symmetric() {
-        return Err(CliError::Input(format!(
-            "{}: --lp needs symmetric costs for now (asymmetric costs get the assignment bound \
-             without it)",
-            a.path.display()
-        )));
-    }
     let opts = SubtourOptions {
         time_limit: Some(Duration::from_secs_f64(a.time_limit.min(1.0e9))),
         ..SubtourOptions::default()
@@ -157,11 +151,15 @@ fn lp(a: &BoundArgs, inst: &wend_tsplib::Instance) -> Result<(), CliError> {
                 "complete": b.complete,
                 "stop_reason": b.stopped,
                 "families": [
-                    {"family": "subtour", "cuts_added": b.cuts_added - b.blossoms_added,
+                    {"family": "subtour",
+                     "cuts_added": b.cuts_added - b.blossoms_added - b.combs_added,
                      "bound_after": b.subtour_only},
                     {"family": "blossom", "cuts_added": b.blossoms_added,
+                     "bound_after": b.with_blossoms},
+                    {"family": "comb", "cuts_added": b.combs_added,
                      "bound_after": b.complete.then_some(b.lagrangian)}
                 ],
+                "over": if inst.cost().is_symmetric() { "edges" } else { "arcs" },
                 "lp_solves": b.solves,
                 "cuts_in_lp": b.cuts_in_lp,
                 "edges_in_lp": b.edges_in_lp,
@@ -176,13 +174,22 @@ fn lp(a: &BoundArgs, inst: &wend_tsplib::Instance) -> Result<(), CliError> {
         if let Some(st) = b.subtour_only {
             println!("subtour      {st:.3} (subtour cuts alone)");
         }
+        if let Some(bl) = b.with_blossoms {
+            println!("blossoms     {bl:.3} (subtour cuts and blossoms)");
+        }
+        let columns = if inst.cost().is_symmetric() {
+            "edges"
+        } else {
+            "arcs"
+        };
         println!(
-            "LP           {:.3} after {} solve(s): {} cut(s) added ({} blossoms), {} in the \
-             last LP, {} edges ({} priced in)",
+            "LP           {:.3} after {} solve(s): {} cut(s) added ({} blossoms, {} combs), {} \
+             in the last LP, {} {columns} ({} priced in)",
             b.lagrangian,
             b.solves,
             b.cuts_added,
             b.blossoms_added,
+            b.combs_added,
             b.cuts_in_lp,
             b.edges_in_lp,
             b.edges_priced_in

@@ -9,17 +9,22 @@ use std::time::Duration;
 use wend::{Hooks, Settings};
 use wend_tsplib::{TourFile, TsplibError};
 
-/// The progress display (new bests, unless a proof runs) and Ctrl-C handling of a solve.
+/// The progress display (new bests, or branch and cut's tree when a proof runs) and Ctrl-C
+/// handling of a solve.
 pub(super) fn hooks(settings: &Settings, json: bool) -> Hooks {
     let limit = settings
         .time_limit
         .map(|t| Duration::from_secs_f64(t.min(1.0e9)));
     let progress = Progress::start(limit, !json || std::io::stderr().is_terminal());
+    let prover = wend_cuts::BranchCutProver {
+        progress: Some(std::sync::Arc::new(progress.tree_observer())),
+        ..wend_cuts::BranchCutProver::default()
+    };
     Hooks {
         stop: super::interrupt::handle(),
         observer: (!settings.exact).then(|| Box::new(progress.observer()) as _),
         after_search: Some(Box::new(move || progress.finish())),
-        prover: Some(std::sync::Arc::new(wend_cuts::BranchCutProver::default())),
+        prover: Some(std::sync::Arc::new(prover)),
     }
 }
 

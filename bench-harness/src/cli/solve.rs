@@ -72,13 +72,15 @@ pub struct SolveArgs {
     #[arg(long)]
     bound: bool,
     /// Prove the tour optimal: the dynamic programme up to 16 nodes (24 for asymmetric costs),
-    /// else a short lk search and branch and bound on the 1-tree bound (symmetric costs only).
-    /// With --time-limit, the best tour and bound when time runs out; JSON `proven_optimal`.
+    /// else a short lk search and branch and cut on the linear programme (symmetric and
+    /// asymmetric costs). With --time-limit, the best tour and bound when time runs out; JSON
+    /// `proven_optimal`, `lower_bound`, `exact_method`, `subproblems` (nodes of the tree).
     #[arg(long, conflicts_with_all = ["bound", "method", "runs", "iterations", "params", "stall_limit", "target", "neighbour_lists", "layout", "neighbour_count"])]
     exact: bool,
-    /// With --exact: dynamic-programme (up to 24 nodes, either kind of costs),
-    /// branch-and-bound (on the 1-tree bound, symmetric costs; the default above 16 nodes) or
-    /// branch-and-cut (on the linear programme with subtour cuts and blossoms, symmetric costs).
+    /// With --exact: dynamic-programme (up to 24 nodes, either kind of costs), branch-and-cut
+    /// (on the linear programme with subtour cuts, blossoms and combs, either kind of costs;
+    /// the default above the dynamic programme's range) or branch-and-bound (on the 1-tree
+    /// bound, symmetric costs, kept for comparison).
     #[arg(long, value_name = "METHOD", requires = "exact")]
     exact_method: Option<String>,
     /// Seconds for the lower bound's ascent (with --bound).

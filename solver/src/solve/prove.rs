@@ -4,12 +4,13 @@
 //!
 //! - up to [`DP_DIRECT_LIMIT`] nodes, or asymmetric costs up to [`DP_LIMIT`] nodes: the dynamic
 //!   programme of [`crate::exact`], exact for either kind of costs;
-//! - larger symmetric costs: a short iterated Lin–Kernighan-style search for a first tour,
-//!   then the branch and bound of [`crate::bounds::branch`] on the 1-tree bound, or, asked for
-//!   by name, branch and cut from a [`Prover`] supplied in [`ProveOptions::prover`] (the
-//!   cutting-plane crate `wend-cuts` supplies one; it stays a choice until its cut families
-//!   prove every instance the 1-tree branch and bound proves);
-//! - larger asymmetric costs are refused with [`ProveError::AsymmetricTooLarge`].
+//! - larger costs: a short iterated Lin–Kernighan-style search for a first tour, then branch
+//!   and cut from a [`Prover`] supplied in [`ProveOptions::prover`] (the cutting-plane crate
+//!   `wend-cuts` supplies one, for symmetric and asymmetric costs); without one, or asked for
+//!   by name, the branch and bound of [`crate::bounds::branch`] on the 1-tree bound (symmetric
+//!   costs only);
+//! - larger asymmetric costs without a prover are refused with
+//!   [`ProveError::AsymmetricTooLarge`].
 //!
 //! With a time limit the answer may come back unproven: the best tour found, the best lower
 //! bound known (none when the dynamic programme was stopped) and `proven_optimal == false`.
@@ -25,10 +26,10 @@ use crate::transform::{Ends, FixedCost, FixedEdgesError};
 use std::sync::Arc;
 use std::time::{Duration, Instant};
 
-/// An exact method for symmetric costs supplied from outside the core, as the cutting-plane
-/// crate supplies branch and cut; see [`ProveOptions::prover`].
+/// An exact method supplied from outside the core, as the cutting-plane crate supplies branch
+/// and cut; see [`ProveOptions::prover`].
 pub trait Prover: Send + Sync + std::fmt::Debug {
-    /// Proves `first` (a tour) optimal on symmetric `cost`, or finds a shorter tour and proves
+    /// Proves `first` (a tour) optimal on `cost` (symmetric or not), or finds a shorter tour and proves
     /// that, within `time_limit`; when stopped or out of time, the best tour and a true lower
     /// bound. An `Err` is a message for the user.
     fn prove(
@@ -164,8 +165,8 @@ pub struct Certificate {
 pub enum ProveError {
     /// Asymmetric costs beyond the dynamic programme's reach.
     #[error(
-        "exact solving of asymmetric costs is limited to {limit} nodes (the dynamic programme); \
-         this instance has {n}"
+        "exact solving of asymmetric costs is limited to {limit} nodes (the dynamic programme) \
+         without branch and cut; this instance has {n}"
     )]
     AsymmetricTooLarge {
         /// Nodes in the instance.
@@ -270,13 +271,15 @@ fn prove_closed_or_path<C: Cost + ?Sized>(
         .method
         .unwrap_or(if n <= DP_DIRECT_LIMIT || (!symmetric && n <= DP_LIMIT) {
             ExactMethod::DynamicProgramme
+        } else if opts.prover.is_some() {
+            ExactMethod::BranchAndCut
         } else {
             ExactMethod::BranchAndBound
         });
     if method == ExactMethod::BranchAndCut && opts.prover.is_none() {
         return Err(ProveError::NoProver);
     }
-    if !symmetric && method != ExactMethod::DynamicProgramme {
+    if !symmetric && method == ExactMethod::BranchAndBound {
         return Err(if opts.method.is_some() {
             ProveError::Bound(BoundError::Asymmetric)
         } else {
