@@ -333,7 +333,13 @@ fn exact_proves_published_optima_and_says_when_it_cannot() {
     // The 1-tree branch and bound is for symmetric costs: asked for on asymmetric ones, a
     // one-line refusal naming the file.
     let file = instances().join("ftv33.atsp").display().to_string();
-    let o = wend(&["solve", &file, "--exact", "--exact-method", "branch-and-bound"]);
+    let o = wend(&[
+        "solve",
+        &file,
+        "--exact",
+        "--exact-method",
+        "branch-and-bound",
+    ]);
     assert_eq!(o.status.code(), Some(2));
     let e = stderr(&o);
     assert!(e.contains("ftv33.atsp") && e.contains("symmetric"), "{e}");

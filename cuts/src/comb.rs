@@ -44,6 +44,10 @@
 
 use crate::subtour::Cut;
 use crate::support::Weighted;
+use pathfinding::undirected::connected_components;
+use rustworkx_core::connectivity::articulation_points;
+use rustworkx_core::petgraph::graph::{NodeIndex, UnGraph};
+use rustworkx_core::petgraph::unionfind::UnionFind;
 use std::collections::{HashMap, HashSet};
 
 /// Values within this of 1 count as 1; cut values within this of 2 count as tight.
@@ -534,7 +538,7 @@ impl Level {
     fn shrink(&self) -> Option<Vec<usize>> {
         let k = self.len();
         let ones: Vec<Vec<usize>> = (0..k).map(|s| self.ones(s)).collect();
-        let mut parent: Vec<usize> = (0..k).collect();
+        let mut parent: UnionFind<usize> = UnionFind::new(k);
         let mut merged = false;
         // Inner nodes of 1-paths into the end the walk starts from.
         let mut done = vec![false; k];
@@ -546,7 +550,7 @@ impl Level {
             let (mut prev, mut at) = (s, ones[s][0]);
             let mut steps = 0;
             while ones[at].len() == 2 && at != s && steps < k {
-                union(&mut parent, s, at);
+                parent.union(s, at);
                 merged = true;
                 let next = if ones[at][0] == prev {
                     ones[at][1]
@@ -568,13 +572,13 @@ impl Level {
                 .collect();
             for &(s, t) in &lone {
                 if self.tight_triangle(s, t) {
-                    union(&mut parent, s, t);
+                    parent.union(s, t);
                     merged = true;
                 }
             }
             if !merged {
                 for &(s, t) in &lone {
-                    union(&mut parent, s, t);
+                    parent.union(s, t);
                     merged = true;
                 }
             }
@@ -586,7 +590,7 @@ impl Level {
         let mut next = 0;
         let out = (0..k)
             .map(|s| {
-                let r = find(&mut parent, s);
+                let r = parent.find_mut(s);
                 if id[r] == NONE {
                     id[r] = next;
                     next += 1;
@@ -613,105 +617,58 @@ impl Level {
     }
 }
 
-fn find(parent: &mut [usize], mut s: usize) -> usize {
-    while parent[s] != s {
-        parent[s] = parent[parent[s]];
-        s = parent[s];
-    }
-    s
-}
-
-fn union(parent: &mut [usize], a: usize, b: usize) {
-    let (ra, rb) = (find(parent, a), find(parent, b));
-    if ra != rb {
-        parent[ra.max(rb)] = ra.min(rb);
-    }
-}
-
 /// The connected components (at least 2 nodes) of the graph of neighbour lists `adj`, each
 /// sorted.
 fn components(adj: &[Vec<usize>]) -> Vec<Vec<usize>> {
-    let mut seen = vec![false; adj.len()];
-    let mut out = Vec::new();
-    for root in 0..adj.len() {
-        if seen[root] || adj[root].is_empty() {
-            continue;
-        }
-        seen[root] = true;
-        let mut part = vec![root];
-        let mut at = 0;
-        while at < part.len() {
-            let v = part[at];
-            at += 1;
-            for &w in &adj[v] {
-                if !seen[w] {
-                    seen[w] = true;
-                    part.push(w);
-                }
-            }
-        }
-        part.sort_unstable();
-        out.push(part);
-    }
+    let groups: Vec<Vec<usize>> = adj
+        .iter()
+        .enumerate()
+        .filter(|(_, a)| !a.is_empty())
+        .map(|(v, a)| std::iter::once(v).chain(a.iter().copied()).collect())
+        .collect();
+    let mut out: Vec<Vec<usize>> = connected_components::components(&groups)
+        .into_iter()
+        .map(|c| {
+            let mut c: Vec<usize> = c.into_iter().collect();
+            c.sort_unstable();
+            c
+        })
+        .filter(|c| c.len() >= 2)
+        .collect();
+    out.sort();
     out
 }
 
 /// The blocks (2-connected components, bridges included) of the graph of neighbour lists
-/// `adj` (no parallel edges), each sorted: depth-first search with low points, kept on an
-/// explicit stack.
+/// `adj` (no parallel edges), each sorted, from the biconnected components of the graph
+/// crate.
 fn blocks(adj: &[Vec<usize>]) -> Vec<Vec<usize>> {
-    let k = adj.len();
-    let mut order = vec![NONE; k];
-    let mut low = vec![0; k];
-    let mut time = 0;
-    let mut edges: Vec<(usize, usize)> = Vec::new();
-    let mut out = Vec::new();
-    for root in 0..k {
-        if order[root] != NONE || adj[root].is_empty() {
-            continue;
-        }
-        order[root] = time;
-        low[root] = time;
-        time += 1;
-        // (node, its parent, next neighbour to look at)
-        let mut frames: Vec<(usize, usize, usize)> = vec![(root, NONE, 0)];
-        while let Some(frame) = frames.last_mut() {
-            let (v, p, i) = *frame;
-            if i < adj[v].len() {
-                frame.2 += 1;
-                let w = adj[v][i];
-                if order[w] == NONE {
-                    edges.push((v, w));
-                    order[w] = time;
-                    low[w] = time;
-                    time += 1;
-                    frames.push((w, v, 0));
-                } else if w != p && order[w] < order[v] {
-                    edges.push((v, w));
-                    low[v] = low[v].min(order[w]);
-                }
-                continue;
-            }
-            frames.pop();
-            if p == NONE {
-                continue;
-            }
-            low[p] = low[p].min(low[v]);
-            if low[v] >= order[p] {
-                let mut block = Vec::new();
-                while let Some((a, b)) = edges.pop() {
-                    block.push(a);
-                    block.push(b);
-                    if (a, b) == (p, v) {
-                        break;
-                    }
-                }
-                block.sort_unstable();
-                block.dedup();
-                out.push(block);
+    let mut g: UnGraph<(), ()> = UnGraph::with_capacity(adj.len(), 0);
+    let nodes: Vec<NodeIndex> = (0..adj.len()).map(|_| g.add_node(())).collect();
+    for (v, a) in adj.iter().enumerate() {
+        for &w in a {
+            if v < w {
+                g.add_edge(nodes[v], nodes[w], ());
             }
         }
     }
+    let mut labels: hashbrown::HashMap<(NodeIndex, NodeIndex), usize> = hashbrown::HashMap::new();
+    articulation_points(&g, Some(&mut labels));
+    let mut by_label: HashMap<usize, Vec<usize>> = HashMap::new();
+    for ((a, b), label) in labels {
+        let block = by_label.entry(label).or_default();
+        block.push(a.index());
+        block.push(b.index());
+    }
+    let mut out: Vec<Vec<usize>> = by_label
+        .into_values()
+        .map(|mut b| {
+            b.sort_unstable();
+            b.dedup();
+            b
+        })
+        .collect();
+    out.sort();
     out
 }
 

@@ -13,6 +13,12 @@
 //! Errors: bad input raises `ValueError` with the core's message; a file that cannot be read or
 //! written raises `OSError` (or its subclass, e.g. `FileNotFoundError`); a fault inside the core
 //! raises `RuntimeError` and never aborts the interpreter.
+//!
+//! Exact proofs (`exact=True`): with the cargo feature `cuts` the module carries the
+//! cutting-plane crate and proves with branch and cut above the dynamic programme's range, for
+//! symmetric and asymmetric costs, as `wend solve --exact` does; without it (the default, light
+//! build: no C++ compiler needed) branch and bound on the 1-tree bound, symmetric costs only.
+//! [`exact_methods`] says which build this is.
 
 // Bad input from Python is an exception, never a panic.
 #![cfg_attr(not(test), deny(clippy::unwrap_used, clippy::expect_used))]
@@ -29,7 +35,7 @@ use serde::de::DeserializeOwned;
 use serde_json::{json, Map, Value};
 
 use wend::{solve_with, CoordCost, Cost, Ends, Hooks, MatrixCost, Method, Metric, Outcome};
-use wend::{Settings, StopHandle};
+use wend::{ExactMethod, ProveError, Prover, Settings, SolveWithError, StopHandle};
 use wend_sky::front::{search_front, Front, FrontOptions, FrontProgress};
 use wend_sky::output::{parse_utc, plan_json, CAUTION, DEMO_START_UTC};
 use wend_sky::plan::{plan, Plan, PlanOptions};
@@ -43,6 +49,46 @@ mod constrained;
 
 /// How long the calling thread waits, with the GIL released, between two looks for a signal.
 const WATCH_SLICE: Duration = Duration::from_millis(50);
+
+/// The command that builds and installs the module with branch and cut (python/README.md):
+/// maturin reads the cargo options of a PEP 517 build from pip's `build-args` setting.
+const WITH_CUTS_INSTALL: &str =
+    "python3 -m pip install ./python --config-settings=\"build-args=--features cuts\"";
+
+/// Branch and cut for exact proofs, when the module was built with the feature `cuts`.
+fn prover() -> Option<std::sync::Arc<dyn Prover>> {
+    #[cfg(feature = "cuts")]
+    {
+        Some(std::sync::Arc::new(wend_cuts::BranchCutProver::default()))
+    }
+    #[cfg(not(feature = "cuts"))]
+    {
+        None
+    }
+}
+
+/// The sentence a refusal of the light build ends with: why, and how to build it otherwise.
+fn without_cuts_note() -> String {
+    format!(
+        "this wend module was built without branch and cut (the cargo feature `cuts` of \
+         wend-python); build and install it with branch and cut: {WITH_CUTS_INSTALL}"
+    )
+}
+
+/// The message of a failed solve: the core's, and for a proof that needs branch and cut the
+/// module lacks, what to do about it.
+fn solve_error_text(e: &SolveWithError) -> String {
+    match e {
+        SolveWithError::Prove(ProveError::NoProver) => format!(
+            "exact_method \"branch-and-cut\" is not available: {}",
+            without_cuts_note()
+        ),
+        SolveWithError::Prove(ProveError::AsymmetricTooLarge { .. }) if prover().is_none() => {
+            format!("{e}; {}", without_cuts_note())
+        }
+        _ => e.to_string(),
+    }
+}
 
 /// What went wrong, and which Python exception says so.
 enum Fail {
@@ -253,12 +299,14 @@ fn solve_cost<'py>(
     let stop = StopHandle::new();
     let hooks = Hooks {
         stop: stop.clone(),
+        prover: prover(),
         ..Hooks::default()
     };
     let out = run_watched(py, &stop, move || solve_with(cost, settings, hooks))?.map_err(|e| {
+        let text = solve_error_text(&e);
         Fail::Input(match source.file {
-            Some(p) => format!("{}: {e}", p.display()),
-            None => e.to_string(),
+            Some(p) => format!("{}: {text}", p.display()),
+            None => text,
         })
     })?;
     if let Some(path) = &req.tour_out {
@@ -870,6 +918,17 @@ fn methods() -> Vec<(String, String)> {
         .collect()
 }
 
+/// The exact methods this build of the module can run, by their names: `dynamic-programme`,
+/// `branch-and-bound`, and `branch-and-cut` when built with the feature `cuts`.
+#[pyfunction]
+fn exact_methods() -> Vec<&'static str> {
+    ExactMethod::ALL
+        .into_iter()
+        .filter(|m| *m != ExactMethod::BranchAndCut || prover().is_some())
+        .map(ExactMethod::name)
+        .collect()
+}
+
 /// The wend core as a Python extension module; use it through the `wend` package.
 #[pymodule]
 #[pyo3(name = "_native")]
@@ -884,6 +943,7 @@ fn native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(write_tour, m)?)?;
     m.add_function(wrap_pyfunction!(plan_sky, m)?)?;
     m.add_function(wrap_pyfunction!(methods, m)?)?;
+    m.add_function(wrap_pyfunction!(exact_methods, m)?)?;
     m.add_function(wrap_pyfunction!(constrained::solve_points_constrained, m)?)?;
     m.add_function(wrap_pyfunction!(constrained::solve_matrix_constrained, m)?)?;
     m.add_function(wrap_pyfunction!(constrained::solve_file_constrained, m)?)?;

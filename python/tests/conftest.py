@@ -4,7 +4,13 @@ The outside references these tests check against, each named where it is used:
 - the `wend` command line (built from the same workspace) for the same seed and options;
 - TSPLIB 95's published optimal tour lengths (instances/optima.txt);
 - TSPLIB 95's distance functions (Reinelt, "TSPLIB 95", section 2), recomputed here in plain
-  Python from the files' coordinates, independently of the package.
+  Python from the files' coordinates, independently of the package; and the explicit cost
+  matrices of the asymmetric files, read here from the files.
+
+The environment variable WEND_PY_LIGHT=1 says the module under test is the light build
+(without the cargo feature `cuts`, hence without branch and cut): the branch-and-cut tests then
+check its refusals instead, and fail if the module has branch and cut after all. Without it
+they expect branch and cut and fail on a light build, saying how to build the module with it.
 """
 
 from __future__ import annotations
@@ -126,3 +132,37 @@ def parse_tour_file(path: Path) -> list:
                     return nodes
                 nodes.append(v - 1)
     return nodes
+
+
+def parse_full_matrix(path: Path) -> list:
+    """The rows of a TSPLIB file with EDGE_WEIGHT_FORMAT FULL_MATRIX, read independently."""
+    dimension = None
+    form = None
+    numbers: list = []
+    in_section = False
+    for raw in Path(path).read_text().splitlines():
+        line = raw.strip()
+        if not line:
+            continue
+        if in_section:
+            if line == "EOF" or not (line[0].isdigit() or line[0] == "-"):
+                break
+            numbers.extend(int(tok) for tok in line.split())
+            continue
+        if line.startswith("EDGE_WEIGHT_SECTION"):
+            in_section = True
+        elif ":" in line:
+            key, value = (s.strip() for s in line.split(":", 1))
+            if key == "DIMENSION":
+                dimension = int(value)
+            elif key == "EDGE_WEIGHT_FORMAT":
+                form = value
+    assert form == "FULL_MATRIX", f"{path}: EDGE_WEIGHT_FORMAT {form}"
+    assert dimension is not None and len(numbers) == dimension * dimension, path
+    return [numbers[i * dimension:(i + 1) * dimension] for i in range(dimension)]
+
+
+def matrix_tour_length(rows, order) -> int:
+    """The closed tour's length over a cost matrix: the step from i to j costs rows[i][j]."""
+    n = len(order)
+    return sum(rows[order[k]][order[(k + 1) % n]] for k in range(n))

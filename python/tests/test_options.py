@@ -247,7 +247,7 @@ def test_dir_shows_the_api_only():
     want = sorted([
         "CAUTION", "METRICS", "Problem", "SequenceResult", "SkyPlan", "TourData", "TourResult",
         "__version__",
-        "methods", "plan_sky", "read_tour", "read_tsplib", "solve_file", "solve_matrix",
+        "exact_methods", "methods", "plan_sky", "read_tour", "read_tsplib", "solve_file", "solve_matrix",
         "solve_points", "write_tour", "write_tsplib",
     ])
     assert dir(wend) == want

@@ -7,6 +7,15 @@ Solving
     and return a :class:`TourResult` with the keys of ``wend solve --json``, the order of the
     nodes (0-based) and the improvement trace.
 
+Exact proofs
+    ``exact=True`` proves the tour optimal: the dynamic programme for small instances, then
+    branch and cut on the linear programme (symmetric and asymmetric costs) when the module
+    was built with it, else branch and bound on the 1-tree bound (symmetric costs only).
+    :func:`exact_methods` says which methods this build has; the default build is light (no
+    C++ compiler needed) and leaves branch and cut out. To build it in::
+
+        python3 -m pip install ./python --config-settings="build-args=--features cuts"
+
 Solving under constraints
     The same functions take time windows (``windows``), service durations (``service``),
     optional stops with penalties (``penalty``), precedence pairs with lags (``precedence``),
@@ -60,6 +69,7 @@ __all__ = [
     "SkyPlan",
     "TourData",
     "TourResult",
+    "exact_methods",
     "methods",
     "plan_sky",
     "read_tour",
@@ -150,10 +160,14 @@ class TourResult:
         start, end: the fixed first and last node asked for, else ``None``.
 
     Of an exact proof (``exact=True``):
-        exact_method: ``dynamic-programme`` or ``branch-and-bound``.
-        proven_optimal: ``True`` when the tour is proven optimal.
-        subproblems: branch-and-bound subproblems evaluated.
-        first_tour_length: the length of the branch and bound's first tour, else ``None``.
+        exact_method: the method that answered: ``dynamic-programme``, ``branch-and-cut``
+            or ``branch-and-bound`` (see :func:`exact_methods`).
+        proven_optimal: ``True`` when the tour is proven optimal; then ``lower_bound ==
+            length``.
+        subproblems: nodes of the branch-and-cut or branch-and-bound tree evaluated (0 for
+            the dynamic programme).
+        first_tour_length: the length of the heuristic tour the tree search started from,
+            else ``None``.
 
     Keys the core adds later (``gap_note``, say) appear as attributes without a change here.
     """
@@ -343,6 +357,22 @@ class SkyPlan:
 def methods() -> _t.List[_t.Tuple[str, str]]:
     """The methods :func:`solve_points` and friends accept, as ``(name, description)``."""
     return [tuple(m) for m in _native.methods()]  # type: ignore[misc]
+
+
+def exact_methods() -> _t.List[str]:
+    """The exact methods this build of the module can run, as the names ``exact_method``
+    takes: ``dynamic-programme`` and ``branch-and-bound`` always, ``branch-and-cut`` when the
+    module was built with the cargo feature ``cuts``::
+
+        python3 -m pip install ./python --config-settings="build-args=--features cuts"
+
+    With branch and cut, ``exact=True`` uses it above the dynamic programme's range (16 nodes,
+    24 for asymmetric costs), for symmetric and asymmetric costs, as ``wend solve --exact``
+    does. Without it (the default, light build), branch and bound takes symmetric costs above
+    16 nodes, asymmetric costs above 24 nodes are refused, and ``exact_method=
+    "branch-and-cut"`` raises ValueError saying how to build the module with it.
+    """
+    return [str(m) for m in _native.exact_methods()]
 
 
 def _int_option(name: str, value: _t.Any, low: int, optional: bool = True) -> _t.Optional[int]:
@@ -543,10 +573,13 @@ _SOLVE_DOC = """
         bound: also compute a lower bound (``lower_bound``, ``proven_gap_percent``):
             Held–Karp for symmetric costs, the assignment bound for asymmetric ones.
         bound_time: seconds for the lower bound's ascent (default 10).
-        exact: prove the tour optimal instead (the dynamic programme for small instances, else
-            branch and bound; symmetric costs for the latter); with ``time_limit``, the best
+        exact: prove the tour optimal instead: the dynamic programme up to 16 nodes (24 for
+            asymmetric costs), above that branch and cut on the linear programme (symmetric and
+            asymmetric costs) when the module has it (see :func:`exact_methods`), else branch
+            and bound on the 1-tree bound (symmetric costs only). With ``time_limit``, the best
             tour and bound when time runs out. Not with the search's options above.
-        exact_method: with ``exact``: ``dynamic-programme`` or ``branch-and-bound``.
+        exact_method: with ``exact``: ``dynamic-programme``, ``branch-and-cut`` (when
+            :func:`exact_methods` lists it) or ``branch-and-bound``.
         open: find an open path (no return to the first node) instead of a closed tour.
         start, end: fix the first and/or last node of the path (0-based); with the same node
             for both, a closed tour starting there.

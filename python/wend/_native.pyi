@@ -32,6 +32,10 @@ def plan_sky(
 ) -> Dict[str, Any]: ...
 def methods() -> List[Tuple[str, str]]: ...
 
+# The exact methods this build can run: "dynamic-programme", "branch-and-bound", and
+# "branch-and-cut" when built with the cargo feature `cuts`.
+def exact_methods() -> List[str]: ...
+
 # Under constraints: `given` is a JSON object of the constraint arguments, `table_text` /
 # `table_path` a constraints table, `start` an order to improve (0-based). The result holds
 # `json` (the keys of `wend solve --json` under constraints, the schedule among them), `order`
