@@ -290,6 +290,114 @@ fn branch_and_cut_agrees_with_enumeration_on_small_random_instances() {
     }
 }
 
+/// Random integer costs on `n` nodes, 1..=100, symmetric or not, from `seed`.
+fn random_costs(n: usize, seed: u64, symmetric: bool) -> MatrixCost {
+    let mut state = seed;
+    let mut next = move || {
+        state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        (state >> 40) as i64 % 100 + 1
+    };
+    let mut w = vec![0i64; n * n];
+    for i in 0..n {
+        for j in 0..n {
+            if i != j && (!symmetric || j > i) {
+                w[i * n + j] = next();
+                if symmetric {
+                    w[j * n + i] = w[i * n + j];
+                }
+            }
+        }
+    }
+    MatrixCost::from_row_major(n, w).unwrap()
+}
+
+#[test]
+fn branch_and_cut_over_arcs_agrees_with_enumeration() {
+    // Asymmetric costs, 8 nodes: every directed tour enumerated ((8−1)! = 5040) is the oracle.
+    for seed in 0..25 {
+        let m = random_costs(8, 1000 + seed, false);
+        assert!(!m.is_symmetric());
+        let best = shortest_tour_by_enumeration(&m);
+        let b = subtour_bound(&m, &SubtourOptions::default(), &StopHandle::new()).unwrap();
+        assert!(
+            b.lower_bound <= best,
+            "seed {seed}: {} > {best}",
+            b.lower_bound
+        );
+        let start: Vec<usize> = (0..8).collect();
+        let r = branch_and_cut(
+            &m,
+            &start,
+            &BranchCutOptions::default(),
+            &StopHandle::new(),
+            |_| {},
+        )
+        .unwrap();
+        assert!(r.proven_optimal, "seed {seed}");
+        assert_eq!(r.length, best, "seed {seed}");
+        // The tour returned has that length, measured here in its direction.
+        let len: i64 = (0..8).map(|k| m.cost(r.tour[k], r.tour[(k + 1) % 8])).sum();
+        assert_eq!(len, best, "seed {seed}");
+    }
+}
+
+#[test]
+fn fixed_edges_are_held_in_the_programme() {
+    // The oracle for "shortest tour through edge {0, 1}": enumeration on costs where that edge
+    // costs a million less (every tour through it is then shorter than every tour without),
+    // plus the million back.
+    const M: i64 = 1_000_000;
+    let mut above_free_optimum = 0;
+    for seed in 0..20 {
+        let m = random_costs(8, 500 + seed, true);
+        let through = FnCost::new(8, true, |i: usize, j: usize| {
+            m.cost(i, j) - if (i.min(j), i.max(j)) == (0, 1) { M } else { 0 }
+        });
+        let fixed_best = shortest_tour_by_enumeration(&through) + M;
+        let free = subtour_bound(&m, &SubtourOptions::default(), &StopHandle::new()).unwrap();
+        let o = SubtourOptions {
+            fixed_edges: vec![(1, 0)],
+            ..SubtourOptions::default()
+        };
+        let b = subtour_bound(&m, &o, &StopHandle::new()).unwrap();
+        assert!(b.complete, "seed {seed}");
+        assert!(
+            b.lower_bound <= fixed_best,
+            "seed {seed}: {} > {fixed_best}",
+            b.lower_bound
+        );
+        // More constraints, no lower bound: the programme with the edge held at 1 is a
+        // restriction of the free one.
+        assert!(b.lagrangian >= free.lagrangian - 1e-6, "seed {seed}");
+        if b.lower_bound > shortest_tour_by_enumeration(&m) {
+            above_free_optimum += 1;
+        }
+    }
+    // Where the edge is a poor one, the bound proves it: above every free tour's length
+    // (impossible if the edge were not held).
+    assert!(above_free_optimum >= 5, "{above_free_optimum} of 20");
+    // Three fixed edges at one node: no tour.
+    let m = random_costs(8, 7, true);
+    let o = SubtourOptions {
+        fixed_edges: vec![(0, 1), (0, 2), (0, 3)],
+        ..SubtourOptions::default()
+    };
+    assert!(matches!(
+        subtour_bound(&m, &o, &StopHandle::new()),
+        Err(CutsError::FixedEdgesInfeasible { count: 3 })
+    ));
+    let o = SubtourOptions {
+        fixed_edges: vec![(0, 8)],
+        ..SubtourOptions::default()
+    };
+    assert!(matches!(
+        subtour_bound(&m, &o, &StopHandle::new()),
+        Err(CutsError::BadFixedEdge { a: 0, b: 8, n: 8 })
+    ));
+}
+
 #[test]
 fn branch_and_cut_cut_short_keeps_a_true_bound() {
     // Two nodes only: no proof for kroA100 (its root bound 20936.5 is below the optimum

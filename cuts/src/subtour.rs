@@ -58,6 +58,9 @@ pub struct SubtourOptions {
     pub blossoms: bool,
     /// After the blossoms, add comb inequalities (heuristics on the support graph).
     pub combs: bool,
+    /// Edges (arcs, for asymmetric costs) every tour must use, as node pairs: held at 1 in
+    /// the programme, so the bound is over the tours that use them all.
+    pub fixed_edges: Vec<(usize, usize)>,
 }
 
 impl Default for SubtourOptions {
@@ -69,6 +72,7 @@ impl Default for SubtourOptions {
             slack_solves: 3,
             blossoms: true,
             combs: true,
+            fixed_edges: Vec::new(),
         }
     }
 }
@@ -144,6 +148,24 @@ pub enum CutsError {
     /// The programme was infeasible (should not happen, see above).
     #[error("the subtour programme was infeasible on its edge set")]
     Infeasible,
+    /// A fixed edge names a node out of range, or a loop.
+    #[error("fixed edge {a}-{b} is not an edge of the {n} nodes (0-based)")]
+    BadFixedEdge {
+        /// Its ends.
+        a: usize,
+        /// Its ends.
+        b: usize,
+        /// Nodes.
+        n: usize,
+    },
+    /// No tour uses every fixed edge: the programme over the whole graph is infeasible.
+    #[error(
+        "no tour uses all {count} fixed edges (the programme with them held at 1 is infeasible)"
+    )]
+    FixedEdgesInfeasible {
+        /// Fixed edges given.
+        count: usize,
+    },
 }
 
 /// A cut to add: a node set `S` (the handle of a comb) and, for a comb, its teeth.
@@ -660,6 +682,21 @@ pub fn subtour_bound<C: Cost + ?Sized>(
     let deadline = options.time_limit.map(|d| began + d);
     let start = starting_edges(cost, options.neighbours, options.tour.as_deref())?;
     let mut sub = SubtourLp::new(cost, &start)?;
+    for &(a, b) in &options.fixed_edges {
+        if a >= n || b >= n || a == b {
+            return Err(CutsError::BadFixedEdge { a, b, n });
+        }
+    }
+    sub.add_edges(&options.fixed_edges)?;
+    for &(a, b) in &options.fixed_edges {
+        if let Some(&c) = sub.column.get(&sub.key(a, b)) {
+            sub.lp.set_col_bounds(c, 1.0, 1.0)?;
+            sub.fixed.insert(c, true);
+        }
+    }
+    // With fixed edges the starting set may not hold a tour that uses them: every edge comes
+    // in once before the programme is called infeasible.
+    let mut widened = false;
     let mut run = Run {
         solves: 0,
         best: f64::NEG_INFINITY,
@@ -686,6 +723,17 @@ pub fn subtour_bound<C: Cost + ?Sized>(
         }
         match sub.lp.solve() {
             Ok(LpStatus::Optimal) => {}
+            Ok(LpStatus::Infeasible) if !options.fixed_edges.is_empty() => {
+                if widened {
+                    return Err(CutsError::FixedEdgesInfeasible {
+                        count: options.fixed_edges.len(),
+                    });
+                }
+                widened = true;
+                let all = sub.all_missing();
+                sub.edges_priced_in += sub.add_edges(&all)?;
+                continue;
+            }
             Ok(LpStatus::Infeasible) => return Err(CutsError::Infeasible),
             // A solve cut short by the time limit: the bounds of the solves before stand.
             Err(LpError::Unsolved { .. }) if run.solves > 0 && deadline.is_some() => {

@@ -2,19 +2,18 @@
 //!
 //! The support graph holds the edges with `x_e > 0`, weighted by `x_e`. A node set `S` breaks
 //! a subtour constraint when `x(δ(S)) < 2`. When the support graph is disconnected, every
-//! component is such a set. When it is connected, the sets of smallest `x(δ(S))` are found by
-//! minimum cuts: one maximum flow from each node to its parent in a flow-equivalent tree
-//! (Gusfield's construction, n − 1 flows), which meets every pair's minimum cut, so no violated
-//! subtour constraint is missed; one global minimum cut first (Stoer and Wagner) tells whether
-//! any is violated at all. Flows run on capacities scaled to integers (`x_e · 10⁹`).
+//! component is such a set. When it is connected, a global minimum cut (Stoer and Wagner's
+//! algorithm) finds a set of smallest `x(δ(S))`, so no violated subtour constraint is missed;
+//! further sets come from the graph with each set found shrunk. Cuts run on capacities scaled
+//! to integers (`x_e · 10⁹`).
 
-use pathfinding::directed::edmonds_karp::edmonds_karp_sparse;
 use pathfinding::undirected::connected_components::components;
 use rustworkx_core::connectivity::stoer_wagner_min_cut;
 use rustworkx_core::petgraph::graph::{NodeIndex, UnGraph};
-use std::collections::{HashSet, VecDeque};
+use rustworkx_core::petgraph::unionfind::UnionFind;
+use std::collections::HashMap;
 
-/// Integer units per unit of `x` in the flows.
+/// Integer units per unit of `x` in the cuts.
 const SCALE: f64 = 1e9;
 
 /// An edge of the support graph: its ends and its LP value.
@@ -64,31 +63,11 @@ pub fn violated_subtours(n: usize, edges: &[Weighted], tol: f64) -> Vec<Vec<usiz
         out.dedup();
         return out;
     }
-    // The common case late in the loop: no violated cut at all. One global minimum cut
-    // (Stoer and Wagner's algorithm) settles it; only when it is below 2 do the n − 1 flows
-    // run, to collect every violated set.
-    if let Some(value) = global_min_cut(n, edges) {
-        if value >= ((2.0 - tol) * SCALE) as i64 {
-            return Vec::new();
-        }
-    }
     min_cut_sets(n, edges, tol)
 }
 
-/// The value of a global minimum cut of the support graph (capacities scaled to integers), by
-/// Stoer and Wagner's algorithm; `None` for fewer than two nodes.
-fn global_min_cut(n: usize, edges: &[Weighted]) -> Option<i64> {
-    let mut g: UnGraph<(), i64> = UnGraph::with_capacity(n, edges.len());
-    let nodes: Vec<NodeIndex> = (0..n).map(|_| g.add_node(())).collect();
-    for &(u, v, x) in edges {
-        if x > 0.0 && u != v {
-            g.add_edge(nodes[u], nodes[v], (x * SCALE).round() as i64);
-        }
-    }
-    let cut: Result<Option<(i64, Vec<NodeIndex>)>, std::convert::Infallible> =
-        stoer_wagner_min_cut(&g, |e| Ok(*e.weight()));
-    cut.ok().flatten().map(|(value, _)| value)
-}
+/// Violated sets found at most per call by [`min_cut_sets`].
+const CUTS_PER_ROUND: usize = 8;
 
 /// `s` (sorted) or its complement, whichever has fewer nodes; on a tie, the one holding node 0.
 fn smaller_side(n: usize, s: Vec<usize>) -> Vec<usize> {
@@ -102,70 +81,99 @@ fn smaller_side(n: usize, s: Vec<usize>) -> Vec<usize> {
     (0..n).filter(|&v| !inside[v]).collect()
 }
 
-/// The minimum cuts of a connected support graph below `2 − tol`, by Gusfield's n − 1 flows.
+/// Violated sets of a connected support graph by global minimum cuts (Stoer and Wagner's
+/// algorithm): the first is a minimum cut of the whole graph, so none is missed when it is not
+/// below `2 − tol`. After each set found below, the set and its most strongly joined node
+/// outside are shrunk into one node (no later cut separates them, the same set is not found
+/// twice) and the search goes on, up to [`CUTS_PER_ROUND`] sets.
 fn min_cut_sets(n: usize, edges: &[Weighted], tol: f64) -> Vec<Vec<usize>> {
-    let caps: Vec<((usize, usize), i64)> = edges
-        .iter()
-        .filter(|e| e.2 > 0.0)
-        .flat_map(|&(u, v, x)| {
-            let c = (x * SCALE).round() as i64;
-            [((u, v), c), ((v, u), c)]
-        })
-        .collect();
-    let mut adjacent: Vec<Vec<usize>> = vec![Vec::new(); n];
-    for &(u, v, x) in edges {
-        if x > 0.0 {
-            adjacent[u].push(v);
-            adjacent[v].push(u);
-        }
-    }
-    let nodes: Vec<usize> = (0..n).collect();
     let limit = ((2.0 - tol) * SCALE) as i64;
-    let mut parent = vec![0usize; n];
-    let mut found: HashSet<Vec<usize>> = HashSet::new();
-    for s in 1..n {
-        let t = parent[s];
-        let (_, value, cut) = edmonds_karp_sparse(&nodes, &s, &t, caps.iter().copied());
-        let side = source_side(n, s, &adjacent, &cut);
-        for i in s + 1..n {
-            if side[i] && parent[i] == t {
-                parent[i] = s;
+    // group[v]: the shrunk node holding v (a node id of its members). When every node meets
+    // the degree equation, the ends of every edge at 1 start shrunk together: if a set S
+    // holding u but not v (x_uv = 1) is violated, so is S ∪ {v}, since
+    // x(δ(S ∪ {v})) = x(δ(S)) + 2 − 2 x(v : S) ≤ x(δ(S)) (a safe shrinking of Padberg and
+    // Rinaldi, Mathematical Programming 47, 1990).
+    let mut group: Vec<usize> = (0..n).collect();
+    let mut degree = vec![0.0; n];
+    for &(u, v, x) in edges {
+        degree[u] += x;
+        degree[v] += x;
+    }
+    if degree.iter().all(|d| (d - 2.0).abs() < 1e-6) {
+        let mut sets = UnionFind::<usize>::new(n);
+        for &(u, v, x) in edges {
+            if x >= 1.0 - 1e-9 {
+                sets.union(u, v);
             }
         }
-        if value < limit {
-            let set: Vec<usize> = (0..n).filter(|&v| side[v]).collect();
-            found.insert(smaller_side(n, set));
+        for (v, g) in group.iter_mut().enumerate() {
+            *g = sets.find_mut(v);
         }
     }
-    let mut out: Vec<Vec<usize>> = found.into_iter().collect();
-    out.sort();
-    out
-}
-
-/// The nodes reached from `s` without crossing an edge of `cut` (the arcs a minimum cut
-/// saturates): a source side of that minimum cut.
-fn source_side(
-    n: usize,
-    s: usize,
-    adjacent: &[Vec<usize>],
-    cut: &[((usize, usize), i64)],
-) -> Vec<bool> {
-    let blocked: HashSet<(usize, usize)> = cut
-        .iter()
-        .flat_map(|&((u, v), _)| [(u, v), (v, u)])
-        .collect();
-    let mut seen = vec![false; n];
-    seen[s] = true;
-    let mut queue = VecDeque::from([s]);
-    while let Some(u) = queue.pop_front() {
-        for &v in &adjacent[u] {
-            if !seen[v] && !blocked.contains(&(u, v)) {
-                seen[v] = true;
-                queue.push_back(v);
+    let mut found: Vec<Vec<usize>> = Vec::new();
+    while found.len() < CUTS_PER_ROUND {
+        // The shrunk graph: one node per group, parallel edges summed.
+        let mut ids: Vec<usize> = group.clone();
+        ids.sort_unstable();
+        ids.dedup();
+        if ids.len() < 2 {
+            break;
+        }
+        let index = |g: usize| ids.binary_search(&g).unwrap_or(0);
+        let mut weight: HashMap<(usize, usize), i64> = HashMap::new();
+        for &(u, v, x) in edges {
+            let (a, b) = (index(group[u]), index(group[v]));
+            if a != b && x > 0.0 {
+                *weight.entry((a.min(b), a.max(b))).or_insert(0) += (x * SCALE).round() as i64;
+            }
+        }
+        let mut g: UnGraph<(), i64> = UnGraph::with_capacity(ids.len(), weight.len());
+        let nodes: Vec<NodeIndex> = (0..ids.len()).map(|_| g.add_node(())).collect();
+        let mut pairs: Vec<(&(usize, usize), &i64)> = weight.iter().collect();
+        pairs.sort_unstable();
+        for (&(a, b), &w) in pairs {
+            g.add_edge(nodes[a], nodes[b], w);
+        }
+        let cut: Result<Option<(i64, Vec<NodeIndex>)>, std::convert::Infallible> =
+            stoer_wagner_min_cut(&g, |e| Ok(*e.weight()));
+        let Some((value, side)) = cut.ok().flatten() else {
+            break;
+        };
+        if value >= limit {
+            break;
+        }
+        let mut inside = vec![false; ids.len()];
+        for v in &side {
+            inside[v.index()] = true;
+        }
+        let set: Vec<usize> = (0..n).filter(|&v| inside[index(group[v])]).collect();
+        if set.is_empty() || set.len() == n {
+            break;
+        }
+        found.push(smaller_side(n, set));
+        // Shrink the set with the shrunk node outside it joined to it most strongly.
+        let mut pull: Vec<i64> = vec![0; ids.len()];
+        for (&(a, b), &w) in &weight {
+            if inside[a] != inside[b] {
+                pull[if inside[a] { b } else { a }] += w;
+            }
+        }
+        let Some(partner) = (0..ids.len())
+            .filter(|&k| !inside[k])
+            .max_by_key(|&k| (pull[k], std::cmp::Reverse(k)))
+        else {
+            break;
+        };
+        let target = ids[partner];
+        for v in 0..n {
+            if inside[index(group[v])] {
+                group[v] = target;
             }
         }
     }
-    seen
+    found.sort();
+    found.dedup();
+    found
 }
 
 #[cfg(test)]

@@ -129,6 +129,7 @@ fn assignment(a: &BoundArgs, inst: &wend_tsplib::Instance) -> Result<(), CliErro
 fn lp(a: &BoundArgs, inst: &wend_tsplib::Instance) -> Result<(), CliError> {
     let opts = SubtourOptions {
         time_limit: Some(Duration::from_secs_f64(a.time_limit.min(1.0e9))),
+        fixed_edges: inst.fixed_edges.clone(),
         ..SubtourOptions::default()
     };
     let b = subtour_bound(inst.cost(), &opts, &super::interrupt::handle())
@@ -160,6 +161,7 @@ fn lp(a: &BoundArgs, inst: &wend_tsplib::Instance) -> Result<(), CliError> {
                      "bound_after": b.complete.then_some(b.lagrangian)}
                 ],
                 "over": if inst.cost().is_symmetric() { "edges" } else { "arcs" },
+                "fixed_edges": inst.fixed_edges.len(),
                 "lp_solves": b.solves,
                 "cuts_in_lp": b.cuts_in_lp,
                 "edges_in_lp": b.edges_in_lp,
@@ -170,6 +172,12 @@ fn lp(a: &BoundArgs, inst: &wend_tsplib::Instance) -> Result<(), CliError> {
         );
     } else {
         println!("instance     {} ({} nodes)", inst.name, inst.dimension);
+        if !inst.fixed_edges.is_empty() {
+            println!(
+                "fixed        {} edge(s) held at 1: the bound is over the tours that use them",
+                inst.fixed_edges.len()
+            );
+        }
         println!("lower bound  {}", b.lower_bound);
         if let Some(st) = b.subtour_only {
             println!("subtour      {st:.3} (subtour cuts alone)");
