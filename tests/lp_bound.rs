@@ -257,24 +257,9 @@ fn branch_and_cut_proves_published_optima() {
 #[test]
 fn branch_and_cut_agrees_with_enumeration_on_small_random_instances() {
     // Every tour of 8 nodes enumerated ((8−1)!/2 = 2520 tours): the test oracle.
-    let mut state = 99u64;
-    let mut next = move || {
-        state = state
-            .wrapping_mul(6364136223846793005)
-            .wrapping_add(1442695040888963407);
-        (state >> 40) as i64 % 100
-    };
-    for _ in 0..25 {
+    for seed in 0..25 {
         let n = 8;
-        let mut w = vec![0i64; n * n];
-        for i in 0..n {
-            for j in i + 1..n {
-                let c = next() + 1;
-                w[i * n + j] = c;
-                w[j * n + i] = c;
-            }
-        }
-        let m = MatrixCost::from_row_major(n, w).unwrap();
+        let m = random_costs(n, 99 + seed, true);
         let best = shortest_tour_by_enumeration(&m);
         let start: Vec<usize> = (0..n).collect();
         let r = branch_and_cut(

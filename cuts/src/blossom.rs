@@ -61,7 +61,7 @@ pub fn violated_blossoms(n: usize, support: &[Weighted], tol: f64) -> Vec<Cut> {
 }
 
 #[cfg(test)]
-mod tests {
+pub(crate) mod tests {
     use super::*;
 
     /// The classic fractional point on two triangles joined by three edges at 1 (the
@@ -125,7 +125,8 @@ mod tests {
         assert!(violated_blossoms(5, &e, 1e-6).is_empty());
     }
 
-    fn permute(v: &mut Vec<usize>, k: usize, f: &mut impl FnMut(&[usize])) {
+    /// Calls `f` with every order of `v[k..]` (the prefix kept).
+    pub(crate) fn permute(v: &mut Vec<usize>, k: usize, f: &mut impl FnMut(&[usize])) {
         if k == v.len() {
             f(v);
             return;

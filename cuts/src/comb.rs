@@ -675,6 +675,7 @@ fn blocks(adj: &[Vec<usize>]) -> Vec<Vec<usize>> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::blossom::tests::permute;
     use crate::blossom::violated_blossoms;
     use crate::support::violated_subtours;
 
@@ -783,18 +784,6 @@ mod tests {
                     .collect()
             })
             .collect()
-    }
-
-    fn permute(v: &mut Vec<usize>, k: usize, f: &mut impl FnMut(&[usize])) {
-        if k == v.len() {
-            f(v);
-            return;
-        }
-        for i in k..v.len() {
-            v.swap(k, i);
-            permute(v, k + 1, f);
-            v.swap(k, i);
-        }
     }
 
     /// The least tour cost under `coef`, over every order of the nodes from node 0.
