@@ -85,7 +85,8 @@ pub struct BranchCutResult {
     pub cuts_added: usize,
     /// Edges left out by reduced-cost fixing after the root.
     pub edges_fixed_out: usize,
-    /// Why the search ended before a proof (`time_limit`, `node_limit`, `stopped`).
+    /// Why the search ended before a proof (`time_limit`, `node_limit`, `stopped`, or
+    /// `lp_unsolved` when the LP solver left nodes unsettled and the rest of the tree closed).
     pub stopped: Option<&'static str>,
     /// Wall-clock seconds.
     pub seconds: f64,
@@ -126,6 +127,8 @@ enum Settled {
     Point(f64, LpValues),
     /// Out of time or stopped.
     Halted(&'static str),
+    /// The LP solver ended without an answer before the deadline.
+    Unsolved,
 }
 
 /// Simplex iterations of each child's trial solve in strong branching.
@@ -206,9 +209,12 @@ impl<C: Cost + ?Sized> Tree<'_, '_, C> {
                     continue;
                 }
                 // The solver's own time limit is the deadline: out of time.
-                Err(LpError::Unsolved { .. }) if self.deadline.is_some() => {
+                Err(LpError::Unsolved { .. }) if self.halted().is_some() => {
                     return Ok(Settled::Halted(self.halted().unwrap_or("time_limit")));
                 }
+                // The LP solver gave up on this node (numerical trouble) with time left: the
+                // node is set aside unsettled, its bound kept as a floor of the tree's bound.
+                Err(LpError::Unsolved { .. }) => return Ok(Settled::Unsolved),
                 Err(e) => return Err(e.into()),
             }
             let v = self.sub.lp.values();
@@ -357,6 +363,8 @@ pub fn branch_and_cut<C: Cost + ?Sized>(
     });
     // The smallest bound among nodes closed for time: the tree's bound must not pass it.
     let mut halted_bound = f64::INFINITY;
+    // Nodes the LP solver could not settle.
+    let mut unsolved = 0u64;
     while let Some(node) = heap.pop() {
         if ceil_bound(node.bound) >= tree.best {
             continue;
@@ -374,6 +382,10 @@ pub fn branch_and_cut<C: Cost + ?Sized>(
                 stopped = Some(why);
                 halted_bound = halted_bound.min(node.bound);
                 break;
+            }
+            Settled::Unsolved => {
+                unsolved += 1;
+                halted_bound = halted_bound.min(node.bound);
             }
             Settled::Infeasible => {}
             Settled::Closed(bound) => {
@@ -460,7 +472,7 @@ pub fn branch_and_cut<C: Cost + ?Sized>(
         stopped: if lower_bound >= tree.best {
             None
         } else {
-            stopped
+            stopped.or((unsolved > 0).then_some("lp_unsolved"))
         },
         seconds: began.elapsed().as_secs_f64(),
     })
