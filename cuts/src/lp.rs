@@ -10,8 +10,8 @@ use highs_sys::{
     Highs_deleteRowsBySet, Highs_destroy, Highs_getModelStatus, Highs_getNumCol, Highs_getNumRow,
     Highs_getObjectiveValue, Highs_getSolution, Highs_run, Highs_setBoolOptionValue,
     Highs_setDoubleOptionValue, Highs_setIntOptionValue, Highs_setStringOptionValue,
-    MODEL_STATUS_INFEASIBLE, MODEL_STATUS_OPTIMAL, MODEL_STATUS_REACHED_ITERATION_LIMIT,
-    STATUS_ERROR,
+    Highs_zeroAllClocks, MODEL_STATUS_INFEASIBLE, MODEL_STATUS_OPTIMAL,
+    MODEL_STATUS_REACHED_ITERATION_LIMIT, STATUS_ERROR,
 };
 use std::ffi::{c_void, CString};
 use std::ptr::NonNull;
@@ -169,7 +169,11 @@ impl Lp {
             "simplex_iteration_limit",
             i32::try_from(iterations).unwrap_or(i32::MAX),
         )?;
+        // The solver's clock runs on across solves and its time limit is checked against it:
+        // zeroed first, the limit is of this solve.
         // SAFETY: the instance is live.
+        unsafe { Highs_zeroAllClocks(self.highs.as_ptr()) };
+        // SAFETY: as above.
         let s = unsafe { Highs_run(self.highs.as_ptr()) };
         // SAFETY: as above.
         let status = unsafe { Highs_getModelStatus(self.highs.as_ptr()) };
@@ -311,7 +315,11 @@ impl Lp {
 
     /// Solves from the last basis.
     pub fn solve(&mut self) -> Result<LpStatus, LpError> {
+        // The solver's clock runs on across solves and its time limit is checked against it:
+        // zeroed first, the limit is of this solve.
         // SAFETY: the instance is live.
+        unsafe { Highs_zeroAllClocks(self.highs.as_ptr()) };
+        // SAFETY: as above.
         let s = unsafe { Highs_run(self.highs.as_ptr()) };
         // SAFETY: as above.
         let status = unsafe { Highs_getModelStatus(self.highs.as_ptr()) };
