@@ -47,8 +47,4 @@ print(",".join(str(x) for x in [d["instance"], d["nodes"], d.get("exact_method")
 export -f one
 
 echo "instance,nodes,method,proven_optimal,length,lower_bound,gap_percent,optimum,subproblems,seconds"
-for f in "$dir"/*.tsp "$dir"/*.atsp; do
-  [ -e "$f" ] || continue
-  n=$(grep -m1 -E '^ *DIMENSION' "$f" | tr -dc '0-9')
-  [ -n "$n" ] && [ "$n" -ge "$min" ] && [ "$n" -le "$max" ] && printf '%s\n' "$f"
-done | xargs -P "$jobs" -I{} bash -c 'one "$1"' _ {}
+"$(dirname "$0")/instances-in-range.sh" "$dir" "$min" "$max" | xargs -P "$jobs" -I{} bash -c 'one "$1"' _ {}

@@ -47,8 +47,4 @@ print(",".join(str(x) for x in [d["instance"], d["nodes"], sys.argv[1], f2(st), 
 export -f one
 
 echo "instance,nodes,optimum,subtour_bound,subtour_gap_percent,blossom_bound,blossom_gap_percent,lp_bound,lp_gap_percent,closed_by_blossoms_percent,closed_by_combs_percent,subtour_cuts,blossoms,combs,complete,seconds"
-for f in "$dir"/*.tsp "$dir"/*.atsp; do
-  [ -e "$f" ] || continue
-  n=$(grep -m1 -E '^ *DIMENSION' "$f" | tr -dc '0-9')
-  [ -n "$n" ] && [ "$n" -ge "$min" ] && [ "$n" -le "$max" ] && printf '%s\n' "$f"
-done | xargs -P "$jobs" -I{} bash -c 'one "$1"' _ {}
+"$(dirname "$0")/instances-in-range.sh" "$dir" "$min" "$max" | xargs -P "$jobs" -I{} bash -c 'one "$1"' _ {}
