@@ -12,9 +12,23 @@
 use std::collections::BTreeMap;
 use std::time::Duration;
 use wend::{held_karp_bound, AscentOptions, Cost, FnCost, MatrixCost, StopHandle, Tour};
-use wend_cuts::{branch_and_cut, subtour_bound, BranchCutOptions, CutsError, SubtourOptions};
+use wend_cuts::{
+    branch_and_cut, subtour_bound, BranchCutOptions, BranchCutResult, CutsError, SubtourOptions,
+};
 use wend_tests::{instance, instances_dir, shortest_tour_by_enumeration};
 use wend_tsplib::{parse_optima, read_instance, read_tour};
+
+/// Branch and cut with the default options from `start`, with no stop and no progress.
+fn prove<C: Cost + ?Sized>(cost: &C, start: &[usize]) -> BranchCutResult {
+    branch_and_cut(
+        cost,
+        start,
+        &BranchCutOptions::default(),
+        &StopHandle::new(),
+        |_| {},
+    )
+    .unwrap()
+}
 
 fn optima() -> BTreeMap<String, i64> {
     let path = instances_dir().join("optima.txt");
@@ -234,14 +248,7 @@ fn branch_and_cut_proves_published_optima() {
     ] {
         let inst = read_instance(&instance(&format!("{name}.tsp"))).unwrap();
         let start = first_tour(inst.cost());
-        let r = branch_and_cut(
-            inst.cost(),
-            &start,
-            &BranchCutOptions::default(),
-            &StopHandle::new(),
-            |_| {},
-        )
-        .unwrap();
+        let r = prove(inst.cost(), &start);
         assert!(r.proven_optimal, "{name}: not proven ({:?})", r.stopped);
         assert_eq!(r.length, optima[name], "{name}");
         assert_eq!(r.lower_bound, r.length);
@@ -262,14 +269,7 @@ fn branch_and_cut_agrees_with_enumeration_on_small_random_instances() {
         let m = random_costs(n, 99 + seed, true);
         let best = shortest_tour_by_enumeration(&m);
         let start: Vec<usize> = (0..n).collect();
-        let r = branch_and_cut(
-            &m,
-            &start,
-            &BranchCutOptions::default(),
-            &StopHandle::new(),
-            |_| {},
-        )
-        .unwrap();
+        let r = prove(&m, &start);
         assert!(r.proven_optimal);
         assert_eq!(r.length, best);
     }
@@ -312,14 +312,7 @@ fn branch_and_cut_over_arcs_agrees_with_enumeration() {
             b.lower_bound
         );
         let start: Vec<usize> = (0..8).collect();
-        let r = branch_and_cut(
-            &m,
-            &start,
-            &BranchCutOptions::default(),
-            &StopHandle::new(),
-            |_| {},
-        )
-        .unwrap();
+        let r = prove(&m, &start);
         assert!(r.proven_optimal, "seed {seed}");
         assert_eq!(r.length, best, "seed {seed}");
         // The tour returned has that length, measured here in its direction.

@@ -64,10 +64,10 @@ pub fn violated_blossoms(n: usize, support: &[Weighted], tol: f64) -> Vec<Cut> {
 pub(crate) mod tests {
     use super::*;
 
-    /// The classic fractional point on two triangles joined by three edges at 1 (the
-    /// "prism"): every subtour cut holds, and the blossom with a triangle as handle and the
-    /// three joining edges as teeth is violated by 1.
-    fn prism() -> Vec<Weighted> {
+    /// The two triangles at 1/2 of the "prism" point (a common textbook example of a point
+    /// that meets every subtour constraint and breaks a blossom and so a comb): {0, 1, 2} and
+    /// {3, 4, 5}, smaller end first.
+    pub(crate) fn triangles() -> Vec<Weighted> {
         vec![
             (0, 1, 0.5),
             (1, 2, 0.5),
@@ -75,10 +75,16 @@ pub(crate) mod tests {
             (3, 4, 0.5),
             (4, 5, 0.5),
             (3, 5, 0.5),
-            (0, 3, 1.0),
-            (1, 4, 1.0),
-            (2, 5, 1.0),
         ]
+    }
+
+    /// The classic fractional point on the two triangles joined by three edges at 1 (the
+    /// "prism"): every subtour cut holds, and the blossom with a triangle as handle and the
+    /// three joining edges as teeth is violated by 1.
+    fn prism() -> Vec<Weighted> {
+        let mut e = triangles();
+        e.extend([(0, 3, 1.0), (1, 4, 1.0), (2, 5, 1.0)]);
+        e
     }
 
     #[test]

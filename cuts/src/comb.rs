@@ -675,7 +675,7 @@ fn blocks(adj: &[Vec<usize>]) -> Vec<Vec<usize>> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::blossom::tests::permute;
+    use crate::blossom::tests::{permute, triangles};
     use crate::blossom::violated_blossoms;
     use crate::support::violated_subtours;
 
@@ -686,19 +686,6 @@ mod tests {
         list.iter()
             .map(|&(i, j, x)| (i.min(j), i.max(j), x))
             .collect()
-    }
-
-    /// The two triangles at 1/2 of the "prism" point (a common textbook example of a point
-    /// that meets every subtour constraint and breaks a comb): {0, 1, 2} and {3, 4, 5}.
-    fn triangles() -> Vec<(usize, usize, f64)> {
-        vec![
-            (0, 1, 0.5),
-            (1, 2, 0.5),
-            (0, 2, 0.5),
-            (3, 4, 0.5),
-            (4, 5, 0.5),
-            (3, 5, 0.5),
-        ]
     }
 
     /// Joins `a` (first triangle) to `b` (second) through the pair `p`, `q` at 1: both
