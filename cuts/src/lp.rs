@@ -58,6 +58,8 @@ pub enum LpStatus {
 pub struct LpValues {
     /// Column values.
     pub x: Vec<f64>,
+    /// Row activities `A x`.
+    pub row_value: Vec<f64>,
     /// Row duals.
     pub row_dual: Vec<f64>,
     /// Column reduced costs.
@@ -347,10 +349,10 @@ impl Lp {
         let (n, m) = (self.cols(), self.rows());
         let mut v = LpValues {
             x: vec![0.0; n],
+            row_value: vec![0.0; m],
             row_dual: vec![0.0; m],
             reduced_cost: vec![0.0; n],
         };
-        let mut row_value = vec![0.0; m];
         // SAFETY: each array has the length of the current column or row count, as the call
         // requires.
         unsafe {
@@ -358,7 +360,7 @@ impl Lp {
                 self.highs.as_ptr(),
                 v.x.as_mut_ptr(),
                 v.reduced_cost.as_mut_ptr(),
-                row_value.as_mut_ptr(),
+                v.row_value.as_mut_ptr(),
                 v.row_dual.as_mut_ptr(),
             );
         }

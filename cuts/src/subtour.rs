@@ -437,12 +437,7 @@ impl<'c, C: Cost + ?Sized> SubtourLp<'c, C> {
         let mut gone = Vec::new();
         for (k, c) in self.cuts.iter_mut().enumerate() {
             let row = base + k;
-            let value: f64 = self
-                .edges
-                .iter()
-                .zip(&v.x)
-                .map(|(&(i, j), &x)| c.coef(i, j) * x)
-                .sum();
+            let value = v.row_value.get(row).copied().unwrap_or(f64::NEG_INFINITY);
             if value > c.rhs + 1e-6 && v.row_dual.get(row).is_none_or(|d| d.abs() < 1e-12) {
                 c.slack += 1;
                 if c.slack >= after {
