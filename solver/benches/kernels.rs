@@ -1,13 +1,13 @@
 //! Criterion benchmarks of the building blocks on random uniform instances.
 //! Run with `cargo bench -p wend --features internals --bench kernels`.
 
-use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
+use criterion::{BenchmarkId, Criterion, criterion_group, criterion_main};
 use rand::{Rng, SeedableRng};
 use wend::internals::greedy_edge;
 use wend::internals::k_nearest;
-use wend::internals::{two_opt_or_opt, ArrayTour};
-use wend::{dynamic_programme, DEFAULT_DP_MEMORY};
+use wend::internals::{ArrayTour, two_opt_or_opt};
 use wend::{CoordCost, Cost, MatrixCost, Metric};
+use wend::{DEFAULT_DP_MEMORY, dynamic_programme};
 
 fn uniform(n: usize, seed: u64) -> CoordCost {
     let mut rng = rand_pcg::Pcg64::seed_from_u64(seed);

@@ -5,7 +5,7 @@
 //!
 //! Run with `cargo run --release -p wend --example delivery_day`.
 
-use wend::constraints::{solve_sequence, Constraints, Precedence, Window};
+use wend::constraints::{Constraints, Precedence, Window, solve_sequence};
 use wend::{FnCost, Hooks, Settings};
 
 /// Minutes after midnight.

@@ -11,11 +11,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     let pos: Vec<i64> = (0..12).map(|i| (i * 37 % 12) * 5).collect();
     let rail = Solver::from_fn(pos.len(), false, |i, j| {
         let d = pos[j] - pos[i];
-        if d >= 0 {
-            d
-        } else {
-            -3 * d
-        }
+        if d >= 0 { d } else { -3 * d }
     })
     .time_limit(Duration::from_millis(300))
     .seed(1)

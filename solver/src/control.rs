@@ -7,8 +7,8 @@
 //! seed gives the same tour for any number of threads. Only a deadline, which cuts the number of
 //! restarts, can make two runs differ.
 
-use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::Arc;
+use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::{Duration, Instant};
 
 /// A shared flag that asks a running solve to stop and return its best tour so far.

@@ -335,11 +335,7 @@ impl Cost for CoordCost {
             Metric::Att => {
                 let r = ((dx * dx + dy * dy) / 10.0).sqrt();
                 let t = nint(r);
-                if (t as f64) < r {
-                    t + 1
-                } else {
-                    t
-                }
+                if (t as f64) < r { t + 1 } else { t }
             }
             Metric::Geo => {
                 if from == to {

@@ -2,7 +2,7 @@
 //! dynamic programme over subsets ([`dynamic_programme`], up to 24 nodes).
 
 use crate::cost::Cost;
-use crate::transform::{path_length, EndedCost, Ends};
+use crate::transform::{EndedCost, Ends, path_length};
 use rayon::prelude::*;
 
 /// Largest instance [`enumerate`] accepts: 8! = 40,320 orders with the first node fixed.
@@ -202,11 +202,7 @@ impl Binomials {
 
     #[inline]
     fn get(&self, a: usize, b: usize) -> usize {
-        if b > a {
-            0
-        } else {
-            self.0[a][b]
-        }
+        if b > a { 0 } else { self.0[a][b] }
     }
 
     /// Colexicographic rank of a subset among those of its size: `sum_i C(p_i, i + 1)` over its
@@ -521,7 +517,7 @@ fn fill_row<E: Entry>(
 mod tests {
     use super::*;
     use crate::cost::{FnCost, MatrixCost};
-    use crate::tour::{closed_length, Tour};
+    use crate::tour::{Tour, closed_length};
     use proptest::prelude::*;
     use std::cell::Cell;
 

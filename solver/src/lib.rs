@@ -78,6 +78,8 @@
 #![warn(missing_docs)]
 // Input reaches almost every path here: failures are errors, never `unwrap`/`expect` panics.
 #![cfg_attr(not(test), deny(clippy::unwrap_used, clippy::expect_used))]
+// Nested `if let` blocks stay: collapsing them needs let chains, newer than the minimum Rust.
+#![allow(clippy::collapsible_if)]
 
 mod bounds;
 pub mod constraints;
@@ -97,25 +99,25 @@ mod tour;
 mod transform;
 
 pub use bounds::{
-    assignment_bound, branch_and_bound, held_karp_bound, Ascent, AscentOptions, AssignmentBound,
-    AssignmentError, BoundError, BranchOptions, Proof,
+    Ascent, AscentOptions, AssignmentBound, AssignmentError, BoundError, BranchOptions, Proof,
+    assignment_bound, branch_and_bound, held_karp_bound,
 };
 pub use control::{Improvement, StopHandle, StopReason};
 pub use cost::{CoordCost, Cost, CostError, FnCost, Geometry, MatrixCost, Metric};
-pub use exact::{dynamic_programme, optimal_path, DpError, DpTour, DEFAULT_DP_MEMORY, DP_LIMIT};
+pub use exact::{DEFAULT_DP_MEMORY, DP_LIMIT, DpError, DpTour, dynamic_programme, optimal_path};
 pub use memory::MemoryError;
 pub use methods::{
-    run_steps, AnnealParams, AntLocalSearch, AntParams, CoolingSchedule, Step, StepLimits, Stepped,
+    AnnealParams, AntLocalSearch, AntParams, CoolingSchedule, Step, StepLimits, Stepped, run_steps,
 };
-pub use neighbours::{candidates, CandidateSource, ListError, Neighbours};
+pub use neighbours::{CandidateSource, ListError, Neighbours, candidates};
 pub use solve::{
-    lower_bound, prove_optimal, AsymmetricMode, Certificate, ExactMethod, LowerBoundError, Method,
-    ProveError, ProveOptions, Prover, ProverAnswer, Solution, SolveError, Solver,
-    DEFAULT_NEIGHBOURS,
+    AsymmetricMode, Certificate, DEFAULT_NEIGHBOURS, ExactMethod, LowerBoundError, Method,
+    ProveError, ProveOptions, Prover, ProverAnswer, Solution, SolveError, Solver, lower_bound,
+    prove_optimal,
 };
-pub use solve::{solve_with, Hooks, Outcome, Settings, SettingsError, SolveWithError};
-pub use tour::{closed_length, Layout, Overflow, Tour, TourError};
-pub use transform::{path_length, Ends, EndsError, FixedEdge, FixedEdgesError};
+pub use solve::{Hooks, Outcome, Settings, SettingsError, SolveWithError, solve_with};
+pub use tour::{Layout, Overflow, Tour, TourError, closed_length};
+pub use transform::{Ends, EndsError, FixedEdge, FixedEdgesError, path_length};
 
 /// Building blocks for the crate's own benchmarks and reference tests, outside the stable
 /// surface: only with the non-default feature `internals`.

@@ -66,7 +66,7 @@
 
 use crate::control::StopHandle;
 use crate::cost::Cost;
-use crate::tour::{closed_length, Overflow};
+use crate::tour::{Overflow, closed_length};
 use std::time::{Duration, Instant};
 
 /// Limits and hints for [`held_karp_bound`].
@@ -1163,11 +1163,7 @@ pub(crate) mod tests {
             5,
             true,
             |i: usize, j: usize| {
-                if i == j {
-                    0
-                } else {
-                    i64::MAX / 4
-                }
+                if i == j { 0 } else { i64::MAX / 4 }
             },
         );
         let e = held_karp_bound(&c, &AscentOptions::default(), &StopHandle::new()).unwrap_err();

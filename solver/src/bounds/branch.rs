@@ -64,11 +64,11 @@
 //! its parent's and its parent's penalties, shared with its siblings.
 
 use super::ascent::{
-    root_plan, AscentOptions, AscentPlan, Best, BoundError, EdgeRules, EdgeState, Scaled,
+    AscentOptions, AscentPlan, Best, BoundError, EdgeRules, EdgeState, Scaled, root_plan,
 };
 use crate::control::StopHandle;
 use crate::cost::Cost;
-use crate::tour::{closed_length, Tour};
+use crate::tour::{Tour, closed_length};
 use std::cmp::Ordering;
 use std::collections::BinaryHeap;
 use std::rc::Rc;

@@ -5,7 +5,7 @@ pub(crate) mod ascent;
 pub(crate) mod assignment;
 pub(crate) mod branch;
 
-pub use ascent::{held_karp_bound, Ascent, AscentOptions, BoundError};
+pub use ascent::{Ascent, AscentOptions, BoundError, held_karp_bound};
 pub(crate) use assignment::patch_cover;
-pub use assignment::{assignment_bound, AssignmentBound, AssignmentError};
-pub use branch::{branch_and_bound, BranchOptions, Proof};
+pub use assignment::{AssignmentBound, AssignmentError, assignment_bound};
+pub use branch::{BranchOptions, Proof, branch_and_bound};

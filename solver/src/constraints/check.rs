@@ -47,7 +47,9 @@ pub enum ConstraintsError {
         latest: i64,
     },
     /// Two windows of one stop overlap or are not sorted by opening time.
-    #[error("stop {stop}: window {index} does not start after window {previous} ends (windows must be disjoint and sorted)")]
+    #[error(
+        "stop {stop}: window {index} does not start after window {previous} ends (windows must be disjoint and sorted)"
+    )]
     WindowsOverlap {
         /// The stop.
         stop: usize,
@@ -155,7 +157,9 @@ pub enum ConstraintsError {
         second: usize,
     },
     /// The fixed edges close a cycle that is not a whole closed tour.
-    #[error("the fixed edges form a cycle of {len} stops through stop {stop}, which is not a tour through all {nodes} stops")]
+    #[error(
+        "the fixed edges form a cycle of {len} stops through stop {stop}, which is not a tour through all {nodes} stops"
+    )]
     FixedCycle {
         /// A stop on the cycle.
         stop: usize,
@@ -252,7 +256,7 @@ impl Constraints {
                 }
             }
         }
-        if let Some((stop, &service)) = self.service.iter().enumerate().find(|(_, &s)| s < 0) {
+        if let Some((stop, &service)) = self.service.iter().enumerate().find(|&(_, &s)| s < 0) {
             return Err(ConstraintsError::NegativeService { stop, service });
         }
         for (stop, penalty) in self.penalty.iter().enumerate() {

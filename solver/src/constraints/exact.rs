@@ -548,9 +548,9 @@ fn solve_within<C: Cost + ?Sized>(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::constraints::testing::random_instance;
-    use crate::constraints::Precedence;
     use crate::MatrixCost;
+    use crate::constraints::Precedence;
+    use crate::constraints::testing::random_instance;
     use rand::{Rng, SeedableRng};
     use rand_pcg::Pcg64;
 

@@ -22,22 +22,22 @@ mod schedule;
 mod segment;
 
 pub use check::ConstraintsError;
-pub use rule::{evaluate_with, NoRule, StepRule};
-pub use schedule::{evaluate, Evaluation, Row, Violation};
+pub use rule::{NoRule, StepRule, evaluate_with};
+pub use schedule::{Evaluation, Row, Violation, evaluate};
 pub use segment::Segment;
 
 use serde::{Deserialize, Serialize};
 
 mod exact;
-pub use exact::{solve_exact, ExactError, ExactOutcome, EXACT_LIMIT};
+pub use exact::{EXACT_LIMIT, ExactError, ExactOutcome, solve_exact};
 
 mod search;
 mod solve;
 #[cfg(test)]
 mod testing;
 pub use solve::{
-    default_stall, solve_sequence, solve_sequence_with, SequenceError, SequenceOutcome,
-    SEQUENCE_RUNS,
+    SEQUENCE_RUNS, SequenceError, SequenceOutcome, default_stall, solve_sequence,
+    solve_sequence_with,
 };
 
 /// One window of service start: service may start at any time in `earliest..=latest`.

@@ -7,7 +7,7 @@
 //! accepted; the amount by which the rule is broken counts as a violation (and, while the search
 //! crosses infeasible orders, as a penalty).
 
-use super::{evaluate, Constraints, Evaluation, Row, Violation};
+use super::{Constraints, Evaluation, Row, Violation, evaluate};
 use crate::Cost;
 
 /// A rule checked step by step along a scheduled sequence.

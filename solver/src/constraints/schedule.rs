@@ -639,9 +639,10 @@ mod tests {
         );
         c.route = Route::Path;
         let e = evaluate(&cost, &c, &[0, 1, 2]);
-        assert!(e
-            .violations
-            .contains(&Violation::FixedEdge { from: 2, to: 0 }));
+        assert!(
+            e.violations
+                .contains(&Violation::FixedEdge { from: 2, to: 0 })
+        );
     }
 
     #[test]

@@ -22,11 +22,11 @@
 //! inserting a left-out one. A kick relocates a few random chains to random places allowed by
 //! the precedence pairs, then the descent repairs.
 
-use super::{evaluate_with, Constraints, Objective, Route, Segment, StepRule, Violation};
-use crate::methods::drive::Iterative;
+use super::{Constraints, Objective, Route, Segment, StepRule, Violation, evaluate_with};
 use crate::Cost;
-use rand::seq::SliceRandom as _;
+use crate::methods::drive::Iterative;
 use rand::Rng;
+use rand::seq::SliceRandom as _;
 use rand_pcg::Pcg64;
 
 /// Most stops for which the tables of run summaries are kept (two `n × n` tables).
@@ -875,7 +875,7 @@ impl<'p, 'a, C: Cost + ?Sized, R: StepRule + ?Sized> Search<'p, 'a, C, R> {
                     .map(|&s| p.c.windows[s].last().map_or(i64::MAX, |w| w.latest))
                     .min()
                     .unwrap_or(i64::MAX);
-                let jitter = if noise { rng.gen::<u64>() } else { k as u64 };
+                let jitter = if noise { rng.r#gen::<u64>() } else { k as u64 };
                 (close, jitter)
             })
             .collect();
@@ -1114,7 +1114,7 @@ impl<C: Cost + ?Sized, R: StepRule + ?Sized> Iterative for Run<'_, '_, C, R> {
 #[cfg(test)]
 mod tests {
     use crate::constraints::testing::random_instance;
-    use crate::constraints::{evaluate, solve_exact, solve_sequence, Precedence};
+    use crate::constraints::{Precedence, evaluate, solve_exact, solve_sequence};
     use crate::{MatrixCost, Settings, StopHandle};
     use rand::{Rng, SeedableRng};
     use rand_pcg::Pcg64;

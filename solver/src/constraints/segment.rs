@@ -162,8 +162,8 @@ impl Segment {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::constraints::{evaluate, Window};
     use crate::MatrixCost;
+    use crate::constraints::{Window, evaluate};
     use proptest::prelude::*;
 
     #[test]

@@ -4,13 +4,13 @@
 
 use super::search::{Problem, Run};
 use super::{
-    evaluate_with, solve_exact, Constraints, ConstraintsError, Evaluation, ExactError, NoRule,
-    Objective, Route, StepRule, Violation,
+    Constraints, ConstraintsError, Evaluation, ExactError, NoRule, Objective, Route, StepRule,
+    Violation, evaluate_with, solve_exact,
 };
 use crate::control::{self, Improvement, StopReason};
-use crate::methods::drive::{drive, LoopPlan};
+use crate::methods::drive::{LoopPlan, drive};
 use crate::solve::settings::trace_pairs;
-use crate::{assignment_bound, Cost, Ends, Hooks, Method, Settings, SettingsError};
+use crate::{Cost, Ends, Hooks, Method, Settings, SettingsError, assignment_bound};
 use serde::Serialize;
 use std::sync::Mutex;
 use std::time::Instant;
@@ -311,7 +311,7 @@ fn start_order(c: &Constraints, n: usize, order: &[usize]) -> Result<Vec<usize>,
             None => {
                 return Err(SequenceError::Start(format!(
                     "stop {s} is not one of the {n} stops"
-                )))
+                )));
             }
             Some(true) => {
                 return Err(SequenceError::Start(format!("stop {s} appears twice")));
@@ -327,7 +327,7 @@ fn start_order(c: &Constraints, n: usize, order: &[usize]) -> Result<Vec<usize>,
             return Err(SequenceError::Start(format!(
                 "a path starts at the depot, stop {}; the start order has it elsewhere",
                 c.depot
-            )))
+            )));
         }
         None => order.insert(0, c.depot),
     }

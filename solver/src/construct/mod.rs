@@ -4,7 +4,7 @@
 pub(crate) mod start;
 pub(crate) mod tours;
 
-pub(crate) use start::start_tour;
 pub(crate) use start::Start;
+pub(crate) use start::start_tour;
 pub use tours::greedy_edge;
 pub(crate) use tours::{greedy_edge_until, nearest_neighbour, space_filling_curve};

@@ -43,7 +43,7 @@ pub(crate) fn start_tour<C: Cost + ?Sized>(
         let shift = if r == 0 {
             [0.0, 0.0]
         } else {
-            [rng.gen::<f64>(), rng.gen::<f64>()]
+            [rng.r#gen::<f64>(), rng.r#gen::<f64>()]
         };
         space_filling_curve(cost, shift)
     };

@@ -116,7 +116,7 @@ pub(crate) fn greedy_edge_until<C: Cost + ?Sized, R: Rng>(
             };
             let mut key = cost.cost(a, b) as f64;
             if noise > 0.0 {
-                key *= 1.0 + noise * rng.gen::<f64>();
+                key *= 1.0 + noise * rng.r#gen::<f64>();
             }
             edges.push((key, a, b));
         }

@@ -77,7 +77,7 @@ use super::drive::Iterative;
 use crate::cost::Cost;
 use crate::moves::two_opt_or_opt;
 use crate::neighbours::Neighbours;
-use crate::tour::{closed_length, ArrayTour, Tour, MAX_SEGMENT};
+use crate::tour::{ArrayTour, MAX_SEGMENT, Tour, closed_length};
 use rand::Rng;
 use rand_pcg::Pcg64;
 
@@ -447,7 +447,7 @@ impl<'a, C: Cost + ?Sized> Annealer<'a, C> {
     /// does not make a valid move.
     #[inline]
     fn propose(&self, rng: &mut Pcg64) -> Option<(Move, i64)> {
-        let u: f64 = rng.gen();
+        let u: f64 = rng.r#gen();
         let kind = if self.symmetric {
             if u < SYMMETRIC_MIX.0 {
                 Kind::TwoOpt
@@ -474,7 +474,7 @@ impl<'a, C: Cost + ?Sized> Annealer<'a, C> {
             Kind::TwoOpt => {
                 let a = rng.gen_range(0..n);
                 let x = self.out_candidate(a, rng);
-                if rng.gen::<bool>() {
+                if rng.r#gen::<bool>() {
                     // a b .. x y  ->  a x .. b y
                     let (b, y) = (t.next(a), t.next(x));
                     if x == b || y == a {
@@ -636,7 +636,7 @@ impl<'a, C: Cost + ?Sized> Annealer<'a, C> {
             return true;
         }
         let x = delta as f64 / self.temperature;
-        x < CUTOFF && rng.gen::<f64>() < (-x).exp()
+        x < CUTOFF && rng.r#gen::<f64>() < (-x).exp()
     }
 
     /// Ends a cycle: the optional descent, then back to the best tour at the reheat
@@ -823,7 +823,7 @@ mod tests {
     use super::*;
     use crate::control::{StopHandle, StopReason};
     use crate::cost::{CoordCost, MatrixCost, Metric};
-    use crate::methods::{drive, LoopPlan};
+    use crate::methods::{LoopPlan, drive};
     use crate::neighbours::k_nearest;
     use crate::testing::{random_costs, shuffled};
     use proptest::prelude::*;

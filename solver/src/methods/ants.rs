@@ -65,7 +65,7 @@ use crate::control::mix;
 use crate::cost::Cost;
 use crate::moves::two_opt_or_opt;
 use crate::neighbours::Neighbours;
-use crate::tour::{closed_length, ArrayTour};
+use crate::tour::{ArrayTour, closed_length};
 use rand::{Rng, SeedableRng};
 use rand_pcg::Pcg64;
 use rayon::prelude::*;
@@ -553,7 +553,7 @@ fn roulette(buf: &[(usize, f64)], total: f64, rng: &mut Pcg64) -> usize {
     if !(total > 0.0 && total.is_finite()) {
         return buf[rng.gen_range(0..buf.len())].0;
     }
-    let r = rng.gen::<f64>() * total;
+    let r = rng.r#gen::<f64>() * total;
     let mut acc = 0.0;
     for &(j, w) in buf {
         acc += w;
@@ -628,7 +628,7 @@ impl<C: Cost + ?Sized> Field<'_, C> {
         }
         let pick = if buf.is_empty() {
             self.fallback(walk, i)
-        } else if self.plan.q0 > 0.0 && rng.gen::<f64>() < self.plan.q0 {
+        } else if self.plan.q0 > 0.0 && rng.r#gen::<f64>() < self.plan.q0 {
             let mut best = buf[0];
             for &e in &buf[1..] {
                 if e.1 > best.1 {
@@ -1033,7 +1033,7 @@ impl<C: Cost + ?Sized> Iterative for Colony<'_, C> {
         if self.finished() {
             return;
         }
-        let seed = rng.gen::<u64>();
+        let seed = rng.r#gen::<u64>();
         self.generations += 1;
         let (complete, tours) = self.tours(seed, should_stop);
         let Some((length, _, order)) = tours.into_iter().min_by_key(|t| (t.0, t.1)) else {
@@ -1078,7 +1078,7 @@ mod tests {
     use super::*;
     use crate::control::{StopHandle, StopReason};
     use crate::cost::{CoordCost, MatrixCost, Metric};
-    use crate::methods::{drive, LoopPlan};
+    use crate::methods::{LoopPlan, drive};
     use crate::neighbours::k_nearest;
     use crate::testing::random_costs;
     use crate::tour::Tour;
@@ -1576,10 +1576,11 @@ mod tests {
             let e = p.set(key, bad).unwrap_err();
             assert!(e.contains(key) && e.contains(bad), "{e}");
         }
-        assert!(p
-            .set("local-search", "3opt")
-            .unwrap_err()
-            .contains("none, 2opt, lk"));
+        assert!(
+            p.set("local-search", "3opt")
+                .unwrap_err()
+                .contains("none, 2opt, lk")
+        );
         assert!(p.set("speed", "1").unwrap_err().contains("colony-size"));
         for (key, word) in [
             ("colony-size", "auto"),

@@ -25,8 +25,8 @@
 use crate::control::{self, Improvement, StopHandle, StopReason};
 use rand::SeedableRng;
 use rand_pcg::Pcg64;
-use std::sync::atomic::{AtomicBool, AtomicU64, AtomicUsize, Ordering};
 use std::sync::Mutex;
+use std::sync::atomic::{AtomicBool, AtomicU64, AtomicUsize, Ordering};
 use std::time::{Duration, Instant};
 
 /// One unit of work on a search state, as run by [`run_steps`].
@@ -418,7 +418,7 @@ mod tests {
 
     impl Iterative for Countdown {
         fn step(&mut self, rng: &mut Pcg64, _: &mut dyn FnMut() -> bool) {
-            if rng.gen::<u32>() % 2 == 0 && self.length > 0 {
+            if rng.r#gen::<u32>() % 2 == 0 && self.length > 0 {
                 self.length -= 1;
             }
         }
@@ -518,7 +518,7 @@ mod tests {
 
     impl Step for Walk {
         fn step(&mut self, rng: &mut Pcg64, _: &mut dyn FnMut() -> bool) {
-            self.draws.push(rng.gen());
+            self.draws.push(rng.r#gen());
             if self.stop_at == Some(self.draws.len()) {
                 self.stop.stop();
             }
@@ -645,9 +645,10 @@ mod tests {
         assert!(!seen.is_empty());
         assert!(seen.len() as u128 <= took.as_millis() / every.as_millis());
         assert!(seen[0].0.duration_since(began) >= every);
-        assert!(seen
-            .windows(2)
-            .all(|p| p[1].0.duration_since(p[0].0) >= every));
+        assert!(
+            seen.windows(2)
+                .all(|p| p[1].0.duration_since(p[0].0) >= every)
+        );
         assert!(seen.windows(2).all(|p| p[1].1 > p[0].1) && seen[0].1 >= 1);
     }
 

@@ -45,14 +45,14 @@
 //! instances, the segments of [`TwoLevelTour`] (O(sqrt(n)) flips) for large ones, chosen by
 //! [`Layout`]. Both give the same tour from the same seed.
 
-use super::drive::{drive, Iterative, LoopOutcome, LoopPlan};
-use crate::construct::{start_tour, Start};
+use super::drive::{Iterative, LoopOutcome, LoopPlan, drive};
+use crate::construct::{Start, start_tour};
 use crate::control::Improvement;
 use crate::cost::Cost;
-use crate::moves::{try_or_opt, ImproveStats};
+use crate::moves::{ImproveStats, try_or_opt};
 use crate::neighbours::Neighbours;
 use crate::tour::closed_length;
-use crate::tour::{ArrayTour, Layout, TourRepr, TwoLevelTour, MAX_SEGMENT};
+use crate::tour::{ArrayTour, Layout, MAX_SEGMENT, TourRepr, TwoLevelTour};
 use rand::Rng;
 use rand_pcg::Pcg64;
 use std::collections::VecDeque;

@@ -7,7 +7,7 @@
 
 use crate::cost::Cost;
 use crate::neighbours::Neighbours;
-use crate::tour::{TourRepr, MAX_SEGMENT};
+use crate::tour::{MAX_SEGMENT, TourRepr};
 use std::collections::VecDeque;
 
 /// What a local search run did.
@@ -250,7 +250,7 @@ mod tests {
     use super::*;
     use crate::cost::{CoordCost, MatrixCost, Metric};
     use crate::neighbours::k_nearest;
-    use crate::tour::{closed_length, ArrayTour, Tour, TwoLevelTour};
+    use crate::tour::{ArrayTour, Tour, TwoLevelTour, closed_length};
     use proptest::prelude::*;
 
     fn random_points(n: usize, seed: u64) -> Vec<[f64; 2]> {

@@ -2,6 +2,6 @@
 
 pub(crate) mod improve;
 
+pub(crate) use improve::ImproveStats;
 pub(crate) use improve::try_or_opt;
 pub use improve::two_opt_or_opt;
-pub(crate) use improve::ImproveStats;

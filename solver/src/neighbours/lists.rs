@@ -6,8 +6,8 @@
 //! example from a lower-bound calculation) through [`Neighbours::from_lists`].
 
 use crate::cost::{Cost, Geometry};
-use kiddo::immutable::float::kdtree::ImmutableKdTree;
 use kiddo::SquaredEuclidean;
+use kiddo::immutable::float::kdtree::ImmutableKdTree;
 use rayon::prelude::*;
 
 /// Fixed-width neighbour lists, sorted by cost, nearest first.

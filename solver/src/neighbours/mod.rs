@@ -11,8 +11,8 @@ pub(crate) mod lists;
 
 #[cfg(any(test, feature = "internals"))]
 pub use lists::k_nearest;
-use lists::{nearest_until, quadrant_until};
 pub use lists::{ListError, Neighbours};
+use lists::{nearest_until, quadrant_until};
 
 use crate::cost::Cost;
 

@@ -6,8 +6,8 @@ pub(crate) mod settings;
 pub(crate) mod solver;
 
 pub use prove::{
-    lower_bound, prove_optimal, Certificate, ExactMethod, LowerBoundError, ProveError,
-    ProveOptions, Prover, ProverAnswer,
+    Certificate, ExactMethod, LowerBoundError, ProveError, ProveOptions, Prover, ProverAnswer,
+    lower_bound, prove_optimal,
 };
-pub use settings::{solve_with, Hooks, Outcome, Settings, SettingsError, SolveWithError};
-pub use solver::{AsymmetricMode, Method, Solution, SolveError, Solver, DEFAULT_NEIGHBOURS};
+pub use settings::{Hooks, Outcome, Settings, SettingsError, SolveWithError, solve_with};
+pub use solver::{AsymmetricMode, DEFAULT_NEIGHBOURS, Method, Solution, SolveError, Solver};

@@ -15,13 +15,13 @@
 //! With a time limit the answer may come back unproven: the best tour found, the best lower
 //! bound known (none when the dynamic programme was stopped) and `proven_optimal == false`.
 
-use crate::bounds::{branch_and_bound, BranchOptions};
-use crate::bounds::{held_karp_bound, AscentOptions, BoundError};
+use crate::bounds::{AscentOptions, BoundError, held_karp_bound};
+use crate::bounds::{BranchOptions, branch_and_bound};
 use crate::control::{self, StopHandle};
 use crate::cost::Cost;
-use crate::exact::{optimal_path, DpError, DEFAULT_DP_MEMORY, DP_LIMIT};
+use crate::exact::{DEFAULT_DP_MEMORY, DP_LIMIT, DpError, optimal_path};
 use crate::solve::{Method, SolveError, Solver};
-use crate::tour::{closed_length, Overflow, Tour, TourError};
+use crate::tour::{Overflow, Tour, TourError, closed_length};
 use crate::transform::{Ends, FixedCost, FixedEdgesError};
 use std::sync::Arc;
 use std::time::{Duration, Instant};

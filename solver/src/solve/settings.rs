@@ -23,17 +23,17 @@
 //! line deserialise into them as well. Ranges are checked in one place,
 //! [`AntParams::check`] and [`AnnealParams::check`] (called by [`Settings::check`]).
 
-use super::prove::{lower_bound_fixed, prove_optimal, ExactMethod, LowerBoundError, ProveError};
 use super::prove::{Certificate, ProveOptions};
+use super::prove::{ExactMethod, LowerBoundError, ProveError, lower_bound_fixed, prove_optimal};
 use super::solver::{
-    default_threads, set_param, AsymmetricMode, Method, Solution, SolveError, Solver,
-    DEFAULT_NEIGHBOURS,
+    AsymmetricMode, DEFAULT_NEIGHBOURS, Method, Solution, SolveError, Solver, default_threads,
+    set_param,
 };
 use crate::control::{Improvement, StopHandle, StopReason};
 use crate::cost::Cost;
 use crate::methods::{AnnealParams, AntLocalSearch, AntParams, MAX_COLONY};
 use crate::neighbours::CandidateSource;
-use crate::params::{check_rules, shown_or, within, Params, Rule};
+use crate::params::{Params, Rule, check_rules, shown_or, within};
 use crate::tour::{Layout, Tour};
 use crate::transform::Ends;
 use serde::{Deserialize, Serialize, Serializer};
@@ -906,11 +906,12 @@ mod tests {
             bound_time: f64::NAN,
             ..Settings::default()
         };
-        assert!(s
-            .check()
-            .unwrap_err()
-            .to_string()
-            .starts_with("bound_time must be"));
+        assert!(
+            s.check()
+                .unwrap_err()
+                .to_string()
+                .starts_with("bound_time must be")
+        );
         // The same through solve_with: nothing runs.
         let c = MatrixCost::from_rows(&[vec![0, 1], vec![1, 0]]).unwrap();
         assert!(matches!(
@@ -1084,8 +1085,8 @@ mod tests {
 
     #[test]
     fn hooks_see_the_search() {
-        use std::sync::atomic::{AtomicUsize, Ordering};
         use std::sync::Arc;
+        use std::sync::atomic::{AtomicUsize, Ordering};
         let seen = Arc::new(AtomicUsize::new(0));
         let after = Arc::new(AtomicUsize::new(0));
         let (s2, a2) = (seen.clone(), after.clone());

@@ -2,18 +2,18 @@
 
 use crate::bounds::{assignment_bound, patch_cover};
 use crate::construct;
-use crate::construct::{start_tour, Start};
+use crate::construct::{Start, start_tour};
 use crate::control::{self, Improvement, StopHandle, StopReason};
 use crate::cost::{Cost, CostError, FnCost, MatrixCost};
 use crate::exact;
-use crate::methods::{default_kicks, iterated, LkParams, LkPlan};
-use crate::methods::{drive, Iterative, LoopPlan};
 use crate::methods::{AnnealParams, Annealer};
 use crate::methods::{AntParams, AntVariant, Colony};
+use crate::methods::{Iterative, LoopPlan, drive};
+use crate::methods::{LkParams, LkPlan, default_kicks, iterated};
 use crate::moves::two_opt_or_opt;
-use crate::neighbours::{candidates_until, CandidateSource, Neighbours};
-use crate::tour::{closed_length, ArrayTour, Layout, Overflow, Tour};
-use crate::transform::{path_length, EndedCost, Ends, EndsError};
+use crate::neighbours::{CandidateSource, Neighbours, candidates_until};
+use crate::tour::{ArrayTour, Layout, Overflow, Tour, closed_length};
+use crate::transform::{EndedCost, Ends, EndsError, path_length};
 use crate::transform::{FixedCost, FixedEdgesError};
 use crate::transform::{TwinCost, TwinTooLarge};
 use rand_pcg::Pcg64;

@@ -1,7 +1,7 @@
 //! The array representation: a visiting order plus each node's position.
 
-use super::TourRepr;
 use super::MAX_SEGMENT;
+use super::TourRepr;
 
 /// A tour as an array plus the position of each node, so that successor, predecessor and
 /// "is between" are O(1) and a reversal costs the length of the shorter side.

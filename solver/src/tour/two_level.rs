@@ -111,11 +111,7 @@ impl TwoLevelTour {
     fn offset(&self, v: usize) -> usize {
         let sg = &self.segs[self.seg[v] as usize];
         let i = self.idx[v] as usize;
-        if sg.rev {
-            sg.nodes.len() - 1 - i
-        } else {
-            i
-        }
+        if sg.rev { sg.nodes.len() - 1 - i } else { i }
     }
 
     #[inline]

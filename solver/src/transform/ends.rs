@@ -34,7 +34,7 @@
 //! with the requested ends, and its length is always computed on the caller's costs.
 
 use crate::cost::Cost;
-use crate::neighbours::{candidates, CandidateSource, Neighbours};
+use crate::neighbours::{CandidateSource, Neighbours, candidates};
 use crate::tour::Overflow;
 
 /// Which ends a visiting order has. Node ids are the caller's, `0..n`.
@@ -269,11 +269,7 @@ impl<'a, C: Cost + ?Sized> EndedCost<'a, C> {
         } else {
             matches!(self.ends, Ends::Open | Ends::End(_)) || self.ends.start() == Some(j)
         };
-        if free {
-            0
-        } else {
-            self.penalty
-        }
+        if free { 0 } else { self.penalty }
     }
 
     /// The cost of the step at the dummy node from `i` to `d` (`i` last in the path).
@@ -285,11 +281,7 @@ impl<'a, C: Cost + ?Sized> EndedCost<'a, C> {
             Ends::Open | Ends::Start(_) => true,
             _ => self.ends.end() == Some(i),
         };
-        if free {
-            0
-        } else {
-            self.penalty
-        }
+        if free { 0 } else { self.penalty }
     }
 
     /// Reads the path off a closed tour of the `n + 1` nodes: from the node after the dummy to

@@ -480,11 +480,7 @@ mod tests {
                 (0..n)
                     .map(|j| {
                         let d = (i as i64 - j as i64).abs();
-                        if symmetric || j >= i {
-                            d
-                        } else {
-                            2 * d
-                        }
+                        if symmetric || j >= i { d } else { 2 * d }
                     })
                     .collect()
             })
@@ -570,8 +566,8 @@ mod tests {
     // fixed edges (up to ten nodes: from ten on, lk searches instead of enumerating).
     #[test]
     fn solves_match_brute_force_over_tours_with_the_fixed_edges() {
-        use crate::solve::{prove_optimal, ExactMethod, Method, ProveOptions, Solver};
         use crate::StopHandle;
+        use crate::solve::{ExactMethod, Method, ProveOptions, Solver, prove_optimal};
         for seed in 0..24u64 {
             for symmetric in [true, false] {
                 let n = 5 + (seed as usize % 6);
@@ -615,7 +611,7 @@ mod tests {
     // fixed edges, and its exact answer and the constructions keep the edges too.
     #[test]
     fn the_bound_and_every_construction_keep_to_the_fixed_edges() {
-        use crate::solve::{solve_with, Method, Settings};
+        use crate::solve::{Method, Settings, solve_with};
         for seed in 0..8u64 {
             for symmetric in [true, false] {
                 let (c, edges) = random_case(8, 100 + seed, symmetric, 2);
@@ -662,8 +658,8 @@ mod tests {
     // one branch and bound proves optimal over the tours with those edges.
     #[test]
     fn lk_keeps_the_fixed_edges_where_it_searches() {
-        use crate::solve::{prove_optimal, Method, ProveOptions, Solver};
         use crate::StopHandle;
+        use crate::solve::{Method, ProveOptions, Solver, prove_optimal};
         for seed in 0..4u64 {
             for symmetric in [true, false] {
                 let (c, edges) = random_case(14, 200 + seed, symmetric, 3);

@@ -7,7 +7,7 @@ pub(crate) mod fixed;
 pub(crate) mod twin;
 
 pub(crate) use ends::EndedCost;
-pub use ends::{path_length, Ends, EndsError};
+pub use ends::{Ends, EndsError, path_length};
 pub(crate) use fixed::FixedCost;
 pub use fixed::{FixedEdge, FixedEdgesError};
 pub(crate) use twin::{TwinCost, TwinTooLarge};

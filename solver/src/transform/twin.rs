@@ -32,7 +32,7 @@
 //! whichever direction is shorter on the original costs.
 
 use crate::cost::Cost;
-use crate::neighbours::{candidates, CandidateSource, Neighbours};
+use crate::neighbours::{CandidateSource, Neighbours, candidates};
 use crate::tour::closed_length;
 
 /// Why the transformation cannot be applied.
