@@ -7,3 +7,4 @@ pub mod generate;
 pub mod record;
 pub mod report;
 pub mod runner;
+pub mod shards;

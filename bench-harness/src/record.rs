@@ -1,10 +1,10 @@
 //! One benchmark run as it is stored: a line of `runs.jsonl`.
 //!
-//! The runner writes these, the report reads them back; a sweep split across machines is merged
-//! by concatenating the files.
+//! The runner appends these, one line per finished run, each in one write; the report reads them
+//! back. A sweep split across machines is merged by reading every shard's file
+//! ([`crate::shards`]).
 
 use serde::{Deserialize, Serialize};
-use std::io::BufRead;
 use std::path::Path;
 
 /// Everything known about one run of one method on one instance with one seed.
@@ -177,12 +177,44 @@ pub struct RecordError {
     pub message: String,
 }
 
-/// Reads every run of a `runs.jsonl` file; a missing file holds no runs.
-pub fn read_runs(path: &Path) -> Result<Vec<RunRecord>, RecordError> {
+/// How a records file ends.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Ending {
+    /// With a full line (or the file is empty or missing).
+    Clean,
+    /// With a whole record that lacks only its line break.
+    Unterminated,
+    /// With a line cut short, as a writer killed mid-write leaves it: not a record, left out.
+    Torn {
+        /// 1-based line number of the cut line.
+        line: usize,
+        /// Byte offset where it starts (the length the file has without it).
+        offset: u64,
+    },
+}
+
+/// The runs of a records file and how the file ends.
+#[derive(Clone, Debug)]
+pub struct RunsFile {
+    /// Every whole record, in file order.
+    pub runs: Vec<RunRecord>,
+    /// How the file ends.
+    pub ending: Ending,
+}
+
+/// Reads every run of a records file (`runs.jsonl`, or a shard's file); a missing file holds no
+/// runs. A last line without its line break that is not a record is a torn write, left out
+/// (see [`Ending::Torn`]); a bad line anywhere else is an error naming the line.
+pub fn read_runs_file(path: &Path) -> Result<RunsFile, RecordError> {
     let file = path.display().to_string();
-    let f = match std::fs::File::open(path) {
-        Ok(f) => f,
-        Err(e) if e.kind() == std::io::ErrorKind::NotFound => return Ok(Vec::new()),
+    let bytes = match std::fs::read(path) {
+        Ok(b) => b,
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
+            return Ok(RunsFile {
+                runs: Vec::new(),
+                ending: Ending::Clean,
+            })
+        }
         Err(e) => {
             return Err(RecordError {
                 file,
@@ -192,23 +224,60 @@ pub fn read_runs(path: &Path) -> Result<Vec<RunRecord>, RecordError> {
         }
     };
     let mut runs = Vec::new();
-    for (i, line) in std::io::BufReader::new(f).lines().enumerate() {
-        let line = line.map_err(|e| RecordError {
-            file: file.clone(),
-            line: i + 1,
-            message: e.to_string(),
-        })?;
-        if line.trim().is_empty() {
+    let mut ending = Ending::Clean;
+    let mut offset = 0usize;
+    for (i, piece) in bytes.split_inclusive(|&b| b == b'\n').enumerate() {
+        let start = offset;
+        offset += piece.len();
+        let whole = piece.ends_with(b"\n");
+        let text = piece.strip_suffix(b"\n").unwrap_or(piece);
+        if text.iter().all(u8::is_ascii_whitespace) {
             continue;
         }
-        let run = serde_json::from_str(&line).map_err(|e| RecordError {
-            file: file.clone(),
-            line: i + 1,
-            message: format!("not a run record: {e}"),
-        })?;
-        runs.push(run);
+        match serde_json::from_slice::<RunRecord>(text) {
+            Ok(run) => {
+                runs.push(run);
+                if !whole {
+                    ending = Ending::Unterminated;
+                }
+            }
+            Err(_) if !whole => {
+                ending = Ending::Torn {
+                    line: i + 1,
+                    offset: start as u64,
+                }
+            }
+            Err(e) => {
+                return Err(RecordError {
+                    file,
+                    line: i + 1,
+                    message: format!("not a run record: {e}"),
+                })
+            }
+        }
     }
-    Ok(runs)
+    Ok(RunsFile { runs, ending })
+}
+
+/// Reads every whole run of a records file, leaving out a torn last line ([`read_runs_file`]).
+pub fn read_runs(path: &Path) -> Result<Vec<RunRecord>, RecordError> {
+    read_runs_file(path).map(|f| f.runs)
+}
+
+/// Makes a records file end cleanly before more records are appended to it: a torn last line is
+/// cut off, a last record without its line break gets one.
+pub fn mend_ending(path: &Path, ending: Ending) -> std::io::Result<()> {
+    match ending {
+        Ending::Clean => Ok(()),
+        Ending::Unterminated => {
+            let mut f = std::fs::OpenOptions::new().append(true).open(path)?;
+            std::io::Write::write_all(&mut f, b"\n")
+        }
+        Ending::Torn { offset, .. } => std::fs::OpenOptions::new()
+            .write(true)
+            .open(path)?
+            .set_len(offset),
+    }
 }
 
 #[cfg(test)]

@@ -1,10 +1,12 @@
 //! Benchmark sweeps: every (instance, method, seed) run, resumable and splittable into shards.
 //!
 //! The run list is a pure function of the plan, sorted by (instance, method, seed), so shard
-//! `K/N` (runs whose index is `K-1` modulo `N`) names the same runs on every machine; merging
-//! shards is concatenating their `runs.jsonl` files.
+//! `K/N` (runs whose index is `K-1` modulo `N`) names the same runs on every machine. Each shard
+//! appends to its own records file, and the report merges every records file of a folder
+//! ([`crate::shards`]).
 
-use crate::record::{read_runs, RunKey, RunRecord};
+use crate::record::{mend_ending, read_runs_file, Ending, RunKey, RunRecord};
+use crate::shards::{claim_plan, read_folder, records_file, FolderPlan, PlanClaim, PLAN_FILE};
 use sysinfo::{CpuRefreshKind, MemoryRefreshKind, RefreshKind, System};
 use wend_tsplib::{read_problem, write_tour, Problem, TsplibError};
 
@@ -267,6 +269,9 @@ pub enum SweepError {
     /// The existing results file is bad.
     #[error(transparent)]
     Record(#[from] crate::record::RecordError),
+    /// The folder holds another sweep's plan, or a plan that cannot be read.
+    #[error(transparent)]
+    Plan(#[from] crate::shards::PlanError),
     /// The output folder could not be written.
     #[error("{path}: {source}")]
     Io {
@@ -290,12 +295,20 @@ pub enum SweepError {
 pub struct SweepOutcome {
     /// Runs in this shard.
     pub planned: usize,
-    /// Runs skipped because `runs.jsonl` already held them.
+    /// Runs skipped because the folder's records already held them.
     pub skipped: usize,
     /// Runs done now.
     pub ran: usize,
     /// Whether the stop handle ended the sweep before every run was done.
     pub stopped: bool,
+    /// The records file this sweep appended to.
+    pub records: PathBuf,
+    /// How that file ended before this sweep mended it and appended (a torn last line, left by
+    /// a writer killed mid-write, is cut off).
+    pub mended: Option<Ending>,
+    /// Whether this sweep wrote the folder's plan or found it there; None for a sweep that is
+    /// not sharded, into a folder without a plan.
+    pub plan: Option<PlanClaim>,
 }
 
 /// Name of an instance: its file stem.
@@ -415,7 +428,44 @@ pub fn machine_description() -> String {
     )
 }
 
-/// Runs every planned run not yet in `out/runs.jsonl`, appending each result as it finishes.
+/// The plan as a sweep folder records it: the whole sweep's, whichever shard runs.
+pub fn folder_plan(plan: &SweepPlan) -> FolderPlan {
+    let whole = SweepPlan {
+        shard: None,
+        ..plan.clone()
+    };
+    let mut named: Vec<(String, String)> = plan
+        .instances
+        .iter()
+        .map(|p| (instance_name(p), p.display().to_string()))
+        .collect();
+    named.sort();
+    named.dedup_by(|a, b| a.0 == b.0);
+    let ends = if plan.ends.is_empty() {
+        vec![EndsChoice::Closed.name().to_string()]
+    } else {
+        plan.ends.iter().map(|e| e.name().to_string()).collect()
+    };
+    FolderPlan {
+        instances: named.iter().map(|(n, _)| n.clone()).collect(),
+        methods: plan.methods.iter().map(MethodSpec::label).collect(),
+        ends,
+        seeds: plan.seeds.clone(),
+        time_limit: plan.time_limit,
+        runs: plan.runs,
+        iterations: plan.iterations,
+        threads_per_run: plan.threads_per_run,
+        until_known: plan.until_known,
+        planned_runs: plan_runs(&whole).len(),
+        version: env!("CARGO_PKG_VERSION").to_string(),
+        commit: env!("WEND_GIT_COMMIT").to_string(),
+        files: named.into_iter().map(|(_, f)| f).collect(),
+    }
+}
+
+/// Runs every planned run not yet in the output folder's records (those of every shard),
+/// appending each result to this shard's records file as it finishes (`runs.jsonl` when the
+/// sweep is not sharded). A sharded sweep writes the folder's plan, or checks it is the same.
 /// `progress(done, total)` is called after each run.
 pub fn run_sweep(
     plan: &SweepPlan,
@@ -427,8 +477,19 @@ pub fn run_sweep(
     };
     let tours_dir = plan.out.join("tours");
     std::fs::create_dir_all(&tours_dir).map_err(io(&tours_dir))?;
-    let runs_path = plan.out.join("runs.jsonl");
-    let done: HashSet<RunKey> = read_runs(&runs_path)?.iter().map(|r| r.key()).collect();
+    let claim = if plan.shard.is_some() || plan.out.join(PLAN_FILE).is_file() {
+        Some(claim_plan(&plan.out, &folder_plan(plan))?)
+    } else {
+        None
+    };
+    let runs_path = plan.out.join(records_file(plan.shard));
+    // This shard's own file is mended before anything is appended; a torn line in another
+    // shard's file (a shard still writing, or killed) is only left out.
+    let ending = read_runs_file(&runs_path)?.ending;
+    if ending != Ending::Clean {
+        mend_ending(&runs_path, ending).map_err(io(&runs_path))?;
+    }
+    let done: HashSet<RunKey> = read_folder(&plan.out)?.0.iter().map(|r| r.key()).collect();
     let specs = plan_runs(plan);
     let key = |s: &RunSpec| RunKey {
         instance: s.instance.clone(),
@@ -443,6 +504,9 @@ pub fn run_sweep(
         skipped: specs.len() - todo.len(),
         ran: 0,
         stopped: false,
+        records: runs_path.clone(),
+        mended: (ending != Ending::Clean).then_some(ending),
+        plan: claim,
     };
     let file = std::fs::OpenOptions::new()
         .create(true)
@@ -475,12 +539,15 @@ pub fn run_sweep(
                 let Some(rec) = rec else {
                     return Ok(false);
                 };
-                let line = serde_json::to_string(&rec).map_err(|e| SweepError::Io {
+                let mut line = serde_json::to_string(&rec).map_err(|e| SweepError::Io {
                     path: runs_path.display().to_string(),
                     source: std::io::Error::other(e),
                 })?;
+                // One write per record, so that a writer killed mid-way leaves at most its
+                // last line torn.
+                line.push('\n');
                 let mut f = sink.lock().unwrap_or_else(|e| e.into_inner());
-                writeln!(f, "{line}")
+                f.write_all(line.as_bytes())
                     .and_then(|_| f.flush())
                     .map_err(io(&runs_path))
                     .map(|()| true)

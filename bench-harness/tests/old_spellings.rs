@@ -299,7 +299,7 @@ fn a_sweep_written_with_the_old_keys_resumes_and_reports() {
         &out_s,
     ]);
     let err = stderr(&o);
-    assert!(err.contains("0 done now, 1 already in"), "{err}");
+    assert!(err.contains("0 done now, 1 already recorded"), "{err}");
     let runs = std::fs::read_to_string(out.join("runs.jsonl")).unwrap();
     assert_eq!(
         runs.lines().count(),

@@ -5,10 +5,17 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
 fn wend(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_wend"))
-        .args(args)
-        .output()
-        .expect("the wend binary runs")
+    wend_in_task(args, &[])
+}
+
+/// Runs the command with these environment variables, as a job array's task would.
+fn wend_in_task(args: &[&str], vars: &[(&str, String)]) -> Output {
+    let mut c = Command::new(env!("CARGO_BIN_EXE_wend"));
+    c.args(args);
+    for (k, v) in vars {
+        c.env(k, v);
+    }
+    c.output().expect("the wend binary runs")
 }
 
 fn instance(name: &str) -> String {
@@ -21,6 +28,13 @@ fn instance(name: &str) -> String {
 
 /// A sweep whose runs are repeatable to the bit: a restart budget, a generous time limit.
 fn sweep(out: &Path, seeds: &str, extra: &[&str]) -> Output {
+    let o = try_sweep(out, seeds, extra, &[]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    o
+}
+
+/// The same sweep with environment variables, whatever its exit.
+fn try_sweep(out: &Path, seeds: &str, extra: &[&str], vars: &[(&str, String)]) -> Output {
     let out = out.display().to_string();
     let (a, b, c) = (
         instance("berlin52.tsp"),
@@ -46,16 +60,34 @@ fn sweep(out: &Path, seeds: &str, extra: &[&str]) -> Output {
         &out,
     ];
     args.extend_from_slice(extra);
-    let o = wend(&args);
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    o
+    wend_in_task(&args, vars)
 }
 
-fn runs(dir: &Path) -> Vec<serde_json::Value> {
-    std::fs::read_to_string(dir.join("runs.jsonl"))
+/// The records files of a folder: `runs.jsonl` and the shards' `runs.shard-K-of-N.jsonl`.
+fn record_files(dir: &Path) -> Vec<PathBuf> {
+    let mut files: Vec<PathBuf> = std::fs::read_dir(dir)
         .unwrap()
-        .lines()
-        .map(|l| serde_json::from_str(l).unwrap())
+        .map(|e| e.unwrap().path())
+        .filter(|p| {
+            let name = p.file_name().unwrap().to_string_lossy();
+            name.starts_with("runs") && name.ends_with(".jsonl")
+        })
+        .collect();
+    files.sort();
+    files
+}
+
+/// Every record of every records file of a folder.
+fn runs(dir: &Path) -> Vec<serde_json::Value> {
+    record_files(dir)
+        .iter()
+        .flat_map(|f| {
+            std::fs::read_to_string(f)
+                .unwrap()
+                .lines()
+                .map(|l| serde_json::from_str(l).unwrap())
+                .collect::<Vec<_>>()
+        })
         .collect()
 }
 
@@ -399,4 +431,119 @@ fn paths_and_atsp_runs_are_kept_apart_from_closed_tours() {
         summary.contains(r"berlin52 \[open path\] | TSP, open paths"),
         "{summary}"
     );
+}
+
+/// The variables a job array's task `id` of `--array=first-last` sees.
+fn array_task(id: usize, first: usize, last: usize) -> Vec<(&'static str, String)> {
+    vec![
+        ("SLURM_ARRAY_TASK_ID", id.to_string()),
+        ("SLURM_ARRAY_TASK_MIN", first.to_string()),
+        ("SLURM_ARRAY_TASK_MAX", last.to_string()),
+        ("SLURM_ARRAY_TASK_COUNT", (last - first + 1).to_string()),
+        ("SLURM_ARRAY_TASK_STEP", "1".to_string()),
+    ]
+}
+
+#[test]
+fn array_tasks_share_one_folder_and_their_merge_is_the_whole_sweep() {
+    let tmp = tempfile::tempdir().unwrap();
+    let whole = tmp.path().join("whole");
+    sweep(&whole, "2", &[]);
+    let all = runs(&whole);
+    let shared = tmp.path().join("shared");
+    // --array=0-2: tasks 0, 1, 2 are shards 1, 2, 3 of 3.
+    for id in 0..3 {
+        let o = try_sweep(&shared, "2", &[], &array_task(id, 0, 2));
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert!(o.status.success(), "{err}");
+        assert!(err.contains(&format!("shard {}/3", id + 1)), "{err}");
+    }
+    let files = record_files(&shared);
+    assert_eq!(files.len(), 3, "one records file per shard: {files:?}");
+    assert!(shared.join("plan.json").is_file());
+    let merged = runs(&shared);
+    assert_eq!(merged.len(), all.len(), "no run twice, none missing");
+    assert_eq!(identities(&merged), identities(&all));
+    // No shard wrote a report (they may finish together); the merge does.
+    assert!(!shared.join("runs.csv").exists());
+    let s = shared.display().to_string();
+    let o = wend(&["bench", "--report", &s]);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(o.status.success(), "{err}");
+    assert!(
+        err.contains(&format!("all {} planned runs recorded", all.len())),
+        "{err}"
+    );
+    let csv = std::fs::read_to_string(shared.join("runs.csv")).unwrap();
+    assert_eq!(csv.lines().count(), all.len() + 1);
+}
+
+#[test]
+fn a_record_torn_by_a_killed_task_is_left_out_then_done_again() {
+    let tmp = tempfile::tempdir().unwrap();
+    let d = tmp.path().join("s");
+    let task = array_task(1, 1, 2);
+    assert!(try_sweep(&d, "2", &[], &task).status.success());
+    let file = d.join("runs.shard-1-of-2.jsonl");
+    let before = std::fs::read_to_string(&file).unwrap();
+    let lines: Vec<&str> = before.lines().collect();
+    let n = lines.len();
+    assert!(n >= 2);
+    // A node lost while writing the last record: half a line, no line break.
+    let last = lines[n - 1];
+    let torn = format!("{}\n{}", lines[..n - 1].join("\n"), &last[..last.len() / 2]);
+    std::fs::write(&file, &torn).unwrap();
+    // The report leaves the torn line out and says so, and counts the runs missing.
+    let s = d.display().to_string();
+    let o = wend(&["bench", "--report", &s]);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(o.status.success(), "{err}");
+    assert!(
+        err.contains(&format!("runs.shard-1-of-2.jsonl:{n}: cut short")),
+        "{err}"
+    );
+    assert!(
+        err.contains(&format!("{} of the 12 planned runs", n - 1)),
+        "{err}"
+    );
+    // The task, run again, removes the torn line and does that run again, once.
+    let o = try_sweep(&d, "2", &[], &task);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(o.status.success(), "{err}");
+    assert!(err.contains("removed, and the run is done again"), "{err}");
+    let after = std::fs::read_to_string(&file).unwrap();
+    assert_eq!(after.lines().count(), n, "{after}");
+    let parse = |t: &str| -> Vec<serde_json::Value> {
+        t.lines()
+            .map(|l| serde_json::from_str(l).unwrap())
+            .collect()
+    };
+    assert_eq!(identities(&parse(&after)), identities(&parse(&before)));
+}
+
+#[test]
+fn a_shard_of_another_plan_is_refused_naming_what_differs() {
+    let tmp = tempfile::tempdir().unwrap();
+    let d = tmp.path().join("s");
+    sweep(&d, "2", &["--shard", "1/2"]);
+    let o = try_sweep(&d, "3", &["--shard", "2/2"], &[]);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(err.contains("plan.json"), "{err}");
+    assert!(
+        err.contains("seeds: only in the folder's plan: none; only in this command: 2"),
+        "{err}"
+    );
+    assert!(
+        !d.join("runs.shard-2-of-2.jsonl").exists(),
+        "nothing was run"
+    );
+    // A stepped array cannot be mapped onto shards without gaps.
+    let mut stepped = array_task(2, 0, 6);
+    stepped[3].1 = "4".into();
+    stepped[4].1 = "2".into();
+    let o = try_sweep(&tmp.path().join("t"), "1", &[], &stepped);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(err.contains("step of 2"), "{err}");
 }

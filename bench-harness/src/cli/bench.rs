@@ -4,12 +4,13 @@ use super::CliError;
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use serde::Deserialize;
-use std::collections::{BTreeMap, BTreeSet, HashMap};
+use std::collections::{BTreeMap, BTreeSet, HashMap, HashSet};
 use std::path::{Path, PathBuf};
 use wend::CandidateSource;
-use wend_bench::record::{read_runs, RunKey, RunRecord};
+use wend_bench::record::{RunKey, RunRecord};
 use wend_bench::runner::{constrained_refusal, run_sweep, SweepPlan};
 use wend_bench::runner::{EndsChoice, MethodSpec};
+use wend_bench::shards::{read_folder, read_plan, record_files};
 use wend_tsplib::{read_instance, read_optima, read_problem, read_tour};
 
 #[derive(Args, Debug)]
@@ -62,7 +63,10 @@ pub struct BenchArgs {
     /// Runs at the same time.
     #[arg(long, value_name = "N")]
     jobs: Option<usize>,
-    /// Run only the K-th of N fixed slices of the run list (for several machines).
+    /// Run only the K-th of N fixed slices of the run list (for several machines), appending to
+    /// the folder's runs.shard-K-of-N.jsonl. Inside a job array of a batch scheduler the task's
+    /// variables give it when this is not given (SLURM_ARRAY_TASK_ID less the lowest task id,
+    /// plus 1, of SLURM_ARRAY_TASK_COUNT).
     #[arg(long, value_name = "K/N")]
     shard: Option<String>,
     /// File of known optimal lengths (`name : length` lines; a name may be `folder/name`, the
@@ -79,11 +83,12 @@ pub struct BenchArgs {
     /// Only instances with at most this many nodes.
     #[arg(long, value_name = "N")]
     max_nodes: Option<usize>,
-    /// Output folder for runs.jsonl, runs.csv, summary.md and the plots.
+    /// Output folder for the run records (runs.jsonl, or one file per shard), runs.csv,
+    /// summary.md and the plots. Shards of one sweep may share it.
     #[arg(long, short = 'o', value_name = "DIR")]
     out: Option<PathBuf>,
-    /// Do not sweep: rebuild the report from the runs.jsonl files of these folders (merged),
-    /// written to --out (default: the first folder).
+    /// Do not sweep: rebuild the report from every records file of these folders (runs.jsonl
+    /// and the shards' files, merged), written to --out (default: the first folder).
     #[arg(long, num_args = 1.., value_name = "DIR", conflicts_with_all = ["instances", "methods", "suite", "shard"])]
     report: Vec<PathBuf>,
 }
@@ -235,7 +240,17 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
             "--threads-per-run and --jobs must be at least 1".into(),
         ));
     }
-    let shard = a.shard.as_deref().map(parse_shard).transpose()?;
+    let shard = match a.shard.as_deref() {
+        Some(s) => Some(parse_shard(s)?),
+        None => {
+            let shard = wend_bench::shards::shard_from_array_task(|k| std::env::var(k).ok())
+                .map_err(|e| CliError::Input(format!("job array: {e}")))?;
+            if let Some((k, n)) = shard {
+                eprintln!("shard {k}/{n}, from the job array's task variables");
+            }
+            shard
+        }
+    };
     let out = a
         .out
         .clone()
@@ -348,23 +363,38 @@ pub fn run(a: BenchArgs) -> Result<(), CliError> {
     })
     .map_err(|e| CliError::Input(e.to_string()))?;
     bar.finish_and_clear();
+    if let Some(wend_bench::record::Ending::Torn { line, .. }) = outcome.mended {
+        eprintln!(
+            "wend: {}:{line}: cut short (a run killed while its record was written); removed, \
+             and the run is done again",
+            outcome.records.display()
+        );
+    }
     eprintln!(
-        "{} runs in this sweep{}: {} done now, {} already in {}",
+        "{} runs in this sweep{}: {} done now, {} already recorded; records in {}",
         outcome.planned,
         shard.map_or(String::new(), |(k, n)| format!(" (shard {k}/{n})")),
         outcome.ran,
         outcome.skipped,
-        out.join("runs.jsonl").display()
+        outcome.records.display()
     );
     if outcome.stopped {
         eprintln!(
             "wend: the sweep was interrupted; the run under way was dropped. The same command \
-             continues it (runs already in runs.jsonl are skipped)."
+             continues it (runs already recorded are skipped)."
         );
         if outcome.ran + outcome.skipped == 0 {
             // Nothing recorded yet: no report to write.
             return Ok(());
         }
+    }
+    if shard.is_some() {
+        // Other shards may be writing into the same folder: the report waits for all of them.
+        eprintln!(
+            "when every shard is done: wend bench --report {}",
+            out.display()
+        );
+        return Ok(());
     }
     report(std::slice::from_ref(&out), &out)
 }
@@ -452,13 +482,48 @@ fn report(dirs: &[PathBuf], out: &Path) -> Result<(), CliError> {
     let mut runs: Vec<RunRecord> = Vec::new();
     let mut home: HashMap<RunKey, PathBuf> = HashMap::new();
     for d in dirs {
-        let path = d.join("runs.jsonl");
-        if !path.is_file() {
-            return Err(CliError::Input(format!("{}: no such file", path.display())));
+        let files =
+            record_files(d).map_err(|e| CliError::Input(format!("{}: {e}", d.display())))?;
+        if files.is_empty() {
+            return Err(CliError::Input(format!(
+                "{}: no run records here (runs.jsonl, or a shard's runs.shard-K-of-N.jsonl)",
+                d.display()
+            )));
         }
-        for r in read_runs(&path).map_err(|e| CliError::Input(e.to_string()))? {
+        let (found, torn) = read_folder(d).map_err(|e| CliError::Input(e.to_string()))?;
+        for t in torn {
+            eprintln!(
+                "wend: {}:{}: cut short (a run killed while its record was written); left out",
+                t.file.display(),
+                t.line
+            );
+        }
+        let found_count = found.len();
+        for r in found {
             home.entry(r.key()).or_insert_with(|| d.clone());
             runs.push(r);
+        }
+        // A sharded sweep's plan tells how many runs the folder should hold.
+        if let Some(plan) = read_plan(d).map_err(|e| CliError::Input(e.to_string()))? {
+            let unique: HashSet<RunKey> = runs[runs.len() - found_count..]
+                .iter()
+                .map(RunRecord::key)
+                .collect();
+            if unique.len() < plan.planned_runs {
+                eprintln!(
+                    "wend: {}: {} of the {} planned runs are recorded; the sweep's command, run \
+                     again (or its array resubmitted), does the others",
+                    d.display(),
+                    unique.len(),
+                    plan.planned_runs
+                );
+            } else {
+                eprintln!(
+                    "{}: all {} planned runs recorded",
+                    d.display(),
+                    plan.planned_runs
+                );
+            }
         }
     }
     std::fs::create_dir_all(out)
