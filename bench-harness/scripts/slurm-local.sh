@@ -15,7 +15,8 @@
 #   slurm_wait_running JOBID TASKID [TIMEOUT]  wait until that array task runs
 #   slurm_kill_task JOBID TASKID [TIMEOUT]     SIGKILL one running array task, no cleanup
 #
-# Every state, spool, log, pid and socket file lives under DIR; nothing in /etc is changed.
+# Every state, spool, log, pid and socket file lives under DIR; slurm_up changes nothing in
+# /etc (the packages' own files there are left as installed, and unused).
 # The node is called "localhost" and has the machine's cores and memory.
 # Knobs (environment): SLURM_LOCAL_PORT (slurmctld port, default 6817; slurmd uses the next
 # one), SLURM_LOCAL_CPUS (default: nproc), SLURM_LOCAL_UP_TIMEOUT (seconds, default 60).
@@ -43,7 +44,7 @@ _slurm_show_logs() {
 _slurm_pid_from() {
     local f=$1 pid
     [ -r "$f" ] || return 1
-    read -r pid <"$f" 2>/dev/null || return 1
+    read -r pid 2>/dev/null <"$f" || return 1
     case $pid in '' | *[!0-9]*) return 1 ;; esac
     _slurm_alive "$pid" || return 1
     printf '%s\n' "$pid"
@@ -85,10 +86,10 @@ _slurm_dir_pids() {
     local dir=$1 p pid comm hit fd
     for p in /proc/[0-9]*; do
         pid=${p#/proc/}
-        read -r comm <"$p/comm" 2>/dev/null || continue
+        read -r comm 2>/dev/null <"$p/comm" || continue
         case $comm in slurmctld | slurmd | slurmstepd | slurmscriptd | munged) ;; *) continue ;; esac
         hit=0
-        case $(tr '\0' ' ' <"$p/cmdline" 2>/dev/null) in *"$dir/"*) hit=1 ;; esac
+        case $(tr '\0' ' ' 2>/dev/null <"$p/cmdline") in *"$dir/"*) hit=1 ;; esac
         case $(readlink "$p/cwd" 2>/dev/null) in "$dir" | "$dir"/*) hit=1 ;; esac
         if [ $hit = 0 ]; then
             for fd in "$p"/fd/*; do
@@ -108,11 +109,33 @@ _slurm_port_busy() {
         END { exit !found }' /proc/net/tcp /proc/net/tcp6 2>/dev/null
 }
 
+# Run a daemon: stdin from /dev/null, output appended to LOG, and none of the caller's other
+# open files (munged would keep them open for its whole life, so a pipe the caller reads
+# would never see its end). Returns the command's exit status.
+_slurm_spawn() {
+    local log=$1
+    shift
+    (
+        for fd in /proc/self/fd/*; do
+            fd=${fd##*/}
+            case $fd in 0 | 1 | 2 | *[!0-9]*) ;; *) eval "exec $fd>&-" 2>/dev/null ;; esac
+        done
+        exec "$@" </dev/null >>"$log" 2>&1
+    )
+}
+
+# Sorted pids of every munged, slurmctld and slurmd on the machine.
+_slurm_daemon_pids() {
+    local name
+    for name in munged slurmctld slurmd; do pgrep -x "$name"; done | sort
+    return 0
+}
+
 slurm_install() {
-    local - pkgs=() missing=() p t0 before after newpids pid
+    local - pkgs=() missing=() p t0 before after newpids pid aptlog updated
     set +eu +o pipefail
     t0=$(_slurm_now)
-    # Daemons from these packages, and the package that ships each.
+    # A command from each package, and the package that ships it.
     for p in slurmctld:slurmctld slurmd:slurmd sbatch:slurm-client munged:munge; do
         command -v "${p%%:*}" >/dev/null 2>&1 || missing+=("${p#*:}")
     done
@@ -122,20 +145,34 @@ slurm_install() {
     fi
     pkgs=("${missing[@]}")
     _slurm_log "installing ${pkgs[*]}"
-    # Refresh the package lists only when apt does not know the packages yet.
+    # The packages' install scripts may try to start their daemons (where no policy forbids
+    # it); remember what ran before so that anything started by the install can be stopped.
+    before=$(_slurm_daemon_pids)
+    # Refresh the package lists only when apt does not know the packages yet, or when the
+    # install fails with the lists as they are (stale lists name files no longer served).
+    updated=0
     if ! apt-cache show "${pkgs[@]}" >/dev/null 2>&1; then
         _slurm_log "apt-get update"
         apt-get update -qq || { _slurm_err "apt-get update failed"; return 1; }
+        updated=1
     fi
-    # The packages' install scripts may try to start their daemons (where no policy forbids
-    # it); remember what ran before so that anything started by the install can be stopped.
-    before=$(pgrep -x 'munged|slurmctld|slurmd' | sort)
-    if ! DEBIAN_FRONTEND=noninteractive apt-get install -y -qq --no-install-recommends \
-        "${pkgs[@]}" >&2; then
+    # apt's own output goes to a log file, shown only if the install fails.
+    aptlog=$(mktemp "${TMPDIR:-/tmp}/slurm-install.XXXXXX") || return 1
+    while ! DEBIAN_FRONTEND=noninteractive apt-get install -y -qq --no-install-recommends \
+        "${pkgs[@]}" >"$aptlog" 2>&1; do
+        if [ $updated = 0 ]; then
+            _slurm_log "install failed; apt-get update and retry"
+            apt-get update -qq || { _slurm_err "apt-get update failed"; rm -f "$aptlog"; return 1; }
+            updated=1
+            continue
+        fi
+        tail -n 30 "$aptlog" >&2
+        rm -f "$aptlog"
         _slurm_err "apt-get install ${pkgs[*]} failed"
         return 1
-    fi
-    after=$(pgrep -x 'munged|slurmctld|slurmd' | sort)
+    done
+    rm -f "$aptlog"
+    after=$(_slurm_daemon_pids)
     newpids=$(comm -13 <(printf '%s\n' "$before") <(printf '%s\n' "$after"))
     for pid in $newpids; do
         _slurm_log "stopping $(cat "/proc/$pid/comm" 2>/dev/null) (pid $pid) started by the package install"
@@ -212,7 +249,11 @@ slurm_up() {
     # - select/cons_tres with CR_Core: each task takes one core, so tasks share the node.
     # JobRequeue=0: a failed task is never rerun behind the caller's back.
     # KillWait=5: cancelled tasks get SIGKILL 5 s after SIGTERM, so teardown is quick.
-    # MinJobAge=3600: finished tasks stay visible to scontrol for an hour.
+    # MinJobAge=600: finished tasks stay visible to scontrol for 10 minutes (then their
+    # final states are still in the completion file).
+    # MaxArraySize=100001 allows task ids 0..100000; every task counts towards MaxJobCount,
+    # finished ones too until MinJobAge has passed, hence MaxJobCount well above it (much
+    # higher and slurmctld warns that its saved state could outgrow its buffer).
     cat >"$dir/slurm.conf" <<EOF
 ClusterName=local
 SlurmctldHost=localhost
@@ -246,9 +287,9 @@ SelectTypeParameters=CR_Core
 ReturnToService=2
 JobRequeue=0
 KillWait=5
-MinJobAge=3600
-MaxArraySize=1000001
-MaxJobCount=1000000
+MinJobAge=600
+MaxArraySize=100001
+MaxJobCount=150000
 NodeName=localhost NodeAddr=127.0.0.1 CPUs=$cpus RealMemory=$mem State=UNKNOWN
 PartitionName=local Nodes=localhost Default=YES MaxTime=INFINITE State=UP
 EOF
@@ -271,9 +312,9 @@ EOF
             break
         fi
     done
-    if ! munged "${force[@]}" --socket="$sock" --key-file="$key" --pid-file="$dir/munge/munged.pid" \
-        --seed-file="$dir/munge/munged.seed" --log-file="$dir/log/munged.log" \
-        </dev/null >>"$dir/log/munged.out" 2>&1; then
+    if ! _slurm_spawn "$dir/log/munged.out" munged "${force[@]}" --socket="$sock" --key-file="$key" \
+        --pid-file="$dir/munge/munged.pid" --seed-file="$dir/munge/munged.seed" \
+        --log-file="$dir/log/munged.log"; then
         _slurm_err "munged failed to start; see $dir/log/munged.log"
         _slurm_show_logs "$dir"
         slurm_down "$dir"
@@ -288,9 +329,9 @@ EOF
     _slurm_log "munged up (pid $(_slurm_pid_from "$dir/munge/munged.pid"))"
 
     # slurmctld, starting from an empty state (-c); it forks into the background.
-    slurmctld -c </dev/null >>"$dir/log/slurmctld.out" 2>&1
+    _slurm_spawn "$dir/log/slurmctld.out" slurmctld -c
     # slurmd, told its node name since the host's own name is not "localhost".
-    slurmd -N localhost </dev/null >>"$dir/log/slurmd.out" 2>&1
+    _slurm_spawn "$dir/log/slurmd.out" slurmd -N localhost
 
     # Wait until the controller answers and the node has registered as idle.
     while :; do
@@ -560,13 +601,14 @@ slurm_kill_task() {
     # process group, which slurmstepd kills as soon as the shell is dead.
     _slurm_log "killing task $id (job $raw, pids ${pids% }): scancel --batch --signal=KILL $id"
     t0=$SECONDS
-    sent=-10
+    sent=$((SECONDS - 10)) # so that the first pass sends at once
     while :; do
         line=$(_slurm_task_line "$id")
         read -r st raw <<<"$line"
         [ "$st" = RUNNING ] || break
-        # Send again every 3 s, in case the first signal raced with the task's start.
-        if [ $((SECONDS - sent)) -ge 3 ]; then
+        # The task stays RUNNING for about 3 s while slurmstepd reaps its process group.
+        # Send again every 10 s, in case the first signal was lost anyway.
+        if [ $((SECONDS - sent)) -ge 10 ]; then
             scancel --batch --signal=KILL "$id" || { _slurm_err "scancel failed for $id"; return 1; }
             sent=$SECONDS
         fi

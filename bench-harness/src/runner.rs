@@ -6,7 +6,9 @@
 //! ([`crate::shards`]).
 
 use crate::record::{mend_ending, read_runs_file, Ending, RunKey, RunRecord};
-use crate::shards::{claim_plan, read_folder, records_file, FolderPlan, PlanClaim, PLAN_FILE};
+use crate::shards::{
+    claim_plan, read_folder, read_plan, records_file, FolderPlan, PlanClaim, PLAN_FILE,
+};
 use sysinfo::{CpuRefreshKind, MemoryRefreshKind, RefreshKind, System};
 use wend_tsplib::{read_problem, write_tour, Problem, TsplibError};
 
@@ -456,6 +458,7 @@ pub fn folder_plan(plan: &SweepPlan) -> FolderPlan {
         iterations: plan.iterations,
         threads_per_run: plan.threads_per_run,
         until_known: plan.until_known,
+        shards: plan.shard.map_or(1, |(_, n)| n),
         planned_runs: plan_runs(&whole).len(),
         version: env!("CARGO_PKG_VERSION").to_string(),
         commit: env!("WEND_GIT_COMMIT").to_string(),
@@ -478,7 +481,15 @@ pub fn run_sweep(
     let tours_dir = plan.out.join("tours");
     std::fs::create_dir_all(&tours_dir).map_err(io(&tours_dir))?;
     let claim = if plan.shard.is_some() || plan.out.join(PLAN_FILE).is_file() {
-        Some(claim_plan(&plan.out, &folder_plan(plan))?)
+        let mut ours = folder_plan(plan);
+        if plan.shard.is_none() {
+            // The whole run list, into a sharded sweep's folder: it finishes what the shards
+            // left, whatever their count.
+            if let Some(found) = read_plan(&plan.out)? {
+                ours.shards = found.shards;
+            }
+        }
+        Some(claim_plan(&plan.out, &ours)?)
     } else {
         None
     };

@@ -173,6 +173,8 @@ pub struct FolderPlan {
     pub threads_per_run: usize,
     /// Whether runs end at the known optimal length.
     pub until_known: bool,
+    /// How many shards the run list is cut into.
+    pub shards: usize,
     /// Runs in the whole sweep, over every shard.
     pub planned_runs: usize,
     /// Version of `wend` that writes the records.
@@ -226,7 +228,15 @@ impl FolderPlan {
                         serde_json::Value::Null => "not set".to_string(),
                         other => other.to_string(),
                     };
-                    format!("{key}: folder {}, this command {}", show(va), show(vb))
+                    let mut line = format!("{key}: folder {}, this command {}", show(va), show(vb));
+                    if key == "shards" {
+                        line.push_str(
+                            " (a job array resubmitted in part, as --array=2, has that many \
+                             tasks: resubmit the whole range, whose finished shards end at \
+                             once, or give --shard K/N)",
+                        );
+                    }
+                    line
                 }
             };
             out.push(line);
@@ -492,6 +502,7 @@ mod tests {
             iterations: Some(100),
             threads_per_run: 1,
             until_known: false,
+            shards: 4,
             planned_runs: 12,
             version: "0.1.0".into(),
             commit: "abc".into(),
@@ -511,11 +522,16 @@ mod tests {
         other.seeds = vec![0, 1];
         other.time_limit = 20.0;
         other.instances.push("st70".into());
+        // Task 2 of an array resubmitted alone sees an array of one task.
+        other.shards = 1;
         let e = claim_plan(dir.path(), &other).unwrap_err();
         let PlanError::Differs { differences, .. } = &e else {
             panic!("{e}");
         };
-        assert_eq!(differences.len(), 3, "{differences:?}");
+        assert_eq!(differences.len(), 4, "{differences:?}");
+        assert!(e
+            .to_string()
+            .contains("shards: folder 4, this command 1 (a job array resubmitted in part"));
         let text = e.to_string();
         assert!(text.contains("seeds: only in the folder's plan: 2; only in this command: none"));
         assert!(text.contains("time_limit: folder 10.0, this command 20.0"));
