@@ -166,6 +166,28 @@ fn bench_record_and_csv_keys_are_the_listed_keys() {
 }
 
 #[test]
+fn a_sharded_sweeps_plan_keys_are_the_listed_keys() {
+    let tmp = tempfile::tempdir().unwrap();
+    let out = tmp.path().display().to_string();
+    let file = instance("berlin52.tsp");
+    wend(&[
+        "bench",
+        "--instances",
+        &file,
+        "--methods",
+        "2opt",
+        "--runs",
+        "1",
+        "--shard",
+        "1/2",
+        "--out",
+        &out,
+    ]);
+    let plan = std::fs::read_to_string(tmp.path().join("plan.json")).unwrap();
+    check("bench plan.json", &json_keys(&plan), "plan.json");
+}
+
+#[test]
 fn bench_constrained_record_and_csv_keys_are_the_listed_keys() {
     let tmp = tempfile::tempdir().unwrap();
     let out = tmp.path().display().to_string();
