@@ -334,6 +334,17 @@ pub fn branch_and_cut<C: Cost + ?Sized>(
     stop: &StopHandle,
     mut progress: impl FnMut(&TreeProgress),
 ) -> Result<BranchCutResult, CutsError> {
+    branch_and_cut_dyn(cost.as_dyn_cost(), start, options, stop, &mut progress)
+}
+
+/// [`branch_and_cut`], compiled here once, on any cost.
+fn branch_and_cut_dyn(
+    cost: &dyn Cost,
+    start: &[usize],
+    options: &BranchCutOptions,
+    stop: &StopHandle,
+    progress: &mut dyn FnMut(&TreeProgress),
+) -> Result<BranchCutResult, CutsError> {
     let began = Instant::now();
     check_costs(cost)?;
     let edges = starting_edges(cost, options.neighbours, Some(start))?;

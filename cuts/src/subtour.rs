@@ -671,6 +671,15 @@ pub fn subtour_bound<C: Cost + ?Sized>(
     options: &SubtourOptions,
     stop: &StopHandle,
 ) -> Result<SubtourBound, CutsError> {
+    subtour_bound_dyn(cost.as_dyn_cost(), options, stop)
+}
+
+/// [`subtour_bound`], compiled here once, on any cost.
+fn subtour_bound_dyn(
+    cost: &dyn Cost,
+    options: &SubtourOptions,
+    stop: &StopHandle,
+) -> Result<SubtourBound, CutsError> {
     let began = Instant::now();
     let n = cost.len();
     check_costs(cost)?;

@@ -12,7 +12,13 @@ use std::fmt;
 ///
 /// Costs are `i64` so that comparisons are exact and runs repeat bit for bit; adapters that start
 /// from physical quantities scale them to integers and say which scale they used.
-pub trait Cost: Sync {
+///
+/// The searches, bounds and proofs are compiled once, in this crate, for [`CoordCost`],
+/// [`MatrixCost`] and `dyn Cost`: the public functions hand any other cost over as `dyn Cost`,
+/// so a caller's crate does not compile the solver again for each cost type it uses. Other
+/// costs (closures, a caller's own type) are then called through one indirect call; the
+/// searches on coordinates and matrices call them directly.
+pub trait Cost: Sync + AsDynCost {
     /// Number of nodes.
     fn len(&self) -> usize;
 
@@ -39,6 +45,39 @@ pub trait Cost: Sync {
     fn max_cost_hint(&self) -> Option<i64> {
         None
     }
+
+    /// Which of the cost types the solver is compiled for this is, when it is one.
+    #[doc(hidden)]
+    fn as_known(&self) -> KnownCost<'_> {
+        KnownCost::Other
+    }
+}
+
+/// Any cost as a trait object: what the public functions hand to the solver's one compiled
+/// copy. Implemented for every sized [`Cost`]; nothing to implement by hand.
+#[doc(hidden)]
+pub trait AsDynCost {
+    /// This cost as `dyn Cost` (a trait object's own, not one wrapped around it).
+    fn as_dyn_cost(&self) -> &dyn Cost;
+}
+
+impl<T: Cost> AsDynCost for T {
+    fn as_dyn_cost(&self) -> &dyn Cost {
+        self
+    }
+}
+
+/// The cost types the searches are compiled for, told apart at run time so that each runs its
+/// own compiled search with direct calls.
+#[doc(hidden)]
+#[derive(Clone, Copy)]
+pub enum KnownCost<'a> {
+    /// Coordinates.
+    Coord(&'a CoordCost),
+    /// A dense matrix.
+    Matrix(&'a MatrixCost),
+    /// Any other cost.
+    Other,
 }
 
 /// Points attached to a cost oracle; see [`Cost::geometry`].
@@ -68,6 +107,9 @@ macro_rules! forward_cost {
             }
             fn max_cost_hint(&self) -> Option<i64> {
                 (**self).max_cost_hint()
+            }
+            fn as_known(&self) -> KnownCost<'_> {
+                (**self).as_known()
             }
         }
     )*};
@@ -379,6 +421,9 @@ impl Cost for CoordCost {
     fn max_cost_hint(&self) -> Option<i64> {
         Some(self.max_cost)
     }
+    fn as_known(&self) -> KnownCost<'_> {
+        KnownCost::Coord(self)
+    }
 }
 
 /// A dense `n x n` cost matrix, symmetric or not, stored row-major.
@@ -473,6 +518,9 @@ impl Cost for MatrixCost {
     }
     fn max_cost_hint(&self) -> Option<i64> {
         Some(self.max_abs)
+    }
+    fn as_known(&self) -> KnownCost<'_> {
+        KnownCost::Matrix(self)
     }
 }
 

@@ -271,6 +271,15 @@ pub fn dynamic_programme<C: Cost + ?Sized>(
     memory_limit_bytes: usize,
     should_stop: &mut dyn FnMut() -> bool,
 ) -> Result<DpTour, DpError> {
+    dynamic_programme_dyn(cost.as_dyn_cost(), memory_limit_bytes, should_stop)
+}
+
+/// [`dynamic_programme`], compiled here once, on any cost.
+fn dynamic_programme_dyn(
+    cost: &dyn Cost,
+    memory_limit_bytes: usize,
+    should_stop: &mut dyn FnMut() -> bool,
+) -> Result<DpTour, DpError> {
     let n = cost.len();
     if n > DP_LIMIT {
         return Err(DpError::TooManyNodes { n, limit: DP_LIMIT });

@@ -103,7 +103,9 @@ pub use bounds::{
     assignment_bound, branch_and_bound, held_karp_bound,
 };
 pub use control::{Improvement, StopHandle, StopReason};
-pub use cost::{CoordCost, Cost, CostError, FnCost, Geometry, MatrixCost, Metric};
+pub use cost::{
+    AsDynCost, CoordCost, Cost, CostError, FnCost, Geometry, KnownCost, MatrixCost, Metric,
+};
 pub use exact::{DEFAULT_DP_MEMORY, DP_LIMIT, DpError, DpTour, dynamic_programme, optimal_path};
 pub use memory::MemoryError;
 pub use methods::{

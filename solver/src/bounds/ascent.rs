@@ -904,6 +904,15 @@ pub fn held_karp_bound<C: Cost + ?Sized>(
     opts: &AscentOptions,
     stop: &StopHandle,
 ) -> Result<Ascent, BoundError> {
+    held_karp_bound_dyn(cost.as_dyn_cost(), opts, stop)
+}
+
+/// [`held_karp_bound`], compiled here once, on any cost.
+fn held_karp_bound_dyn(
+    cost: &dyn Cost,
+    opts: &AscentOptions,
+    stop: &StopHandle,
+) -> Result<Ascent, BoundError> {
     let began = Instant::now();
     let n = cost.len();
     if !cost.is_symmetric() {

@@ -175,6 +175,16 @@ pub fn branch_and_bound<C: Cost + ?Sized>(
     opts: &BranchOptions,
     stop: &StopHandle,
 ) -> Result<Proof, BoundError> {
+    branch_and_bound_dyn(cost.as_dyn_cost(), initial_tour, opts, stop)
+}
+
+/// [`branch_and_bound`], compiled here once, on any cost.
+fn branch_and_bound_dyn(
+    cost: &dyn Cost,
+    initial_tour: Vec<usize>,
+    opts: &BranchOptions,
+    stop: &StopHandle,
+) -> Result<Proof, BoundError> {
     let began = Instant::now();
     let n = cost.len();
     if !cost.is_symmetric() {

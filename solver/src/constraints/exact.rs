@@ -444,6 +444,16 @@ pub fn solve_exact<C: Cost + ?Sized>(
     stop: &StopHandle,
     deadline: Option<Instant>,
 ) -> Result<ExactOutcome, ExactError> {
+    solve_exact_dyn(cost.as_dyn_cost(), c, stop, deadline)
+}
+
+/// [`solve_exact`], compiled here once, on any cost.
+fn solve_exact_dyn(
+    cost: &dyn Cost,
+    c: &Constraints,
+    stop: &StopHandle,
+    deadline: Option<Instant>,
+) -> Result<ExactOutcome, ExactError> {
     solve_within(cost, c, stop, deadline, memory::ceiling())
 }
 

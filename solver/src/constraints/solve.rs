@@ -112,6 +112,17 @@ pub fn solve_sequence<C: Cost + ?Sized>(
     start: Option<&[usize]>,
     hooks: Hooks,
 ) -> Result<SequenceOutcome, SequenceError> {
+    solve_sequence_dyn(cost.as_dyn_cost(), c, settings, start, hooks)
+}
+
+/// [`solve_sequence`], compiled here once, on any cost.
+fn solve_sequence_dyn(
+    cost: &dyn Cost,
+    c: &Constraints,
+    settings: &Settings,
+    start: Option<&[usize]>,
+    hooks: Hooks,
+) -> Result<SequenceOutcome, SequenceError> {
     solve_sequence_inner(cost, c, settings, start, &NoRule, false, hooks)
 }
 
@@ -132,7 +143,9 @@ pub fn solve_sequence_with<C: Cost + ?Sized, R: StepRule + ?Sized>(
     rule: &R,
     hooks: Hooks,
 ) -> Result<SequenceOutcome, SequenceError> {
-    solve_sequence_inner(cost, c, settings, start, rule, true, hooks)
+    // The caller's rule type is compiled in the caller's crate; the costs go as `dyn Cost`,
+    // so that it is compiled once per rule.
+    solve_sequence_inner(cost.as_dyn_cost(), c, settings, start, rule, true, hooks)
 }
 
 fn solve_sequence_inner<C: Cost + ?Sized, R: StepRule + ?Sized>(

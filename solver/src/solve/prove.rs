@@ -237,6 +237,15 @@ pub fn prove_optimal<C: Cost + ?Sized>(
     opts: &ProveOptions,
     stop: &StopHandle,
 ) -> Result<Certificate, ProveError> {
+    prove_optimal_dyn(cost.as_dyn_cost(), opts, stop)
+}
+
+/// [`prove_optimal`], compiled here once, on any cost.
+fn prove_optimal_dyn(
+    cost: &dyn Cost,
+    opts: &ProveOptions,
+    stop: &StopHandle,
+) -> Result<Certificate, ProveError> {
     if !opts.fixed_edges.is_empty() {
         return prove_fixed(cost, opts, stop);
     }
@@ -454,6 +463,17 @@ pub enum LowerBoundError {
 /// ```
 pub fn lower_bound<C: Cost + ?Sized>(
     cost: &C,
+    ends: Ends,
+    length: i64,
+    time_limit: Duration,
+    stop: &StopHandle,
+) -> Result<i64, LowerBoundError> {
+    lower_bound_dyn(cost.as_dyn_cost(), ends, length, time_limit, stop)
+}
+
+/// [`lower_bound`], compiled here once, on any cost.
+fn lower_bound_dyn(
+    cost: &dyn Cost,
     ends: Ends,
     length: i64,
     time_limit: Duration,

@@ -465,6 +465,15 @@ pub fn solve_with<C: Cost + ?Sized>(
     settings: &Settings,
     hooks: Hooks,
 ) -> Result<Outcome, SolveWithError> {
+    solve_with_dyn(cost.as_dyn_cost(), settings, hooks)
+}
+
+/// [`solve_with`], compiled here once, on any cost.
+fn solve_with_dyn(
+    cost: &dyn Cost,
+    settings: &Settings,
+    hooks: Hooks,
+) -> Result<Outcome, SolveWithError> {
     settings.check()?;
     let Hooks {
         stop,

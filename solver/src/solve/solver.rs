@@ -4,7 +4,7 @@ use crate::bounds::{assignment_bound, patch_cover};
 use crate::construct;
 use crate::construct::{Start, start_tour};
 use crate::control::{self, Improvement, StopHandle, StopReason};
-use crate::cost::{Cost, CostError, FnCost, MatrixCost};
+use crate::cost::{CoordCost, Cost, CostError, FnCost, KnownCost, MatrixCost};
 use crate::exact;
 use crate::methods::{AnnealParams, Annealer};
 use crate::methods::{AntParams, AntVariant, Colony};
@@ -210,7 +210,7 @@ pub struct Solution {
     pub method: Method,
 }
 
-type Observer = Box<dyn Fn(Improvement) + Sync + Send>;
+type Observer = std::sync::Arc<dyn Fn(Improvement) + Sync + Send>;
 
 /// Builder for a solve over any [`Cost`].
 ///
@@ -533,7 +533,7 @@ impl<C: Cost> Solver<C> {
     /// assert_eq!(seen.lock().unwrap().last(), Some(&solution.length));
     /// ```
     pub fn on_improvement(mut self, f: impl Fn(Improvement) + Sync + Send + 'static) -> Self {
-        self.observer = Some(Box::new(f));
+        self.observer = Some(std::sync::Arc::new(f));
         self
     }
 
@@ -601,6 +601,43 @@ impl<C: Cost> Solver<C> {
     /// assert_eq!(solution.tour.len(), 3);
     /// ```
     pub fn solve(&self) -> Result<Solution, SolveError> {
+        // The search is compiled once, in this crate, for each kind of cost; this generic
+        // function only picks the copy.
+        match self.cost.as_known() {
+            KnownCost::Coord(c) => solve_coord(&self.with_cost(c)),
+            KnownCost::Matrix(m) => solve_matrix(&self.with_cost(m)),
+            KnownCost::Other => solve_other(&self.with_cost(self.cost.as_dyn_cost())),
+        }
+    }
+
+    /// The same options over other costs.
+    fn with_cost<D>(&self, cost: D) -> Solver<D> {
+        Solver {
+            cost,
+            time_limit: self.time_limit,
+            seed: self.seed,
+            threads: self.threads,
+            runs: self.runs,
+            iterations: self.iterations,
+            stall_limit: self.stall_limit,
+            target: self.target,
+            method: self.method,
+            neighbour_count: self.neighbour_count,
+            neighbour_lists: self.neighbour_lists,
+            layout: self.layout,
+            ends: self.ends,
+            fixed_edges: self.fixed_edges.clone(),
+            asymmetric_mode: self.asymmetric_mode,
+            ants: self.ants.clone(),
+            annealing: self.annealing.clone(),
+            stop: self.stop.clone(),
+            observer: self.observer.clone(),
+            memory_limit: self.memory_limit,
+        }
+    }
+
+    /// [`Solver::solve`] on this solver's own cost type.
+    fn solve_here(&self) -> Result<Solution, SolveError> {
         if !self.fixed_edges.is_empty() {
             return self.solve_fixed();
         }
@@ -998,6 +1035,21 @@ impl Iterative for Restart {
     fn finished(&self) -> bool {
         true
     }
+}
+
+/// The search on coordinates, compiled here once.
+fn solve_coord(s: &Solver<&CoordCost>) -> Result<Solution, SolveError> {
+    s.solve_here()
+}
+
+/// The search on a matrix, compiled here once.
+fn solve_matrix(s: &Solver<&MatrixCost>) -> Result<Solution, SolveError> {
+    s.solve_here()
+}
+
+/// The search on any other cost, through `dyn Cost`, compiled here once.
+fn solve_other(s: &Solver<&dyn Cost>) -> Result<Solution, SolveError> {
+    s.solve_here()
 }
 
 /// What a search on some costs (the caller's, or transformed ones) found.
