@@ -557,7 +557,7 @@ pub(crate) struct LkPlan {
 
 /// One run of the iterated search on representation `T`: a local optimum, then one kick and its
 /// repair per step, kept when the tour is no longer.
-struct LkRun<'a, C: Cost + ?Sized, T: TourRepr> {
+pub(crate) struct LkRun<'a, C: Cost + ?Sized, T: TourRepr> {
     cost: &'a C,
     lk: LinKernighan<'a, C>,
     tour: T,
@@ -566,7 +566,7 @@ struct LkRun<'a, C: Cost + ?Sized, T: TourRepr> {
 }
 
 impl<'a, C: Cost + ?Sized, T: TourRepr> LkRun<'a, C, T> {
-    fn start(
+    pub(crate) fn start(
         cost: &'a C,
         nb: &'a Neighbours,
         plan: &LkPlan,

@@ -7,6 +7,7 @@ pub(crate) mod anneal;
 pub(crate) mod ants;
 pub(crate) mod drive;
 pub(crate) mod lk;
+pub(crate) mod parts;
 
 pub(crate) use anneal::Annealer;
 pub use anneal::{AnnealParams, CoolingSchedule};

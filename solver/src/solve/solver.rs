@@ -6,6 +6,7 @@ use crate::construct::{Start, start_tour};
 use crate::control::{self, Improvement, StopHandle, StopReason};
 use crate::cost::{CoordCost, Cost, CostError, FnCost, KnownCost, MatrixCost};
 use crate::exact;
+use crate::methods::parts;
 use crate::methods::{AnnealParams, Annealer};
 use crate::methods::{AntParams, AntVariant, Colony};
 use crate::methods::{Iterative, LoopPlan, drive};
@@ -950,7 +951,18 @@ impl<C: Cost> Solver<C> {
                         layout: self.layout,
                         start,
                     };
-                    iterated(cost, &nb, &plan, began, observe)
+                    match cost.as_known() {
+                        // A large instance on coordinates: every thread on one tour.
+                        KnownCost::Coord(c) if n >= parts::PARTS_FROM && plan.start.is_none() => {
+                            let parts = parts::PartsPlan {
+                                lk: &plan,
+                                source: self.neighbour_lists,
+                                part_nodes: parts::PART_NODES,
+                            };
+                            parts::in_parts(c, &nb, &parts, began, observe)
+                        }
+                        _ => iterated(cost, &nb, &plan, began, observe),
+                    }
                 }
             };
             debug_assert!(
