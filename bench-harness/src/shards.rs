@@ -329,12 +329,14 @@ pub fn claim_plan(dir: &Path, plan: &FolderPlan) -> Result<PlanClaim, PlanError>
     std::fs::write(&aside, &text).map_err(failed)?;
     let linked = std::fs::hard_link(&aside, &path);
     let _ = std::fs::remove_file(&aside);
+    // Another shard wrote the plan first: its plan must be this one.
+    let taken = |e: std::io::Error| match read_plan(dir)? {
+        Some(found) => compare(found),
+        None => Err(failed(e)),
+    };
     match linked {
         Ok(()) => Ok(PlanClaim::Written),
-        Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => match read_plan(dir)? {
-            Some(found) => compare(found),
-            None => Err(failed(e)),
-        },
+        Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => taken(e),
         // A file system without hard links: an exclusive create, written at once.
         Err(_) => {
             use std::io::Write;
@@ -347,10 +349,7 @@ pub fn claim_plan(dir: &Path, plan: &FolderPlan) -> Result<PlanClaim, PlanError>
                     f.write_all(text.as_bytes()).map_err(failed)?;
                     Ok(PlanClaim::Written)
                 }
-                Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => match read_plan(dir)? {
-                    Some(found) => compare(found),
-                    None => Err(failed(e)),
-                },
+                Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => taken(e),
                 Err(e) => Err(failed(e)),
             }
         }

@@ -132,12 +132,11 @@ fn bound_json_keys_are_the_listed_keys() {
     }
 }
 
-#[test]
-fn bench_record_and_csv_keys_are_the_listed_keys() {
-    let tmp = tempfile::tempdir().unwrap();
-    let out = tmp.path().display().to_string();
+/// A one-run sweep of berlin52 under 2opt into `out`, with `extra` options.
+fn bench_berlin52(out: &std::path::Path, extra: &[&str]) {
+    let out = out.display().to_string();
     let file = instance("berlin52.tsp");
-    wend(&[
+    let mut args = vec![
         "bench",
         "--instances",
         &file,
@@ -145,11 +144,17 @@ fn bench_record_and_csv_keys_are_the_listed_keys() {
         "2opt",
         "--runs",
         "1",
-        "--time-limit",
-        "60",
         "--out",
         &out,
-    ]);
+    ];
+    args.extend_from_slice(extra);
+    wend(&args);
+}
+
+#[test]
+fn bench_record_and_csv_keys_are_the_listed_keys() {
+    let tmp = tempfile::tempdir().unwrap();
+    bench_berlin52(tmp.path(), &["--time-limit", "60"]);
     let runs = std::fs::read_to_string(tmp.path().join("runs.jsonl")).unwrap();
     let lines: Vec<&str> = runs.lines().collect();
     assert_eq!(lines.len(), 1, "{runs}");
@@ -168,21 +173,7 @@ fn bench_record_and_csv_keys_are_the_listed_keys() {
 #[test]
 fn a_sharded_sweeps_plan_keys_are_the_listed_keys() {
     let tmp = tempfile::tempdir().unwrap();
-    let out = tmp.path().display().to_string();
-    let file = instance("berlin52.tsp");
-    wend(&[
-        "bench",
-        "--instances",
-        &file,
-        "--methods",
-        "2opt",
-        "--runs",
-        "1",
-        "--shard",
-        "1/2",
-        "--out",
-        &out,
-    ]);
+    bench_berlin52(tmp.path(), &["--shard", "1/2"]);
     let plan = std::fs::read_to_string(tmp.path().join("plan.json")).unwrap();
     check("bench plan.json", &json_keys(&plan), "plan.json");
 }

@@ -13,11 +13,12 @@ use std::fmt;
 /// Costs are `i64` so that comparisons are exact and runs repeat bit for bit; adapters that start
 /// from physical quantities scale them to integers and say which scale they used.
 ///
-/// The searches, bounds and proofs are compiled once, in this crate, for [`CoordCost`],
-/// [`MatrixCost`] and `dyn Cost`: the public functions hand any other cost over as `dyn Cost`,
-/// so a caller's crate does not compile the solver again for each cost type it uses. Other
-/// costs (closures, a caller's own type) are then called through one indirect call; the
-/// searches on coordinates and matrices call them directly.
+/// The heavy public functions (searches, bounds, proofs) are compiled once, in this crate, for
+/// `dyn Cost`, and the search of [`crate::Solver::solve`] also for [`CoordCost`] and
+/// [`MatrixCost`]: they hand any other cost over as `dyn Cost`, so a caller's crate does not
+/// compile the solver again for each cost type it uses. The search then calls coordinates and
+/// matrices directly, and other costs (closures, a caller's own type) through one indirect
+/// call per cost.
 pub trait Cost: Sync + AsDynCost {
     /// Number of nodes.
     fn len(&self) -> usize;
