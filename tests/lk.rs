@@ -84,3 +84,49 @@ fn same_tour_for_one_and_two_threads() {
     assert_eq!(a.tour, b.tour);
     assert!(a.length >= 2579); // a280 optimum, TSPLIB 95 list
 }
+
+// From 150,000 nodes on coordinates `lk` renumbers the points along a space-filling curve,
+// builds its first tour in blocks and searches in parts. The tour comes back in the caller's
+// numbering, from node 0, measured on the caller's costs, the same for one and two threads with
+// an iteration budget, and near the length expected of Lin–Kernighan.
+#[test]
+fn a_large_instance_is_solved_in_parts_in_the_callers_numbering() {
+    use rand::{Rng, SeedableRng};
+    let n = 150_000;
+    let side = 1_000_000.0;
+    let mut rng = rand_pcg::Pcg64::seed_from_u64(11);
+    let points: Vec<[f64; 2]> = (0..n)
+        .map(|_| [rng.r#gen::<f64>() * side, rng.r#gen::<f64>() * side])
+        .collect();
+    let cost = wend::CoordCost::plane(wend::Metric::Euc2d, &points).unwrap();
+    let solve = |threads| {
+        Solver::new(&cost)
+            .method(Method::Lk)
+            .seed(4)
+            .runs(1)
+            .kicks(1)
+            .threads(threads)
+            .solve()
+            .unwrap()
+    };
+    let one = solve(1);
+    let two = solve(2);
+    assert_eq!(one.tour.order(), two.tour.order());
+    assert_eq!(one.tour.order()[0], 0);
+    assert!(Tour::new(one.tour.order().to_vec(), n).is_ok());
+    assert_eq!(
+        wend::closed_length(&cost, one.tour.order()).unwrap(),
+        one.length
+    );
+    // 0.7124 * sqrt(n * A): the asymptotic optimal length of uniform random points
+    // (Beardwood–Halton–Hammersley constant, estimate of Applegate, Bixby, Chvátal, Cook and
+    // others; from memory). Lin–Kernighan lies about 2% above the Held–Karp bound on such
+    // instances (Johnson and McGeoch; from memory), the bound below the optimum.
+    let yardstick = 0.7124 * (n as f64 * side * side).sqrt();
+    let excess = one.length as f64 / yardstick - 1.0;
+    assert!(
+        excess > -0.01 && excess < 0.04,
+        "{:.2}% above the yardstick",
+        100.0 * excess
+    );
+}

@@ -573,9 +573,32 @@ impl<'a, C: Cost + ?Sized, T: TourRepr> LkRun<'a, C, T> {
         order: Vec<usize>,
         should_stop: &mut dyn FnMut() -> bool,
     ) -> Self {
+        Self::start_from(cost, nb, plan, order, None, should_stop)
+    }
+
+    /// [`LkRun::start`], the first descent trying moves from the `active` nodes only (and from
+    /// the nodes its moves touch), or from every node when `None`.
+    pub(crate) fn start_from(
+        cost: &'a C,
+        nb: &'a Neighbours,
+        plan: &LkPlan,
+        order: Vec<usize>,
+        active: Option<&[usize]>,
+        should_stop: &mut dyn FnMut() -> bool,
+    ) -> Self {
         let mut tour = T::from_order(order);
         let mut lk = LinKernighan::new(cost, nb, plan.params.clone());
-        lk.optimise(&mut tour, should_stop);
+        match active {
+            Some(nodes) => {
+                for &v in nodes {
+                    lk.activate(v);
+                }
+                lk.run(&mut tour, should_stop);
+            }
+            None => {
+                lk.optimise(&mut tour, should_stop);
+            }
+        }
         let length = closed_length(cost, &tour.stored_order()).unwrap_or(i64::MAX);
         LkRun {
             cost,

@@ -1,25 +1,34 @@
 //! Every thread on one tour: the iterated LK search of a large instance, cut into parts.
 //!
-//! Above [`PARTS_FROM`] nodes on coordinates, independent runs side by side would each improve
-//! their own copy of a large tour, and all but one copy would be thrown away. Here a run takes
-//! its greedy tour to a local optimum of the whole tour (on one thread, for now), then works in
-//! rounds: the tour is cut into consecutive stretches of about [`PART_NODES`] nodes, and each
-//! stretch, a path with fixed ends between its first and last node, becomes a small instance of
-//! its own (its points, the whole tour's neighbour lists kept to the stretch, a dummy node
-//! closing the path, as for any path with fixed ends) whose LK search with kicks runs on one of
-//! the loop's threads. The improved path goes back in place of the stretch when it is shorter.
-//! Stretches are disjoint, so their searches never meet. The next round cuts the tour half a
-//! part further on, so no edge stays on a boundary.
+//! From [`PARTS_FROM`] nodes on coordinates, independent runs side by side would each improve
+//! their own copy of a large tour, and all but one copy would be thrown away. Here one run keeps
+//! one tour, and every step of it is spread over the loop's threads:
+//!
+//! 1. **The first tour, in blocks.** The points in the order of a space-filling curve are cut
+//!    into blocks of consecutive points (compact regions); each block's greedy path from its
+//!    first point to its last is taken to its local optimum, blocks side by side, and the paths
+//!    are joined in curve order.
+//! 2. **The seams.** The nodes with a candidate in another block are where moves may remain:
+//!    the whole tour's descent tries moves from them only, on one thread (about a twentieth of
+//!    the nodes on a million points).
+//! 3. **Rounds.** The tour is cut into consecutive stretches of about [`PART_NODES`] nodes, and
+//!    each stretch, a path with fixed ends between its first and last node, becomes a small
+//!    instance of its own (its points, the whole tour's neighbour lists kept to the stretch, a
+//!    dummy node closing the path, as for any path with fixed ends) whose LK search, from the
+//!    last round's seams and then with kicks, runs on one of the loop's threads. The improved
+//!    path goes back in place of the stretch when it is shorter. Stretches are disjoint, so
+//!    their searches never meet. The next round cuts the tour half a part further on, so no
+//!    edge stays on a boundary.
 //!
 //! One step of such a run is one round, and an iteration budget counts kicks as for `lk`, turned
-//! into rounds of [`KICKS_PER_NODE`] kicks per node. The cuts depend on the number of nodes and
-//! the run's random stream only, and each part's search has its own stream and kick budget,
-//! drawn before the round starts: with an iteration budget the tour is the same for any number
-//! of threads.
+//! into rounds of [`KICKS_PER_NODE`] kicks per node. Blocks and cuts depend on the number of
+//! nodes and the run's random stream only, and each part's search has its own stream and kick
+//! budget, drawn before the round starts: with an iteration budget the tour is the same for any
+//! number of threads.
 
-use super::drive::{Iterative, LoopOutcome, drive};
+use super::drive::{Iterative, LoopOutcome, LoopPlan, drive};
 use super::lk::{LkPlan, LkRun};
-use crate::construct::{Start, start_tour};
+use crate::construct::{Start, greedy_edge, space_filling_curve, start_tour};
 use crate::control::Improvement;
 use crate::cost::{CoordCost, Cost};
 use crate::neighbours::{CandidateSource, Neighbours};
@@ -33,12 +42,16 @@ use std::time::Instant;
 /// Fewest nodes for the search in parts; below, runs go side by side as before.
 pub(crate) const PARTS_FROM: usize = 150_000;
 /// Nodes of a part, about: every part has `n / ceil(n / PART_NODES)` nodes, give or take one.
-/// Smaller parts cut more edges and pay each part's pass over its nodes more often; larger ones
-/// leave threads idle at the end of a round (parts do not depend on the thread count).
+/// Measured on a million points at 60 s: parts of 10,000 nodes gave a tour 0.08% longer, of
+/// 5,000 (at a quarter kick per node) 0.1% longer than 25,000 (more edges cut, more seams to
+/// pass over); larger parts leave threads idle at the end of a round (parts do not depend on
+/// the thread count).
 pub(crate) const PART_NODES: usize = 25_000;
-/// Kicks per node of a part in each round (each part's search also passes once over all its
-/// nodes first, so fewer kicks would make rounds mostly that pass).
-const KICKS_PER_NODE: f64 = 0.25;
+/// Kicks per node of a part in each round. Measured on a million points at 60 s: 0.1 (three
+/// rounds) beat 0.25 (one round; 0.19% longer) and 0.05 (five rounds; 0.007% longer): more
+/// rounds move the cuts more often, fewer kicks per round leave more of a round's time to
+/// its seams.
+const KICKS_PER_NODE: f64 = 0.1;
 
 /// What the search in parts needs besides the tour.
 pub(crate) struct PartsPlan<'a> {
@@ -58,11 +71,13 @@ pub(crate) struct PartsRun<'a> {
     order: Vec<usize>,
     length: i64,
     round: u64,
+    /// The parts of the last round: stretches of positions in `order`.
+    cuts: Vec<(usize, usize)>,
 }
 
 impl<'a> PartsRun<'a> {
-    /// A run from its greedy tour (`r`: the run's index), taken to a local optimum in parts,
-    /// then as a whole.
+    /// A run from its first tour, built in blocks (or, without geometry, its greedy tour; `r`:
+    /// the run's index), taken to a local optimum: the blocks, then their seams.
     pub(crate) fn start(
         cost: &'a CoordCost,
         nb: &'a Neighbours,
@@ -71,38 +86,112 @@ impl<'a> PartsRun<'a> {
         rng: &mut Pcg64,
         should_stop: &mut dyn FnMut() -> bool,
     ) -> Self {
-        let order = start_tour(cost, nb, Start::GreedyEdge, r, rng, should_stop);
-        let length = closed_length(cost, &order).unwrap_or(i64::MAX);
         let mut run = PartsRun {
             cost,
             nb,
             plan,
-            order,
-            length,
+            order: Vec::new(),
+            length: i64::MAX,
             round: 0,
+            cuts: Vec::new(),
         };
+        if !run.first_tour(rng) {
+            run.order = start_tour(cost, nb, Start::GreedyEdge, r, rng, should_stop);
+        }
+        run.length = closed_length(cost, &run.order).unwrap_or(i64::MAX);
         if should_stop() {
             return run;
         }
-        // Each stretch of the greedy tour to its local optimum, on every thread: most of the
-        // work of the first descent. Stretches of a tour that is far from good wind through
-        // each other, which no part alone can undo: the descent of the whole tour does.
-        run.round(rng, 0.0);
+        // Moves between blocks, on the whole tour. (A round cut half a block further on,
+        // trying moves from the seams side by side, then the whole tour from the seams it
+        // could not reach, took longer on two threads: on a million points each part's set-up
+        // outweighs its share of the 47,000 seams.)
+        let seams = run.seams();
+        let seams = Some(&seams[..]);
         let order = std::mem::take(&mut run.order);
         let order = if plan.lk.layout.two_level(cost.len()) {
-            LkRun::<CoordCost, TwoLevelTour>::start(cost, nb, plan.lk, order, should_stop)
-                .best_order()
+            LkRun::<CoordCost, TwoLevelTour>::start_from(
+                cost,
+                nb,
+                plan.lk,
+                order,
+                seams,
+                should_stop,
+            )
+            .best_order()
         } else {
-            LkRun::<CoordCost, ArrayTour>::start(cost, nb, plan.lk, order, should_stop).best_order()
+            LkRun::<CoordCost, ArrayTour>::start_from(cost, nb, plan.lk, order, seams, should_stop)
+                .best_order()
         };
         run.length = closed_length(cost, &order).unwrap_or(i64::MAX);
         run.order = order;
         run
     }
 
+    /// The first tour, built in blocks: the points in the order of a space-filling curve, cut
+    /// into blocks of consecutive points (as many as a round has parts), each block's greedy
+    /// path from its first point to its last taken to a local optimum on one of the loop's
+    /// threads, the paths joined in curve order. Blocks are compact regions, so moves between
+    /// them only remain along their borders. False (and nothing done) without geometry.
+    fn first_tour(&mut self, rng: &mut Pcg64) -> bool {
+        let Some(curve) = space_filling_curve(self.cost, [0.0, 0.0]) else {
+            return false;
+        };
+        let n = curve.len();
+        let parts = n.div_ceil(self.plan.part_nodes.max(8)).max(2);
+        let blocks = bounds(n, parts);
+        let seeds: Vec<u64> = blocks.iter().map(|_| rng.r#gen()).collect();
+        let mut position = vec![0u32; n];
+        for (i, &v) in curve.iter().enumerate() {
+            position[v] = i as u32;
+        }
+        self.order = curve;
+        let (cost, plan, nb, position) = (self.cost, self.plan, self.nb, &position);
+        let over = over(&self.plan.lk.limits);
+        pieces(&mut self.order, &blocks)
+            .into_par_iter()
+            .zip(seeds)
+            .zip(blocks.par_iter())
+            .for_each(|((piece, seed), &(first, _))| {
+                let lists = part_lists(nb, position, piece, first);
+                improve_part(cost, plan, piece, lists, seed, Begin::Greedy, &over);
+            });
+        self.cuts = blocks;
+        self.round = 1;
+        true
+    }
+
+    /// The nodes of the last round's parts that had a candidate in another part, and the ends
+    /// of each part, in tour order: where moves no part could make may remain. Every node
+    /// before the first round.
+    fn seams(&self) -> Vec<usize> {
+        let n = self.order.len();
+        if self.cuts.is_empty() {
+            return self.order.clone();
+        }
+        let mut part = vec![0u32; n];
+        for (i, &(a, b)) in self.cuts.iter().enumerate() {
+            for &v in &self.order[a..b] {
+                part[v] = i as u32;
+            }
+        }
+        let ends: std::collections::HashSet<usize> =
+            self.cuts.iter().flat_map(|&(a, b)| [a, b - 1]).collect();
+        let part = &part;
+        let nb = self.nb;
+        (0..n)
+            .into_par_iter()
+            .filter(|&i| {
+                let v = self.order[i];
+                ends.contains(&i) || nb.out(v).iter().any(|&w| part[w as usize] != part[v])
+            })
+            .map(|i| self.order[i])
+            .collect()
+    }
+
     /// One round: the tour cut again, every part improved on the loop's threads with
     /// `kicks_per_node` kicks per node after its pass over all its nodes.
-    fn round(&mut self, rng: &mut Pcg64, kicks_per_node: f64) {
+    fn round(&mut self, rng: &mut Pcg64, kicks_per_node: f64, only: Option<&[bool]>) {
         let n = self.order.len();
         let parts = n.div_ceil(self.plan.part_nodes.max(8)).max(2);
         let size = n / parts;
@@ -111,33 +200,27 @@ impl<'a> PartsRun<'a> {
         let offset = (self.round as usize * (size / 2) + rng.gen_range(0..size.max(2) / 8 + 1)) % n;
         self.order.rotate_left(offset);
         let stretches = bounds(n, parts);
+        self.cuts.clone_from(&stretches);
         let seeds: Vec<u64> = stretches.iter().map(|_| rng.r#gen()).collect();
-        let limits = &self.plan.lk.limits;
-        let over =
-            || limits.stop.is_stopped() || limits.deadline.is_some_and(|d| Instant::now() >= d);
-        let cost = self.cost;
-        let plan = self.plan;
-        let nb = self.nb;
+        let over = over(&self.plan.lk.limits);
+        let (cost, plan, nb) = (self.cost, self.plan, self.nb);
         // Where each node stands in the cut tour, to turn the tour's lists into each part's.
         let mut position = vec![0u32; n];
         for (i, &v) in self.order.iter().enumerate() {
             position[v] = i as u32;
         }
         let position = &position;
-        let mut pieces: Vec<&mut [usize]> = Vec::with_capacity(parts);
-        let mut rest: &mut [usize] = &mut self.order;
-        for &(a, b) in &stretches {
-            let (head, tail) = rest.split_at_mut(b - a);
-            pieces.push(head);
-            rest = tail;
-        }
-        let gains: i64 = pieces
+        let begin = Begin::Stretch {
+            kicks_per_node,
+            only,
+        };
+        let gains: i64 = pieces(&mut self.order, &stretches)
             .into_par_iter()
             .zip(seeds)
             .zip(stretches.par_iter())
             .map(|((piece, seed), &(first, _))| {
                 let lists = part_lists(nb, position, piece, first);
-                improve_part(cost, plan, piece, lists, seed, kicks_per_node, &over)
+                improve_part(cost, plan, piece, lists, seed, begin, &over)
             })
             .sum();
         self.length = self.length.saturating_sub(gains);
@@ -166,6 +249,38 @@ pub(crate) fn in_parts(
     })
 }
 
+/// True once the run's time is up or a stop was asked for.
+fn over(limits: &LoopPlan) -> impl Fn() -> bool + Sync + '_ {
+    || limits.stop.is_stopped() || limits.deadline.is_some_and(|d| Instant::now() >= d)
+}
+
+/// `order` cut at `stretches` (consecutive, covering it).
+fn pieces<'o>(order: &'o mut [usize], stretches: &[(usize, usize)]) -> Vec<&'o mut [usize]> {
+    let mut out = Vec::with_capacity(stretches.len());
+    let mut rest = order;
+    for &(a, b) in stretches {
+        let (head, tail) = rest.split_at_mut(b - a);
+        out.push(head);
+        rest = tail;
+    }
+    out
+}
+
+/// Where the search of a part begins.
+#[derive(Clone, Copy)]
+enum Begin<'s> {
+    /// From the stretch as it is in the tour, which it only replaces by a shorter path; after
+    /// the local optimum, `kicks_per_node` kicks per node. The first descent tries moves from
+    /// every node, or from the nodes marked in `only` (and those its moves touch).
+    Stretch {
+        kicks_per_node: f64,
+        only: Option<&'s [bool]>,
+    },
+    /// From the greedy path between the stretch's first and last node, to its local optimum:
+    /// the path replaces the stretch whatever their lengths.
+    Greedy,
+}
+
 /// The bounds of `parts` consecutive stretches of `n` positions, as even as can be.
 fn bounds(n: usize, parts: usize) -> Vec<(usize, usize)> {
     let (base, extra) = (n / parts, n % parts);
@@ -183,7 +298,11 @@ fn bounds(n: usize, parts: usize) -> Vec<(usize, usize)> {
 impl Iterative for PartsRun<'_> {
     fn step(&mut self, rng: &mut Pcg64, should_stop: &mut dyn FnMut() -> bool) {
         if !should_stop() {
-            self.round(rng, KICKS_PER_NODE);
+            let mut marked = vec![false; self.order.len()];
+            for v in self.seams() {
+                marked[v] = true;
+            }
+            self.round(rng, KICKS_PER_NODE, Some(&marked));
         }
     }
 
@@ -252,7 +371,7 @@ fn improve_part(
     piece: &mut [usize],
     lists: Option<Neighbours>,
     seed: u64,
-    kicks_per_node: f64,
+    begin: Begin<'_>,
     over: &(dyn Fn() -> bool + Sync),
 ) -> i64 {
     let m = piece.len();
@@ -274,20 +393,34 @@ fn improve_part(
         return 0;
     };
     let nb = ended.neighbours(&lists, plan.source);
-    // The path as a closed tour through the dummy node `m`.
-    let tour: Vec<usize> = std::iter::once(m).chain(0..m).collect();
-    let kicks = (m as f64 * kicks_per_node).ceil() as u64;
     let mut rng = Pcg64::seed_from_u64(seed);
+    // The path as a closed tour through the dummy node `m`.
+    let start = match begin {
+        Begin::Stretch {
+            kicks_per_node,
+            only,
+        } => PartStart {
+            tour: std::iter::once(m).chain(0..m).collect(),
+            active: only.map(|marked| (0..m).filter(|&i| marked[piece[i]]).collect()),
+            kicks: (m as f64 * kicks_per_node).ceil() as u64,
+        },
+        Begin::Greedy => PartStart {
+            tour: greedy_edge(&ended, &nb, 0.0, &mut rng),
+            active: None,
+            kicks: 0,
+        },
+    };
     let path = if plan.lk.layout.two_level(m + 1) {
-        search::<TwoLevelTour>(&ended, &nb, plan.lk, tour, kicks, &mut rng, over)
+        search::<TwoLevelTour>(&ended, &nb, plan.lk, start, &mut rng, over)
     } else {
-        search::<ArrayTour>(&ended, &nb, plan.lk, tour, kicks, &mut rng, over)
+        search::<ArrayTour>(&ended, &nb, plan.lk, start, &mut rng, over)
     };
     let path = ended.path_from_tour(&path);
     let Ok(after) = path_length(&sub, &path) else {
         return 0;
     };
-    if after >= before || path.first() != Some(&0) || path.last() != Some(&(m - 1)) {
+    let kept = matches!(begin, Begin::Stretch { .. }) && after >= before;
+    if kept || path.first() != Some(&0) || path.last() != Some(&(m - 1)) {
         return 0;
     }
     let global: Vec<usize> = path.iter().map(|&i| piece[i]).collect();
@@ -295,19 +428,30 @@ fn improve_part(
     before - after
 }
 
-/// The iterated LK search on one part's closed tour: its local optimum, then `kicks` kicks.
+/// Where the search of one part's closed tour begins.
+struct PartStart {
+    tour: Vec<usize>,
+    /// The nodes the first descent tries moves from (every node when `None`).
+    active: Option<Vec<usize>>,
+    /// Kicks after the first descent.
+    kicks: u64,
+}
+
+/// The iterated LK search on one part's closed tour: its local optimum, then its kicks.
 fn search<T: TourRepr>(
     ended: &EndedCost<'_, CoordCost>,
     nb: &Neighbours,
     plan: &LkPlan,
-    tour: Vec<usize>,
-    kicks: u64,
+    start: PartStart,
     rng: &mut Pcg64,
     over: &(dyn Fn() -> bool + Sync),
 ) -> Vec<usize> {
     let mut stop = || over();
-    let mut run = LkRun::<EndedCost<'_, CoordCost>, T>::start(ended, nb, plan, tour, &mut stop);
-    for _ in 0..kicks {
+    let active = start.active.as_deref();
+    let mut run = LkRun::<EndedCost<'_, CoordCost>, T>::start_from(
+        ended, nb, plan, start.tour, active, &mut stop,
+    );
+    for _ in 0..start.kicks {
         if run.finished() || over() {
             break;
         }

@@ -5,9 +5,8 @@
 //! nearest nodes all sit in the node's own cluster), or any lists a caller computes (for
 //! example from a lower-bound calculation) through [`Neighbours::from_lists`].
 
+use super::tree::PointTree;
 use crate::cost::{Cost, Geometry};
-use kiddo::SquaredEuclidean;
-use kiddo::immutable::float::kdtree::ImmutableKdTree;
 use rayon::prelude::*;
 
 /// Fixed-width neighbour lists, sorted by cost, nearest first.
@@ -167,17 +166,15 @@ fn geometric_prefilter(
 ) -> Vec<Vec<u32>> {
     let n = g.points.len();
     let want = (k + k / 2 + 2).min(n);
-    let want_nz = std::num::NonZeroUsize::new(want.max(1)).unwrap_or(std::num::NonZeroUsize::MIN);
-    let tree: ImmutableKdTree<f64, u32, 3, 32> = ImmutableKdTree::new_from_slice(g.points);
+    let tree = PointTree::of(&g);
     (0..n)
         .into_par_iter()
         .map(|i| {
             if stop() {
                 return Vec::new();
             }
-            tree.nearest_n::<SquaredEuclidean>(&g.points[i], want_nz)
+            tree.nearest(&g.points[i], want)
                 .into_iter()
-                .map(|nb| nb.item)
                 .filter(|&j| j as usize != i)
                 .collect()
         })
@@ -215,7 +212,7 @@ pub(crate) fn quadrant_until<C: Cost + ?Sized>(
         (k / 10).max(1)
     };
     const REACH: usize = 512;
-    let tree: ImmutableKdTree<f64, u32, 3, 32> = ImmutableKdTree::new_from_slice(g.points);
+    let tree = PointTree::of(&g);
     let lists = |c: &(dyn Fn(usize, usize) -> i64 + Sync)| -> Vec<u32> {
         let rows: Vec<Vec<u32>> = (0..n)
             .into_par_iter()
@@ -230,12 +227,9 @@ pub(crate) fn quadrant_until<C: Cost + ?Sized>(
                 };
                 let mut m = (4 * k + 2).min(n);
                 loop {
-                    let m_nz =
-                        std::num::NonZeroUsize::new(m).unwrap_or(std::num::NonZeroUsize::MIN);
                     let near: Vec<u32> = tree
-                        .nearest_n::<SquaredEuclidean>(&p, m_nz)
+                        .nearest(&p, m)
                         .into_iter()
-                        .map(|nb| nb.item)
                         .filter(|&j| j as usize != i)
                         .collect();
                     let mut counts = vec![0usize; regions];

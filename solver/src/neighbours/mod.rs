@@ -8,6 +8,7 @@
 
 pub(crate) mod alpha;
 pub(crate) mod lists;
+pub(crate) mod tree;
 
 #[cfg(any(test, feature = "internals"))]
 pub use lists::k_nearest;

@@ -604,11 +604,14 @@ impl<C: Cost> Solver<C> {
     pub fn solve(&self) -> Result<Solution, SolveError> {
         // The search is compiled once, in this crate, for each kind of cost; this generic
         // function only picks the copy.
-        match self.cost.as_known() {
+        // Every parallel step (neighbour lists, constructions, the search) on the threads asked
+        // for, no more.
+        let threads = self.threads.unwrap_or_else(default_threads);
+        control::within_threads(threads, || match self.cost.as_known() {
             KnownCost::Coord(c) => solve_coord(&self.with_cost(c)),
             KnownCost::Matrix(m) => solve_matrix(&self.with_cost(m)),
             KnownCost::Other => solve_other(&self.with_cost(self.cost.as_dyn_cost())),
-        }
+        })
     }
 
     /// The same options over other costs.
@@ -1051,7 +1054,58 @@ impl Iterative for Restart {
 
 /// The search on coordinates, compiled here once.
 fn solve_coord(s: &Solver<&CoordCost>) -> Result<Solution, SolveError> {
+    if s.method == Method::Lk
+        && s.cost.len() >= parts::PARTS_FROM
+        && s.fixed_edges.is_empty()
+        && !s.ends.is_path()
+    {
+        s.ends.check(s.cost.len())?;
+        let began = Instant::now();
+        if let Some(order) = construct::space_filling_curve(s.cost, [0.0, 0.0]) {
+            return solve_renumbered(s, &order, began);
+        }
+    }
     s.solve_here()
+}
+
+/// The search in parts on the points renumbered in `order` (a Hilbert curve's): nodes near in
+/// the plane are then near in memory, so the neighbour lists, the greedy tour and the moves read
+/// the points, lists and tour from a few cache lines instead of all over a large table. The tour
+/// found is given back in the caller's numbering.
+fn solve_renumbered(
+    s: &Solver<&CoordCost>,
+    order: &[usize],
+    began: Instant,
+) -> Result<Solution, SolveError> {
+    let points = s.cost.points();
+    let near = CoordCost::new(s.cost.metric(), order.iter().map(|&v| points[v]).collect())?;
+    let mut inner = s.with_cost(&near);
+    inner.ends = Ends::Closed;
+    // The renumbering counts in the time limit, the reported seconds and the trace.
+    let before = began.elapsed();
+    inner.time_limit = s.time_limit.map(|t| t.saturating_sub(before));
+    let sol = inner.solve_here()?;
+    let mut tour: Vec<usize> = sol.tour.order().iter().map(|&i| order[i]).collect();
+    if let Some(p) = tour.iter().position(|&v| v == s.ends.start().unwrap_or(0)) {
+        tour.rotate_left(p);
+    }
+    debug_assert_eq!(closed_length(s.cost, &tour).ok(), Some(sol.length));
+    let shift = before.as_secs_f64();
+    let trace = sol
+        .trace
+        .iter()
+        .map(|imp| Improvement {
+            seconds: imp.seconds + shift,
+            ..*imp
+        })
+        .collect();
+    Ok(Solution {
+        tour: Tour::trusted(tour),
+        ends: s.ends,
+        seconds: sol.seconds + shift,
+        trace,
+        ..sol
+    })
 }
 
 /// The search on a matrix, compiled here once.
