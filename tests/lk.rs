@@ -85,14 +85,14 @@ fn same_tour_for_one_and_two_threads() {
     assert!(a.length >= 2579); // a280 optimum, TSPLIB 95 list
 }
 
-// From 150,000 nodes on coordinates `lk` renumbers the points along a space-filling curve,
+// From 30,000 nodes on coordinates `lk` renumbers the points along a space-filling curve,
 // builds its first tour in blocks and searches in parts. The tour comes back in the caller's
 // numbering, from node 0, measured on the caller's costs, the same for one and two threads with
 // an iteration budget, and near the length expected of Lin–Kernighan.
 #[test]
 fn a_large_instance_is_solved_in_parts_in_the_callers_numbering() {
     use rand::{Rng, SeedableRng};
-    let n = 150_000;
+    let n = 40_000;
     let side = 1_000_000.0;
     let mut rng = rand_pcg::Pcg64::seed_from_u64(11);
     let points: Vec<[f64; 2]> = (0..n)
