@@ -145,10 +145,7 @@ impl<'a> PartsRun<'a> {
         let parts = n.div_ceil(self.plan.part_nodes.max(8)).max(2);
         let blocks = bounds(n, parts);
         let seeds: Vec<u64> = blocks.iter().map(|_| rng.r#gen()).collect();
-        let mut position = vec![0u32; n];
-        for (i, &v) in curve.iter().enumerate() {
-            position[v] = i as u32;
-        }
+        let position = positions(&curve);
         self.order = curve;
         let (cost, plan, nb, position) = (self.cost, self.plan, self.nb, &position);
         let over = over(&self.plan.lk.limits);
@@ -179,23 +176,22 @@ impl<'a> PartsRun<'a> {
                 part[v] = i as u32;
             }
         }
-        let ends: std::collections::HashSet<usize> =
-            self.cuts.iter().flat_map(|&(a, b)| [a, b - 1]).collect();
         let part = &part;
         let nb = self.nb;
         (0..n)
             .into_par_iter()
             .filter(|&i| {
                 let v = self.order[i];
-                ends.contains(&i) || nb.out(v).iter().any(|&w| part[w as usize] != part[v])
+                let (a, b) = self.cuts[part[v] as usize];
+                i == a || i == b - 1 || nb.out(v).iter().any(|&w| part[w as usize] != part[v])
             })
             .map(|i| self.order[i])
             .collect()
     }
 
-    /// One round: the tour cut again, every part improved on the loop's threads with
-    /// `kicks_per_node` kicks per node after its pass over all its nodes.
-    fn round(&mut self, rng: &mut Pcg64, kicks_per_node: f64, only: Option<&[bool]>) {
+    /// One round: the tour cut again, every part improved on the loop's threads: a descent
+    /// from its nodes marked in `from`, then `kicks_per_node` kicks per node.
+    fn round(&mut self, rng: &mut Pcg64, kicks_per_node: f64, from: &[bool]) {
         let n = self.order.len();
         let parts = n.div_ceil(self.plan.part_nodes.max(8)).max(2);
         let size = n / parts;
@@ -209,14 +205,10 @@ impl<'a> PartsRun<'a> {
         let over = over(&self.plan.lk.limits);
         let (cost, plan, nb) = (self.cost, self.plan, self.nb);
         // Where each node stands in the cut tour, to turn the tour's lists into each part's.
-        let mut position = vec![0u32; n];
-        for (i, &v) in self.order.iter().enumerate() {
-            position[v] = i as u32;
-        }
-        let position = &position;
+        let position = &positions(&self.order);
         let begin = Begin::Stretch {
             kicks_per_node,
-            only,
+            from,
         };
         let gains: i64 = pieces(&mut self.order, &stretches)
             .into_par_iter()
@@ -258,6 +250,15 @@ fn over(limits: &LoopPlan) -> impl Fn() -> bool + Sync + '_ {
     || limits.stop.is_stopped() || limits.deadline.is_some_and(|d| Instant::now() >= d)
 }
 
+/// Where each node stands in `order`.
+fn positions(order: &[usize]) -> Vec<u32> {
+    let mut at = vec![0u32; order.len()];
+    for (i, &v) in order.iter().enumerate() {
+        at[v] = i as u32;
+    }
+    at
+}
+
 /// `order` cut at `stretches` (consecutive, covering it).
 fn pieces<'o>(order: &'o mut [usize], stretches: &[(usize, usize)]) -> Vec<&'o mut [usize]> {
     let mut out = Vec::with_capacity(stretches.len());
@@ -273,12 +274,12 @@ fn pieces<'o>(order: &'o mut [usize], stretches: &[(usize, usize)]) -> Vec<&'o m
 /// Where the search of a part begins.
 #[derive(Clone, Copy)]
 enum Begin<'s> {
-    /// From the stretch as it is in the tour, which it only replaces by a shorter path; after
-    /// the local optimum, `kicks_per_node` kicks per node. The first descent tries moves from
-    /// every node, or from the nodes marked in `only` (and those its moves touch).
+    /// From the stretch as it is in the tour, which it only replaces by a shorter path; the
+    /// first descent tries moves from the nodes marked in `from` (and those its moves touch),
+    /// then `kicks_per_node` kicks per node.
     Stretch {
         kicks_per_node: f64,
-        only: Option<&'s [bool]>,
+        from: &'s [bool],
     },
     /// From the greedy path between the stretch's first and last node, to its local optimum:
     /// the path replaces the stretch whatever their lengths.
@@ -306,7 +307,7 @@ impl Iterative for PartsRun<'_> {
             for v in self.seams() {
                 marked[v] = true;
             }
-            self.round(rng, KICKS_PER_NODE, Some(&marked));
+            self.round(rng, KICKS_PER_NODE, &marked);
         }
     }
 
@@ -402,10 +403,10 @@ fn improve_part(
     let start = match begin {
         Begin::Stretch {
             kicks_per_node,
-            only,
+            from,
         } => PartStart {
             tour: std::iter::once(m).chain(0..m).collect(),
-            active: only.map(|marked| (0..m).filter(|&i| marked[piece[i]]).collect()),
+            active: Some((0..m).filter(|&i| from[piece[i]]).collect()),
             kicks: (m as f64 * kicks_per_node).ceil() as u64,
         },
         Begin::Greedy => PartStart {

@@ -603,9 +603,8 @@ impl<C: Cost> Solver<C> {
     /// ```
     pub fn solve(&self) -> Result<Solution, SolveError> {
         // The search is compiled once, in this crate, for each kind of cost; this generic
-        // function only picks the copy.
-        // Every parallel step (neighbour lists, constructions, the search) on the threads asked
-        // for, no more.
+        // function only picks the copy, and runs every parallel step (neighbour lists,
+        // constructions, the search) on the threads asked for, no more.
         let threads = self.threads.unwrap_or_else(default_threads);
         control::within_threads(threads, || match self.cost.as_known() {
             KnownCost::Coord(c) => solve_coord(&self.with_cost(c)),
@@ -955,7 +954,8 @@ impl<C: Cost> Solver<C> {
                         start,
                     };
                     match cost.as_known() {
-                        // A large instance on coordinates: every thread on one tour.
+                        // A large instance on coordinates: every thread on one tour (its
+                        // points renumbered first, by `solve_coord`, under the same rule).
                         KnownCost::Coord(c) if n >= parts::PARTS_FROM && plan.start.is_none() => {
                             let parts = parts::PartsPlan {
                                 lk: &plan,
