@@ -370,7 +370,12 @@ impl Cost for CoordCost {
         let dy = a[1] - b[1];
         match self.metric {
             Metric::Euc2d => nint((dx * dx + dy * dy).sqrt()),
-            Metric::Ceil2d => (dx * dx + dy * dy).sqrt().ceil() as i64,
+            Metric::Ceil2d => {
+                // `ceil` without a library call: exact for the non-negative distances here.
+                let d = (dx * dx + dy * dy).sqrt();
+                let t = d as i64;
+                if (t as f64) < d { t + 1 } else { t }
+            }
             Metric::Euc3d => {
                 let dz = a[2] - b[2];
                 nint((dx * dx + dy * dy + dz * dz).sqrt())

@@ -37,8 +37,6 @@ pub(crate) struct TwoLevelTour {
     ring: Vec<u32>,
     /// Ideal segment length; segments never grow beyond twice this.
     size: usize,
-    buf: Vec<u32>,
-    slots: Vec<(u32, u32)>,
 }
 
 impl TwoLevelTour {
@@ -53,8 +51,6 @@ impl TwoLevelTour {
             segs: Vec::new(),
             ring: Vec::new(),
             size,
-            buf: Vec::new(),
-            slots: Vec::new(),
         };
         t.cut(&order);
         t
@@ -117,7 +113,9 @@ impl TwoLevelTour {
     #[inline]
     fn pos(&self, v: usize) -> usize {
         let s = self.seg[v] as usize;
-        (self.segs[s].start + self.offset(v)) % self.n
+        // Both terms are below n.
+        let p = self.segs[s].start + self.offset(v);
+        if p >= self.n { p - self.n } else { p }
     }
 
     #[inline]
@@ -130,6 +128,38 @@ impl TwoLevelTour {
     fn ring_prev(&self, s: usize) -> usize {
         let r = self.segs[s].rank;
         self.ring[if r == 0 { self.ring.len() - 1 } else { r - 1 }] as usize
+    }
+
+    /// The slot after slot `i` of segment `s`, in tour order.
+    #[inline]
+    fn slot_after(&self, s: usize, i: usize) -> (usize, usize) {
+        let sg = &self.segs[s];
+        if sg.rev {
+            if i > 0 {
+                return (s, i - 1);
+            }
+        } else if i + 1 < sg.nodes.len() {
+            return (s, i + 1);
+        }
+        let t = self.ring_next(s);
+        let sg = &self.segs[t];
+        (t, if sg.rev { sg.nodes.len() - 1 } else { 0 })
+    }
+
+    /// The slot before slot `i` of segment `s`, in tour order.
+    #[inline]
+    fn slot_before(&self, s: usize, i: usize) -> (usize, usize) {
+        let sg = &self.segs[s];
+        if sg.rev {
+            if i + 1 < sg.nodes.len() {
+                return (s, i + 1);
+            }
+        } else if i > 0 {
+            return (s, i - 1);
+        }
+        let t = self.ring_prev(s);
+        let sg = &self.segs[t];
+        (t, if sg.rev { 0 } else { sg.nodes.len() - 1 })
     }
 
     /// The nodes of segment `s` in tour order.
@@ -150,6 +180,58 @@ impl TwoLevelTour {
         }
         self.segs[s].nodes = nodes;
         self.segs[s].rev = false;
+    }
+
+    /// Stores segment `s` in tour order (its reversal bit cleared), its nodes' indices updated.
+    fn unreverse(&mut self, s: usize) {
+        if self.segs[s].rev {
+            self.flip_store(s);
+        }
+    }
+
+    /// Stores segment `s` against tour order (its reversal bit set), its nodes' indices updated.
+    fn reverse_store(&mut self, s: usize) {
+        if !self.segs[s].rev {
+            self.flip_store(s);
+        }
+    }
+
+    fn flip_store(&mut self, s: usize) {
+        let sg = &mut self.segs[s];
+        sg.nodes.reverse();
+        sg.rev = !sg.rev;
+        for (i, &v) in sg.nodes.iter().enumerate() {
+            self.idx[v as usize] = i as u32;
+        }
+    }
+
+    /// Removes the first `k` nodes (in tour order) of segment `s`, which must keep at least one.
+    /// Their `seg` and `idx` are left for the caller, which has moved them.
+    fn drop_first(&mut self, s: usize, k: usize) {
+        let sg = &mut self.segs[s];
+        let len = sg.nodes.len();
+        if sg.rev {
+            sg.nodes.truncate(len - k);
+        } else {
+            sg.nodes.drain(..k);
+            for (i, &v) in sg.nodes.iter().enumerate() {
+                self.idx[v as usize] = i as u32;
+            }
+        }
+    }
+
+    /// Removes the last `k` nodes (in tour order) of segment `s`, as [`Self::drop_first`].
+    fn drop_last(&mut self, s: usize, k: usize) {
+        let sg = &mut self.segs[s];
+        let len = sg.nodes.len();
+        if sg.rev {
+            sg.nodes.drain(..k);
+            for (i, &v) in sg.nodes.iter().enumerate() {
+                self.idx[v as usize] = i as u32;
+            }
+        } else {
+            sg.nodes.truncate(len - k);
+        }
     }
 
     /// Ranks and start positions from the ring, counting positions from `ring[0]`.
@@ -180,27 +262,44 @@ impl TwoLevelTour {
             p != s && self.segs[p].nodes.len() + a_len <= max && Some(self.first(s)) != protect;
         let b_ok =
             nx != s && self.segs[nx].nodes.len() + b_len <= max && Some(self.first(nx)) != protect;
-        let mut nodes = self.tour_nodes(s);
-        let b_part = nodes.split_off(off);
-        let a_part = nodes;
         let start = self.segs[s].start;
         let move_a = if a_len <= b_len { a_ok } else { a_ok && !b_ok };
         let move_b = !move_a && b_ok;
         if move_a {
-            let mut pn = self.tour_nodes(p);
-            pn.extend_from_slice(&a_part);
-            self.set_nodes(p, pn);
-            self.set_nodes(s, b_part);
+            // The first `off` nodes (in tour order) go to the end of the segment before.
+            self.unreverse(p);
+            let at = self.segs[p].nodes.len();
+            self.segs[p].nodes.reserve(a_len);
+            let mut w = self.first(s) as usize;
+            for i in 0..a_len {
+                self.segs[p].nodes.push(w as u32);
+                let after = self.next(w);
+                (self.seg[w], self.idx[w]) = (p as u32, (at + i) as u32);
+                w = after;
+            }
+            self.drop_first(s, a_len);
             self.segs[s].start = (start + a_len) % self.n;
         } else if move_b {
-            let mut nn = b_part;
-            nn.extend(self.tour_nodes(nx));
-            self.set_nodes(nx, nn);
+            // The nodes from `v` on go to the front of the segment after: pushed last first
+            // onto its reversed store.
+            self.reverse_store(nx);
+            let at = self.segs[nx].nodes.len();
+            self.segs[nx].nodes.reserve(b_len);
+            let mut w = self.last(s) as usize;
+            for i in 0..b_len {
+                self.segs[nx].nodes.push(w as u32);
+                let before = self.prev(w);
+                (self.seg[w], self.idx[w]) = (nx as u32, (at + i) as u32);
+                w = before;
+            }
+            self.drop_last(s, b_len);
             self.segs[nx].start = (start + a_len) % self.n;
-            self.set_nodes(s, a_part);
         } else {
             // Both neighbours full (or the ring is one segment): the smaller part becomes a
             // segment of its own.
+            let mut nodes = self.tour_nodes(s);
+            let b_part = nodes.split_off(off);
+            let a_part = nodes;
             let id = self.segs.len();
             self.segs.push(Segment::default());
             let rank = self.segs[s].rank;
@@ -223,21 +322,19 @@ impl TwoLevelTour {
             return;
         }
         if len <= self.size {
-            // Swap nodes between their slots, as an array would.
-            self.buf.clear();
-            self.slots.clear();
-            let mut v = a;
-            for _ in 0..len {
-                self.buf.push(v as u32);
-                self.slots.push((self.seg[v], self.idx[v]));
-                v = self.next(v);
-            }
-            for t in 0..len {
-                let w = self.buf[len - 1 - t] as usize;
-                let (s, i) = self.slots[t];
-                self.segs[s as usize].nodes[i as usize] = w as u32;
-                self.seg[w] = s;
-                self.idx[w] = i;
+            // Swap nodes between their slots, as an array would: one slot walking forward from
+            // `a`, one walking back from `b`.
+            let (mut sa, mut ia) = (self.seg[a] as usize, self.idx[a] as usize);
+            let (mut sb, mut ib) = (self.seg[b] as usize, self.idx[b] as usize);
+            for _ in 0..len / 2 {
+                let x = self.segs[sa].nodes[ia];
+                let y = self.segs[sb].nodes[ib];
+                self.segs[sa].nodes[ia] = y;
+                self.segs[sb].nodes[ib] = x;
+                (self.seg[y as usize], self.idx[y as usize]) = (sa as u32, ia as u32);
+                (self.seg[x as usize], self.idx[x as usize]) = (sb as u32, ib as u32);
+                (sa, ia) = self.slot_after(sa, ia);
+                (sb, ib) = self.slot_before(sb, ib);
             }
             return;
         }
@@ -249,12 +346,14 @@ impl TwoLevelTour {
         let r = self.ring.len();
         let ra = self.segs[self.seg[a] as usize].rank;
         let rb = self.segs[self.seg[b] as usize].rank;
-        let count = (rb + r - ra) % r + 1;
+        let count = if rb >= ra { rb - ra } else { rb + r - ra } + 1;
+        // Ring slots wrap round without a division.
+        let wrap = |i: usize| if i >= r { i - r } else { i };
         for t in 0..count / 2 {
-            self.ring.swap((ra + t) % r, (rb + r - t) % r);
+            self.ring.swap(wrap(ra + t), wrap(rb + r - t));
         }
         for t in 0..count {
-            let s = self.ring[(ra + t) % r] as usize;
+            let s = self.ring[wrap(ra + t)] as usize;
             self.segs[s].rev = !self.segs[s].rev;
         }
         if self.ring.len() > 2 * self.n.div_ceil(self.size) + 8 {
@@ -309,7 +408,8 @@ impl TourRepr for TwoLevelTour {
 
     #[inline]
     fn steps(&self, a: usize, b: usize) -> usize {
-        (self.pos(b) + self.n - self.pos(a)) % self.n
+        let (pa, pb) = (self.pos(a), self.pos(b));
+        if pb >= pa { pb - pa } else { pb + self.n - pa }
     }
 
     fn reverse(&mut self, from: usize, to: usize, keep_direction: bool) {
