@@ -174,15 +174,11 @@ fn undo_or_opt<T: TourRepr>(tour: &mut T, p: usize, nx: usize, s1: usize, s2: us
 /// A double-bridge kick as applied, enough to take it back.
 #[derive(Clone, Copy, Debug)]
 pub(crate) struct Kick {
-    /// The node before the three segments.
-    pub v: usize,
-    /// The node after them.
-    pub w: usize,
-    /// Lengths of the segments as they were before the kick, in tour order after `v`.
-    pub lens: [usize; 3],
-    /// First node of the segment that now follows `v`.
+    /// First node of the segment that now follows `v` (`ends[0]`).
     pub first: usize,
-    /// The eight nodes whose tour edges changed.
+    /// The eight nodes whose tour edges changed: `v`, then each segment's first and last node
+    /// as they were in tour order before the kick, then `w`, the node after them. All `v` when
+    /// the tour was left alone.
     pub ends: [usize; 8],
     /// Change in tour length (positive: longer).
     pub delta: i64,
@@ -205,22 +201,32 @@ pub(crate) fn double_bridge<C: Cost + ?Sized, T: TourRepr>(
         x
     };
     let lens = lens.map(|l| l.max(1));
-    let b1 = tour.next(v);
     if lens.iter().sum::<usize>() >= tour.len() {
         return Kick {
-            v,
-            w: b1,
-            lens,
-            first: b1,
+            first: v,
             ends: [v; 8],
             delta: 0,
         };
     }
-    let b2 = walk(tour, b1, lens[0] - 1);
+    let b2 = walk(tour, v, lens[0]);
+    let c2 = walk(tour, b2, lens[1]);
+    let d2 = walk(tour, c2, lens[2]);
+    double_bridge_at(cost, tour, v, [b2, c2, d2])
+}
+
+/// Double bridge after `v` whose three segments `B C D` end at `lasts` (in tour order after
+/// `v`, distinct, none of them `v`), put in the order `D C B` as [`double_bridge`] does. Costs
+/// four path reversals, whatever the segments' lengths.
+pub(crate) fn double_bridge_at<C: Cost + ?Sized, T: TourRepr>(
+    cost: &C,
+    tour: &mut T,
+    v: usize,
+    lasts: [usize; 3],
+) -> Kick {
+    let [b2, c2, d2] = lasts;
+    let b1 = tour.next(v);
     let c1 = tour.next(b2);
-    let c2 = walk(tour, c1, lens[1] - 1);
     let d1 = tour.next(c2);
-    let d2 = walk(tour, d1, lens[2] - 1);
     let w = tour.next(d2);
     let delta = cost.cost(v, d1) + cost.cost(d2, c1) + cost.cost(c2, b1) + cost.cost(b2, w)
         - cost.cost(v, b1)
@@ -233,9 +239,6 @@ pub(crate) fn double_bridge<C: Cost + ?Sized, T: TourRepr>(
     tour.reverse(c2, c1, true);
     tour.reverse(b2, b1, true);
     Kick {
-        v,
-        w,
-        lens,
         first: d1,
         ends: [v, b1, b2, c1, c2, d1, d2, w],
         delta,
@@ -245,12 +248,16 @@ pub(crate) fn double_bridge<C: Cost + ?Sized, T: TourRepr>(
 /// Takes back a [`double_bridge`]; the tour must be the same cycle as right after it, in either
 /// orientation.
 pub(crate) fn undo_double_bridge<C: Cost + ?Sized, T: TourRepr>(cost: &C, tour: &mut T, k: &Kick) {
-    let [b, c, d] = k.lens;
-    if tour.next(k.v) == k.first {
-        double_bridge(cost, tour, k.v, [d, c, b]);
+    let [v, b1, b2, c1, c2, d1, d2, w] = k.ends;
+    if v == b1 {
+        return; // the tour was left alone
+    }
+    if tour.next(v) == k.first {
+        // v D C B w
+        double_bridge_at(cost, tour, v, [d2, c2, b2]);
     } else {
         // The array was turned round: from w the segments read B' C' D'.
-        double_bridge(cost, tour, k.w, [b, c, d]);
+        double_bridge_at(cost, tour, w, [b1, c1, d1]);
     }
 }
 
