@@ -100,14 +100,25 @@ fn a_large_instance_is_solved_in_parts_in_the_callers_numbering() {
         .collect();
     let cost = wend::CoordCost::plane(wend::Metric::Euc2d, &points).unwrap();
     let solve = |threads| {
-        Solver::new(&cost)
+        let seen = std::sync::Arc::new(std::sync::Mutex::new(Vec::new()));
+        let log = std::sync::Arc::clone(&seen);
+        let solution = Solver::new(&cost)
             .method(Method::Lk)
             .seed(4)
             .runs(1)
             .kicks(1)
             .threads(threads)
+            .on_improvement(move |step| log.lock().unwrap().push((step.length, step.seconds)))
             .solve()
-            .unwrap()
+            .unwrap();
+        // What the observer saw is the trace, times included: both count the renumbering.
+        let trace: Vec<(i64, f64)> = solution
+            .trace
+            .iter()
+            .map(|s| (s.length, s.seconds))
+            .collect();
+        assert_eq!(*seen.lock().unwrap(), trace);
+        solution
     };
     let one = solve(1);
     let two = solve(2);

@@ -485,8 +485,19 @@ impl<'a, C: Cost + ?Sized> LinKernighan<'a, C> {
         }
         let mut found = false;
         if level + 1 < self.params.max_depth {
-            cands.sort_unstable_by(|x, y| y.0.cmp(&x.0).then(x.1.cmp(&y.1)));
+            // Best first: largest value, then smallest t3.
+            let order = |x: &(i64, usize, usize), y: &(i64, usize, usize)| {
+                y.0.cmp(&x.0).then(x.1.cmp(&y.1))
+            };
             let breadth = self.params.breadth.get(level).copied().unwrap_or(1);
+            if breadth == 1 {
+                // Only the best is tried: bring it to the front without sorting the rest.
+                if let Some(best) = (0..cands.len()).min_by(|&i, &j| order(&cands[i], &cands[j])) {
+                    cands.swap(0, best);
+                }
+            } else {
+                cands.sort_unstable_by(order);
+            }
             for &(value, t3, t4) in cands.iter().take(breadth) {
                 if value <= self.nb_cost[t4 * k] {
                     // Not even t4's nearest neighbour passes the gain criterion at the next

@@ -1081,16 +1081,25 @@ fn solve_renumbered(
     let near = CoordCost::new(s.cost.metric(), order.iter().map(|&v| points[v]).collect())?;
     let mut inner = s.with_cost(&near);
     inner.ends = Ends::Closed;
-    // The renumbering counts in the time limit, the reported seconds and the trace.
+    // The renumbering counts in the time limit, the reported seconds, the trace and what the
+    // observer sees.
     let before = began.elapsed();
+    let shift = before.as_secs_f64();
     inner.time_limit = s.time_limit.map(|t| t.saturating_sub(before));
+    inner.observer = s.observer.clone().map(|f| -> Observer {
+        std::sync::Arc::new(move |imp: Improvement| {
+            f(Improvement {
+                seconds: imp.seconds + shift,
+                ..imp
+            })
+        })
+    });
     let sol = inner.solve_here()?;
     let mut tour: Vec<usize> = sol.tour.order().iter().map(|&i| order[i]).collect();
     if let Some(p) = tour.iter().position(|&v| v == s.ends.start().unwrap_or(0)) {
         tour.rotate_left(p);
     }
     debug_assert_eq!(closed_length(s.cost, &tour).ok(), Some(sol.length));
-    let shift = before.as_secs_f64();
     let trace = sol
         .trace
         .iter()
