@@ -205,26 +205,14 @@ impl TwoLevelTour {
         }
     }
 
-    /// Removes the first `k` nodes (in tour order) of segment `s`, which must keep at least one.
-    /// Their `seg` and `idx` are left for the caller, which has moved them.
-    fn drop_first(&mut self, s: usize, k: usize) {
+    /// Removes `k` nodes of segment `s` at one end in tour order: its first nodes when `first`,
+    /// else its last. The segment must keep at least one. The removed nodes' `seg` and `idx`
+    /// are left for the caller, which has moved them.
+    fn drop_end(&mut self, s: usize, k: usize, first: bool) {
         let sg = &mut self.segs[s];
         let len = sg.nodes.len();
-        if sg.rev {
-            sg.nodes.truncate(len - k);
-        } else {
-            sg.nodes.drain(..k);
-            for (i, &v) in sg.nodes.iter().enumerate() {
-                self.idx[v as usize] = i as u32;
-            }
-        }
-    }
-
-    /// Removes the last `k` nodes (in tour order) of segment `s`, as [`Self::drop_first`].
-    fn drop_last(&mut self, s: usize, k: usize) {
-        let sg = &mut self.segs[s];
-        let len = sg.nodes.len();
-        if sg.rev {
+        if first != sg.rev {
+            // The end is the front of the store: the nodes behind it move up.
             sg.nodes.drain(..k);
             for (i, &v) in sg.nodes.iter().enumerate() {
                 self.idx[v as usize] = i as u32;
@@ -277,7 +265,7 @@ impl TwoLevelTour {
                 (self.seg[w], self.idx[w]) = (p as u32, (at + i) as u32);
                 w = after;
             }
-            self.drop_first(s, a_len);
+            self.drop_end(s, a_len, true);
             self.segs[s].start = (start + a_len) % self.n;
         } else if move_b {
             // The nodes from `v` on go to the front of the segment after: pushed last first
@@ -292,7 +280,7 @@ impl TwoLevelTour {
                 (self.seg[w], self.idx[w]) = (nx as u32, (at + i) as u32);
                 w = before;
             }
-            self.drop_last(s, b_len);
+            self.drop_end(s, b_len, false);
             self.segs[nx].start = (start + a_len) % self.n;
         } else {
             // Both neighbours full (or the ring is one segment): the smaller part becomes a
