@@ -44,8 +44,9 @@ use std::time::Instant;
 /// Fewest nodes for the search in parts; below, runs go side by side as before. Measured on two
 /// threads against two runs side by side: pla33810 at 300 s 0.201% above its optimum against
 /// 0.289%, 50,000 uniform points at 60 s 0.475% against 0.518% above the yardstick, 100,000
-/// 0.533% against 0.618%. Not measured between 20,000 and 30,000 nodes, so those keep their
-/// runs side by side.
+/// 0.533% against 0.618%. At 25,000 uniform points at 60 s (seeds 1–3) parts gave 0.800%,
+/// 0.817% and 0.796% against 0.760%, 0.812% and 0.801% side by side: no better, so runs stay
+/// side by side there.
 pub(crate) const PARTS_FROM: usize = 30_000;
 /// Nodes of a part, about: every part has `n / ceil(n / PART_NODES)` nodes, give or take one.
 /// Measured on a million points at 60 s: parts of 10,000 nodes gave a tour 0.08% longer, of
